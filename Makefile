@@ -1,0 +1,35 @@
+# Tidemark: two commands do all the set-up.  `make run` and `make test`.
+PYTHON ?= python3
+VENV   := .venv
+BIN    := $(VENV)/bin
+STAMP  := $(VENV)/.installed-$(shell cat pyproject.toml | cksum | cut -d' ' -f1)
+PORT   ?= 8630
+
+.PHONY: run test install demo bench lint clean
+
+$(BIN)/python:
+	$(PYTHON) -m venv $(VENV)
+	$(BIN)/python -m pip install --quiet --upgrade pip
+
+$(STAMP): $(BIN)/python pyproject.toml
+	$(BIN)/python -m pip install --quiet -e '.[test,postgres]'
+	rm -f $(VENV)/.installed-*
+	touch $(STAMP)
+
+install: $(STAMP)
+
+run: install
+	$(BIN)/tidemark demo --load
+	$(BIN)/tidemark serve --port $(PORT)
+
+test: install
+	$(BIN)/python -m pytest $(PYTEST_ARGS)
+
+demo: install
+	$(BIN)/tidemark demo
+
+bench: install
+	$(BIN)/python benchmarks/run_all.py
+
+clean:
+	rm -rf $(VENV) .pytest_cache test-artifacts

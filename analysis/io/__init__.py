@@ -1,0 +1,1 @@
+"""Explicit readers and writers: Tidemark session files and generic cart exports."""

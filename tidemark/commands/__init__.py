@@ -1,0 +1,1 @@
+"""One module per ``tidemark`` sub-command; see :data:`tidemark.cli.COMMANDS`."""
