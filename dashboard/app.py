@@ -1,0 +1,175 @@
+"""Entry script of the dashboard: ``streamlit run dashboard/app.py`` (or ``tidemark serve``).
+
+:func:`run` builds the navigation once per run from the page modules in ``dashboard/pages``.
+Three modes:
+
+- **Coach link** — the URL carries ``?link=TOKEN``: only the read-only coach view is shown (no
+  navigation, no sign-in, nothing else in the store is reachable).
+- **Demo mode** — the store was created by ``tidemark demo --load``: the built-in demo reviewer
+  is signed in and a banner says so.
+- **Staff sign-in** — otherwise a store account (user name and password) is required.
+"""
+
+from __future__ import annotations
+
+import importlib
+import logging
+from collections.abc import Callable
+from types import ModuleType
+from typing import Any
+
+import streamlit as st
+
+from dashboard import data, state
+from dashboard.errors import show_error, user_errors
+
+log = logging.getLogger("tidemark.dashboard")
+
+#: (module under dashboard/pages, title, icon) in the reviewer's order of work.
+PAGES: tuple[tuple[str, str, str], ...] = (
+    ("library", "Library", ":material/folder_open:"),
+    ("review", "Review", ":material/monitoring:"),
+    ("oxygen", "Oxygen path", ":material/bloodtype:"),
+    ("progress", "Progress", ":material/trending_up:"),
+    ("reports", "Reports", ":material/description:"),
+    ("sharing", "Share links", ":material/link:"),
+)
+
+COACH_PAGE = ("coach", "Coach view", ":material/sports:")
+
+CAUTION = (
+    "Tidemark is not a medical device. Thresholds, zones and oxygen-transport figures are "
+    "estimates. Exercise testing must be supervised, and results interpreted, by qualified staff "
+    "under local protocols and licensed practice."
+)
+
+
+def load_page_module(name: str) -> ModuleType | None:
+    """Import ``dashboard.pages.<name>``; ``None`` (logged) when that page does not exist yet."""
+    try:
+        module = importlib.import_module(f"dashboard.pages.{name}")
+    except ModuleNotFoundError as exc:
+        if exc.name not in (f"dashboard.pages.{name}", "dashboard.pages"):
+            log.exception("page %s could not be imported", name)
+        else:
+            log.warning("page %s is not available (module missing)", name)
+        return None
+    except Exception:  # noqa: BLE001 - a broken page must not take the others down
+        log.exception("page %s could not be imported", name)
+        return None
+    if not callable(getattr(module, "render", None)):
+        log.warning("page %s has no render() function", name)
+        return None
+    return module
+
+
+def _guarded(module: ModuleType, title: str) -> Callable[[], None]:
+    def page() -> None:
+        for kind, message in state.pop_flashes():
+            getattr(st, kind, st.info)(message)
+        with user_errors(title):
+            module.render()
+
+    page.__name__ = f"page_{module.__name__.rsplit('.', 1)[-1]}"
+    return page
+
+
+def build_pages() -> dict[str, Any]:
+    """The ``st.Page`` objects of every available page, keyed by module name."""
+    pages: dict[str, Any] = {}
+    for i, (name, title, icon) in enumerate(PAGES):
+        module = load_page_module(name)
+        if module is None:
+            continue
+        pages[name] = st.Page(_guarded(module, title), title=title, icon=icon, url_path=name, default=i == 0)
+    return pages
+
+
+# --- sign-in -------------------------------------------------------------------------------
+
+
+def _demo_user(store: Any) -> Any | None:
+    """The built-in demo reviewer when the store is a demo store, else ``None``."""
+    is_demo = getattr(store, "is_demo_store", None)
+    if not callable(is_demo) or not is_demo():
+        return None
+    getter = getattr(store, "demo_user", None)
+    return getter() if callable(getter) else None
+
+
+def sign_in_form(store: Any) -> None:
+    """Render the staff sign-in form; on success store the user and rerun."""
+    st.title("Tidemark")
+    st.caption("Breath-by-breath exercise test review — Saltmarsh Exercise Lab workspace")
+    with st.form("sign_in"):
+        username = st.text_input("User name")
+        password = st.text_input("Password", type="password")
+        submitted = st.form_submit_button("Sign in", type="primary")
+    if submitted:
+        try:
+            user = store.authenticate(username.strip(), password)
+        except Exception as exc:  # noqa: BLE001 - throttling and other refusals are shown plainly
+            show_error(exc, context="Sign-in")
+            return
+        if user is None:
+            st.error("User name or password not recognised.")
+            return
+        state.set_current_user(user)
+        st.rerun()
+    st.info("Accounts are created by an administrator with `tidemark users add NAME --role reviewer`.")
+
+
+def sidebar(store: Any) -> None:
+    with st.sidebar:
+        user = state.current_user()
+        if state.in_demo_mode():
+            st.warning("**Demo mode** — fictional Saltmarsh Exercise Lab data; signed in as the demo reviewer.")
+        elif user is not None:
+            st.caption(f"Signed in as **{state.user_name()}** ({state.user_role()})")
+            if st.button("Sign out", key="sign_out"):
+                state.sign_out()
+                st.rerun()
+        st.caption(CAUTION)
+
+
+def run() -> None:
+    """Build and run the dashboard for this browser session."""
+    st.set_page_config(page_title="Tidemark", page_icon=":material/air:", layout="wide")
+    token = st.query_params.get("link")
+    if token is not None:
+        run_coach(str(token))
+        return
+    try:
+        store = data.get_store()
+    except Exception as exc:  # noqa: BLE001 - no store, no app; say so plainly
+        show_error(exc, context="The data store could not be opened")
+        st.stop()
+    if state.current_user() is None:
+        demo = _demo_user(store)
+        if demo is not None:
+            state.set_current_user(demo, demo=True)
+    if state.current_user() is None:
+        st.navigation([st.Page(lambda: sign_in_form(store), title="Sign in", url_path="sign-in")], position="hidden").run()
+        return
+    pages = build_pages()
+    state.register_pages(pages)
+    sidebar(store)
+    if not pages:
+        st.error("No dashboard pages are available. Check the server log.")
+        return
+    st.navigation(list(pages.values())).run()
+
+
+def run_coach(token: str) -> None:
+    """Coach-link mode: the read-only coach view and nothing else."""
+    state.set_share_token(token)
+    module = load_page_module(COACH_PAGE[0])
+    if module is None:
+        page = st.Page(lambda: st.error("This link is not valid."), title="Tidemark", url_path="coach")
+    else:
+        page = st.Page(_guarded(module, COACH_PAGE[1]), title=COACH_PAGE[1], url_path="coach")
+    st.navigation([page], position="hidden").run()
+
+
+if __name__ == "__main__":
+    run()

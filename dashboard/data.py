@@ -1,0 +1,127 @@
+"""Cached access to the store and to the analysis.
+
+- :func:`get_store` — one store handle per server process (``st.cache_resource``), opened from
+  the URL in the ``TIDEMARK_STORE`` environment variable (``tidemark serve --store`` sets it;
+  unset means the store's own default).
+- :func:`load_session` — a test's breaths from the store (``st.cache_data``, keyed by test id).
+- :func:`analyze` — :func:`analysis.pipeline.analyze_session` keyed by (test id, settings JSON),
+  so moving a threshold back to an earlier position, or any rerun that does not change the
+  settings, costs a cache look-up instead of a new analysis.
+- :func:`preview_import` — the import check of an uploaded file, keyed by its bytes and options.
+
+Nothing here computes a number itself.
+"""
+
+from __future__ import annotations
+
+import json
+import logging
+import os
+from typing import Any
+
+import streamlit as st
+
+from analysis.session import Session
+
+log = logging.getLogger("tidemark.dashboard")
+
+#: Environment variable holding the store URL (shared with the store and ``tidemark serve``).
+STORE_ENV = "TIDEMARK_STORE"
+
+
+def store_url() -> str | None:
+    """The configured store URL, or ``None`` for the store's default."""
+    return os.environ.get(STORE_ENV) or None
+
+
+@st.cache_resource(show_spinner=False)
+def _open_store(url: str | None) -> Any:
+    from store import open_store
+
+    log.info("opening store %s", "(default)" if url is None else url.split("@")[-1])
+    return open_store(url)
+
+
+def get_store() -> Any:
+    """The store handle of this server process."""
+    return _open_store(store_url())
+
+
+@st.cache_data(show_spinner=False, max_entries=32)
+def _load_session(test_id: int, url: str | None) -> Session:
+    return _open_store(url).load_session(int(test_id))
+
+
+def load_session(test_id: int) -> Session:
+    """The session of a stored test (cached; treat the returned object as read-only)."""
+    return _load_session(int(test_id), store_url())
+
+
+def settings_from_dict(settings: dict[str, Any] | None) -> Any:
+    """An :class:`analysis.settings.AnalysisSettings` from its JSON-safe dict (``None`` → defaults)."""
+    from analysis.settings import AnalysisSettings
+
+    return AnalysisSettings.from_dict(settings) if settings else AnalysisSettings()
+
+
+def default_settings_dict() -> dict[str, Any]:
+    from analysis.settings import AnalysisSettings
+
+    return AnalysisSettings().to_dict()
+
+
+@st.cache_data(show_spinner=False, max_entries=64)
+def _analyze(test_id: int, settings_json: str, url: str | None) -> Any:
+    from analysis.pipeline import analyze_session
+
+    session = _load_session(int(test_id), url)
+    return analyze_session(session, settings_from_dict(json.loads(settings_json)))
+
+
+def analyze(test_id: int, settings_json: str) -> Any:
+    """:class:`analysis.results.TestResults` of a stored test under the given settings JSON."""
+    return _analyze(int(test_id), settings_json, store_url())
+
+
+@st.cache_data(show_spinner=False, max_entries=64)
+def _results_json(test_id: int, settings_json: str, url: str | None) -> dict[str, Any]:
+    return _analyze(int(test_id), settings_json, url).to_json_dict()
+
+
+def results_json(test_id: int, settings_json: str) -> dict[str, Any]:
+    """``analyze(...).to_json_dict()``, cached separately (pages mostly read this dict)."""
+    return _results_json(int(test_id), settings_json, store_url())
+
+
+@st.cache_data(show_spinner=False, max_entries=16)
+def preview_import(
+    data: bytes,
+    *,
+    file_name: str,
+    mapping_json: str | None = None,
+    sheet: str | None = None,
+    gas_unit: str = "auto",
+) -> Any:
+    """The import check of an uploaded file (:func:`analysis.io.import_bytes`, cached).
+
+    Raises :class:`analysis.errors.ImportRejected` when the file cannot be imported as set up.
+    """
+    from analysis.io import ColumnMapping, import_bytes
+
+    mapping = ColumnMapping.from_dict(json.loads(mapping_json)) if mapping_json else None
+    return import_bytes(data, file_name=file_name, mapping=mapping, sheet=sheet, gas_unit=gas_unit)
+
+
+@st.cache_data(show_spinner=False, max_entries=8)
+def sheet_names(data: bytes) -> list[str]:
+    """Sheet names of an .xlsx upload."""
+    from analysis.io import list_sheets
+
+    return list_sheets(data)
+
+
+def clear_test_caches() -> None:
+    """Forget cached analyses (after a store change that alters what a test id holds)."""
+    _analyze.clear()
+    _results_json.clear()
+    _load_session.clear()

@@ -1,0 +1,176 @@
+"""Session-state keys of the dashboard and small helpers around them.
+
+All pages read and write the reviewer's context through these functions, never through raw
+``st.session_state`` keys, so the names live in one place:
+
+- the signed-in user (a store account, or the built-in demo reviewer in demo mode),
+- the test under review,
+- the working analysis settings of each opened test (a JSON-safe dict plus the store version
+  it was based on),
+- the coach-link token when the app was opened through a share link.
+"""
+
+from __future__ import annotations
+
+import json
+from dataclasses import dataclass
+from typing import Any
+
+import streamlit as st
+
+USER = "tm_user"
+DEMO_MODE = "tm_demo_mode"
+TEST_ID = "tm_test_id"
+SETTINGS_PREFIX = "tm_settings_"
+SHARE_TOKEN = "tm_share_token"
+FLASH = "tm_flash"
+
+#: Roles that may change settings and thresholds (store roles).
+EDIT_ROLES = frozenset({"admin", "reviewer"})
+
+
+@dataclass(frozen=True)
+class WorkingSettings:
+    """The settings a reviewer is looking at for one test.
+
+    ``settings`` is the JSON-safe dict of :class:`analysis.settings.AnalysisSettings`;
+    ``version`` is the store version it was loaded from or last saved as (``None`` when the
+    store has none yet); ``saved`` is False while a change could not be stored (e.g. a viewer
+    exploring, or an edit conflict).
+    """
+
+    settings: dict[str, Any]
+    version: int | None
+    saved: bool = True
+
+    @property
+    def key(self) -> str:
+        """Canonical JSON of the settings (the cache key of the analysis)."""
+        return settings_key(self.settings)
+
+
+def settings_key(settings: dict[str, Any]) -> str:
+    """Canonical JSON text of a settings dict (sorted keys, no spaces)."""
+    return json.dumps(settings, sort_keys=True, separators=(",", ":"), default=str)
+
+
+# --- user ----------------------------------------------------------------------------------
+
+
+def current_user() -> Any | None:
+    """The signed-in account (store ``User``), or ``None``."""
+    return st.session_state.get(USER)
+
+
+def set_current_user(user: Any | None, *, demo: bool = False) -> None:
+    st.session_state[USER] = user
+    st.session_state[DEMO_MODE] = bool(demo) if user is not None else False
+
+
+def in_demo_mode() -> bool:
+    return bool(st.session_state.get(DEMO_MODE, False))
+
+
+def user_name(user: Any | None = None) -> str:
+    user = current_user() if user is None else user
+    if user is None:
+        return ""
+    for attr in ("username", "name"):
+        value = getattr(user, attr, None) if not isinstance(user, dict) else user.get(attr)
+        if value:
+            return str(value)
+    return str(user)
+
+
+def user_role(user: Any | None = None) -> str:
+    user = current_user() if user is None else user
+    if user is None:
+        return ""
+    value = getattr(user, "role", None) if not isinstance(user, dict) else user.get("role")
+    return str(getattr(value, "value", value) or "")
+
+
+def can_edit(user: Any | None = None) -> bool:
+    """True when the user's role may change thresholds, exclusions and settings."""
+    return user_role(user) in EDIT_ROLES
+
+
+def sign_out() -> None:
+    for key in list(st.session_state.keys()):
+        if str(key).startswith("tm_"):
+            del st.session_state[key]
+
+
+# --- current test --------------------------------------------------------------------------
+
+
+def current_test_id() -> int | None:
+    value = st.session_state.get(TEST_ID)
+    return int(value) if value is not None else None
+
+
+def set_current_test(test_id: int | None) -> None:
+    st.session_state[TEST_ID] = int(test_id) if test_id is not None else None
+
+
+# --- working settings per test -------------------------------------------------------------
+
+
+def working_settings(test_id: int) -> WorkingSettings | None:
+    return st.session_state.get(f"{SETTINGS_PREFIX}{int(test_id)}")
+
+
+def set_working_settings(test_id: int, working: WorkingSettings) -> None:
+    st.session_state[f"{SETTINGS_PREFIX}{int(test_id)}"] = working
+
+
+def forget_working_settings(test_id: int) -> None:
+    st.session_state.pop(f"{SETTINGS_PREFIX}{int(test_id)}", None)
+
+
+# --- coach link ----------------------------------------------------------------------------
+
+
+def share_token() -> str | None:
+    return st.session_state.get(SHARE_TOKEN)
+
+
+def set_share_token(token: str | None) -> None:
+    st.session_state[SHARE_TOKEN] = token
+
+
+# --- one-shot messages across a rerun -------------------------------------------------------
+
+
+def flash(message: str, *, kind: str = "success") -> None:
+    """Queue a message to show once after the next rerun (e.g. after switching page)."""
+    st.session_state.setdefault(FLASH, []).append((kind, message))
+
+
+def pop_flashes() -> list[tuple[str, str]]:
+    return st.session_state.pop(FLASH, [])
+
+
+# --- navigation ----------------------------------------------------------------------------
+
+#: Page name (module name under dashboard/pages) -> the st.Page object of this run.
+_PAGES: dict[str, Any] = {}
+
+
+def register_pages(pages: dict[str, Any]) -> None:
+    """Remember the navigation's page objects (called by ``app.run`` on every run)."""
+    _PAGES.clear()
+    _PAGES.update(pages)
+
+
+def go_to(page: str) -> bool:
+    """Switch to the page named after its module (e.g. ``"review"``).
+
+    Returns False (and stays) when that page is not part of the running navigation, e.g. when a
+    page is rendered on its own in a test.
+    """
+    target = _PAGES.get(page)
+    if target is None:
+        return False
+    st.switch_page(target)
+    return True
