@@ -1,0 +1,133 @@
+"""The one-file HTML report: headline values, cautions, methods, inline plotly.js, no external sources."""
+
+from __future__ import annotations
+
+import re
+from html.parser import HTMLParser
+
+import plotly.graph_objects as go
+import pytest
+
+from dashboard.report import CAUTIONS, ReportContext, build_report_html, headline_rows
+from dashboard.report.html_report import format_number, threshold_source
+
+
+class _Sources(HTMLParser):
+    """Collect every src/href attribute of real tags (script bodies are data, not tags)."""
+
+    def __init__(self) -> None:
+        super().__init__()
+        self.sources: list[tuple[str, str, str]] = []
+        self.scripts = 0
+
+    def handle_starttag(self, tag, attrs):
+        if tag == "script":
+            self.scripts += 1
+        for name, value in attrs:
+            if name in {"src", "href"} and value:
+                self.sources.append((tag, name, value))
+
+
+def _sources(doc: str) -> _Sources:
+    p = _Sources()
+    p.feed(doc)
+    return p
+
+
+SYNTHETIC = {
+    "vo2_peak_ml_min": 3210.4,
+    "vo2_peak_ml_kg_min": 45.06,
+    "rer_peak": 1.153,
+    "hr_peak_bpm": 182.0,
+    "ve_vco2_slope": 27.34,
+    "oues": 3105.0,
+    "vt1": {"vo2_ml_min": 1900.0, "time_s": 400.0, "hr_bpm": 140.0, "work_w": 150.0, "method": "V-slope", "source": "manual"},
+    "vt2": {"vo2_ml_min": 2700.0, "time_s": 640.0, "hr_bpm": 168.0, "work_w": 230.0, "method": "VE/VCO2 rise", "source": "auto"},
+    "methods": {"vo2_peak": "highest 30-s rolling average", "ve_vco2_slope": "least squares of VE on VCO2 to VT2"},
+    "warnings": ["=HYPERLINK(\"x\") <b>bold</b> note"],
+    "maximality": {"verdict": "VO2peak (no plateau)", "reasons": ["RER peak 1.15 ≥ 1.10"]},
+    "zones": [
+        {"name": "Zone 1", "hr_low_bpm": None, "hr_high_bpm": 140.0},
+        {"name": "Zone 2", "hr_low_bpm": 140.0, "hr_high_bpm": 168.0},
+        {"name": "Zone 3", "hr_low_bpm": 168.0, "hr_high_bpm": None},
+    ],
+}
+
+
+@pytest.fixture(scope="module")
+def doc() -> str:
+    figs = [
+        ("VO2 against time", go.Figure(go.Scatter(x=[0, 60], y=[500, 900]), layout={"xaxis_title": "Time (s)"})),
+        ("V-slope", go.Figure(go.Scatter(x=[500, 900], y=[450, 880]))),
+    ]
+    ctx = ReportContext(
+        person_label="SEL-014",
+        version=3,
+        signed_off_by="rev.amara",
+        signed_off_at="2026-11-30",
+        threshold_setters={"vt1": "rev.amara on 2026-11-29: V-slope break clearer at 400 s"},
+        generated_at="2026-12-01 09:00 UTC",
+    )
+    return build_report_html(SYNTHETIC, None, figures=figs, context=ctx)
+
+
+def test_headline_values_and_methods(doc):
+    # Values are formatted from the results dict, with the method beside them.
+    for text in ("3\u2009210", "45.1", "1.15", "182", "27.3", "highest 30-s rolling average"):
+        assert text in doc
+    assert "least squares of VE on VCO2 to VT2" in doc
+    assert "Maximality: VO2peak (no plateau)" in doc
+
+
+def test_cautions_and_review_state(doc):
+    for caution in CAUTIONS:
+        assert caution in doc
+    assert "Signed off by rev.amara on 2026-11-30" in doc
+    assert "version 3" in doc
+
+
+def test_thresholds_marked_manual_with_who(doc):
+    assert "MANUAL — rev.amara on 2026-11-29: V-slope break clearer at 400 s" in doc
+    assert "automatic" in doc
+    assert "1\u2009900" in doc and "2\u2009700" in doc
+
+
+def test_zones_table(doc):
+    assert "below 140" in doc and "140–168" in doc and "above 168" in doc
+
+
+def test_user_text_is_escaped(doc):
+    assert "<b>bold</b>" not in doc
+    assert "&lt;b&gt;bold&lt;/b&gt;" in doc
+
+
+def test_plotlyjs_inline_once_and_no_external_sources(doc):
+    parsed = _sources(doc)
+    external = [s for s in parsed.sources if re.match(r"(?i)\s*(https?:)?//", s[2])]
+    assert external == []
+    # plotly.js bundle embedded exactly once (its licence banner opens the bundle).
+    assert len(re.findall(r"plotly\.js v\d", doc)) == 1
+    assert parsed.scripts >= 3  # bundle + one script per chart
+    assert "cdn.plot.ly" not in "".join(v for _, _, v in parsed.sources)
+
+
+def test_print_css(doc):
+    assert "@page" in doc and "size: A4" in doc
+    assert "break-inside: avoid" in doc
+
+
+def test_draft_when_not_signed():
+    doc = build_report_html({"vo2_peak_ml_min": 2000.0}, None)
+    assert "Draft — not signed off" in doc
+    assert "<script" not in doc  # no charts, no plotly.js
+
+
+def test_helpers():
+    assert format_number(None, 1) == "–"
+    assert format_number(float("nan"), 1) == "–"
+    assert format_number(1234.56, 1) == "1\u2009234.6"
+    assert threshold_source({"source": "manual"}) == "manual"
+    assert threshold_source({"source": "auto"}) == "automatic"
+    assert threshold_source(None) == ""
+    rows = headline_rows({"vo2_peak_ml_min": 3000.0, "rer_peak": None})
+    assert [r["label"] for r in rows] == ["VO2peak"]
