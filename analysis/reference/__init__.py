@@ -1,0 +1,30 @@
+"""Reference (predicted) values and functional classes.
+
+Public API
+----------
+:func:`friend_vo2max_ml_kg_min`, :func:`pct_predicted`, :func:`tanaka_hr_max_bpm`,
+:func:`weber_class`, :func:`ventilatory_class`, plus the description tables
+:data:`WEBER_DESCRIPTIONS` and :data:`VENTILATORY_DESCRIPTIONS`.
+"""
+
+from analysis.reference._validate import mode_code, sex_code
+from analysis.reference.classes import (
+    VENTILATORY_DESCRIPTIONS,
+    WEBER_DESCRIPTIONS,
+    ventilatory_class,
+    weber_class,
+)
+from analysis.reference.friend import friend_vo2max_ml_kg_min, pct_predicted
+from analysis.reference.heart_rate import tanaka_hr_max_bpm
+
+__all__ = [
+    "VENTILATORY_DESCRIPTIONS",
+    "WEBER_DESCRIPTIONS",
+    "friend_vo2max_ml_kg_min",
+    "mode_code",
+    "pct_predicted",
+    "sex_code",
+    "tanaka_hr_max_bpm",
+    "ventilatory_class",
+    "weber_class",
+]
