@@ -1,0 +1,92 @@
+"""Ventilatory equivalents and end-tidal pressures against time, with VT1/VT2 marked."""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+from typing import Any
+
+import pandas as pd
+import plotly.graph_objects as go
+from plotly.subplots import make_subplots
+
+from analysis import columns as C
+from dashboard import palette
+from dashboard.charts._common import BASE_LAYOUT, has, mark_thresholds, shade_phases
+
+#: Columns of the equivalents frame (computed in analysis, not here).
+VE_VO2 = "ve_vo2"
+VE_VCO2 = "ve_vco2"
+
+
+def equivalents_figure(
+    avg: pd.DataFrame,
+    *,
+    equivalents: pd.DataFrame | None = None,
+    thresholds: Mapping[str, Any] | None = None,
+) -> go.Figure:
+    """Two panels sharing the time axis.
+
+    Parameters
+    ----------
+    avg : pandas.DataFrame
+        Averaged breaths with ``t_s`` and, when measured, ``peto2_mmhg`` / ``petco2_mmhg``.
+    equivalents : pandas.DataFrame, optional
+        ``t_s``, ``ve_vo2``, ``ve_vco2`` (dimensionless ratios of VE in L/min to VO2 / VCO2 in
+        L/min) as computed by the analysis; the ``avg`` columns of the same names are used when
+        this is not given.
+    thresholds : mapping, optional
+        ``{"vt1": pick, "vt2": pick}`` drawn as vertical lines.
+
+    Returns
+    -------
+    plotly.graph_objects.Figure
+        Panel 1 VE/VO2 and VE/VCO2; panel 2 PETO2 and PETCO2 (mmHg). Panels without data show
+        a note instead of lines.
+    """
+    eq = equivalents if equivalents is not None else avg
+    fig = make_subplots(rows=2, cols=1, shared_xaxes=True, vertical_spacing=0.08)
+    for col, name in ((VE_VO2, "VE/VO2"), (VE_VCO2, "VE/VCO2")):
+        if has(eq, col):
+            fig.add_trace(
+                go.Scatter(
+                    x=eq[C.T_S],
+                    y=eq[col],
+                    mode="lines",
+                    line={"color": palette.SIGNAL[col], "width": 2, "dash": "solid" if col == VE_VO2 else "dash"},
+                    name=name,
+                ),
+                row=1,
+                col=1,
+            )
+    for col, name in ((C.PETO2_MMHG, "PETO2"), (C.PETCO2_MMHG, "PETCO2")):
+        if has(avg, col):
+            fig.add_trace(
+                go.Scatter(
+                    x=avg[C.T_S],
+                    y=avg[col],
+                    mode="lines",
+                    line={"color": palette.SIGNAL[col], "width": 2, "dash": "solid" if col == C.PETO2_MMHG else "dash"},
+                    name=name,
+                ),
+                row=2,
+                col=1,
+            )
+    if not (has(avg, C.PETO2_MMHG) or has(avg, C.PETCO2_MMHG)):
+        fig.add_annotation(
+            text="No end-tidal pressures in this recording",
+            xref="x2 domain",
+            yref="y2 domain",
+            x=0.5,
+            y=0.5,
+            showarrow=False,
+            font={"color": palette.GREY},
+        )
+    shade_phases(fig, avg)
+    mark_thresholds(fig, thresholds)
+    fig.update_yaxes(title_text="Ventilatory equivalent (ratio, no unit)", row=1, col=1)
+    fig.update_yaxes(title_text="End-tidal pressure (mmHg)", row=2, col=1)
+    fig.update_xaxes(title_text="Time (s)", row=2, col=1)
+    fig.update_layout(
+        **BASE_LAYOUT, title={"text": "Ventilatory equivalents and end-tidal pressures", "font": {"size": 15}}, height=560
+    )
+    return fig

@@ -1,0 +1,131 @@
+"""V-slope chart: VCO2 against VO2 with the two fitted lines and each method's VT1."""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+from typing import Any
+
+import numpy as np
+import pandas as pd
+import plotly.graph_objects as go
+
+from analysis import columns as C
+from dashboard import palette
+from dashboard.charts._common import BASE_LAYOUT, pick_label, pick_value
+
+#: Name of the clickable data trace.
+DATA_TRACE = "Averaged breaths"
+
+
+def _fit_value(fit: Any, name: str) -> Any:
+    if fit is None:
+        return None
+    return fit.get(name) if isinstance(fit, Mapping) else getattr(fit, name, None)
+
+
+def vslope_figure(
+    avg: pd.DataFrame,
+    *,
+    fit: Any = None,
+    candidates: Mapping[str, Any] | None = None,
+    vt1: Any = None,
+    vt2: Any = None,
+) -> go.Figure:
+    """VCO2 (mL/min) against VO2 (mL/min) for the V-slope method (Beaver et al. 1986).
+
+    Parameters
+    ----------
+    avg : pandas.DataFrame
+        Averaged breaths to plot (normally the exercise part).
+    fit : VSlopeFit or dict, optional
+        Two-segment fit: ``vo2_break_ml_min``, ``slope_below``, ``intercept_below``,
+        ``slope_above``, ``intercept_above``, ``valid``. Its lines are drawn over the plotted VO2
+        range on each side of the break (the upper one up to VT2 when given).
+    candidates : mapping, optional
+        Method name -> VT1 pick (or ``None``) of each method, drawn as distinct markers.
+    vt1, vt2 : pick, optional
+        The VT1 in use (consensus or manual) as a vertical line; VT2 as a second line.
+
+    Returns
+    -------
+    plotly.graph_objects.Figure
+        Data points carry ``customdata = [t_s, vo2_ml_min, row]`` for selection.
+
+    References
+    ----------
+    Beaver WL, Wasserman K, Whipp BJ. A new method for detecting anaerobic threshold by gas
+    exchange. J Appl Physiol 1986;60:2020-2027.
+    """
+    fig = go.Figure()
+    x = avg[C.VO2_ML_MIN].to_numpy(dtype=float)
+    y = avg[C.VCO2_ML_MIN].to_numpy(dtype=float)
+    t = avg[C.T_S].to_numpy(dtype=float)
+    fig.add_trace(
+        go.Scatter(
+            x=x,
+            y=y,
+            mode="markers",
+            marker={"size": 7, "color": palette.SIGNAL[C.VCO2_ML_MIN], "opacity": 0.75},
+            name=DATA_TRACE,
+            customdata=np.column_stack([t, x, np.arange(len(avg))]),
+            hovertemplate="VO2 %{x:.0f} mL/min<br>VCO2 %{y:.0f} mL/min<br>t %{customdata[0]:.0f} s<extra></extra>",
+        )
+    )
+    brk = _fit_value(fit, "vo2_break_ml_min")
+    if brk is not None and np.isfinite(brk) and len(x):
+        top = pick_value(vt2, "vo2_ml_min")
+        hi = float(top) if top is not None and float(top) > brk else float(np.nanmax(x))
+        for name, lo_x, hi_x, slope_key, icpt_key in (
+            ("Lower slope", float(np.nanmin(x)), float(brk), "slope_below", "intercept_below"),
+            ("Upper slope", float(brk), hi, "slope_above", "intercept_above"),
+        ):
+            slope, icpt = _fit_value(fit, slope_key), _fit_value(fit, icpt_key)
+            if slope is None or icpt is None:
+                continue
+            xs = np.array([lo_x, hi_x])
+            fig.add_trace(
+                go.Scatter(
+                    x=xs,
+                    y=slope * xs + icpt,
+                    mode="lines",
+                    line={"color": palette.BLACK, "width": 2, "dash": "solid" if name == "Lower slope" else "dashdot"},
+                    name=f"{name} {slope:.2f}",
+                    hoverinfo="skip",
+                )
+            )
+    for i, (method, pick) in enumerate((candidates or {}).items()):
+        vo2 = pick_value(pick, "vo2_ml_min")
+        if vo2 is None or not len(x):
+            continue
+        j = int(np.nanargmin(np.abs(x - float(vo2))))
+        fig.add_trace(
+            go.Scatter(
+                x=[float(vo2)],
+                y=[y[j]],
+                mode="markers",
+                marker={
+                    "symbol": palette.CANDIDATE_SYMBOLS[i % len(palette.CANDIDATE_SYMBOLS)],
+                    "size": 14,
+                    "color": palette.CANDIDATE_COLOURS[i % len(palette.CANDIDATE_COLOURS)],
+                    "line": {"width": 1, "color": palette.BLACK},
+                },
+                name=f"VT1 by {method}",
+                hovertemplate=f"{method}: VO2 %{{x:.0f}} mL/min<extra></extra>",
+            )
+        )
+    for kind, pick in (("vt1", vt1), ("vt2", vt2)):
+        vo2 = pick_value(pick, "vo2_ml_min")
+        if vo2 is None:
+            continue
+        style = palette.THRESHOLD[kind]
+        fig.add_vline(
+            x=float(vo2),
+            line={"color": style["color"], "dash": style["dash"], "width": 2},
+            annotation_text=pick_label(kind, pick),
+            annotation_position="top left",
+            annotation_font_color=style["color"],
+        )
+    fig.update_xaxes(title_text="VO2 (mL/min)")
+    fig.update_yaxes(title_text="VCO2 (mL/min)")
+    fig.update_layout(**BASE_LAYOUT, title={"text": "V-slope: VCO2 against VO2", "font": {"size": 15}}, height=460)
+    return fig

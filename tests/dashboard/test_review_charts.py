@@ -1,0 +1,124 @@
+"""Review charts are pure functions: traces, units on every axis, thresholds and selections.
+
+The synthetic frames below are hand-made (no physiology is asserted here); the V-slope lines
+are checked against the line equation they were given (common practice: y = a*x + b).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+import pytest
+
+from dashboard import palette
+from dashboard.charts import equivalents_figure, time_course_figure, vslope_figure
+from dashboard.charts._common import phase_runs
+from dashboard.charts.time_course import VO2_TRACE
+from dashboard.charts.vslope import DATA_TRACE
+
+
+@pytest.fixture()
+def avg() -> pd.DataFrame:
+    t = np.arange(0, 600, 10.0)
+    vo2 = 400 + 4 * t
+    return pd.DataFrame(
+        {
+            "t_s": t,
+            "vo2_ml_min": vo2,
+            "vco2_ml_min": np.where(vo2 < 1600, 0.95 * vo2, 1.4 * vo2 - 720),
+            "ve_l_min": 10 + 0.03 * vo2,
+            "hr_bpm": 70 + 0.2 * t,
+            "work_w": np.clip((t - 120) * 0.5, 0, None),
+            "peto2_mmhg": 100 + 0.01 * t,
+            "petco2_mmhg": 38 + 0.005 * t,
+            "ve_vo2": 25 + 0.01 * t,
+            "ve_vco2": 28 + 0.005 * t,
+            "phase": ["rest"] * 12 + ["exercise"] * 40 + ["recovery"] * 8,
+        }
+    )
+
+
+def _axis_titles(fig) -> list[str]:
+    layout = fig.to_plotly_json()["layout"]
+    return [v["title"]["text"] for k, v in layout.items() if k.startswith(("xaxis", "yaxis")) and "title" in v]
+
+
+def test_time_course_has_units_on_every_axis_and_marks_thresholds(avg):
+    breaths = avg.assign(source_row=np.arange(2, len(avg) + 2))
+    fig = time_course_figure(
+        avg,
+        breaths=breaths,
+        excluded_rows=[5, 6],
+        thresholds={"vt1": {"t_s": 300.0, "source": "manual"}, "vt2": {"t_s": 450.0, "source": "auto"}},
+        averaging_label="10 s bins",
+    )
+    titles = _axis_titles(fig)
+    assert "VO2, VCO2 (mL/min)" in titles and "VE (L/min)" in titles and "Time (s)" in titles
+    assert "Heart rate (beats/min)" in titles and "Work rate (W)" in titles
+    shapes = fig.to_plotly_json()["layout"]["shapes"]
+    vlines = [s for s in shapes if s.get("type") == "line"]
+    assert sorted({s["x0"] for s in vlines}) == [300.0, 450.0]  # one line per threshold, through every panel
+    texts = [a["text"] for a in fig.to_plotly_json()["layout"]["annotations"]]
+    assert "VT1 (manual)" in texts and "VT2" in texts
+    assert "rest" in texts and "recovery" in texts  # shaded phases are labelled
+    excluded = next(t for t in fig.data if t.name == "Excluded breath")
+    assert list(excluded.customdata) == [5, 6]
+    vo2 = next(t for t in fig.data if t.name == VO2_TRACE)
+    assert vo2.customdata.shape == (len(avg), 3)
+    assert vo2.customdata[7, 0] == avg["t_s"].iloc[7] and vo2.customdata[7, 2] == 7
+    assert vo2.line.color == palette.SIGNAL["vo2_ml_min"]
+
+
+def test_time_course_uses_speed_axis_on_a_treadmill(avg):
+    fig = time_course_figure(avg.drop(columns="work_w").assign(speed_kmh=8.0))
+    assert "Speed (km/h)" in _axis_titles(fig)
+
+
+def test_vslope_lines_follow_the_fit_and_candidates_are_distinct(avg):
+    fit = {
+        "vo2_break_ml_min": 1600.0,
+        "slope_below": 0.95,
+        "intercept_below": 0.0,
+        "slope_above": 1.4,
+        "intercept_above": -720.0,
+        "valid": True,
+    }
+    cands = {"V-slope": {"vo2_ml_min": 1600.0}, "PETO2 nadir": {"vo2_ml_min": 1650.0}, "excess CO2": None}
+    fig = vslope_figure(avg, fit=fit, candidates=cands, vt1={"vo2_ml_min": 1600.0, "source": "auto"})
+    lower = next(t for t in fig.data if t.name.startswith("Lower slope"))
+    upper = next(t for t in fig.data if t.name.startswith("Upper slope"))
+    assert lower.x[1] == pytest.approx(1600.0) and lower.y[1] == pytest.approx(0.95 * 1600)
+    assert upper.y[-1] == pytest.approx(1.4 * upper.x[-1] - 720)
+    markers = [t for t in fig.data if t.name.startswith("VT1 by")]
+    assert [t.name for t in markers] == ["VT1 by V-slope", "VT1 by PETO2 nadir"]
+    assert markers[0].marker.symbol != markers[1].marker.symbol
+    assert set(_axis_titles(fig)) == {"VO2 (mL/min)", "VCO2 (mL/min)"}
+    data = next(t for t in fig.data if t.name == DATA_TRACE)
+    assert data.customdata[3, 1] == avg["vo2_ml_min"].iloc[3]
+
+
+def test_vslope_without_a_fit_still_plots_the_data(avg):
+    fig = vslope_figure(avg)
+    assert [t.name for t in fig.data] == [DATA_TRACE]
+
+
+def test_equivalents_panels_and_missing_end_tidal_note(avg):
+    fig = equivalents_figure(avg, thresholds={"vt1": {"t_s": 300.0}})
+    assert {t.name for t in fig.data} == {"VE/VO2", "VE/VCO2", "PETO2", "PETCO2"}
+    assert "End-tidal pressure (mmHg)" in _axis_titles(fig)
+    bare = equivalents_figure(avg.drop(columns=["peto2_mmhg", "petco2_mmhg"]))
+    notes = [a["text"] for a in bare.to_plotly_json()["layout"]["annotations"]]
+    assert "No end-tidal pressures in this recording" in notes
+
+
+def test_phase_runs_splits_contiguous_labels():
+    t = np.array([0.0, 10, 20, 30, 40])
+    runs = phase_runs(t, np.array(["rest", "rest", "exercise", "exercise", "recovery"]))
+    assert runs == [("rest", 0.0, 10.0), ("exercise", 20.0, 30.0), ("recovery", 40.0, 40.0)]
+
+
+def test_palette_is_okabe_ito():
+    # Okabe & Ito 2008 colour set (from memory): eight colours, black first, vermillion #D55E00.
+    assert len(palette.OKABE_ITO) == 8 and palette.OKABE_ITO[0] == "#000000"
+    assert palette.VERMILLION == "#D55E00" and palette.BLUE == "#0072B2"
+    assert palette.THRESHOLD["vt1"]["dash"] != palette.THRESHOLD["vt2"]["dash"]
