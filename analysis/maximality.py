@@ -1,0 +1,344 @@
+"""Peak values and test maximality: the VO2 plateau and the secondary criteria.
+
+All functions take the averaged **exercise** rows (canonical columns, sorted by time); the
+caller selects them (``avg[avg.phase == "exercise"]``).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import asdict, dataclass, field
+from typing import Any, Literal
+
+import numpy as np
+import pandas as pd
+
+from analysis import columns as C
+from analysis.errors import AnalysisError, require
+from analysis.indices.point_values import PointValues, point_values
+
+#: Plateau threshold: VO2 rising less than this over the last minute despite more work
+#: (Taylor, Buskirk & Henschel 1955, from memory), mL/min.
+DEFAULT_PLATEAU_ML_MIN = 150.0
+#: Width of each averaging window compared by the plateau test, s.
+PLATEAU_WINDOW_S = 30.0
+#: Distance between the centres of the two windows compared, s (one minute, as Taylor's stages).
+PLATEAU_SPAN_S = 60.0
+#: Secondary criteria (common practice).
+DEFAULT_RER_MIN = 1.10
+DEFAULT_HR_PCT_MIN = 90.0
+
+Verdict = Literal["vo2max_plateau", "vo2peak_criteria_met", "vo2peak_submaximal"]
+
+#: Reader-facing wording of each verdict.
+VERDICT_LABELS: dict[str, str] = {
+    "vo2max_plateau": "VO2max (plateau reached)",
+    "vo2peak_criteria_met": "VO2peak (no plateau; secondary criteria met)",
+    "vo2peak_submaximal": "VO2peak (effort may have been submaximal)",
+}
+
+
+def _need_exercise(exercise_avg: pd.DataFrame) -> None:
+    if len(exercise_avg) == 0 or C.VO2_ML_MIN not in exercise_avg or not exercise_avg[C.VO2_ML_MIN].notna().any():
+        raise AnalysisError(
+            "No exercise data with VO2 were found, so peak values cannot be read — check the "
+            "phase labels or the work-rate / speed column of the file."
+        )
+
+
+def peak_values(exercise_avg: pd.DataFrame, *, body_mass_kg: float | None) -> PointValues:
+    """Values at the highest averaged VO2 during exercise.
+
+    Parameters
+    ----------
+    exercise_avg : pandas.DataFrame
+        Averaged exercise rows (canonical columns).
+    body_mass_kg : float or None, keyword-only
+        Body mass, kg, for VO2peak per kg.
+
+    Returns
+    -------
+    PointValues
+        At the row of peak VO2 (``pct_vo2_peak`` = 100). ``rer`` and ``hr_bpm`` there are the
+        values at the VO2 peak; the peak RER and peak HR of the test are given by
+        :func:`peak_rer` and :func:`peak_hr_bpm`.
+
+    Notes
+    -----
+    VO2peak is the highest value of the averaged data, so it depends on the averaging chosen
+    (common practice: report the averaging with the value).
+    """
+    _need_exercise(exercise_avg)
+    idx = exercise_avg[C.VO2_ML_MIN].idxmax()
+    vo2_peak = float(exercise_avg.at[idx, C.VO2_ML_MIN])
+    return point_values(exercise_avg, idx, vo2_peak_ml_min=vo2_peak, body_mass_kg=body_mass_kg)
+
+
+def peak_rer(exercise_avg: pd.DataFrame) -> float | None:
+    """Highest averaged RER (VCO2/VO2) during exercise, or ``None`` without data (common practice)."""
+    if len(exercise_avg) == 0:
+        return None
+    vo2 = exercise_avg[C.VO2_ML_MIN].to_numpy(dtype=float)
+    vco2 = exercise_avg[C.VCO2_ML_MIN].to_numpy(dtype=float)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        rer = np.where(vo2 > 0, vco2 / vo2, np.nan)
+    return float(np.nanmax(rer)) if np.isfinite(rer).any() else None
+
+
+def peak_hr_bpm(exercise_avg: pd.DataFrame) -> float | None:
+    """Highest averaged heart rate during exercise, beats/min, or ``None`` when not recorded."""
+    if C.HR_BPM not in exercise_avg or not exercise_avg[C.HR_BPM].notna().any():
+        return None
+    return float(exercise_avg[C.HR_BPM].max())
+
+
+def _load_column(exercise_avg: pd.DataFrame) -> str | None:
+    for col in (C.WORK_W, C.SPEED_KMH):
+        if col in exercise_avg and exercise_avg[col].notna().any() and float(exercise_avg[col].max()) > 0:
+            return col
+    return None
+
+
+@dataclass(frozen=True)
+class PlateauTest:
+    """Result of the plateau test.
+
+    Attributes
+    ----------
+    plateau : bool or None
+        ``True`` when VO2 rose less than ``threshold_ml_min`` over the last minute while the
+        load still rose; ``None`` when the exercise phase is too short to test.
+    vo2_rise_ml_min : float or None
+        Mean VO2 of the final window minus that of the window one minute earlier, mL/min.
+    threshold_ml_min : float
+        Threshold used, mL/min.
+    load_column : str or None
+        ``work_w`` or ``speed_kmh`` (``None`` when no load was recorded).
+    load_rise : float or None
+        Rise of that load between the two windows (W or km/h; grade changes are counted
+        through ``grade_load_rise_pct``).
+    grade_load_rise_pct : float or None
+        Rise of the treadmill grade between the windows, % (``None`` when not recorded).
+    note : str
+        Plain-language result.
+    """
+
+    plateau: bool | None
+    vo2_rise_ml_min: float | None
+    threshold_ml_min: float
+    load_column: str | None
+    load_rise: float | None
+    grade_load_rise_pct: float | None
+    note: str
+
+    def to_dict(self) -> dict[str, Any]:
+        return asdict(self)
+
+
+def plateau_test(
+    exercise_avg: pd.DataFrame,
+    *,
+    threshold_ml_min: float = DEFAULT_PLATEAU_ML_MIN,
+    window_s: float = PLATEAU_WINDOW_S,
+) -> PlateauTest:
+    """Test for a VO2 plateau at the end of exercise.
+
+    Parameters
+    ----------
+    exercise_avg : pandas.DataFrame
+        Averaged exercise rows, sorted by time.
+    threshold_ml_min : float, keyword-only
+        Largest VO2 rise (mL/min) over the last minute still counted as a plateau (default 150).
+    window_s : float, keyword-only
+        Width of the two windows compared, s (default 30).
+
+    Returns
+    -------
+    PlateauTest
+
+    Notes
+    -----
+    The mean VO2 over the final ``window_s`` seconds of exercise is compared with the mean over
+    the window whose centre lies 60 s earlier. A plateau needs a rise below the threshold
+    *despite more work*: the load (work rate, or speed / grade) must also have risen between the
+    windows. Without a load signal the VO2 criterion alone is reported, with that caveat.
+    On slow ramps (below ~15 W/min) a healthy rise is close to 150 mL/min, so a "plateau" may
+    simply reflect the protocol.
+
+    References
+    ----------
+    Taylor HL, Buskirk E, Henschel A. Maximal oxygen intake as an objective measure of
+    cardio-respiratory performance. J Appl Physiol 1955;8:73-80 (from memory: < 150 mL/min).
+    """
+    require(math.isfinite(threshold_ml_min) and threshold_ml_min > 0, "threshold_ml_min", "a VO2 rise > 0 mL/min", threshold_ml_min)
+    require(math.isfinite(window_s) and 5 <= window_s <= 60, "window_s", "a window of 5-60 s", window_s)
+    _need_exercise(exercise_avg)
+    t = exercise_avg[C.T_S].to_numpy(dtype=float)
+    vo2 = exercise_avg[C.VO2_ML_MIN].to_numpy(dtype=float)
+    t_end = float(np.nanmax(t))
+    late = t > t_end - window_s
+    early = (t > t_end - PLATEAU_SPAN_S - window_s) & (t <= t_end - PLATEAU_SPAN_S)
+    load_col = _load_column(exercise_avg)
+    if not (np.isfinite(vo2[late]).any() and np.isfinite(vo2[early]).any()):
+        return PlateauTest(
+            None, None, threshold_ml_min, load_col, None, None,
+            "Exercise lasted too briefly to test for a VO2 plateau over its last minute.",
+        )
+    rise = float(np.nanmean(vo2[late]) - np.nanmean(vo2[early]))
+
+    def _rise(col: str) -> float | None:
+        if col not in exercise_avg:
+            return None
+        v = exercise_avg[col].to_numpy(dtype=float)
+        if not (np.isfinite(v[late]).any() and np.isfinite(v[early]).any()):
+            return None
+        return float(np.nanmean(v[late]) - np.nanmean(v[early]))
+
+    load_rise = _rise(load_col) if load_col else None
+    grade_rise = _rise(C.GRADE_PCT) if load_col == C.SPEED_KMH else None
+    more_work = (load_rise is not None and load_rise > 0) or (grade_rise is not None and grade_rise > 0)
+    small = rise < threshold_ml_min
+    if load_col is None:
+        plateau = small
+        note = (
+            f"VO2 rose {rise:.0f} mL/min over the last minute ({'below' if small else 'not below'} "
+            f"{threshold_ml_min:.0f}); no load was recorded, so 'despite more work' could not be checked."
+        )
+    else:
+        plateau = small and more_work
+        if small and more_work:
+            note = f"VO2 rose only {rise:.0f} mL/min over the last minute although the load kept rising: plateau."
+        elif small:
+            note = f"VO2 rose {rise:.0f} mL/min over the last minute, but the load did not rise, so this is not a plateau."
+        else:
+            note = f"VO2 was still rising at the end ({rise:.0f} mL/min over the last minute, threshold {threshold_ml_min:.0f}): no plateau."
+    return PlateauTest(plateau, rise, threshold_ml_min, load_col, load_rise, grade_rise, note)
+
+
+@dataclass(frozen=True)
+class MaximalityReport:
+    """Was the test maximal?
+
+    Attributes
+    ----------
+    verdict : {"vo2max_plateau", "vo2peak_criteria_met", "vo2peak_submaximal"}
+    label : str
+        Reader-facing wording (:data:`VERDICT_LABELS`).
+    reasons : list of str
+        One sentence per criterion, in plain words.
+    plateau : PlateauTest
+    rer_peak : float or None
+    rer_criterion_met : bool or None
+        ``None`` when RER could not be read.
+    hr_peak_bpm : float or None
+    hr_max_predicted_bpm : float or None
+        Tanaka prediction (needs age).
+    hr_pct_predicted : float or None
+    hr_criterion_met : bool or None
+        ``None`` when HR or age is missing.
+    """
+
+    verdict: Verdict
+    label: str
+    reasons: list[str] = field(default_factory=list)
+    plateau: PlateauTest | None = None
+    rer_peak: float | None = None
+    rer_criterion_met: bool | None = None
+    hr_peak_bpm: float | None = None
+    hr_max_predicted_bpm: float | None = None
+    hr_pct_predicted: float | None = None
+    hr_criterion_met: bool | None = None
+
+    def to_dict(self) -> dict[str, Any]:
+        return asdict(self)
+
+
+def assess_maximality(
+    exercise_avg: pd.DataFrame,
+    *,
+    age_y: float | None,
+    plateau_threshold_ml_min: float = DEFAULT_PLATEAU_ML_MIN,
+    rer_min: float = DEFAULT_RER_MIN,
+    hr_pct_min: float = DEFAULT_HR_PCT_MIN,
+) -> MaximalityReport:
+    """Judge whether the peak is a true VO2max, a VO2peak with maximal effort, or submaximal.
+
+    Parameters
+    ----------
+    exercise_avg : pandas.DataFrame
+        Averaged exercise rows.
+    age_y : float or None, keyword-only
+        Age, years, for the predicted maximal heart rate (Tanaka).
+    plateau_threshold_ml_min : float, keyword-only
+        See :func:`plateau_test` (default 150 mL/min).
+    rer_min : float, keyword-only
+        Secondary criterion: peak RER at least this (default 1.10).
+    hr_pct_min : float, keyword-only
+        Secondary criterion: peak HR at least this % of the predicted maximum (default 90).
+
+    Returns
+    -------
+    MaximalityReport
+
+    Notes
+    -----
+    1. A plateau (:func:`plateau_test`) gives ``"vo2max_plateau"``.
+    2. Otherwise, peak RER ≥ ``rer_min`` and — when HR and age are known — peak HR ≥
+       ``hr_pct_min`` % of predicted give ``"vo2peak_criteria_met"``.
+    3. Otherwise ``"vo2peak_submaximal"``; every unmet criterion is named in ``reasons``.
+
+    The secondary criteria are common practice; they say nothing about why a test stopped, and
+    the judgement of effort belongs to the supervising staff.
+
+    References
+    ----------
+    Taylor HL, Buskirk E, Henschel A 1955 (plateau, from memory).
+    Tanaka H, Monahan KD, Seals DR 2001 (predicted maximal heart rate, from memory).
+    """
+    from analysis.reference.heart_rate import tanaka_hr_max_bpm
+
+    require(math.isfinite(rer_min) and 0.8 <= rer_min <= 1.5, "rer_min", "an RER between 0.8 and 1.5", rer_min)
+    require(math.isfinite(hr_pct_min) and 50 <= hr_pct_min <= 100, "hr_pct_min", "a percentage 50-100", hr_pct_min)
+    plateau = plateau_test(exercise_avg, threshold_ml_min=plateau_threshold_ml_min)
+    reasons = [plateau.note]
+
+    rer = peak_rer(exercise_avg)
+    rer_ok = None if rer is None else rer >= rer_min
+    if rer is None:
+        reasons.append("RER could not be read.")
+    elif rer_ok:
+        reasons.append(f"Peak RER {rer:.2f} reached {rer_min:.2f}.")
+    else:
+        reasons.append(f"Peak RER {rer:.2f} is below {rer_min:.2f}.")
+
+    hr = peak_hr_bpm(exercise_avg)
+    hr_pred = tanaka_hr_max_bpm(age_y=age_y) if age_y is not None else None
+    hr_pct = 100.0 * hr / hr_pred if hr is not None and hr_pred else None
+    hr_ok = None if hr_pct is None else hr_pct >= hr_pct_min
+    if hr is None:
+        reasons.append("No heart rate recorded, so the heart-rate criterion was not applied.")
+    elif hr_pred is None:
+        reasons.append("Age unknown, so the heart-rate criterion was not applied.")
+    elif hr_ok:
+        reasons.append(f"Peak HR {hr:.0f} beats/min is {hr_pct:.0f} % of predicted {hr_pred:.0f} (≥ {hr_pct_min:.0f} %).")
+    else:
+        reasons.append(f"Peak HR {hr:.0f} beats/min is only {hr_pct:.0f} % of predicted {hr_pred:.0f} (< {hr_pct_min:.0f} %).")
+
+    if plateau.plateau:
+        verdict: Verdict = "vo2max_plateau"
+    elif rer_ok and hr_ok is not False:
+        verdict = "vo2peak_criteria_met"
+    else:
+        verdict = "vo2peak_submaximal"
+    return MaximalityReport(
+        verdict=verdict,
+        label=VERDICT_LABELS[verdict],
+        reasons=reasons,
+        plateau=plateau,
+        rer_peak=rer,
+        rer_criterion_met=rer_ok,
+        hr_peak_bpm=hr,
+        hr_max_predicted_bpm=hr_pred,
+        hr_pct_predicted=hr_pct,
+        hr_criterion_met=hr_ok,
+    )

@@ -1,0 +1,123 @@
+"""Three training zones bounded by VT1 and VT2 (two when VT2 is missing)."""
+
+from __future__ import annotations
+
+from dataclasses import asdict, dataclass, field
+from typing import Any
+
+from analysis.errors import InvalidParameter
+from analysis.indices.point_values import PointValues
+
+
+@dataclass(frozen=True)
+class Zone:
+    """One training zone. ``*_low`` is ``None`` for the open lower end of zone 1.
+
+    Attributes
+    ----------
+    number : int
+    name : str
+    description : str
+    hr_low_bpm, hr_high_bpm : float or None
+        Heart rate, beats/min.
+    work_low_w, work_high_w : float or None
+        Work rate, W (cycle tests).
+    speed_low_kmh, speed_high_kmh : float or None
+        Treadmill speed, km/h.
+    grade_low_pct, grade_high_pct : float or None
+        Treadmill grade, %.
+    vo2_low_ml_min, vo2_high_ml_min : float or None
+        O2 uptake, mL/min.
+    """
+
+    number: int
+    name: str
+    description: str
+    hr_low_bpm: float | None = None
+    hr_high_bpm: float | None = None
+    work_low_w: float | None = None
+    work_high_w: float | None = None
+    speed_low_kmh: float | None = None
+    speed_high_kmh: float | None = None
+    grade_low_pct: float | None = None
+    grade_high_pct: float | None = None
+    vo2_low_ml_min: float | None = None
+    vo2_high_ml_min: float | None = None
+
+
+@dataclass(frozen=True)
+class ZoneSet:
+    """The zones and a note on how they were made (or why fewer than three)."""
+
+    zones: list[Zone] = field(default_factory=list)
+    note: str = ""
+
+    def to_dict(self) -> dict[str, Any]:
+        return {"zones": [asdict(z) for z in self.zones], "note": self.note}
+
+
+def _between(number: int, name: str, description: str, low: PointValues | None, high: PointValues) -> Zone:
+    def lo(attr: str) -> float | None:
+        return getattr(low, attr) if low is not None else None
+
+    return Zone(
+        number=number,
+        name=name,
+        description=description,
+        hr_low_bpm=lo("hr_bpm"),
+        hr_high_bpm=high.hr_bpm,
+        work_low_w=lo("work_w"),
+        work_high_w=high.work_w,
+        speed_low_kmh=lo("speed_kmh"),
+        speed_high_kmh=high.speed_kmh,
+        grade_low_pct=lo("grade_pct"),
+        grade_high_pct=high.grade_pct,
+        vo2_low_ml_min=lo("vo2_ml_min"),
+        vo2_high_ml_min=high.vo2_ml_min,
+    )
+
+
+def training_zones(*, vt1: PointValues | None, vt2: PointValues | None, peak: PointValues) -> ZoneSet:
+    """Training zones from the values read at VT1, VT2 and peak in the averaged data.
+
+    Parameters
+    ----------
+    vt1, vt2 : PointValues or None, keyword-only
+        Values at the thresholds (:func:`analysis.indices.point_values`).
+    peak : PointValues, keyword-only
+        Values at peak VO2.
+
+    Returns
+    -------
+    ZoneSet
+        Zone 1 "below VT1" (open lower end), zone 2 "VT1 to VT2", zone 3 "VT2 to peak". Without
+        VT2: zone 1 and "VT1 to peak", with a note. Without VT1: no zones, with a note.
+
+    Raises
+    ------
+    InvalidParameter
+        VT2 at a lower VO2 than VT1.
+
+    Notes
+    -----
+    The three-zone model anchors intensity to the two ventilatory thresholds (common practice).
+    Ranges are read on a ramp, where HR and work rate at a given VO2 differ from steady
+    exercise (VO2 lags the ramp), so they are starting points for a coach, not prescriptions.
+
+    References
+    ----------
+    Seiler KS, Kjerland GØ. Quantifying training intensity distribution in elite endurance
+    athletes: is there evidence for an "optimal" distribution? Scand J Med Sci Sports
+    2006;16:49-56 (three-zone model by ventilatory thresholds, from memory).
+    """
+    if vt1 is None:
+        return ZoneSet([], "VT1 was not identified, so training zones cannot be given.")
+    if vt2 is not None and vt2.vo2_ml_min < vt1.vo2_ml_min:
+        raise InvalidParameter("vt2", f"a VO2 above VT1 ({vt1.vo2_ml_min:.0f} mL/min)", vt2.vo2_ml_min)
+    z1 = _between(1, "Zone 1 (below VT1)", "Easy, sustained aerobic work: below the first ventilatory threshold.", None, vt1)
+    if vt2 is None:
+        z2 = _between(2, "Zone 2 (above VT1)", "Above the first threshold, up to peak; VT2 unknown.", vt1, peak)
+        return ZoneSet([z1, z2], "VT2 was not identified, so two zones are given (below and above VT1).")
+    z2 = _between(2, "Zone 2 (VT1 to VT2)", "Moderate to hard, between the two ventilatory thresholds.", vt1, vt2)
+    z3 = _between(3, "Zone 3 (above VT2)", "Severe intensity: above the respiratory compensation point, up to peak.", vt2, peak)
+    return ZoneSet([z1, z2, z3], "Three zones bounded by VT1 and VT2 from the averaged ramp data.")

@@ -1,0 +1,106 @@
+"""Peak values and maximality verdicts on hand-built ramps (exact values, no noise)."""
+
+import numpy as np
+import pandas as pd
+import pytest
+
+from analysis.errors import AnalysisError, InvalidParameter
+from analysis.maximality import assess_maximality, peak_hr_bpm, peak_rer, peak_values, plateau_test
+
+
+def ramp(*, plateau_s=0.0, rer_end=1.15, hr_end=185.0, end_s=600.0, load="work_w"):
+    """10-s averaged ramp: 25 W/min, VO2 = 800 + 10 mL/min/W (ATS/ACCP 2003, common practice),
+    VO2 flat over the last ``plateau_s`` seconds."""
+    t = np.arange(5.0, end_s, 10.0)
+    work = 25.0 / 60.0 * t
+    t_flat = end_s - plateau_s
+    vo2 = 800.0 + 10.0 * 25.0 / 60.0 * np.minimum(t, t_flat)
+    rer = np.linspace(0.85, rer_end, t.size)
+    hr = np.linspace(90.0, hr_end, t.size)
+    df = pd.DataFrame({"t_s": t, "vo2_ml_min": vo2, "vco2_ml_min": vo2 * rer, "ve_l_min": vo2 * rer / 1000 * 27, "hr_bpm": hr})
+    if load == "work_w":
+        df["work_w"] = work
+    elif load == "speed_kmh":
+        df["speed_kmh"] = 6 + t / 60.0
+    return df
+
+
+def test_peak_values_at_highest_vo2():
+    df = ramp()
+    p = peak_values(df, body_mass_kg=70.0)
+    assert p.index == df.index[-1]
+    assert p.vo2_ml_min == pytest.approx(800 + 10 * 25 / 60 * 595)
+    assert p.vo2_ml_kg_min == pytest.approx(p.vo2_ml_min / 70)
+    assert p.pct_vo2_peak == pytest.approx(100.0)
+    assert peak_rer(df) == pytest.approx(1.15)
+    assert peak_hr_bpm(df) == pytest.approx(185.0)
+
+
+def test_peak_values_without_exercise():
+    with pytest.raises(AnalysisError, match="No exercise data"):
+        peak_values(ramp().iloc[0:0], body_mass_kg=70.0)
+
+
+def test_plateau_found_when_vo2_flat_despite_more_work():
+    # Taylor et al. 1955 (from memory): rise < 150 mL/min despite more work = plateau
+    pt = plateau_test(ramp(plateau_s=120))
+    assert pt.plateau is True
+    assert pt.vo2_rise_ml_min == pytest.approx(0.0)
+    assert pt.load_column == "work_w" and pt.load_rise == pytest.approx(25.0)
+
+
+def test_no_plateau_when_vo2_still_rising():
+    # 25 W/min * 10 mL/min/W = 250 mL/min per minute > 150 (common practice ramp)
+    pt = plateau_test(ramp())
+    assert pt.plateau is False
+    assert pt.vo2_rise_ml_min == pytest.approx(250.0)
+
+
+def test_flat_vo2_without_more_work_is_not_a_plateau():
+    df = ramp(plateau_s=120)
+    df["work_w"] = 200.0
+    assert plateau_test(df).plateau is False
+
+
+def test_treadmill_speed_counts_as_more_work():
+    assert plateau_test(ramp(plateau_s=120, load="speed_kmh")).plateau is True
+
+
+def test_too_short_to_test():
+    assert plateau_test(ramp(end_s=60)).plateau is None
+
+
+def test_threshold_is_a_setting():
+    assert plateau_test(ramp(), threshold_ml_min=300).plateau is True
+    with pytest.raises(InvalidParameter, match="threshold_ml_min"):
+        plateau_test(ramp(), threshold_ml_min=0)
+
+
+def test_verdict_plateau():
+    rep = assess_maximality(ramp(plateau_s=120), age_y=30)
+    assert rep.verdict == "vo2max_plateau"
+    assert rep.label.startswith("VO2max")
+
+
+def test_verdict_secondary_criteria():
+    # RER 1.15 ≥ 1.10; HR 185 / (208 - 0.7*30 = 187, Tanaka 2001) = 98.9 % ≥ 90 % (common practice)
+    rep = assess_maximality(ramp(), age_y=30)
+    assert rep.verdict == "vo2peak_criteria_met"
+    assert rep.hr_max_predicted_bpm == pytest.approx(187.0)
+    assert rep.hr_pct_predicted == pytest.approx(100 * 185 / 187)
+    assert rep.rer_criterion_met and rep.hr_criterion_met
+
+
+def test_verdict_submaximal_names_rer_and_hr():
+    rep = assess_maximality(ramp(rer_end=1.02, hr_end=150.0), age_y=30)
+    assert rep.verdict == "vo2peak_submaximal"
+    assert rep.rer_criterion_met is False and rep.hr_criterion_met is False
+    assert any("RER 1.02 is below 1.10" in r for r in rep.reasons)
+    assert any("Peak HR 150" in r and "< 90 %" in r for r in rep.reasons)
+
+
+def test_hr_criterion_skipped_without_age():
+    rep = assess_maximality(ramp(), age_y=None)
+    assert rep.hr_criterion_met is None
+    assert rep.verdict == "vo2peak_criteria_met"
+    assert any("Age unknown" in r for r in rep.reasons)

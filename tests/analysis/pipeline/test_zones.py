@@ -1,0 +1,69 @@
+"""Training zones from threshold values (three-zone model, common practice)."""
+
+import pandas as pd
+import pytest
+
+from analysis.errors import InvalidParameter
+from analysis.indices import point_values
+from analysis.zones import training_zones
+
+
+def _avg():
+    return pd.DataFrame(
+        {
+            "t_s": [100.0, 300.0, 500.0, 600.0],
+            "vo2_ml_min": [1000.0, 2000.0, 3000.0, 3500.0],
+            "vco2_ml_min": [850.0, 1900.0, 3150.0, 3900.0],
+            "ve_l_min": [25.0, 50.0, 90.0, 130.0],
+            "hr_bpm": [100.0, 140.0, 170.0, 185.0],
+            "work_w": [50.0, 150.0, 250.0, 300.0],
+        }
+    )
+
+
+def _pts(avg):
+    kw = dict(vo2_peak_ml_min=3500.0, body_mass_kg=70.0)
+    return point_values(avg, 1, **kw), point_values(avg, 2, **kw), point_values(avg, 3, **kw)
+
+
+def test_three_zones_match_threshold_values_and_are_monotonic():
+    avg = _avg()
+    vt1, vt2, peak = _pts(avg)
+    zs = training_zones(vt1=vt1, vt2=vt2, peak=peak).zones
+    assert [z.number for z in zs] == [1, 2, 3]
+    assert zs[0].hr_low_bpm is None and zs[0].hr_high_bpm == vt1.hr_bpm == 140.0
+    assert (zs[1].hr_low_bpm, zs[1].hr_high_bpm) == (140.0, 170.0)
+    assert (zs[2].hr_low_bpm, zs[2].hr_high_bpm) == (170.0, 185.0)
+    assert (zs[1].work_low_w, zs[1].work_high_w) == (150.0, 250.0)
+    highs = [z.hr_high_bpm for z in zs]
+    assert highs == sorted(highs)
+    for a, b in zip(zs, zs[1:]):
+        assert a.hr_high_bpm == b.hr_low_bpm and a.work_high_w == b.work_low_w
+    assert zs[0].speed_high_kmh is None
+
+
+def test_two_zones_without_vt2():
+    vt1, _, peak = _pts(_avg())
+    zset = training_zones(vt1=vt1, vt2=None, peak=peak)
+    assert len(zset.zones) == 2
+    assert "VT2 was not identified" in zset.note
+    assert zset.zones[1].hr_high_bpm == 185.0
+
+
+def test_no_zones_without_vt1():
+    _, vt2, peak = _pts(_avg())
+    zset = training_zones(vt1=None, vt2=vt2, peak=peak)
+    assert zset.zones == [] and "VT1" in zset.note
+
+
+def test_vt2_below_vt1_rejected():
+    vt1, vt2, peak = _pts(_avg())
+    with pytest.raises(InvalidParameter, match="vt2"):
+        training_zones(vt1=vt2, vt2=vt1, peak=peak)
+
+
+def test_to_dict_keys_for_reports():
+    vt1, vt2, peak = _pts(_avg())
+    d = training_zones(vt1=vt1, vt2=vt2, peak=peak).to_dict()
+    assert set(d) == {"zones", "note"}
+    assert {"name", "hr_low_bpm", "hr_high_bpm", "work_low_w", "work_high_w"} <= set(d["zones"][0])
