@@ -1,0 +1,121 @@
+"""The store's only contact with the analysis library: import, default settings, analysis.
+
+Kept in one small class so that the store computes nothing itself: every number it keeps
+comes from :mod:`analysis` (``import_bytes``, ``AnalysisSettings``, ``analyze_session``).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from typing import Any
+
+from analysis.errors import AnalysisError
+from analysis.session import Session
+
+
+@dataclass(frozen=True)
+class ImportedFile:
+    session: Session
+    session_text: str
+    mapping: dict[str, Any] | None
+    flags: list[dict[str, Any]]
+
+
+@dataclass(frozen=True)
+class Headline:
+    """Headline numbers copied from a results dict for fast listing (never recomputed here)."""
+
+    vo2peak_ml_min: float | None = None
+    vt1_vo2_ml_min: float | None = None
+    ve_vco2_slope: float | None = None
+
+
+def _finite(value: Any) -> float | None:
+    try:
+        v = float(value)
+    except (TypeError, ValueError):
+        return None
+    return v if math.isfinite(v) else None
+
+
+def _dig(results: dict[str, Any], *paths: str) -> float | None:
+    """First finite number found at one of the dotted ``paths`` of ``results``."""
+    for path in paths:
+        node: Any = results
+        for part in path.split("."):
+            if not isinstance(node, dict) or part not in node:
+                node = None
+                break
+            node = node[part]
+        value = _finite(node)
+        if value is not None:
+            return value
+    return None
+
+
+def flags_to_records(session: Session) -> list[dict[str, Any]]:
+    """The session's import flags as JSON-ready records."""
+    records = []
+    for row in session.flags.to_dict(orient="records"):
+        records.append({k: (v.item() if hasattr(v, "item") else v) for k, v in row.items()})
+    return records
+
+
+class AnalysisBridge:
+    """Calls into :mod:`analysis`. Replaceable per store (tests may substitute a stand-in)."""
+
+    def import_file(self, data: bytes, *, file_name: str, mapping: dict[str, Any] | None) -> ImportedFile:
+        from analysis.io import import_bytes
+        from analysis.io.session_file import session_to_text
+
+        outcome = import_bytes(data, file_name=file_name, mapping=self._mapping_object(mapping))
+        session = outcome.session
+        used = getattr(outcome, "mapping", None)
+        used_dict = used.to_dict() if used is not None and hasattr(used, "to_dict") else used
+        return ImportedFile(session, session_to_text(session), used_dict, flags_to_records(session))
+
+    @staticmethod
+    def _mapping_object(mapping: dict[str, Any] | None) -> Any:
+        if mapping is None:
+            return None
+        from analysis.io import ColumnMapping  # provided by the import package
+
+        return ColumnMapping.from_dict(mapping)
+
+    def read_session_text(self, text: str, *, source_name: str) -> Session:
+        from analysis.io import read_session
+
+        return read_session(text.encode("utf-8"), file_name=source_name)
+
+    def default_settings(self, session: Session) -> dict[str, Any]:
+        from analysis.settings import AnalysisSettings
+
+        return AnalysisSettings().to_dict()
+
+    def validate_settings(self, settings: dict[str, Any]) -> dict[str, Any]:
+        """Round-trip through ``AnalysisSettings`` (raises InvalidParameter when invalid)."""
+        from analysis.settings import AnalysisSettings
+
+        return AnalysisSettings.from_dict(settings).to_dict()
+
+    def analyze(self, session: Session, settings: dict[str, Any]) -> dict[str, Any]:
+        from analysis.pipeline import analyze_session
+        from analysis.settings import AnalysisSettings
+
+        return analyze_session(session, AnalysisSettings.from_dict(settings)).to_json_dict()
+
+    def headline(self, results: dict[str, Any]) -> Headline:
+        return Headline(
+            vo2peak_ml_min=_dig(results, "vo2peak_ml_min", "peak.vo2peak_ml_min", "maximality.vo2peak_ml_min"),
+            vt1_vo2_ml_min=_dig(results, "vt1_vo2_ml_min", "vt1.vo2_ml_min", "thresholds.vt1.vo2_ml_min"),
+            ve_vco2_slope=_dig(results, "ve_vco2_slope", "efficiency.ve_vco2_slope", "ve_vco2.slope"),
+        )
+
+
+def run_analysis(bridge: AnalysisBridge, session: Session, settings: dict[str, Any]) -> tuple[dict | None, str | None]:
+    """Results, or ``(None, message)`` when the analysis cannot be done on this data."""
+    try:
+        return bridge.analyze(session, settings), None
+    except AnalysisError as exc:
+        return None, str(exc)

@@ -1,0 +1,381 @@
+"""People and tests: import (one transaction, dedup by hash), listing, reading back."""
+
+from __future__ import annotations
+
+import hashlib
+import json
+import secrets
+from typing import Any
+
+from sqlalchemy import func, select
+from sqlalchemy.exc import IntegrityError
+from sqlalchemy.orm import Session as DbSession
+
+from analysis.errors import ImportRejected, Problem, require
+from analysis.session import Session
+from store.analysis_bridge import run_analysis
+from store.core import Actor, StoreCore, aware, to_json
+from store.errors import NotFound, StoreError
+from store.models import AnalysisVersion, PersonRow, SignOff, TestRow
+from store.records import ImportResult, PersonSummary, SignOffRecord, TestRecord, TestSummary
+
+#: Largest upload accepted (bytes). A breath-by-breath file of a long test is well under 5 MB
+#: (common practice); anything this big is not a single exercise test.
+MAX_UPLOAD_BYTES = 25 * 1024 * 1024
+#: Longest person code / display name / file name kept (characters).
+MAX_CODE_CHARS = 120
+MAX_NAME_CHARS = 200
+MAX_FILE_NAME_CHARS = 255
+SEXES = ("female", "male", "other")
+
+
+def sha256_hex(data: bytes) -> str:
+    return hashlib.sha256(data).hexdigest()
+
+
+def _clean_text(value: str | None, *, name: str, limit: int, required: bool = False) -> str | None:
+    """Trim and check a free-text field; the text itself is kept verbatim (never interpreted)."""
+    if value is None:
+        require(not required, name, "a non-empty text", value)
+        return None
+    require(isinstance(value, str), name, "a text", value)
+    text = value.strip()
+    require(text != "" or not required, name, "a non-empty text", value)
+    require(len(text) <= limit, name, f"at most {limit} characters", f"{len(text)} characters")
+    require("\x00" not in text, name, "text without NUL characters", value)
+    return text or None
+
+
+def _normalise_sex(value: Any) -> str | None:
+    if value is None or str(value).strip() == "":
+        return None
+    v = str(value).strip().lower()
+    return {"f": "female", "m": "male", "w": "female"}.get(v, v if v in SEXES else "other")
+
+
+class ArchiveMixin(StoreCore):
+    # ----------------------------------------------------------------- import
+    def import_test(
+        self,
+        data: bytes,
+        *,
+        file_name: str,
+        actor: Actor,
+        person_code: str | None = None,
+        display_name: str | None = None,
+        mapping: dict[str, Any] | None = None,
+        birth_year: int | None = None,
+    ) -> ImportResult:
+        """Store one uploaded file as a test, in a single transaction.
+
+        The raw bytes are kept byte for byte with their SHA-256 and the original file name
+        (as text; it is never used as a path). The converted session, the column mapping used
+        and the first analysis version (default settings and their results) are stored with it.
+        Uploading the same bytes again returns the existing test with ``duplicate=True``.
+
+        Parameters
+        ----------
+        data : bytes
+            The file as uploaded.
+        file_name : str
+            Its name as given by the browser or command line.
+        actor : User
+            The signed-in reviewer or admin.
+        person_code : str, optional
+            Pseudonymous code of the person; defaults to the file's ``subject_id`` and, when
+            absent, to a new random code ``P-xxxxxxxx``.
+        display_name : str, optional
+            A name shown to staff (and, only when chosen, on a share link).
+        mapping : dict, optional
+            Column mapping (``ColumnMapping.to_dict()``) for a generic cart export.
+        birth_year : int, optional
+            Year of birth, if the lab records it.
+
+        Raises
+        ------
+        ImportRejected
+            Empty, oversized or unreadable file (nothing is written).
+        PermissionDenied
+            The actor is not a reviewer or admin.
+        """
+        with self._tx() as db:
+            self._check_actor(db, actor, "reviewer", "import tests")
+        name = _clean_text(file_name, name="file_name", limit=MAX_FILE_NAME_CHARS, required=True) or ""
+        person_code = _clean_text(person_code, name="person_code", limit=MAX_CODE_CHARS)
+        display_name = _clean_text(display_name, name="display_name", limit=MAX_NAME_CHARS)
+        require(
+            birth_year is None or (isinstance(birth_year, int) and 1900 <= birth_year <= 2100),
+            "birth_year", "a year between 1900 and 2100", birth_year,
+        )
+        if not isinstance(data, (bytes, bytearray)) or len(data) == 0:
+            raise ImportRejected(Problem("The file is empty.", "Choose the exported file again.", file=name))
+        if len(data) > MAX_UPLOAD_BYTES:
+            raise ImportRejected(
+                Problem(
+                    f"The file is {len(data) / 1e6:.1f} MB; the limit is {MAX_UPLOAD_BYTES / 1e6:.0f} MB.",
+                    "Upload one exercise test per file (breath-by-breath exports are far smaller).",
+                    file=name,
+                )
+            )
+        data = bytes(data)
+        digest = sha256_hex(data)
+        existing = self._find_live_by_hash(digest)
+        if existing is not None:
+            return existing
+
+        # Parsing and analysis are pure and may take a moment: done before the transaction.
+        imported = self.analysis.import_file(data, file_name=name, mapping=mapping)
+        settings = self.analysis.default_settings(imported.session)
+        results, results_error = run_analysis(self.analysis, imported.session, settings)
+        headline = self.analysis.headline(results) if results else None
+        meta = imported.session.meta
+        code = person_code or (str(meta.get("subject_id") or "").strip() or None)
+        code = _clean_text(code, name="person_code", limit=MAX_CODE_CHARS)
+
+        try:
+            with self._tx() as db:
+                actor_row = self._check_actor(db, actor, "reviewer", "import tests")
+                person = self._person_for_import(
+                    db, code=code, display_name=display_name, sex=_normalise_sex(meta.get("sex")),
+                    birth_year=birth_year, actor_row_id=actor_row.id if actor_row else None,
+                )
+                now = self.now()
+                test = TestRow(
+                    person_id=person.id,
+                    test_date=str(meta.get("test_date") or "").strip()[:32] or None,
+                    protocol=str(meta.get("protocol") or "").strip()[:200] or None,
+                    original_file_name=name,
+                    raw_sha256=digest,
+                    raw_size_bytes=len(data),
+                    raw_bytes=data,
+                    session_text=imported.session_text,
+                    mapping_json=None if imported.mapping is None else to_json(imported.mapping),
+                    flags_json=to_json(imported.flags),
+                    current_version=1,
+                    imported_at=now,
+                    imported_by=actor_row.id if actor_row else None,
+                )
+                db.add(test)
+                db.flush()
+                db.add(
+                    AnalysisVersion(
+                        test_id=test.id,
+                        version=1,
+                        settings_json=to_json(settings),
+                        results_json=None if results is None else to_json(results),
+                        results_error=results_error,
+                        vo2peak_ml_min=headline.vo2peak_ml_min if headline else None,
+                        vt1_vo2_ml_min=headline.vt1_vo2_ml_min if headline else None,
+                        ve_vco2_slope=headline.ve_vco2_slope if headline else None,
+                        created_at=now,
+                        created_by=actor_row.id if actor_row else None,
+                        reason="import",
+                    )
+                )
+                self._audit(
+                    db, actor=actor, actor_row=actor_row, action="import", test_id=test.id,
+                    person_id=person.id, new={"file_name": name, "sha256": digest, "size_bytes": len(data)},
+                )
+                result = ImportResult(
+                    test_id=test.id, person_id=person.id, duplicate=False, version=1,
+                    flags=imported.flags, results_error=results_error,
+                )
+        except IntegrityError:
+            # Another import of the same bytes committed first: report that one.
+            existing = self._find_live_by_hash(digest)
+            if existing is None:
+                raise
+            return existing
+        return result
+
+    def _find_live_by_hash(self, digest: str) -> ImportResult | None:
+        with self._tx() as db:
+            row = db.execute(
+                select(TestRow.id, TestRow.person_id, TestRow.current_version, TestRow.flags_json).where(
+                    TestRow.raw_sha256 == digest, TestRow.deleted_at.is_(None)
+                )
+            ).first()
+            if row is None:
+                return None
+            version = db.execute(
+                select(AnalysisVersion.results_error).where(
+                    AnalysisVersion.test_id == row.id, AnalysisVersion.version == row.current_version
+                )
+            ).scalar_one_or_none()
+        return ImportResult(
+            test_id=row.id, person_id=row.person_id, duplicate=True, version=row.current_version,
+            flags=json.loads(row.flags_json), results_error=version,
+        )
+
+    def _person_for_import(
+        self, db: DbSession, *, code: str | None, display_name: str | None, sex: str | None,
+        birth_year: int | None, actor_row_id: int | None,
+    ) -> PersonRow:
+        if code is not None:
+            person = db.execute(select(PersonRow).where(PersonRow.code == code)).scalar_one_or_none()
+            if person is not None:
+                if person.deleted_at is not None:
+                    raise StoreError(
+                        f"The person '{code}' was deleted; an administrator must restore them, "
+                        "or import under another code."
+                    )
+                return person
+        else:
+            code = self._new_person_code(db)
+        person = PersonRow(
+            code=code, display_name=display_name, sex=sex, birth_year=birth_year,
+            created_at=self.now(), created_by=actor_row_id,
+        )
+        db.add(person)
+        db.flush()
+        return person
+
+    @staticmethod
+    def _new_person_code(db: DbSession) -> str:
+        while True:
+            code = f"P-{secrets.token_hex(4).upper()}"
+            if db.execute(select(PersonRow.id).where(PersonRow.code == code)).first() is None:
+                return code
+
+    # ----------------------------------------------------------------- people
+    def list_people(self) -> list[PersonSummary]:
+        """Live people (not deleted), ordered by code, with their number of live tests."""
+        with self._tx() as db:
+            counts = (
+                select(
+                    TestRow.person_id,
+                    func.count(TestRow.id).label("n"),
+                    func.max(TestRow.test_date).label("last"),
+                )
+                .where(TestRow.deleted_at.is_(None))
+                .group_by(TestRow.person_id)
+                .subquery()
+            )
+            rows = db.execute(
+                select(PersonRow, counts.c.n, counts.c.last)
+                .outerjoin(counts, counts.c.person_id == PersonRow.id)
+                .where(PersonRow.deleted_at.is_(None))
+                .order_by(PersonRow.code)
+            ).all()
+        return [
+            PersonSummary(
+                id=p.id, code=p.code, display_name=p.display_name, sex=p.sex, birth_year=p.birth_year,
+                n_tests=int(n or 0), last_test_date=last,
+            )
+            for p, n, last in rows
+        ]
+
+    def get_person(self, person_id: int) -> PersonSummary:
+        for p in self.list_people():
+            if p.id == person_id:
+                return p
+        raise NotFound(f"No person with number {person_id} (it may have been deleted).")
+
+    def update_person(
+        self, person_id: int, *, actor: Actor, display_name: str | None = None,
+        sex: str | None = None, birth_year: int | None = None, reason: str = "",
+    ) -> None:
+        """Change a person's display name, sex or birth year (audited; ``None`` = unchanged)."""
+        display_name = _clean_text(display_name, name="display_name", limit=MAX_NAME_CHARS)
+        require(
+            birth_year is None or (isinstance(birth_year, int) and 1900 <= birth_year <= 2100),
+            "birth_year", "a year between 1900 and 2100", birth_year,
+        )
+        with self._tx() as db:
+            actor_row = self._check_actor(db, actor, "reviewer", "edit people")
+            person = db.get(PersonRow, person_id)
+            if person is None or person.deleted_at is not None:
+                raise NotFound(f"No person with number {person_id} (it may have been deleted).")
+            for field, value in (("display_name", display_name), ("sex", _normalise_sex(sex)),
+                                 ("birth_year", birth_year)):
+                if value is not None and getattr(person, field) != value:
+                    self._audit(db, actor=actor, actor_row=actor_row, action="person_edit",
+                                person_id=person.id, field=field, old=getattr(person, field),
+                                new=value, reason=reason)
+                    setattr(person, field, value)
+
+    # ----------------------------------------------------------------- tests
+    def _summary_query(self):  # noqa: ANN202 - SQLAlchemy Select
+        signed = (
+            select(SignOff.test_id, func.max(SignOff.version).label("signed_version"))
+            .group_by(SignOff.test_id)
+            .subquery()
+        )
+        return (
+            select(TestRow, PersonRow, AnalysisVersion, signed.c.signed_version)
+            .join(PersonRow, PersonRow.id == TestRow.person_id)
+            .join(
+                AnalysisVersion,
+                (AnalysisVersion.test_id == TestRow.id) & (AnalysisVersion.version == TestRow.current_version),
+            )
+            .outerjoin(signed, signed.c.test_id == TestRow.id)
+        )
+
+    @staticmethod
+    def _summary(test: TestRow, person: PersonRow, version: AnalysisVersion, signed: int | None) -> TestSummary:
+        return TestSummary(
+            id=test.id, person_id=person.id, person_code=person.code, display_name=person.display_name,
+            test_date=test.test_date, protocol=test.protocol, file_name=test.original_file_name,
+            version=test.current_version, vo2peak_ml_min=version.vo2peak_ml_min,
+            vt1_vo2_ml_min=version.vt1_vo2_ml_min, ve_vco2_slope=version.ve_vco2_slope,
+            signed_version=signed, results_error=version.results_error,
+            imported_at=aware(test.imported_at),  # type: ignore[arg-type]
+        )
+
+    def list_tests(self, person_id: int | None = None, *, test_ids: tuple[int, ...] | None = None) -> list[TestSummary]:
+        """Live tests (optionally of one person or a given set), oldest first, with headline numbers."""
+        query = self._summary_query().where(TestRow.deleted_at.is_(None), PersonRow.deleted_at.is_(None))
+        if person_id is not None:
+            query = query.where(TestRow.person_id == person_id)
+        if test_ids is not None:
+            query = query.where(TestRow.id.in_(list(test_ids)))
+        with self._tx() as db:
+            rows = db.execute(query.order_by(TestRow.test_date, TestRow.id)).all()
+        return [self._summary(*row) for row in rows]
+
+    def get_test(self, test_id: int, *, include_deleted: bool = False) -> TestRecord:
+        """Everything about one test except raw bytes and session text (see ``raw_file``)."""
+        with self._tx() as db:
+            row = db.execute(self._summary_query().where(TestRow.id == test_id)).first()
+            if row is None or (not include_deleted and (row[0].deleted_at is not None or row[1].deleted_at is not None)):
+                raise NotFound(f"No test with number {test_id} (it may have been deleted).")
+            test = row[0]
+            sign_rows = db.execute(select(SignOff).where(SignOff.test_id == test_id).order_by(SignOff.version)).scalars().all()
+            names = self._usernames(db, {s.signed_by for s in sign_rows} | {test.imported_by})
+        return TestRecord(
+            summary=self._summary(*row),
+            raw_sha256=test.raw_sha256,
+            raw_size_bytes=test.raw_size_bytes,
+            mapping=None if test.mapping_json is None else json.loads(test.mapping_json),
+            flags=json.loads(test.flags_json),
+            sign_offs=[
+                SignOffRecord(s.test_id, s.version, names.get(s.signed_by, "?"), aware(s.signed_at), s.note)  # type: ignore[arg-type]
+                for s in sign_rows
+            ],
+            imported_by=names.get(test.imported_by) if test.imported_by else None,
+            deleted_at=aware(test.deleted_at),
+        )
+
+    def _live_test(self, db: DbSession, test_id: int) -> TestRow:
+        test = db.get(TestRow, test_id)
+        if test is None or test.deleted_at is not None:
+            raise NotFound(f"No test with number {test_id} (it may have been deleted).")
+        return test
+
+    def raw_file(self, test_id: int) -> tuple[str, bytes]:
+        """``(original file name, bytes)`` exactly as uploaded. The name is text, not a path."""
+        with self._tx() as db:
+            test = self._live_test(db, test_id)
+            return test.original_file_name, test.raw_bytes
+
+    def session_text(self, test_id: int) -> str:
+        """The converted session in Tidemark's session-file format."""
+        with self._tx() as db:
+            return self._live_test(db, test_id).session_text
+
+    def load_session(self, test_id: int) -> Session:
+        """The stored session of a test, ready for :mod:`analysis`."""
+        with self._tx() as db:
+            test = self._live_test(db, test_id)
+            text, name = test.session_text, test.original_file_name
+        return self.analysis.read_session_text(text, source_name=name)

@@ -1,0 +1,94 @@
+"""Where the store lives and how the database engine is created.
+
+Resolution order for the database URL: an explicit ``url`` argument (the CLI's ``--store``),
+then the ``TIDEMARK_STORE`` environment variable, then the default SQLite file
+``~/.tidemark/tidemark.sqlite``. A plain file path is accepted and turned into a SQLite URL.
+"""
+
+from __future__ import annotations
+
+import os
+from pathlib import Path
+
+from sqlalchemy import event
+from sqlalchemy.engine import URL, Engine, make_url
+from sqlalchemy import create_engine
+
+from store.errors import StoreError
+
+#: Environment variable naming the store (a SQLAlchemy URL or a SQLite file path).
+STORE_ENV = "TIDEMARK_STORE"
+#: Default SQLite file when nothing is configured.
+DEFAULT_PATH = Path("~/.tidemark/tidemark.sqlite")
+#: How long a SQLite writer waits for another writer before giving up (milliseconds).
+SQLITE_BUSY_TIMEOUT_MS = 15_000
+#: Back ends the store is tested against.
+SUPPORTED_DIALECTS = ("sqlite", "postgresql")
+
+
+def resolve_url(url: str | None = None) -> str:
+    """Return the database URL to use.
+
+    Parameters
+    ----------
+    url : str, optional
+        A SQLAlchemy URL (``sqlite:////abs/path.sqlite``, ``postgresql+psycopg://user@host/db``)
+        or a path to a SQLite file. ``None`` falls back to ``$TIDEMARK_STORE`` and then to
+        ``~/.tidemark/tidemark.sqlite``.
+    """
+    chosen = url or os.environ.get(STORE_ENV) or str(DEFAULT_PATH)
+    if "://" not in chosen:
+        path = Path(chosen).expanduser().resolve()
+        chosen = URL.create("sqlite", database=str(path)).render_as_string()
+    parsed = _parse(chosen)
+    if parsed.get_backend_name() not in SUPPORTED_DIALECTS:
+        raise StoreError(
+            f"The store URL uses '{parsed.get_backend_name()}', which Tidemark does not support; "
+            "use a SQLite file path or a postgresql+psycopg:// URL."
+        )
+    return chosen
+
+
+def _parse(url: str) -> URL:
+    try:
+        return make_url(url)
+    except Exception as exc:  # noqa: BLE001 - SQLAlchemy raises ArgumentError with a terse text
+        raise StoreError(f"The store URL could not be read ({exc}); check --store or {STORE_ENV}.") from exc
+
+
+def describe_url(url: str) -> str:
+    """The URL with any password hidden, for messages and logs."""
+    return _parse(url).render_as_string(hide_password=True)
+
+
+def make_engine(url: str) -> Engine:
+    """Create the engine; SQLite gets foreign keys, WAL journaling and a busy timeout."""
+    parsed = _parse(url)
+    if parsed.get_backend_name() == "sqlite":
+        database = parsed.database or ""
+        if database and database != ":memory:" and not database.startswith("file:"):
+            Path(database).parent.mkdir(parents=True, exist_ok=True)
+        engine = create_engine(
+            parsed, connect_args={"timeout": SQLITE_BUSY_TIMEOUT_MS / 1000}
+        )
+        event.listen(engine, "connect", _sqlite_on_connect)
+        event.listen(engine, "begin", _sqlite_on_begin)
+        return engine
+    return create_engine(parsed, pool_pre_ping=True)
+
+
+def _sqlite_on_connect(dbapi_connection, _record) -> None:  # noqa: ANN001 - DB-API objects
+    # Let SQLAlchemy issue BEGIN itself so that transactions behave the same on both back ends.
+    dbapi_connection.isolation_level = None
+    cursor = dbapi_connection.cursor()
+    cursor.execute("PRAGMA foreign_keys=ON")
+    cursor.execute(f"PRAGMA busy_timeout={SQLITE_BUSY_TIMEOUT_MS}")
+    cursor.execute("PRAGMA journal_mode=WAL")
+    cursor.execute("PRAGMA synchronous=NORMAL")
+    cursor.close()
+
+
+def _sqlite_on_begin(connection) -> None:  # noqa: ANN001 - SQLAlchemy Connection
+    # IMMEDIATE takes the write lock at the start, so two writers queue instead of one failing
+    # half-way with "database is locked" after reading stale data.
+    connection.exec_driver_sql("BEGIN IMMEDIATE")

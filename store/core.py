@@ -1,0 +1,163 @@
+"""Shared machinery of the store: engine, transactions, clock, role checks, audit rows."""
+
+from __future__ import annotations
+
+import json
+from collections.abc import Callable, Iterator
+from contextlib import contextmanager
+from datetime import UTC, datetime
+from typing import Any
+
+from sqlalchemy import select
+from sqlalchemy.engine import Engine
+from sqlalchemy.orm import Session as DbSession
+from sqlalchemy.orm import sessionmaker
+
+from store.analysis_bridge import AnalysisBridge
+from store.errors import PermissionDenied
+from store.models import AuditEvent, StoreInfo, UserRow
+from store.records import ROLE_ORDER, Operator, User
+
+Clock = Callable[[], datetime]
+
+
+def utc_now() -> datetime:
+    return datetime.now(UTC)
+
+
+def aware(value: datetime | None) -> datetime | None:
+    """SQLite hands back naive datetimes; everything stored is UTC."""
+    if value is None:
+        return None
+    return value if value.tzinfo is not None else value.replace(tzinfo=UTC)
+
+
+def to_json(value: Any) -> str:
+    return json.dumps(value, sort_keys=True, ensure_ascii=False, allow_nan=False)
+
+
+def user_record(row: UserRow) -> User:
+    return User(
+        id=row.id,
+        username=row.username,
+        role=row.role,
+        is_active=row.is_active,
+        auth_source=row.auth_source,
+        is_demo=row.is_demo,
+    )
+
+
+Actor = User | Operator
+
+
+class StoreCore:
+    """Engine, transactions and checks shared by the store's parts."""
+
+    def __init__(self, engine: Engine, *, url: str, clock: Clock | None = None):
+        self.engine = engine
+        self.url = url
+        self.clock: Clock = clock or utc_now
+        self.analysis = AnalysisBridge()
+        self._sessions = sessionmaker(engine, expire_on_commit=False)
+
+    @property
+    def dialect(self) -> str:
+        return self.engine.dialect.name
+
+    def close(self) -> None:
+        """Release database connections."""
+        self.engine.dispose()
+
+    def __enter__(self):  # noqa: ANN204
+        return self
+
+    def __exit__(self, *exc: object) -> None:
+        self.close()
+
+    @contextmanager
+    def _tx(self) -> Iterator[DbSession]:
+        """One transaction: committed when the block ends, rolled back on any exception."""
+        with self._sessions.begin() as db:
+            yield db
+
+    def now(self) -> datetime:
+        return self.clock()
+
+    # ----------------------------------------------------------------- permissions
+    def _check_actor(self, db: DbSession, actor: Actor, role: str, action: str) -> UserRow | None:
+        """Return the actor's current row (``None`` for the command-line operator).
+
+        The role is read from the database, not from the ``User`` object passed in, so a
+        disabled account or a lowered role takes effect at once.
+        """
+        if isinstance(actor, Operator):
+            return None
+        if not isinstance(actor, User):
+            raise PermissionDenied(f"To {action} you must be signed in.")
+        row = db.get(UserRow, actor.id)
+        if row is None or not row.is_active:
+            raise PermissionDenied(f"To {action} you must be signed in with an active account.")
+        if ROLE_ORDER.index(row.role) < ROLE_ORDER.index(role):
+            raise PermissionDenied(
+                f"Your role '{row.role}' does not allow you to {action}; it needs the role '{role}' "
+                "(ask an administrator)."
+            )
+        return row
+
+    @staticmethod
+    def _actor_name(actor: Actor, row: UserRow | None) -> str:
+        if row is not None:
+            return row.username
+        return actor.name if isinstance(actor, Operator) else str(getattr(actor, "username", "?"))
+
+    def _audit(
+        self,
+        db: DbSession,
+        *,
+        actor: Actor,
+        actor_row: UserRow | None,
+        action: str,
+        test_id: int | None = None,
+        person_id: int | None = None,
+        field: str | None = None,
+        old: Any = None,
+        new: Any = None,
+        reason: str = "",
+    ) -> None:
+        db.add(
+            AuditEvent(
+                at=self.now(),
+                actor_id=actor_row.id if actor_row is not None else None,
+                actor_name=self._actor_name(actor, actor_row),
+                action=action,
+                test_id=test_id,
+                person_id=person_id,
+                field=field,
+                old_value=None if old is None else to_json(old),
+                new_value=None if new is None else to_json(new),
+                reason=reason or "",
+            )
+        )
+
+    # ----------------------------------------------------------------- store facts
+    def _info(self, db: DbSession, key: str) -> str | None:
+        row = db.get(StoreInfo, key)
+        return row.value if row is not None else None
+
+    def _set_info(self, db: DbSession, key: str, value: str) -> None:
+        row = db.get(StoreInfo, key)
+        if row is None:
+            db.add(StoreInfo(key=key, value=value))
+        else:
+            row.value = value
+
+    def is_demo_store(self) -> bool:
+        """True when this store was created by ``tidemark demo --load`` (local demo mode)."""
+        with self._tx() as db:
+            return self._info(db, "demo") == "1"
+
+    def _usernames(self, db: DbSession, ids: set[int | None]) -> dict[int, str]:
+        wanted = {i for i in ids if i is not None}
+        if not wanted:
+            return {}
+        return dict(db.execute(select(UserRow.id, UserRow.username).where(UserRow.id.in_(wanted))).all())

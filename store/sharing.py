@@ -1,0 +1,205 @@
+"""Read-only share links for coaches and referrers.
+
+A link carries a random token of 256 bits (``secrets.token_urlsafe(32)``); only its SHA-256 is
+stored. A link covers one test or the tests one person had when it was created, expires, can
+be revoked, and says which sections its holder may see. Every successful use is logged.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import hmac
+import json
+import re
+import secrets
+from datetime import timedelta
+
+from sqlalchemy import func, select
+
+from analysis.errors import require
+from store.core import Actor, aware, to_json
+from store.errors import NotFound, StoreError
+from store.models import PersonRow, ShareLink, ShareLinkTest, ShareView, TestRow
+from store.review import ReviewMixin
+from store.records import ShareInfo, ShareScope
+
+#: What a link may show; the default is all four (the display name is a separate choice).
+SHARE_SECTIONS: tuple[str, ...] = ("headline", "zones", "charts", "report")
+#: Longest a link may live (days); common practice for coach follow-up is weeks to a season.
+MAX_SHARE_DAYS = 366
+TOKEN_BYTES = 32
+_TOKEN_RE = re.compile(r"^[A-Za-z0-9_-]{43}$")
+
+
+def token_hash(token: str) -> str:
+    return hashlib.sha256(token.encode("utf-8", "replace")).hexdigest()
+
+
+class SharingMixin(ReviewMixin):
+    def create_share(
+        self,
+        *,
+        actor: Actor,
+        test_id: int | None = None,
+        person_id: int | None = None,
+        expires_in_days: float,
+        show_name: bool = False,
+        sections: tuple[str, ...] | list[str] = SHARE_SECTIONS,
+        note: str = "",
+    ) -> tuple[str, int]:
+        """Create a read-only link for one test or for one person's tests (reviewer or admin).
+
+        Returns ``(token, share_id)``. The token is shown once and never stored; keep it in
+        the link given to the coach. ``show_name=False`` (default) shows the pseudonymous code.
+        """
+        require((test_id is None) != (person_id is None), "test_id/person_id", "exactly one of them", (test_id, person_id))
+        require(isinstance(expires_in_days, (int, float)) and 0 < expires_in_days <= MAX_SHARE_DAYS,
+                "expires_in_days", f"a number of days above 0 and at most {MAX_SHARE_DAYS}", expires_in_days)
+        sections = tuple(sections)
+        require(bool(sections) and all(s in SHARE_SECTIONS for s in sections), "sections",
+                f"one or more of {', '.join(SHARE_SECTIONS)}", sections)
+        token = secrets.token_urlsafe(TOKEN_BYTES)
+        with self._tx() as db:
+            actor_row = self._check_actor(db, actor, "reviewer", "create share links")
+            if actor_row is None:
+                raise StoreError("Share links are created by a signed-in reviewer, not the command line.")
+            if test_id is not None:
+                test = self._live_test(db, test_id)
+                covered = [test.id]
+                owner = test.person_id
+            else:
+                person = db.get(PersonRow, person_id)
+                if person is None or person.deleted_at is not None:
+                    raise NotFound(f"No person with number {person_id} (it may have been deleted).")
+                covered = list(db.execute(
+                    select(TestRow.id).where(TestRow.person_id == person_id, TestRow.deleted_at.is_(None))
+                ).scalars())
+                owner = person.id
+            now = self.now()
+            link = ShareLink(
+                token_sha256=token_hash(token), person_id=person_id, test_id=test_id, show_name=bool(show_name),
+                sections_json=to_json(list(sections)), note=note or "", created_at=now, created_by=actor_row.id,
+                expires_at=now + timedelta(days=float(expires_in_days)),
+            )
+            db.add(link)
+            db.flush()
+            for tid in covered:
+                db.add(ShareLinkTest(share_id=link.id, test_id=tid))
+            self._audit(db, actor=actor, actor_row=actor_row, action="share_create", test_id=test_id,
+                        person_id=owner, field=f"share:{link.id}",
+                        new={"tests": covered, "sections": list(sections), "show_name": bool(show_name),
+                             "expires_at": link.expires_at.isoformat()})
+            return token, link.id
+
+    def resolve_share(self, token: str, *, log_view: bool = True) -> ShareScope | None:
+        """The scope of a valid link, else ``None``.
+
+        ``None`` is returned alike for malformed, unknown, tampered, expired and revoked
+        tokens, and for a link whose tests were all deleted: the caller learns nothing about
+        which case it was. The lookup is by hash of the token, followed by a constant-time
+        comparison. A successful resolution is logged as a view unless ``log_view=False``.
+        """
+        candidate = token if isinstance(token, str) else ""
+        well_formed = bool(_TOKEN_RE.match(candidate))
+        digest = token_hash(candidate if well_formed else "!" + candidate[:100])
+        now = self.now()
+        with self._tx() as db:
+            link = db.execute(select(ShareLink).where(ShareLink.token_sha256 == digest)).scalar_one_or_none()
+            stored = link.token_sha256 if link is not None else "0" * 64
+            matches = hmac.compare_digest(stored, digest) and well_formed and link is not None
+            if not matches or link.revoked_at is not None or aware(link.expires_at) <= now:  # type: ignore[union-attr,operator]
+                return None
+            test_ids = tuple(db.execute(
+                select(ShareLinkTest.test_id)
+                .join(TestRow, TestRow.id == ShareLinkTest.test_id)
+                .join(PersonRow, PersonRow.id == TestRow.person_id)
+                .where(ShareLinkTest.share_id == link.id, TestRow.deleted_at.is_(None), PersonRow.deleted_at.is_(None))
+                .order_by(ShareLinkTest.test_id)
+            ).scalars())
+            if not test_ids:
+                return None
+            if log_view:
+                db.add(ShareView(share_id=link.id, viewed_at=now))
+            return ShareScope(
+                share_id=link.id, test_ids=test_ids, sections=tuple(json.loads(link.sections_json)),
+                show_name=link.show_name, expires_at=aware(link.expires_at),  # type: ignore[arg-type]
+            )
+
+    def log_share_view(self, share_id: int) -> None:
+        """Record one more view of a link (when ``resolve_share(..., log_view=False)`` was used)."""
+        with self._tx() as db:
+            if db.get(ShareLink, share_id) is None:
+                raise NotFound(f"No share link with number {share_id}.")
+            db.add(ShareView(share_id=share_id, viewed_at=self.now()))
+
+    def revoke_share(self, share_id: int, *, actor: Actor, reason: str = "") -> None:
+        """Revoke a link at once (reviewer or admin). Revoking twice is harmless."""
+        with self._tx() as db:
+            actor_row = self._check_actor(db, actor, "reviewer", "revoke share links")
+            link = db.get(ShareLink, share_id)
+            if link is None:
+                raise NotFound(f"No share link with number {share_id}.")
+            if link.revoked_at is None:
+                link.revoked_at, link.revoked_by = self.now(), actor_row.id if actor_row else None
+                self._audit(db, actor=actor, actor_row=actor_row, action="share_revoke", test_id=link.test_id,
+                            person_id=link.person_id, field=f"share:{link.id}", reason=reason)
+
+    def list_shares(
+        self, *, test_id: int | None = None, person_id: int | None = None, include_inactive: bool = True
+    ) -> list[ShareInfo]:
+        """Share links (newest first), optionally those covering a test or created for a person."""
+        now = self.now()
+        query = select(ShareLink).order_by(ShareLink.id.desc())
+        if person_id is not None:
+            query = query.where(ShareLink.person_id == person_id)
+        with self._tx() as db:
+            if test_id is not None:
+                covering = select(ShareLinkTest.share_id).where(ShareLinkTest.test_id == test_id)
+                query = query.where(ShareLink.id.in_(covering))
+            links = db.execute(query).scalars().all()
+            ids = [l.id for l in links]
+            views = dict(
+                (sid, (n, last)) for sid, n, last in db.execute(
+                    select(ShareView.share_id, func.count(ShareView.id), func.max(ShareView.viewed_at))
+                    .where(ShareView.share_id.in_(ids)).group_by(ShareView.share_id)
+                ).all()
+            ) if ids else {}
+            covered: dict[int, list[int]] = {}
+            if ids:
+                for sid, tid in db.execute(select(ShareLinkTest.share_id, ShareLinkTest.test_id).where(ShareLinkTest.share_id.in_(ids))):
+                    covered.setdefault(sid, []).append(tid)
+            names = self._usernames(db, {l.created_by for l in links})
+        out = []
+        for l in links:
+            active = l.revoked_at is None and aware(l.expires_at) > now  # type: ignore[operator]
+            if not include_inactive and not active:
+                continue
+            n, last = views.get(l.id, (0, None))
+            out.append(ShareInfo(
+                id=l.id, test_id=l.test_id, person_id=l.person_id, test_ids=tuple(sorted(covered.get(l.id, []))),
+                sections=tuple(json.loads(l.sections_json)), show_name=l.show_name, note=l.note,
+                created_by=names.get(l.created_by, "?"), created_at=aware(l.created_at),  # type: ignore[arg-type]
+                expires_at=aware(l.expires_at), revoked_at=aware(l.revoked_at), n_views=int(n),  # type: ignore[arg-type]
+                last_viewed_at=aware(last), active=active,
+            ))
+        return out
+
+    def shared_tests(self, scope: ShareScope) -> list[dict]:
+        """What a link's holder may see in the test list: label, date, protocol, headline numbers.
+
+        The label is the display name only when the link allows it, else the pseudonymous code.
+        Headline numbers are included only when the link shows the ``headline`` section.
+        """
+        rows = self.list_tests(test_ids=scope.test_ids)
+        out = []
+        for t in rows:
+            item = {
+                "test_id": t.id,
+                "label": (t.display_name or t.person_code) if scope.show_name else t.person_code,
+                "test_date": t.test_date,
+                "protocol": t.protocol,
+            }
+            if "headline" in scope.sections:
+                item.update(vo2peak_ml_min=t.vo2peak_ml_min, vt1_vo2_ml_min=t.vt1_vo2_ml_min, ve_vco2_slope=t.ve_vco2_slope)
+            out.append(item)
+        return out
