@@ -2,17 +2,87 @@
 
 Public API
 ----------
-Curves
-    :func:`saturation`, :func:`po2_at_saturation`, :func:`p50`, :data:`MODELS`
+Curves (:mod:`analysis.oxygen.curves`)
+    :func:`saturation`, :func:`po2_at_saturation`, :func:`p50`, :data:`MODELS`,
+    :data:`MODEL_CONDITIONS`, :data:`STANDARD`
+Content (:mod:`analysis.oxygen.content`)
+    :func:`o2_content_ml_dl`, :func:`saturation_from_spo2`, :data:`DEFAULT_HUEFNER_ML_G`
+Fick (:mod:`analysis.oxygen.fick`)
+    :func:`avo2_difference_ml_dl`, :func:`cardiac_output_l_min`,
+    :func:`stringer_avo2_difference_ml_dl`, :func:`stringer_cardiac_output_l_min`,
+    :func:`stroke_volume_ml`
+States and comparison (:mod:`analysis.oxygen.states`, :mod:`analysis.oxygen.comparison`)
+    :class:`StatePoint`, :class:`StateConditions`, :data:`DEFAULT_CONDITIONS`,
+    :func:`oxygen_comparison`, :class:`OxygenComparison`, :class:`StateOxygen`
+Haldane (:mod:`analysis.oxygen.haldane`)
+    :func:`blood_co2_content_ml_dl`, :func:`haldane_extra_co2_ml_dl`, :func:`haldane_factor`
 """
 
+from analysis.oxygen.comparison import (
+    CAUTION,
+    PVO2_FLOOR_MMHG,
+    OxygenComparison,
+    StateOxygen,
+    UnloadingParts,
+    oxygen_comparison,
+)
+from analysis.oxygen.content import (
+    DEFAULT_HUEFNER_ML_G,
+    O2_SOLUBILITY_ML_DL_MMHG,
+    o2_content_ml_dl,
+    saturation_from_spo2,
+)
 from analysis.oxygen.curves import MODEL_CONDITIONS, MODELS, STANDARD, p50, po2_at_saturation, saturation
+from analysis.oxygen.fick import (
+    avo2_difference_ml_dl,
+    cardiac_output_l_min,
+    stringer_avo2_difference_ml_dl,
+    stringer_cardiac_output_l_min,
+    stroke_volume_ml,
+)
+from analysis.oxygen.haldane import (
+    blood_co2_content_at_base_excess_ml_dl,
+    blood_co2_content_ml_dl,
+    haldane_extra_co2_ml_dl,
+    haldane_factor,
+)
+from analysis.oxygen.states import (
+    ARTERIAL_CONDITIONS,
+    DEFAULT_CONDITIONS,
+    STATE_NAMES,
+    StateConditions,
+    StatePoint,
+)
 
 __all__ = [
+    "ARTERIAL_CONDITIONS",
+    "CAUTION",
+    "DEFAULT_CONDITIONS",
+    "DEFAULT_HUEFNER_ML_G",
     "MODELS",
     "MODEL_CONDITIONS",
+    "O2_SOLUBILITY_ML_DL_MMHG",
+    "PVO2_FLOOR_MMHG",
     "STANDARD",
+    "STATE_NAMES",
+    "OxygenComparison",
+    "StateConditions",
+    "StateOxygen",
+    "StatePoint",
+    "UnloadingParts",
+    "avo2_difference_ml_dl",
+    "blood_co2_content_at_base_excess_ml_dl",
+    "blood_co2_content_ml_dl",
+    "cardiac_output_l_min",
+    "haldane_extra_co2_ml_dl",
+    "haldane_factor",
+    "o2_content_ml_dl",
+    "oxygen_comparison",
     "p50",
     "po2_at_saturation",
     "saturation",
+    "saturation_from_spo2",
+    "stringer_avo2_difference_ml_dl",
+    "stringer_cardiac_output_l_min",
+    "stroke_volume_ml",
 ]
