@@ -1,0 +1,61 @@
+"""Physiological simulator of breath-by-breath exercise tests with known ground truth.
+
+Public API
+----------
+Inputs
+    :class:`SubjectProfile`, :class:`ProtocolSpec`
+Simulation
+    :func:`simulate_session`
+Demo cast (fictional people of the Saltmarsh Exercise Lab)
+    :data:`DEMO_TESTS`, :class:`DemoTest`, :func:`generate_demo`, and the named profiles and
+    protocols (``TRAINED_CYCLIST``, ``RECREATIONAL_RUNNER``, ``REHAB_BASELINE``,
+    ``REHAB_FOLLOWUP``, ``HEART_FAILURE``, ``SUBMAX_SCREEN``; ``CYCLE_RAMP_30``, ...)
+
+The model is described with its equations in ``docs/simulation.md``.
+"""
+
+from analysis.simulation.cast import (
+    CYCLE_RAMP_8,
+    CYCLE_RAMP_10,
+    CYCLE_RAMP_12,
+    CYCLE_RAMP_30,
+    CYCLE_SUBMAX,
+    DEMO_TESTS,
+    HEART_FAILURE,
+    LAB_NAME,
+    RECREATIONAL_RUNNER,
+    REHAB_BASELINE,
+    REHAB_FOLLOWUP,
+    SUBMAX_SCREEN,
+    TRAINED_CYCLIST,
+    TREADMILL_RAMP,
+    DemoTest,
+    generate_demo,
+)
+from analysis.simulation.profiles import MODES, SEXES, STOP_RULES, ProtocolSpec, SubjectProfile
+from analysis.simulation.simulate import simulate_session
+
+__all__ = [
+    "SubjectProfile",
+    "ProtocolSpec",
+    "SEXES",
+    "MODES",
+    "STOP_RULES",
+    "simulate_session",
+    "DemoTest",
+    "DEMO_TESTS",
+    "generate_demo",
+    "LAB_NAME",
+    "TRAINED_CYCLIST",
+    "RECREATIONAL_RUNNER",
+    "REHAB_BASELINE",
+    "REHAB_FOLLOWUP",
+    "HEART_FAILURE",
+    "SUBMAX_SCREEN",
+    "CYCLE_RAMP_30",
+    "CYCLE_RAMP_10",
+    "CYCLE_RAMP_12",
+    "CYCLE_RAMP_8",
+    "CYCLE_SUBMAX",
+    "TREADMILL_RAMP",
+]
