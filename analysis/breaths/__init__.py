@@ -1,0 +1,22 @@
+"""Breath cleaning and averaging.
+
+Public API
+----------
+Outliers
+    :func:`find_outlier_breaths`, :func:`exclude_breaths`
+Averaging
+    :class:`AveragingSpec`, :data:`DEFAULT_AVERAGING`, :func:`average_breaths`
+"""
+
+from analysis.breaths.averaging import DEFAULT_AVERAGING, METHODS, AveragingSpec, average_breaths
+from analysis.breaths.outliers import OUTLIER_COLUMNS, exclude_breaths, find_outlier_breaths
+
+__all__ = [
+    "AveragingSpec",
+    "DEFAULT_AVERAGING",
+    "METHODS",
+    "OUTLIER_COLUMNS",
+    "average_breaths",
+    "exclude_breaths",
+    "find_outlier_breaths",
+]

@@ -1,0 +1,192 @@
+"""Outlier breaths: the local-window rule (a breath far from its neighbours is excluded).
+
+A single swallowed, coughed or half-sampled breath produces a value far from the breaths around
+it. The rule here compares each breath with the breaths on either side of it (never with
+itself), so a genuine steady change over a ramp is not mistaken for an outlier.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterable, Sequence
+
+import numpy as np
+import pandas as pd
+from numpy.lib.stride_tricks import sliding_window_view
+
+from analysis import columns as C
+from analysis.errors import InvalidParameter, require
+
+#: Columns of the frame returned by :func:`find_outlier_breaths`.
+OUTLIER_COLUMNS: tuple[str, ...] = (
+    "source_row",
+    "t_s",
+    "column",
+    "value",
+    "local_mean",
+    "local_sd",
+    "reason",
+)
+
+#: 1.4826 x MAD estimates the SD of normally distributed values (common practice).
+_MAD_TO_SD = 1.4826
+#: The spread is read over this many times the window (at least 31 breaths), so that it is not
+#: itself a noisy estimate from a handful of breaths.
+_SPREAD_WINDOW_FACTOR = 5
+
+
+def _neighbour_mean(values: np.ndarray, half: int) -> np.ndarray:
+    """Trimmed mean of the ``half`` breaths on each side of every breath (itself left out).
+
+    Of the neighbours the single highest and single lowest are dropped, so one neighbouring
+    artifact does not drag the reference value. Breaths with fewer than three usable
+    neighbours get NaN.
+    """
+    n = values.size
+    padded = np.concatenate([np.full(half, np.nan), values, np.full(half, np.nan)])
+    win = sliding_window_view(padded, 2 * half + 1)[:n]
+    neigh = np.delete(win, half, axis=1)  # drop the breath itself
+    srt = np.sort(neigh, axis=1)  # NaN sort to the end
+    count = np.sum(~np.isnan(neigh), axis=1)
+    cols = np.arange(neigh.shape[1])[None, :]
+    keep = (cols >= 1) & (cols < (count - 1)[:, None])
+    k = np.sum(keep, axis=1)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        mean = np.where(keep, srt, 0.0).sum(axis=1) / np.where(k > 0, k, np.nan)
+    mean[k < 3] = np.nan
+    return mean
+
+
+def _local_spread(resid: np.ndarray, window: int) -> np.ndarray:
+    """Robust SD (1.4826 x median absolute deviation) of the residuals around each breath."""
+    r = pd.Series(resid)
+    med = r.rolling(window, center=True, min_periods=max(5, window // 3)).median()
+    mad = (r - med).abs().rolling(window, center=True, min_periods=max(5, window // 3)).median()
+    return (_MAD_TO_SD * mad).to_numpy()
+
+
+def find_outlier_breaths(
+    breaths: pd.DataFrame,
+    *,
+    window_breaths: int = 9,
+    k_sd: float = 3.0,
+    columns: Sequence[str] = (C.VO2_ML_MIN, C.VCO2_ML_MIN, C.VE_L_MIN),
+) -> pd.DataFrame:
+    """Find breaths that lie far outside the spread of their neighbours.
+
+    Parameters
+    ----------
+    breaths : pandas.DataFrame
+        Breath table in canonical columns, sorted by ``t_s``; ``source_row`` is used when
+        present (otherwise the 1-based position).
+    window_breaths : int, default 9
+        Odd window length in breaths, centred on the breath under test; the breath itself is
+        excluded, so 9 compares each breath with 4 breaths on each side.
+    k_sd : float, default 3.0
+        A breath is excluded when it lies more than ``k_sd`` local SDs from the local mean.
+    columns : sequence of str
+        Columns tested; a breath is reported once, under the column where it deviates most.
+
+    Returns
+    -------
+    pandas.DataFrame
+        One row per excluded breath: ``source_row``, ``t_s``, ``column``, ``value``,
+        ``local_mean``, ``local_sd``, ``reason`` (plain words).
+
+    Notes
+    -----
+    The local mean is the mean of the neighbouring breaths with the highest and lowest
+    neighbour dropped (a trimmed mean, so an artifact next door does not drag it). The local SD
+    is the spread of breaths around their own local means, read robustly (1.4826 x median
+    absolute deviation) over a wider window of ``5 * window_breaths`` (at least 31) breaths: an
+    SD from only eight neighbours would itself be so uncertain that about 3 % of clean breaths
+    per column would cross 3 SD. Breaths with fewer than three usable neighbours are not
+    tested.
+
+    References
+    ----------
+    Lamarra N, Whipp BJ, Ward SA, Wasserman K (1987). Effect of interbreath fluctuations on
+    characterizing exercise gas exchange kinetics. J Appl Physiol 62:2003-2012 (outliers
+    outside the local mean +/- 3-4 SD; from memory).
+    """
+    require(
+        isinstance(window_breaths, (int, np.integer)) and window_breaths >= 5 and window_breaths % 2 == 1,
+        "window_breaths",
+        "an odd whole number of breaths, at least 5",
+        window_breaths,
+    )
+    require(np.isfinite(k_sd) and 1.0 <= k_sd <= 10.0, "k_sd", "a number between 1 and 10", k_sd)
+    missing = [c for c in columns if c not in breaths.columns]
+    if missing:
+        raise InvalidParameter("columns", f"columns present in the breath table {list(breaths.columns)}", missing)
+    n = len(breaths)
+    if n == 0 or not columns:
+        return pd.DataFrame({c: pd.Series(dtype=object if c in ("column", "reason") else float) for c in OUTLIER_COLUMNS})
+    half = window_breaths // 2
+    spread_window = max(31, _SPREAD_WINDOW_FACTOR * window_breaths)
+    zs, means, sds, vals = [], [], [], []
+    for col in columns:
+        v = breaths[col].to_numpy(dtype=float)
+        m = _neighbour_mean(v, half)
+        s = _local_spread(v - m, spread_window)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            z = np.abs(v - m) / s
+        z[~np.isfinite(z)] = 0.0
+        zs.append(z)
+        means.append(m)
+        sds.append(s)
+        vals.append(v)
+    Z = np.vstack(zs)
+    worst = np.argmax(Z, axis=0)
+    zmax = Z[worst, np.arange(n)]
+    hit = np.flatnonzero(zmax > k_sd)
+    src = (
+        breaths["source_row"].to_numpy()
+        if "source_row" in breaths.columns
+        else np.arange(1, n + 1)
+    )
+    t = breaths[C.T_S].to_numpy(dtype=float) if C.T_S in breaths.columns else np.full(n, np.nan)
+    rows = []
+    for i in hit:
+        j = worst[i]
+        col = columns[j]
+        others = [columns[q] for q in range(len(columns)) if q != j and Z[q, i] > k_sd]
+        direction = "above" if vals[j][i] > means[j][i] else "below"
+        unit = C.COLUMNS[col].unit if col in C.COLUMNS else ""
+        label = C.COLUMNS[col].label if col in C.COLUMNS else col
+        reason = (
+            f"{label} {vals[j][i]:.4g} {unit} is {zmax[i]:.1f} SD {direction} the neighbouring "
+            f"breaths (mean {means[j][i]:.4g} {unit})"
+        )
+        if others:
+            reason += "; also out of line: " + ", ".join(C.COLUMNS[o].label if o in C.COLUMNS else o for o in others)
+        rows.append((int(src[i]), float(t[i]), col, float(vals[j][i]), float(means[j][i]), float(sds[j][i]), reason))
+    return pd.DataFrame(rows, columns=list(OUTLIER_COLUMNS)).astype(
+        {"source_row": int, "t_s": float, "value": float, "local_mean": float, "local_sd": float}
+    )
+
+
+def exclude_breaths(breaths: pd.DataFrame, source_rows: Iterable[int]) -> pd.DataFrame:
+    """Return a copy of ``breaths`` without the breaths whose ``source_row`` is in ``source_rows``.
+
+    The input is not changed. A reviewer puts a breath back simply by leaving its row out of
+    ``source_rows``. When the table has no ``source_row`` column, the 1-based position is used.
+
+    Parameters
+    ----------
+    breaths : pandas.DataFrame
+        Breath table.
+    source_rows : iterable of int
+        Source rows to leave out (for example ``find_outlier_breaths(b)["source_row"]``).
+
+    Returns
+    -------
+    pandas.DataFrame
+        The remaining breaths, index reset.
+    """
+    drop = {int(r) for r in source_rows}
+    if "source_row" in breaths.columns:
+        keys = breaths["source_row"].to_numpy()
+    else:
+        keys = np.arange(1, len(breaths) + 1)
+    mask = ~np.isin(keys, np.fromiter(drop, dtype=np.int64, count=len(drop)))
+    return breaths.loc[mask].reset_index(drop=True).copy()

@@ -1,0 +1,152 @@
+"""Test phases (rest, warm-up, exercise, recovery) and the ramp rate of a cycle test."""
+
+from __future__ import annotations
+
+import warnings
+
+import numpy as np
+import pandas as pd
+from scipy import stats
+
+from analysis import columns as C
+from analysis.errors import DataQualityWarning, InvalidParameter
+
+#: A constant first load counts as warm-up when it lasts at least this long (seconds) and at
+#: least 1.5 times as long as the typical later load step (common practice: a 2-5 minute
+#: unloaded or light warm-up precedes the ramp).
+WARMUP_MIN_S = 60.0
+
+#: Load below this fraction of the peak load counts as "no load" at the start (common practice).
+_REST_LOAD_FRACTION = 0.02
+
+
+def _load_signal(breaths: pd.DataFrame) -> np.ndarray | None:
+    """Work rate in W, or for a treadmill a monotone stand-in from speed and grade.
+
+    The treadmill stand-in is the ACSM running equation's horizontal + vertical term,
+    speed * (0.2 + 0.9 * grade) (ACSM metabolic equations, from memory); it only orders the
+    load, it is not reported.
+    """
+    if C.WORK_W in breaths.columns and breaths[C.WORK_W].notna().any() and breaths[C.WORK_W].max() > 0:
+        return breaths[C.WORK_W].ffill().fillna(0.0).to_numpy(dtype=float)
+    if C.SPEED_KMH in breaths.columns and breaths[C.SPEED_KMH].notna().any() and breaths[C.SPEED_KMH].max() > 0:
+        speed = breaths[C.SPEED_KMH].ffill().fillna(0.0).to_numpy(dtype=float)
+        grade = (
+            breaths[C.GRADE_PCT].ffill().fillna(0.0).to_numpy(dtype=float)
+            if C.GRADE_PCT in breaths.columns
+            else np.zeros_like(speed)
+        )
+        return speed * (0.2 + 0.9 * np.clip(grade, 0.0, None) / 100.0)
+    return None
+
+
+def detect_phases(breaths: pd.DataFrame) -> pd.Series:
+    """Label every breath as ``rest``, ``warmup``, ``exercise`` or ``recovery``.
+
+    Parameters
+    ----------
+    breaths : pandas.DataFrame
+        Breath (or averaged) table sorted by ``t_s``.
+
+    Returns
+    -------
+    pandas.Series
+        Phase labels, same index as ``breaths``, named ``phase``.
+
+    Warns
+    -----
+    DataQualityWarning
+        When neither a ``phase`` column nor a load (``work_w`` / ``speed_kmh``) is available:
+        every breath is then labelled ``exercise``.
+
+    Notes
+    -----
+    1. A ``phase`` column is used as given (missing labels are filled from the neighbouring
+       breath before them, then after them).
+    2. Otherwise the load is read: ``rest`` is the opening stretch with no load; ``warmup`` is
+       a first constant load held for at least 60 s and clearly longer than the later steps;
+       ``exercise`` runs to the last breath at peak load; ``recovery`` is everything after the
+       load drops from its peak (common practice).
+    """
+    n = len(breaths)
+    if C.PHASE in breaths.columns and breaths[C.PHASE].notna().any():
+        ph = breaths[C.PHASE].astype(object).where(breaths[C.PHASE].notna())
+        ph = ph.ffill().bfill().astype(str).str.strip().str.lower()
+        bad = sorted(set(ph) - set(C.PHASES))
+        if bad:
+            raise InvalidParameter("phase", f"labels from {list(C.PHASES)}", bad)
+        return pd.Series(ph.to_numpy(), index=breaths.index, name=C.PHASE)
+    load = _load_signal(breaths) if n else None
+    if load is None:
+        if n:
+            warnings.warn(
+                "No phase labels and no work rate or speed in this test: every breath is treated "
+                "as exercise. Add a 'phase' column or the load to separate rest and recovery.",
+                DataQualityWarning,
+                stacklevel=2,
+            )
+        return pd.Series(["exercise"] * n, index=breaths.index, name=C.PHASE, dtype=object)
+    t = breaths[C.T_S].to_numpy(dtype=float)
+    labels = np.full(n, "exercise", dtype=object)
+    peak = float(np.max(load))
+    loaded = load > _REST_LOAD_FRACTION * peak
+    first = int(np.argmax(loaded))
+    labels[:first] = "rest"
+    i_peak_last = int(np.flatnonzero(load >= peak - 1e-9)[-1])
+    labels[i_peak_last + 1 :] = "recovery"
+    # Warm-up: a constant first load held long enough before the load rises further.
+    seg = load[first : i_peak_last + 1]
+    if seg.size > 2:
+        rises = np.flatnonzero(np.diff(seg) > 1e-9)
+        if rises.size:
+            end_first = first + int(rises[0]) + 1  # first breath at the next load
+            first_dur = t[end_first] - t[first]
+            step_t = t[first + rises + 1]
+            later_steps = np.diff(step_t)
+            typical = float(np.median(later_steps)) if later_steps.size else 0.0
+            if first_dur >= WARMUP_MIN_S and first_dur >= 1.5 * typical:
+                labels[first:end_first] = "warmup"
+    return pd.Series(labels, index=breaths.index, name=C.PHASE)
+
+
+def ramp_rate_w_per_min(breaths: pd.DataFrame, phases: pd.Series | None = None) -> float | None:
+    """Ramp rate of a cycle test in W/min (robust slope of work rate against time).
+
+    Parameters
+    ----------
+    breaths : pandas.DataFrame
+        Breath table with ``t_s`` and ``work_w``.
+    phases : pandas.Series, optional
+        Labels from :func:`detect_phases` (computed when omitted).
+
+    Returns
+    -------
+    float or None
+        Theil-Sen slope of ``work_w`` on time over the exercise phase, in W/min; ``None`` when
+        there is no work rate, fewer than 10 exercise breaths, or no rise in load.
+
+    References
+    ----------
+    Sen PK (1968). Estimates of the regression coefficient based on Kendall's tau. J Am Stat
+    Assoc 63:1379-1389 (the Theil-Sen estimator, as in ``scipy.stats.theilslopes``).
+    """
+    if C.WORK_W not in breaths.columns or not breaths[C.WORK_W].notna().any():
+        return None
+    if phases is None:
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore", DataQualityWarning)
+            phases = detect_phases(breaths)
+    if len(phases) != len(breaths):
+        raise InvalidParameter("phases", f"one label per breath ({len(breaths)})", len(phases))
+    mask = (np.asarray(phases) == "exercise") & breaths[C.WORK_W].notna().to_numpy()
+    if mask.sum() < 10:
+        return None
+    t = breaths[C.T_S].to_numpy(dtype=float)[mask]
+    w = breaths[C.WORK_W].to_numpy(dtype=float)[mask]
+    if np.ptp(w) <= 0:
+        return None
+    if t.size > 400:  # Theil-Sen is O(n^2) in pairs; an even subsample keeps it fast
+        pick = np.linspace(0, t.size - 1, 400).round().astype(int)
+        t, w = t[pick], w[pick]
+    slope = stats.theilslopes(w, t).slope
+    return float(slope * 60.0)

@@ -1,0 +1,365 @@
+"""Automatic VT1 and VT2 (RCP) detection on averaged data, with a consensus per threshold."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, replace
+
+import numpy as np
+import pandas as pd
+
+from analysis import columns as C
+from analysis.errors import InvalidParameter
+from analysis.thresholds.results import ThresholdPick, ThresholdReport, VSlopeFit
+from analysis.thresholds.segments import best_turn_up, best_two_lines
+from analysis.thresholds.vslope import F_TEST_ALPHA, f_test_p as _f_test_p, vslope_fit
+
+# Method names, as shown to the user (and used as keys of the candidate dictionaries).
+VSLOPE = "V-slope (Beaver 1986)"
+EQUIVALENTS = "ventilatory equivalents"
+PETO2_NADIR = "PETO2 nadir"
+EXCESS_CO2 = "excess CO2 (Gaskill 2001)"
+VE_VCO2_BREAK = "VE vs VCO2 breakpoint"
+VE_VCO2_RISE = "VE/VCO2 nadir-rise"
+PETCO2_FALL = "PETCO2 fall"
+CONSENSUS = "consensus"
+
+VT1_METHODS: tuple[str, ...] = (VSLOPE, EQUIVALENTS, PETO2_NADIR, EXCESS_CO2)
+VT2_METHODS: tuple[str, ...] = (VE_VCO2_BREAK, VE_VCO2_RISE, PETCO2_FALL)
+
+#: The first minute of exercise is left out of the V-slope and VE-vs-VCO2 fits: VCO2 lags VO2
+#: while CO2 stores fill (Beaver et al. 1986 leave out the early, kinetic part).
+EARLY_EXCLUDE_S = 60.0
+#: Fewest averaged points needed in the exercise phase before any threshold is sought.
+MIN_EXERCISE_POINTS = 12
+#: Picks agree when within this many mL/min of each other, or this fraction of VO2 when larger
+#: (common practice: observers' VT1 readings typically differ by 100-200 mL/min).
+AGREE_ML_MIN = 150.0
+AGREE_FRACTION = 0.05
+#: A turn in a ratio or end-tidal pressure counts when the slope after it exceeds this many
+#: standard errors (a strict level, since every split pair is searched; common practice).
+TURN_MIN_T = 3.5
+#: ... and at least these absolute sizes (common practice, chosen above the noise of 10 s bins).
+MIN_RISE = {"ve_vo2": 1.0, "ve_vco2": 1.0, "peto2_mmhg": 2.0, "petco2_mmhg": 1.5, "excess_co2": 30.0}
+#: VE must steepen against VCO2 by at least this factor at the RCP (common practice).
+VE_VCO2_STEEPENING = 1.15
+
+
+@dataclass(frozen=True)
+class _Ex:
+    """Exercise rows of the averaged frame, sorted by time, as plain arrays."""
+
+    row: np.ndarray
+    t: np.ndarray
+    vo2: np.ndarray
+    vco2: np.ndarray
+    ve: np.ndarray
+    frame: pd.DataFrame
+
+    def take(self, mask: np.ndarray) -> _Ex:
+        return _Ex(self.row[mask], self.t[mask], self.vo2[mask], self.vco2[mask], self.ve[mask], self.frame.loc[mask])
+
+    def col(self, name: str) -> np.ndarray | None:
+        if name not in self.frame.columns:
+            return None
+        v = self.frame[name].to_numpy(dtype=float)
+        return v if np.isfinite(v).sum() >= MIN_EXERCISE_POINTS else None
+
+
+def _exercise(avg: pd.DataFrame, phases: pd.Series | None) -> _Ex:
+    for c in (C.T_S, C.VO2_ML_MIN, C.VCO2_ML_MIN, C.VE_L_MIN):
+        if c not in avg.columns:
+            raise InvalidParameter("avg", f"an averaged frame with a '{c}' column", list(avg.columns))
+    if phases is not None:
+        if len(phases) != len(avg):
+            raise InvalidParameter("phases", f"one label per averaged row ({len(avg)})", len(phases))
+        ph = np.asarray(phases).astype(str)
+    elif C.PHASE in avg.columns:
+        ph = avg[C.PHASE].fillna("exercise").astype(str).to_numpy()
+    else:
+        ph = np.full(len(avg), "exercise")
+    frame = avg.reset_index(drop=True)
+    ok = (ph == "exercise") & np.isfinite(frame[[C.T_S, C.VO2_ML_MIN, C.VCO2_ML_MIN, C.VE_L_MIN]].to_numpy(dtype=float)).all(axis=1)
+    ok &= (frame[C.VO2_ML_MIN].to_numpy(dtype=float) > 0) & (frame[C.VCO2_ML_MIN].to_numpy(dtype=float) > 0)
+    rows = np.flatnonzero(ok)
+    sub = frame.iloc[rows]
+    order = np.argsort(sub[C.T_S].to_numpy(dtype=float), kind="stable")
+    rows = rows[order]
+    sub = frame.iloc[rows].reset_index(drop=True)
+    return _Ex(
+        rows,
+        sub[C.T_S].to_numpy(dtype=float),
+        sub[C.VO2_ML_MIN].to_numpy(dtype=float),
+        sub[C.VCO2_ML_MIN].to_numpy(dtype=float),
+        sub[C.VE_L_MIN].to_numpy(dtype=float),
+        sub,
+    )
+
+
+def _smooth(v: np.ndarray, w: int = 5) -> np.ndarray:
+    return pd.Series(v).rolling(w, center=True, min_periods=1).mean().to_numpy()
+
+
+def vo2_at_time(t: np.ndarray, vo2: np.ndarray, t_s: float, *, half_window_s: float = 45.0) -> float:
+    """VO2 at ``t_s`` from a local straight line through the points within ``half_window_s``."""
+    near = np.abs(t - t_s) <= half_window_s
+    if near.sum() >= 3 and np.ptp(t[near]) > 0:
+        slope, icpt = np.polyfit(t[near], vo2[near], 1)
+        return float(slope * t_s + icpt)
+    return float(np.interp(t_s, t, vo2))
+
+
+def time_at_level(t: np.ndarray, values: np.ndarray, level: float) -> float:
+    """First time a smoothed rising series reaches ``level`` (linear between points)."""
+    s = _smooth(values)
+    above = np.flatnonzero(s >= level)
+    if above.size == 0:
+        return float(t[-1])
+    i = int(above[0])
+    if i == 0:
+        return float(t[0])
+    f = (level - s[i - 1]) / (s[i] - s[i - 1]) if s[i] != s[i - 1] else 1.0
+    return float(t[i - 1] + f * (t[i] - t[i - 1]))
+
+
+def _pick(kind: str, method: str, ex: _Ex, t_s: float, note: str, *, vo2: float | None = None) -> ThresholdPick:
+    i = int(np.argmin(np.abs(ex.t - t_s)))
+    v = vo2 if vo2 is not None else vo2_at_time(ex.t, ex.vo2, t_s)
+    return ThresholdPick(kind, float(t_s), float(v), method, "auto", "moderate", note, int(ex.row[i]))  # type: ignore[arg-type]
+
+
+def _turn(
+    kind: str, method: str, ex: _Ex, y: np.ndarray, key: str, what: str, reasons: list[str]
+) -> ThresholdPick | None:
+    ok = np.isfinite(y)
+    if ok.sum() < MIN_EXERCISE_POINTS:
+        reasons.append(f"{method}: too few points with {what}")
+        return None
+    fit = best_turn_up(ex.t[ok], y[ok], min_segment=4)
+    if fit is None:
+        reasons.append(f"{method}: {what} never turns upward")
+        return None
+    if fit.rise < MIN_RISE[key] or fit.t_stat_after < TURN_MIN_T:
+        reasons.append(
+            f"{method}: {what} turn too small or too uncertain (rise {fit.rise:.3g}, needs "
+            f"{MIN_RISE[key]:g}; slope {fit.t_stat_after:.1f} standard errors, needs {TURN_MIN_T:g})"
+        )
+        return None
+    return _pick(kind, method, ex, fit.t_break, f"{what} turns at {fit.t_break:.0f} s (rise {fit.rise:.3g})")
+
+
+# ---------------------------------------------------------------- VT2 (respiratory compensation)
+
+
+def _ve_vco2_break(ex: _Ex, reasons: list[str]) -> ThresholdPick | None:
+    late = ex.t >= ex.t[0] + EARLY_EXCLUDE_S
+    sub = ex.take(late) if late.sum() >= MIN_EXERCISE_POINTS else ex
+    order = np.argsort(sub.vco2, kind="stable")
+    xs, ys = sub.vco2[order], sub.ve[order]
+    if xs.size < 8:
+        reasons.append(f"{VE_VCO2_BREAK}: too few points")
+        return None
+    fit = best_two_lines(
+        xs, ys, min_segment=4, admissible=lambda s1, s2: (s1 > 0) & (s2 >= VE_VCO2_STEEPENING * s1)
+    )
+    if fit is None:
+        reasons.append(f"{VE_VCO2_BREAK}: VE never steepens against VCO2 by {VE_VCO2_STEEPENING - 1:.0%}")
+        return None
+    p_value = _f_test_p(fit.sse_one_line, fit.sse, xs.size)
+    if p_value >= F_TEST_ALPHA:
+        reasons.append(f"{VE_VCO2_BREAK}: two lines fit VE against VCO2 no better than one (F test p = {p_value:.3g})")
+        return None
+    t_s = time_at_level(sub.t, sub.vco2, fit.x_cross)
+    return _pick("vt2", VE_VCO2_BREAK, ex, t_s, f"VE steepens against VCO2 at VCO2 {fit.x_cross:.0f} mL/min")
+
+
+def _vt2_candidates(ex: _Ex, reasons: list[str]) -> dict[str, ThresholdPick | None]:
+    out: dict[str, ThresholdPick | None] = {VE_VCO2_BREAK: _ve_vco2_break(ex, reasons)}
+    out[VE_VCO2_RISE] = _turn("vt2", VE_VCO2_RISE, ex, 1000.0 * ex.ve / ex.vco2, "ve_vco2", "VE/VCO2", reasons)
+    petco2 = ex.col(C.PETCO2_MMHG)
+    if petco2 is not None:
+        out[PETCO2_FALL] = _turn("vt2", PETCO2_FALL, ex, -petco2, "petco2_mmhg", "PETCO2 (falling)", reasons)
+    return out
+
+
+# ---------------------------------------------------------------- VT1 (gas-exchange threshold)
+
+
+def _vslope(ex: _Ex, reasons: list[str]) -> tuple[ThresholdPick | None, VSlopeFit | None]:
+    late = ex.t >= ex.t[0] + EARLY_EXCLUDE_S
+    sub = ex.take(late) if late.sum() >= MIN_EXERCISE_POINTS else ex
+    fit = vslope_fit(sub.vo2, sub.vco2, min_segment=5)
+    if not fit.valid:
+        reasons.append(f"{VSLOPE}: {fit.reason}")
+        return None, fit
+    t_s = time_at_level(sub.t, sub.vo2, fit.vo2_break_ml_min)
+    note = f"VCO2-VO2 slope {fit.slope_below:.2f} -> {fit.slope_above:.2f} at VO2 {fit.vo2_break_ml_min:.0f} mL/min"
+    return _pick("vt1", VSLOPE, ex, t_s, note, vo2=fit.vo2_break_ml_min), fit
+
+
+def _equivalents(ex: _Ex, reasons: list[str]) -> ThresholdPick | None:
+    ve_vo2 = 1000.0 * ex.ve / ex.vo2
+    pick = _turn("vt1", EQUIVALENTS, ex, ve_vo2, "ve_vo2", "VE/VO2", reasons)
+    if pick is None:
+        return None
+    # VE/VCO2 must stay flat while VE/VO2 rises (otherwise this is the RCP, not VT1).
+    after = (ex.t >= pick.t_s) & (ex.t <= pick.t_s + 120.0)
+    if after.sum() >= 4:
+        ve_vco2 = 1000.0 * ex.ve / ex.vco2
+        s_co2 = np.polyfit(ex.t[after], ve_vco2[after], 1)[0]
+        s_o2 = np.polyfit(ex.t[after], ve_vo2[after], 1)[0]
+        if s_o2 <= 0 or s_co2 > 0.5 * s_o2:
+            reasons.append(f"{EQUIVALENTS}: VE/VCO2 rose with VE/VO2 after {pick.t_s:.0f} s (not a VT1 pattern)")
+            return None
+    return pick
+
+
+def _vt1_candidates(ex: _Ex, reasons: list[str]) -> tuple[dict[str, ThresholdPick | None], VSlopeFit | None]:
+    vs, fit = _vslope(ex, reasons)
+    out: dict[str, ThresholdPick | None] = {VSLOPE: vs, EQUIVALENTS: _equivalents(ex, reasons)}
+    peto2 = ex.col(C.PETO2_MMHG)
+    if peto2 is not None:
+        out[PETO2_NADIR] = _turn("vt1", PETO2_NADIR, ex, peto2, "peto2_mmhg", "PETO2", reasons)
+    excess = ex.vco2**2 / ex.vo2 - ex.vco2
+    out[EXCESS_CO2] = _turn("vt1", EXCESS_CO2, ex, excess, "excess_co2", "excess CO2", reasons)
+    return out, fit
+
+
+# ---------------------------------------------------------------- consensus
+
+
+def agreement_tolerance_ml_min(vo2_ml_min: float) -> float:
+    """Agreement window between picks: 150 mL/min or 5 % of VO2, whichever is larger."""
+    return max(AGREE_ML_MIN, AGREE_FRACTION * abs(vo2_ml_min))
+
+
+def _consensus(kind: str, cands: dict[str, ThresholdPick | None], ex: _Ex) -> tuple[ThresholdPick | None, str]:
+    tried = len(cands)
+    valid = [p for p in cands.values() if p is not None]
+    if not valid:
+        return None, f"none of {tried} methods found a {kind.upper()}"
+    vo2 = np.array([p.vo2_ml_min for p in valid])
+    support = [
+        [q for q in range(len(valid)) if abs(vo2[q] - vo2[p]) <= agreement_tolerance_ml_min(vo2[p])]
+        for p in range(len(valid))
+    ]
+    best = max(range(len(valid)), key=lambda p: (len(support[p]), -p))  # ties -> earlier (primary) method
+    cluster = [valid[q] for q in support[best]]
+    v = float(np.median([p.vo2_ml_min for p in cluster]))
+    t_s = float(np.median([p.t_s for p in cluster]))
+    tol = agreement_tolerance_ml_min(v)
+    size = len(cluster)
+    confidence = "high" if size >= 3 else ("moderate" if size == 2 else "low")
+    names = ", ".join(p.method for p in cluster)
+    left = [p.method for p in valid if p not in cluster]
+    agree = f"{size} of {tried} methods within {tol:.0f} mL/min ({names})"
+    if left:
+        agree += f"; set aside: {', '.join(left)}"
+    missing = [m for m, p in cands.items() if p is None]
+    if missing:
+        agree += f"; nothing found by: {', '.join(missing)}"
+    note = f"median of {size} agreeing method{'s' if size > 1 else ''}: {names}"
+    if confidence == "low":
+        note += " (single method: read the charts before relying on it)"
+    i = int(np.argmin(np.abs(ex.t - t_s)))
+    pick = ThresholdPick(kind, t_s, v, CONSENSUS, "auto", confidence, note, int(ex.row[i]))  # type: ignore[arg-type]
+    return pick, agree
+
+
+def detect_thresholds(avg: pd.DataFrame, *, phases: pd.Series | None = None) -> ThresholdReport:
+    """Find VT1 and VT2 (RCP) on averaged data by several methods and agree on one value each.
+
+    Parameters
+    ----------
+    avg : pandas.DataFrame
+        Averaged frame from :func:`analysis.breaths.average_breaths` with ``t_s``,
+        ``vo2_ml_min``, ``vco2_ml_min``, ``ve_l_min`` and, when available, ``peto2_mmhg``,
+        ``petco2_mmhg`` and ``phase``.
+    phases : pandas.Series, optional
+        One phase label per row of ``avg`` (e.g. ``detect_phases(avg)``). When omitted, the
+        ``phase`` column is used, else every row counts as exercise.
+
+    Returns
+    -------
+    ThresholdReport
+        Consensus VT1 / VT2 (or ``None`` with the reasons), every method's pick, the V-slope
+        fit and plain-language agreement notes.
+
+    Notes
+    -----
+    Only exercise rows are used. A provisional VT1 is found over the whole exercise phase;
+    VT2 is sought after it:
+
+    * VE vs VCO2 breakpoint: two-line fit of VE on VCO2; VE must steepen by 15 %.
+    * VE/VCO2 nadir-rise: three-line fit of VE/VCO2 on time, the last line rising.
+    * PETCO2 fall: the same fit on -PETCO2.
+
+    VT1 is then sought again below the VT2 time (as Beaver et al. restrict V-slope to the part
+    below the respiratory compensation point):
+
+    * V-slope: :func:`vslope_fit` of VCO2 on VO2 (first minute of exercise left out).
+    * Ventilatory equivalents: VE/VO2 turns up while VE/VCO2 stays flat.
+    * PETO2 nadir: PETO2 turns up.
+    * Excess CO2: VCO2^2/VO2 - VCO2 turns up.
+
+    A turn counts when the last line's slope is at least 3.5 standard errors and its rise
+    exceeds a minimum size. The consensus is
+    the median of the largest group of picks within 150 mL/min (or 5 %) of each other;
+    confidence is high with 3 or more agreeing methods, moderate with 2, low with 1. "None
+    found" is a valid result (common in patients and in tests stopped early).
+
+    These are estimates for qualified staff to review against the charts; they are not a
+    diagnosis.
+
+    References
+    ----------
+    Beaver WL, Wasserman K, Whipp BJ (1986). J Appl Physiol 60:2020-2027 (V-slope).
+    Gaskill SE, Ruby BC, Walker AJ, et al. (2001). Validity and reliability of combining three
+    methods to determine ventilatory threshold. Med Sci Sports Exerc 33:1841-1848 (excess CO2;
+    from memory).
+    Ventilatory equivalents and end-tidal pressures: common practice.
+    """
+    ex = _exercise(avg, phases)
+    report = ThresholdReport()
+    if ex.t.size < MIN_EXERCISE_POINTS:
+        report.reasons.append(
+            f"only {ex.t.size} averaged exercise points with VO2, VCO2 and VE "
+            f"(at least {MIN_EXERCISE_POINTS} needed): no threshold was sought"
+        )
+        report.agreement = {"vt1": "not assessed", "vt2": "not assessed"}
+        return report
+    reasons: list[str] = []
+    # Beaver's iteration: a first VT1 over all exercise, VT2 sought after it, then VT1 again
+    # below VT2 (so the points above the RCP do not bend the V-slope lines).
+    first_c, _ = _vt1_candidates(ex, [])
+    first, _ = _consensus("vt1", first_c, ex)
+    after = ex.t > first.t_s if first is not None else np.ones(ex.t.size, dtype=bool)
+    if after.sum() < MIN_EXERCISE_POINTS:
+        after = np.ones(ex.t.size, dtype=bool)
+    vt2_c = _vt2_candidates(ex.take(after), reasons)
+    vt2, agree2 = _consensus("vt2", vt2_c, ex)
+    below = ex.t < vt2.t_s if vt2 is not None else np.ones(ex.t.size, dtype=bool)
+    if vt2 is not None and below.sum() < MIN_EXERCISE_POINTS:
+        reasons.append(f"VT1: fewer than {MIN_EXERCISE_POINTS} points before VT2, searched the whole exercise phase")
+        below = np.ones(ex.t.size, dtype=bool)
+    vt1_c, fit = _vt1_candidates(ex.take(below), reasons)
+    vt1, agree1 = _consensus("vt1", vt1_c, ex)
+    if vt1 is None:
+        reasons.append("VT1 not found: " + agree1)
+    if vt2 is None:
+        reasons.append("VT2 not found: " + agree2)
+    if vt1 is not None and vt2 is not None and vt1.vo2_ml_min >= vt2.vo2_ml_min:
+        reasons.append("VT1 came out at or above VT2: both set to low confidence, review the charts")
+        vt1 = _with_confidence(vt1, "low")
+        vt2 = _with_confidence(vt2, "low")
+    report.vt1, report.vt2 = vt1, vt2
+    report.vt1_auto, report.vt2_auto = vt1, vt2
+    report.vt1_candidates, report.vt2_candidates = vt1_c, vt2_c
+    report.vslope = fit
+    report.agreement = {"vt1": agree1, "vt2": agree2}
+    report.reasons = reasons
+    return report
+
+
+def _with_confidence(p: ThresholdPick, confidence: str) -> ThresholdPick:
+    return replace(p, confidence=confidence)  # type: ignore[arg-type]
+

@@ -1,0 +1,135 @@
+"""Result types of threshold detection: one pick, one two-line fit, the full report."""
+
+from __future__ import annotations
+
+import math
+from dataclasses import asdict, dataclass, field
+from typing import Any, Literal
+
+ThresholdKind = Literal["vt1", "vt2"]
+Confidence = Literal["high", "moderate", "low"]
+
+
+def _clean(value: Any) -> Any:
+    """JSON-ready: NaN -> None, numpy scalars -> Python numbers."""
+    if isinstance(value, dict):
+        return {k: _clean(v) for k, v in value.items()}
+    if isinstance(value, (list, tuple)):
+        return [_clean(v) for v in value]
+    if hasattr(value, "item") and not isinstance(value, (str, bytes)):
+        value = value.item()
+    if isinstance(value, float) and not math.isfinite(value):
+        return None
+    return value
+
+
+@dataclass(frozen=True)
+class ThresholdPick:
+    """One threshold read by one method (or the consensus, or a reviewer).
+
+    Attributes
+    ----------
+    kind : {"vt1", "vt2"}
+    t_s : float
+        Time of the threshold, s (an averaged row's time).
+    vo2_ml_min : float
+        VO2 at the threshold, mL/min.
+    method : str
+        e.g. ``"V-slope (Beaver 1986)"``, ``"consensus"``, ``"manual"``.
+    source : {"auto", "manual"}
+    confidence : {"high", "moderate", "low"}
+    note : str
+        Plain-language explanation.
+    index : int
+        Row in the averaged frame nearest the threshold.
+    """
+
+    kind: ThresholdKind
+    t_s: float
+    vo2_ml_min: float
+    method: str
+    source: Literal["auto", "manual"] = "auto"
+    confidence: Confidence = "moderate"
+    note: str = ""
+    index: int = -1
+
+    def to_dict(self) -> dict[str, Any]:
+        return _clean(asdict(self))
+
+
+@dataclass(frozen=True)
+class VSlopeFit:
+    """Two-line least-squares fit of VCO2 on VO2 (or of any y on x) with the best split.
+
+    ``break_index`` is the position, in the arrays passed in, of the first point above the
+    split (in the order of increasing x). ``vo2_break_ml_min`` / ``vco2_break_ml_min`` are
+    where the two lines cross (kept inside the span of the two points either side of the
+    split). ``valid`` says whether the fit meets the acceptance rules; ``reason`` says why not.
+    """
+
+    break_index: int
+    vo2_break_ml_min: float
+    vco2_break_ml_min: float
+    slope_below: float
+    intercept_below: float
+    slope_above: float
+    intercept_above: float
+    sse: float
+    valid: bool
+    reason: str = ""
+    n_below: int = 0
+    n_above: int = 0
+    vo2_min_ml_min: float = math.nan
+    vo2_max_ml_min: float = math.nan
+
+    def to_dict(self) -> dict[str, Any]:
+        return _clean(asdict(self))
+
+
+@dataclass
+class ThresholdReport:
+    """Everything threshold detection found, for the report, the charts and the reviewer.
+
+    Attributes
+    ----------
+    vt1, vt2 : ThresholdPick or None
+        The value in use: the consensus of the automatic methods, or a reviewer's manual pick.
+    vt1_candidates, vt2_candidates : dict
+        Method name -> its pick (``None`` when that method found nothing).
+    vslope : VSlopeFit or None
+        The V-slope fit behind the V-slope pick (for the V-slope chart).
+    agreement : dict
+        ``"vt1"`` / ``"vt2"`` -> plain-language agreement note.
+    reasons : list of str
+        Why a threshold (or a method) found nothing.
+    vt1_auto, vt2_auto : ThresholdPick or None
+        The automatic consensus, kept so that a manual override can be cleared.
+    """
+
+    vt1: ThresholdPick | None = None
+    vt2: ThresholdPick | None = None
+    vt1_candidates: dict[str, ThresholdPick | None] = field(default_factory=dict)
+    vt2_candidates: dict[str, ThresholdPick | None] = field(default_factory=dict)
+    vslope: VSlopeFit | None = None
+    agreement: dict[str, str] = field(default_factory=dict)
+    reasons: list[str] = field(default_factory=list)
+    vt1_auto: ThresholdPick | None = None
+    vt2_auto: ThresholdPick | None = None
+
+    def to_dict(self) -> dict[str, Any]:
+        """JSON-ready dictionary (NaN -> None)."""
+
+        def pick(p: ThresholdPick | None) -> dict[str, Any] | None:
+            return p.to_dict() if p is not None else None
+
+        return {
+            "vt1": pick(self.vt1),
+            "vt2": pick(self.vt2),
+            "vt1_candidates": {k: pick(v) for k, v in self.vt1_candidates.items()},
+            "vt2_candidates": {k: pick(v) for k, v in self.vt2_candidates.items()},
+            "vslope": self.vslope.to_dict() if self.vslope is not None else None,
+            "agreement": dict(self.agreement),
+            "reasons": list(self.reasons),
+            "vt1_auto": pick(self.vt1_auto),
+            "vt2_auto": pick(self.vt2_auto),
+        }

@@ -1,0 +1,137 @@
+"""V-slope: the two-line fit of VCO2 against VO2 (Beaver, Wasserman and Whipp 1986)."""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+from scipy import stats
+
+from analysis.errors import InvalidParameter, require
+from analysis.thresholds.results import VSlopeFit
+from analysis.thresholds.segments import best_two_lines
+
+#: Acceptance rules for a V-slope breakpoint. Beaver et al. (1986) require the upper slope to
+#: exceed the lower by more than 0.1 and the lower slope to be near 1 (from memory); the
+#: accepted band for "near 1" (0.6-1.3) is ours, wide enough for the CO2 stored early in a ramp.
+MIN_SLOPE_INCREASE = 0.1
+LOWER_SLOPE_RANGE = (0.6, 1.3)
+#: The two lines must beat one line by an F test at this level. Searching every split inflates
+#: the F statistic, so a strict level is used (common practice for change-point searches).
+F_TEST_ALPHA = 0.001
+
+
+def f_test_p(sse_one_line: float, sse_two_lines: float, n: int) -> float:
+    """p-value of the F test of two independent lines (4 parameters) against one line (2).
+
+    ``F = ((SSE1 - SSE2) / 2) / (SSE2 / (n - 4))`` with 2 and n - 4 degrees of freedom
+    (extra-sum-of-squares F test, common practice).
+    """
+    dof = n - 4
+    if dof <= 0:
+        return 1.0
+    if sse_two_lines <= 0.0:
+        return 0.0 if sse_one_line > 0 else 1.0
+    f_stat = ((sse_one_line - sse_two_lines) / 2.0) / (sse_two_lines / dof)
+    return float(stats.f.sf(f_stat, 2, dof))
+
+
+def vslope_fit(
+    vo2_ml_min: np.ndarray,
+    vco2_ml_min: np.ndarray,
+    *,
+    min_segment: int = 5,
+) -> VSlopeFit:
+    """Exhaustive two-line least-squares fit of VCO2 on VO2 (the V-slope method).
+
+    Parameters
+    ----------
+    vo2_ml_min, vco2_ml_min : array_like
+        Paired VO2 and VCO2 in mL/min (averaged data, any order; NaN pairs are dropped).
+    min_segment : int, default 5
+        Fewest points allowed in each line.
+
+    Returns
+    -------
+    VSlopeFit
+        The best split and both lines; ``valid`` with ``reason`` after the acceptance rules.
+
+    Notes
+    -----
+    The points are sorted by VO2. For every split point (between two different VO2 values,
+    with at least ``min_segment`` points each side) two independent least-squares lines are
+    fitted, one below and one above. Cumulative sums of x, y, x^2, xy, y^2 make each split
+    O(1), so the whole search is O(n) after the O(n log n) sort. Among the splits that meet
+    Beaver's slope rules -- (1) the upper slope exceeds the lower by more than 0.1 and (2) the
+    lower slope is near 1 (0.6-1.3) -- the one with the smallest total squared error wins
+    (when none meets them, the best free split is returned, invalid, with the rule it breaks).
+    The breakpoint is where the two lines cross. The winner must also (3) explain the data
+    better than one line (F test, alpha = 0.001, 2 and n - 4 degrees of freedom).
+
+    References
+    ----------
+    Beaver WL, Wasserman K, Whipp BJ (1986). A new method for detecting anaerobic threshold by
+    gas exchange. J Appl Physiol 60:2020-2027.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> vo2 = np.arange(1000.0, 3000.0, 50.0)
+    >>> vco2 = np.where(vo2 < 2000, 0.95 * vo2, 1900 + 1.4 * (vo2 - 2000))
+    >>> fit = vslope_fit(vo2, vco2)
+    >>> round(fit.vo2_break_ml_min), fit.valid
+    (2000, True)
+    """
+    x = np.asarray(vo2_ml_min, dtype=float).ravel()
+    y = np.asarray(vco2_ml_min, dtype=float).ravel()
+    if x.shape != y.shape:
+        raise InvalidParameter("vco2_ml_min", f"the same length as vo2_ml_min ({x.size})", y.size)
+    require(isinstance(min_segment, (int, np.integer)) and min_segment >= 2, "min_segment", "a whole number of at least 2", min_segment)
+    keep = np.flatnonzero(np.isfinite(x) & np.isfinite(y))
+    order = keep[np.argsort(x[keep], kind="stable")]
+    xs, ys = x[order], y[order]
+    n = xs.size
+    lo = float(xs[0]) if n else math.nan
+    hi = float(xs[-1]) if n else math.nan
+    lo_s, hi_s = LOWER_SLOPE_RANGE
+
+    def admissible(s1: np.ndarray, s2: np.ndarray) -> np.ndarray:
+        return (s2 - s1 > MIN_SLOPE_INCREASE) & (s1 >= lo_s) & (s1 <= hi_s)
+
+    free = best_two_lines(xs, ys, min_segment=int(min_segment))
+    fit = best_two_lines(xs, ys, min_segment=int(min_segment), admissible=admissible) if free is not None else None
+    if free is None:
+        return VSlopeFit(
+            -1, math.nan, math.nan, math.nan, math.nan, math.nan, math.nan, math.nan, False,
+            f"too few points: {n} usable VO2/VCO2 pairs, at least {2 * min_segment} with distinct VO2 needed",
+            0, n, lo, hi,
+        )
+    reason = ""
+    if fit is None:  # no split meets the slope rules: report the best free split and why
+        fit = free
+        if fit.slope_above - fit.slope_below <= MIN_SLOPE_INCREASE:
+            reason = f"slope increase < {MIN_SLOPE_INCREASE:g} (lower {fit.slope_below:.2f}, upper {fit.slope_above:.2f})"
+        else:
+            reason = f"lower slope far from 1 ({fit.slope_below:.2f}; expected {lo_s:g}-{hi_s:g})"
+    else:
+        p_value = f_test_p(fit.sse_one_line, fit.sse, n)
+        if p_value >= F_TEST_ALPHA:
+            reason = f"two lines fit no better than one (F test p = {p_value:.3g})"
+    xb = fit.x_cross
+    yb = fit.slope_below * xb + fit.intercept_below
+    return VSlopeFit(
+        break_index=int(order[fit.k]),
+        vo2_break_ml_min=float(xb),
+        vco2_break_ml_min=float(yb),
+        slope_below=fit.slope_below,
+        intercept_below=fit.intercept_below,
+        slope_above=fit.slope_above,
+        intercept_above=fit.intercept_above,
+        sse=fit.sse,
+        valid=not reason,
+        reason=reason,
+        n_below=fit.k,
+        n_above=n - fit.k,
+        vo2_min_ml_min=lo,
+        vo2_max_ml_min=hi,
+    )
