@@ -140,14 +140,13 @@ _RK4_STEPS = 24
 
 def _sev_eq1(po2: np.ndarray) -> np.ndarray:
     """Severinghaus (1979) Eq 1 at standard conditions."""
-    with np.errstate(divide="ignore"):
+    with np.errstate(divide="ignore", over="ignore"):
         return 1.0 / (23400.0 / (po2**3 + 150.0 * po2) + 1.0)
 
 
-def _sev_eq2(s: np.ndarray) -> np.ndarray:
-    """Severinghaus (1979) Eq 2: standard PO2 (mmHg) from saturation."""
-    ln_po2 = 0.385 * np.log(1.0 / (1.0 / s - 1.0)) + 3.32 - 1.0 / (72.0 * s) - 0.17 * s**6
-    return np.exp(ln_po2)
+def _sev_eq2_ln(s: np.ndarray) -> np.ndarray:
+    """Severinghaus (1979) Eq 2: ln of the standard PO2 (mmHg) at saturation ``s``."""
+    return 0.385 * np.log(s / (1.0 - s)) + 3.32 - 1.0 / (72.0 * s) - 0.17 * s**6
 
 
 def _sev_dlnp_dt(ln_p: np.ndarray) -> np.ndarray:
@@ -211,9 +210,9 @@ def _sa_saturation(po2: np.ndarray, c: _Curve) -> np.ndarray:
     x0, h = _sa_params(c)
     out = np.zeros_like(po2)
     pos = po2 > 0
-    x = np.log(po2[pos] / MMHG_PER_KPA)
+    x = np.log(po2[pos]) - np.log(MMHG_PER_KPA)
     y = _SA_Y0 + (x - x0) + h * np.tanh(_SA_K * (x - x0))
-    out[pos] = 1.0 / (1.0 + np.exp(-y))
+    out[pos] = 0.5 * (1.0 + np.tanh(0.5 * y))  # logistic, without overflow
     return out
 
 
@@ -411,7 +410,7 @@ def _po2(sat: np.ndarray, c: _Curve) -> np.ndarray:
     if c.model == "hill":
         assert c.p50_mmhg is not None and c.hill_n is not None
         return c.p50_mmhg * (sat / (1.0 - sat)) ** (1.0 / c.hill_n)
-    return np.exp(_sev_from_virtual(np.log(_sev_eq2(sat)), c))
+    return np.exp(_sev_from_virtual(_sev_eq2_ln(sat), c))
 
 
 def p50(
