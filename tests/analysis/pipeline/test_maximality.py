@@ -8,13 +8,13 @@ from analysis.errors import AnalysisError, InvalidParameter
 from analysis.maximality import assess_maximality, peak_hr_bpm, peak_rer, peak_values, plateau_test
 
 
-def ramp(*, plateau_s=0.0, rer_end=1.15, hr_end=185.0, end_s=600.0, load="work_w"):
+def ramp(*, plateau_s=0.0, rer_end=1.15, hr_end=185.0, end_s=600.0, load="work_w", late_fraction=0.0):
     """10-s averaged ramp: 25 W/min, VO2 = 800 + 10 mL/min/W (ATS/ACCP 2003, common practice),
-    VO2 flat over the last ``plateau_s`` seconds."""
+    VO2 rising at ``late_fraction`` of that pace over the last ``plateau_s`` seconds."""
     t = np.arange(5.0, end_s, 10.0)
     work = 25.0 / 60.0 * t
     t_flat = end_s - plateau_s
-    vo2 = 800.0 + 10.0 * 25.0 / 60.0 * np.minimum(t, t_flat)
+    vo2 = 800.0 + 10.0 * 25.0 / 60.0 * (np.minimum(t, t_flat) + late_fraction * np.clip(t - t_flat, 0, None))
     rer = np.linspace(0.85, rer_end, t.size)
     hr = np.linspace(90.0, hr_end, t.size)
     df = pd.DataFrame({"t_s": t, "vo2_ml_min": vo2, "vco2_ml_min": vo2 * rer, "ve_l_min": vo2 * rer / 1000 * 27, "hr_bpm": hr})
@@ -70,8 +70,23 @@ def test_too_short_to_test():
     assert plateau_test(ramp(end_s=60)).plateau is None
 
 
+def test_slow_ramp_rise_below_150_is_not_a_plateau():
+    # 25 W/min ramp scaled to 0.4: 100 mL/min per minute all the way (< 150, but not below half
+    # the expected rise) — Taylor's 150 mL/min was ~half the expected step (our ramp adaptation)
+    df = ramp()
+    df["vo2_ml_min"] = 800 + 0.4 * (df["vo2_ml_min"] - 800)
+    pt = plateau_test(df)
+    assert pt.plateau is False
+    assert pt.vo2_rise_ml_min == pytest.approx(100.0)
+    assert pt.expected_rise_ml_min == pytest.approx(100.0)
+
+
 def test_threshold_is_a_setting():
-    assert plateau_test(ramp(), threshold_ml_min=300).plateau is True
+    # last 120 s rise at 40 % of the 250 mL/min per minute pace: 100 mL/min over the last minute
+    df = ramp(plateau_s=120, late_fraction=0.4)
+    assert plateau_test(df).vo2_rise_ml_min == pytest.approx(100.0)
+    assert plateau_test(df).plateau is True
+    assert plateau_test(df, threshold_ml_min=80).plateau is False
     with pytest.raises(InvalidParameter, match="threshold_ml_min"):
         plateau_test(ramp(), threshold_ml_min=0)
 

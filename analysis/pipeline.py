@@ -1,0 +1,494 @@
+"""The one place where the results of a test are computed: :func:`analyze_session`.
+
+The CLI, the dashboard, the store and the reports all call it; nothing else computes a number
+that is shown to a user.
+"""
+
+from __future__ import annotations
+
+import math
+import warnings
+from typing import Any
+
+import numpy as np
+import pandas as pd
+
+from analysis import columns as C
+from analysis.breaths import average_breaths, exclude_breaths, find_outlier_breaths
+from analysis.errors import AnalysisError, DataQualityWarning, TidemarkError
+from analysis.indices import (
+    breathing_reserve,
+    energy_expenditure_kcal_min,
+    fat_max,
+    hr_recovery_1min_bpm,
+    hr_reserve_bpm,
+    mets,
+    o2_pulse_peak_ml_beat,
+    oues,
+    pct_hr_reserve,
+    point_values,
+    ve_vco2_nadir,
+    ve_vco2_slope,
+    vo2_work_rate_slope,
+)
+from analysis.indices.point_values import PointValues
+from analysis.maximality import assess_maximality, peak_values
+from analysis.phases import detect_phases, ramp_rate_w_per_min
+from analysis.reference import (
+    friend_vo2max_ml_kg_min,
+    mode_code,
+    pct_predicted,
+    sex_code,
+    tanaka_hr_max_bpm,
+    ventilatory_class,
+    weber_class,
+)
+from analysis.results import TestResults, json_safe
+from analysis.session import Session
+from analysis.settings import AnalysisSettings
+from analysis.thresholds import detect_thresholds, override_threshold
+from analysis.thresholds.results import ThresholdReport
+from analysis.zones import training_zones
+
+#: Columns of :attr:`TestResults.excluded_breaths`.
+EXCLUDED_COLUMNS: tuple[str, ...] = ("source_row", "t_s", "column", "value", "reason", "by")
+
+#: Share of breaths excluded above which a warning is raised (common practice: a clean
+#: recording loses a few per cent to swallows, coughs and talking).
+EXCLUDED_WARN_FRACTION = 0.10
+
+_BASE_METHODS: dict[str, str] = {
+    "outliers": "breaths beyond the local mean ± k SD of their neighbours are excluded (Lamarra et al. 1987)",
+    "phases": "phase column when present, else from the load signal (common practice)",
+    "vo2_peak": "highest value of the averaged exercise data",
+    "rer_peak": "highest averaged VCO2/VO2 during exercise",
+    "hr_peak_bpm": "highest averaged heart rate during exercise",
+    "ve_vco2_slope": "least-squares slope of VE on VCO2 over the whole exercise phase (Arena et al. 2007)",
+    "ve_vco2_slope_to_vt2": "least-squares slope of VE on VCO2 from exercise start to VT2 (Arena et al. 2007)",
+    "ve_vco2_nadir": "lowest averaged VE/VCO2 during exercise (Sun et al. 2002)",
+    "oues": "slope of VO2 (mL/min) on log10 VE (L/min) over the whole exercise phase (Baba et al. 1996)",
+    "o2_pulse": "VO2/HR, highest averaged value during exercise (Wasserman et al.)",
+    "vo2_work_rate_slope": "least-squares slope of VO2 on work rate over the ramp, first 60 s left out (ATS/ACCP 2003)",
+    "ramp_rate_w_per_min": "Theil-Sen slope of work rate on time over the exercise phase (Sen 1968)",
+    "mets": "VO2peak per kg / 3.5 mL/kg/min (common practice)",
+    "hr_reserve": "peak HR - resting HR; % of reserve by Karvonen et al. 1957",
+    "hr_recovery_1min": "HR at end of exercise - HR 60 s later (Cole et al. 1999)",
+    "breathing_reserve": "MVV - peak VE; MVV measured or FEV1 × 40 (ATS/ACCP 2003)",
+    "energy_expenditure": "abbreviated Weir equation (Weir 1949)",
+    "substrate_oxidation": "Frayn 1983 equations without protein (rows with RER < 1.0)",
+    "fat_max": "row of highest Frayn fat oxidation in averaged exercise data (Achten et al. 2002)",
+    "maximality": "VO2 plateau below the set rise over the last minute despite more work (Taylor et al. 1955); "
+    "secondary criteria RER ≥ 1.10 and HR ≥ 90 % of Tanaka-predicted (common practice)",
+    "predicted_vo2max": "FRIEND registry equation (de Souza e Silva et al. 2018)",
+    "hr_max_predicted": "208 - 0.7 × age (Tanaka et al. 2001)",
+    "weber_class": "classes A-D by VO2peak per kg (Weber & Janicki 1985)",
+    "ventilatory_class": "classes I-IV by VE/VCO2 slope (Arena et al. 2007)",
+    "zones": "three zones bounded by VT1 and VT2, values read from the averaged data (common practice)",
+}
+
+
+def _effective_meta(session: Session, settings: AnalysisSettings) -> dict[str, Any]:
+    meta = settings.metadata.apply(session.meta)
+    for key in ("body_mass_kg", "age_y", "height_cm", "hb_g_dl", "mvv_l_min", "fev1_l"):
+        v = meta.get(key)
+        if v is not None:
+            try:
+                f = float(v)
+            except (TypeError, ValueError):
+                f = math.nan
+            meta[key] = f if math.isfinite(f) and f > 0 else None
+    return meta
+
+
+def _mode(meta: dict[str, Any], avg: pd.DataFrame) -> str | None:
+    if meta.get("mode"):
+        try:
+            return mode_code(meta["mode"])
+        except TidemarkError:
+            pass
+    for col, mode in ((C.WORK_W, "cycle"), (C.SPEED_KMH, "treadmill")):
+        if col in avg and avg[col].notna().any() and float(avg[col].max()) > 0:
+            return mode
+    return None
+
+
+def _excluded_table(breaths: pd.DataFrame, settings: AnalysisSettings) -> pd.DataFrame:
+    auto = find_outlier_breaths(
+        breaths, window_breaths=settings.outlier_window_breaths, k_sd=settings.outlier_k_sd
+    )
+    restored = set(settings.restored_rows)
+    auto = auto[~auto["source_row"].isin(restored)]
+    parts = [auto.assign(by="auto")[list(EXCLUDED_COLUMNS)]] if len(auto) else []
+    manual = [r for r in settings.excluded_rows if r not in set(auto["source_row"])]
+    if manual:
+        src = breaths["source_row"] if "source_row" in breaths else pd.Series(np.arange(1, len(breaths) + 1))
+        pos = {int(s): i for i, s in enumerate(src.to_numpy())}
+        t = breaths[C.T_S].to_numpy(dtype=float)
+        rows = [
+            (r, t[pos[r]] if r in pos else np.nan, "", np.nan, "excluded by the reviewer", "reviewer")
+            for r in manual
+        ]
+        parts.append(pd.DataFrame(rows, columns=list(EXCLUDED_COLUMNS)))
+    if not parts:
+        return pd.DataFrame(
+            {c: pd.Series(dtype=object if c in ("column", "reason", "by") else float) for c in EXCLUDED_COLUMNS}
+        ).astype({"source_row": int})
+    out = pd.concat(parts, ignore_index=True) if len(parts) > 1 else parts[0].reset_index(drop=True)
+    return out.sort_values("source_row", kind="stable").reset_index(drop=True)
+
+
+def _phase_times(breaths: pd.DataFrame, phases: pd.Series) -> dict[str, dict[str, float]]:
+    t = breaths[C.T_S].to_numpy(dtype=float)
+    ph = phases.to_numpy()
+    out: dict[str, dict[str, float]] = {}
+    for name in C.PHASES:
+        m = ph == name
+        if m.any():
+            out[name] = {"start_s": float(t[m].min()), "end_s": float(t[m].max())}
+    return out
+
+
+def _apply_overrides(report: ThresholdReport, avg: pd.DataFrame, settings: AnalysisSettings) -> ThresholdReport:
+    for kind in ("vt1", "vt2"):
+        ov = getattr(settings, f"{kind}_override")
+        if ov is not None:
+            report = override_threshold(
+                report, avg, kind=kind, t_s=ov.t_s, vo2_ml_min=ov.vo2_ml_min, reason=ov.reason
+            )
+    return report
+
+
+def _safe(fn, *args, **kwargs):  # noqa: ANN001, ANN202 - small internal adapter
+    """``fn(...)``, or ``None`` when the data do not allow the index (AnalysisError)."""
+    try:
+        return fn(*args, **kwargs)
+    except AnalysisError:
+        return None
+
+
+def _col(frame: pd.DataFrame, name: str) -> np.ndarray | None:
+    if name not in frame or not frame[name].notna().any():
+        return None
+    return frame[name].to_numpy(dtype=float)
+
+
+def _indices(
+    *,
+    avg: pd.DataFrame,
+    ex: pd.DataFrame,
+    phases_avg: np.ndarray,
+    meta: dict[str, Any],
+    mode: str | None,
+    peak: PointValues,
+    vt1: PointValues | None,
+    vt2: PointValues | None,
+    hr_peak: float | None,
+    warns: list[str],
+) -> dict[str, Any]:
+    out: dict[str, Any] = {}
+    vo2, vco2, ve = (ex[c].to_numpy(dtype=float) for c in (C.VO2_ML_MIN, C.VCO2_ML_MIN, C.VE_L_MIN))
+    t = ex[C.T_S].to_numpy(dtype=float)
+
+    fit = _safe(ve_vco2_slope, vco2, ve)
+    out["ve_vco2_slope"] = fit.slope if fit else None
+    out["ve_vco2_intercept_l_min"] = fit.intercept if fit else None
+    out["ve_vco2_slope_r2"] = fit.r2 if fit else None
+    if vt2 is not None:
+        below = t <= vt2.t_s
+        fit2 = _safe(ve_vco2_slope, vco2[below], ve[below])
+        out["ve_vco2_slope_to_vt2"] = fit2.slope if fit2 else None
+    else:
+        out["ve_vco2_slope_to_vt2"] = None
+    out["ve_vco2_nadir"] = _safe(ve_vco2_nadir, vco2, ve)
+    ou = _safe(oues, vo2, ve)
+    out["oues"] = ou.slope if ou else None
+    out["oues_per_kg"] = ou.slope / meta["body_mass_kg"] if ou and meta.get("body_mass_kg") else None
+
+    hr = _col(ex, C.HR_BPM)
+    out["o2_pulse_peak_ml_beat"] = _safe(o2_pulse_peak_ml_beat, vo2, hr) if hr is not None else None
+    out["o2_pulse_at_peak_ml_beat"] = peak.vo2_ml_min / peak.hr_bpm if peak.hr_bpm else None
+
+    work = _col(ex, C.WORK_W)
+    if mode == "cycle" and work is not None:
+        wr = _safe(vo2_work_rate_slope, t, vo2, work)
+        out["vo2_work_rate_slope_ml_min_w"] = wr.slope if wr else None
+        ramp_rows = avg.assign(phase=phases_avg)
+        out["ramp_rate_w_per_min"] = ramp_rate_w_per_min(ramp_rows, ramp_rows[C.PHASE])
+        out["work_peak_w"] = float(np.nanmax(work))
+    else:
+        out["vo2_work_rate_slope_ml_min_w"] = None
+        out["ramp_rate_w_per_min"] = None
+        out["work_peak_w"] = None
+    out["mets_peak"] = mets(peak.vo2_ml_kg_min) if peak.vo2_ml_kg_min else None
+
+    rest_hr = avg.loc[phases_avg == "rest", C.HR_BPM] if C.HR_BPM in avg else pd.Series(dtype=float)
+    hr_rest = float(rest_hr.mean()) if rest_hr.notna().any() else None
+    out["hr_rest_bpm"] = hr_rest
+    if hr_rest is not None and hr_peak is not None and hr_peak > hr_rest:
+        out["hr_reserve_bpm"] = hr_reserve_bpm(hr_max_bpm=hr_peak, hr_rest_bpm=hr_rest)
+        for name, p in (("vt1", vt1), ("vt2", vt2)):
+            out[f"pct_hr_reserve_{name}"] = (
+                pct_hr_reserve(p.hr_bpm, hr_max_bpm=hr_peak, hr_rest_bpm=hr_rest) if p and p.hr_bpm else None
+            )
+    else:
+        out["hr_reserve_bpm"] = out["pct_hr_reserve_vt1"] = out["pct_hr_reserve_vt2"] = None
+    hr_all = _col(avg, C.HR_BPM)
+    out["hr_recovery_1min_bpm"] = (
+        hr_recovery_1min_bpm(avg[C.T_S].to_numpy(dtype=float), hr_all, t_end_exercise_s=float(t.max()))
+        if hr_all is not None and (phases_avg == "recovery").any()
+        else None
+    )
+
+    ve_peak = float(np.nanmax(ve))
+    out["ve_peak_l_min"] = ve_peak
+    br = breathing_reserve(ve_peak, mvv_l_min=meta.get("mvv_l_min"), fev1_l=meta.get("fev1_l"))
+    out["breathing_reserve"] = json_safe(br) if br else None
+
+    out["energy_expenditure_peak_kcal_min"] = energy_expenditure_kcal_min(peak.vo2_ml_min, vco2[np.nanargmax(vo2)])
+    fm = fat_max(t, vo2, vco2, vo2_peak_ml_min=peak.vo2_ml_min)
+    if fm is not None:
+        row = ex.iloc[fm.position]
+        out["fat_max"] = json_safe(
+            {
+                "fat_g_min": fm.fat_g_min,
+                "vo2_ml_min": fm.vo2_ml_min,
+                "pct_vo2_peak": fm.pct_vo2_peak,
+                "time_s": fm.t_s,
+                "hr_bpm": row.get(C.HR_BPM),
+                "work_w": row.get(C.WORK_W),
+                "speed_kmh": row.get(C.SPEED_KMH),
+            }
+        )
+    else:
+        out["fat_max"] = None
+    if out["ve_vco2_slope"] is None:
+        warns.append("The VE/VCO2 slope could not be computed from the exercise data.")
+    return json_safe(out)
+
+
+def _reference(meta: dict[str, Any], mode: str | None, peak: PointValues, ve_vco2: float | None, hr_peak: float | None, warns: list[str]) -> tuple[dict[str, Any], dict[str, Any]]:
+    predicted: dict[str, Any] = {
+        "vo2max_friend_ml_kg_min": None,
+        "pct_predicted_vo2max": None,
+        "hr_max_tanaka_bpm": None,
+        "pct_predicted_hr_max": None,
+    }
+    age, mass, height, sex = meta.get("age_y"), meta.get("body_mass_kg"), meta.get("height_cm"), meta.get("sex")
+    missing = [n for n, v in (("age", age), ("sex", sex), ("body mass", mass), ("height", height), ("mode", mode)) if v is None]
+    if not missing:
+        try:
+            pred = friend_vo2max_ml_kg_min(age_y=age, sex=sex_code(sex), body_mass_kg=mass, height_cm=height, mode=mode)
+            predicted["vo2max_friend_ml_kg_min"] = pred
+            if peak.vo2_ml_kg_min is not None and pred > 0:
+                predicted["pct_predicted_vo2max"] = pct_predicted(peak.vo2_ml_kg_min, pred)
+        except TidemarkError as exc:
+            warns.append(f"Predicted VO2max not given: {exc}")
+    else:
+        warns.append("Predicted VO2max (FRIEND) not given: missing " + ", ".join(missing) + ".")
+    if age is not None:
+        try:
+            hr_pred = tanaka_hr_max_bpm(age_y=age)
+            predicted["hr_max_tanaka_bpm"] = hr_pred
+            if hr_peak is not None:
+                predicted["pct_predicted_hr_max"] = pct_predicted(hr_peak, hr_pred)
+        except TidemarkError as exc:
+            warns.append(f"Predicted maximal heart rate not given: {exc}")
+    classes: dict[str, Any] = {"weber": None, "ventilatory": None}
+    if peak.vo2_ml_kg_min is not None:
+        classes["weber"] = _safe_cls(weber_class, peak.vo2_ml_kg_min)
+    if ve_vco2 is not None:
+        classes["ventilatory"] = _safe_cls(ventilatory_class, ve_vco2)
+    return json_safe(predicted), classes
+
+
+def _safe_cls(fn, value: float) -> str | None:  # noqa: ANN001
+    try:
+        return fn(value)
+    except TidemarkError:
+        return None
+
+
+def _oxygen(
+    meta: dict[str, Any],
+    settings: AnalysisSettings,
+    *,
+    avg: pd.DataFrame,
+    phases_avg: np.ndarray,
+    peak: PointValues,
+    vt1: PointValues | None,
+    vt2: PointValues | None,
+    warns: list[str],
+) -> dict[str, Any] | None:
+    """Per-state oxygen comparison (Oxygen engineer's :func:`analysis.oxygen.oxygen_comparison`)."""
+    hb = meta.get("hb_g_dl")
+    if hb is None:
+        return None
+    from analysis.oxygen import StateConditions, StatePoint, oxygen_comparison
+
+    opts = dict(settings.oxygen)
+    measured_q = opts.pop("q_l_min", {}) or {}
+    state_spo2 = opts.pop("spo2_pct_by_state", {}) or {}
+    conditions = opts.pop("conditions", None)
+    if conditions is not None:
+        opts["conditions"] = {k: StateConditions(**v) for k, v in conditions.items()}
+    if opts.get("arterial_conditions") is not None:
+        opts["arterial_conditions"] = StateConditions(**opts["arterial_conditions"])
+    states = []
+    rest = avg.loc[phases_avg == "rest"]
+    if len(rest) and rest[C.VO2_ML_MIN].notna().any():
+        vo2_rest = float(rest[C.VO2_ML_MIN].mean())
+        hr_rest = float(rest[C.HR_BPM].mean()) if C.HR_BPM in rest and rest[C.HR_BPM].notna().any() else None
+        states.append(("rest", vo2_rest, hr_rest, 100.0 * vo2_rest / peak.vo2_ml_min))
+    for name, p in (("vt1", vt1), ("vt2", vt2), ("peak", peak)):
+        if p is not None:
+            states.append((name, p.vo2_ml_min, p.hr_bpm, p.pct_vo2_peak))
+    try:
+        points = [
+            StatePoint(name, vo2, hr_bpm=hr, pct_vo2_peak=pct, q_l_min=measured_q.get(name), spo2_pct=state_spo2.get(name))
+            for name, vo2, hr, pct in states
+        ]
+        with warnings.catch_warnings(record=True) as caught:
+            warnings.simplefilter("always")
+            comparison = oxygen_comparison(points, hb_g_dl=hb, **opts)
+        warns.extend(f"Oxygen: {w.message}" for w in caught if issubclass(w.category, DataQualityWarning))
+        return json_safe(comparison.to_json_dict())
+    except (TidemarkError, TypeError) as exc:
+        warns.append(f"Oxygen comparison not made: {exc}")
+        return None
+
+
+def analyze_session(session: Session, settings: AnalysisSettings | None = None) -> TestResults:
+    """Analyse one exercise test: clean, average, find thresholds, and compute every result.
+
+    Parameters
+    ----------
+    session : Session
+        Breaths in canonical columns with metadata (:class:`analysis.session.Session`).
+    settings : AnalysisSettings, optional
+        Averaging, outlier test, manual exclusions and restorations, threshold overrides,
+        plateau threshold, metadata overrides and oxygen conditions (defaults when omitted).
+
+    Returns
+    -------
+    TestResults
+        ``.to_json_dict()`` gives the stable JSON documented in ``docs/results.md``.
+
+    Raises
+    ------
+    AnalysisError
+        Required columns missing, too few breaths, or no exercise phase.
+
+    Notes
+    -----
+    Steps: (1) automatic outlier breaths (local mean ± k SD) minus the reviewer's restored rows,
+    plus the reviewer's excluded rows, are left out; (2) phases are labelled; (3) breaths are
+    averaged as set; (4) VT1/VT2 are detected on the averaged data and manual overrides
+    applied; (5) peak values, maximality, indices, reference values, classes, zones and (when
+    Hb is known) the per-state oxygen comparison are computed. Data-quality warnings raised on
+    the way are collected in ``warnings``, never printed.
+    """
+    settings = settings or AnalysisSettings()
+    if not isinstance(session, Session):
+        raise AnalysisError(f"analyze_session needs a Session; received {type(session).__name__}.")
+    breaths = session.breaths
+    name = session.source_name or "the session"
+    missing = [c for c in C.REQUIRED if c not in breaths.columns]
+    if missing:
+        raise AnalysisError(f"{name} has no column(s) {', '.join(missing)}; a test needs t_s, VO2, VCO2 and VE.")
+    if len(breaths) < 20:
+        raise AnalysisError(f"{name} holds only {len(breaths)} breaths; at least 20 are needed for an analysis.")
+    if "source_row" not in breaths.columns:
+        breaths = breaths.assign(source_row=np.arange(1, len(breaths) + 1))
+    if breaths[C.T_S].diff().lt(0).any():
+        breaths = breaths.sort_values(C.T_S, kind="stable").reset_index(drop=True)
+
+    warns: list[str] = []
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        meta = _effective_meta(session, settings)
+        excluded = _excluded_table(breaths, settings)
+        clean = exclude_breaths(breaths, excluded["source_row"].tolist())
+        phases = detect_phases(clean)
+        clean = clean.assign(**{C.PHASE: phases.to_numpy()})
+        avg = average_breaths(clean, settings.averaging).reset_index(drop=True)
+        phases_avg = avg[C.PHASE].fillna("exercise").astype(str).to_numpy() if C.PHASE in avg else np.full(len(avg), "exercise")
+        ex = avg.loc[phases_avg == "exercise"]
+        if len(ex) == 0:
+            raise AnalysisError(
+                f"{name}: no exercise phase was found — label the phases in the file or include a work-rate or speed column."
+            )
+        report = _apply_overrides(detect_thresholds(avg), avg, settings)
+        mode = _mode(meta, avg)
+        body_mass = meta.get("body_mass_kg")
+        peak = peak_values(ex, body_mass_kg=body_mass)
+        vo2_peak = peak.vo2_ml_min
+
+        def at(pick) -> PointValues | None:  # noqa: ANN001
+            if pick is None:
+                return None
+            return point_values(avg, avg.index[int(pick.index)], vo2_peak_ml_min=vo2_peak, body_mass_kg=body_mass)
+
+        vt1, vt2 = at(report.vt1), at(report.vt2)
+        maximality = assess_maximality(ex, age_y=meta.get("age_y"), plateau_threshold_ml_min=settings.plateau_threshold_ml_min)
+        indices = _indices(
+            avg=avg, ex=ex, phases_avg=phases_avg, meta=meta, mode=mode, peak=peak, vt1=vt1, vt2=vt2,
+            hr_peak=maximality.hr_peak_bpm, warns=warns,
+        )
+        predicted, classes = _reference(meta, mode, peak, indices["ve_vco2_slope"], maximality.hr_peak_bpm, warns)
+        try:
+            zones = training_zones(vt1=vt1, vt2=vt2, peak=peak)
+        except TidemarkError as exc:
+            from analysis.zones import ZoneSet
+
+            zones = ZoneSet([], f"Zones not given: {exc}")
+        oxygen = _oxygen(meta, settings, avg=avg, phases_avg=phases_avg, peak=peak, vt1=vt1, vt2=vt2, warns=warns)
+    for w in caught:
+        if issubclass(w.category, DataQualityWarning):
+            text = str(w.message)
+            if text not in warns:
+                warns.append(text)
+
+    if body_mass is None:
+        warns.append("Body mass unknown: per-kg values, METs and predicted values are not given.")
+    n_ex = len(excluded)
+    if n_ex > EXCLUDED_WARN_FRACTION * len(breaths):
+        warns.append(
+            f"{n_ex} of {len(breaths)} breaths ({100 * n_ex / len(breaths):.0f} %) were excluded — check the recording."
+        )
+    warns.extend(r if r[:1].isupper() else r[:1].upper() + r[1:] for r in report.reasons if "not found" in r)
+    if hasattr(zones, "note") and not zones.zones:
+        warns.append(zones.note)
+
+    methods = dict(_BASE_METHODS)
+    methods["averaging"] = settings.averaging.label
+    methods["vt1"] = report.vt1.method if report.vt1 else "not found"
+    methods["vt2"] = report.vt2.method if report.vt2 else "not found"
+    if oxygen is not None:
+        methods["oxygen"] = "Fick a-vO2 difference against the dissociation curve (analysis.oxygen.oxygen_comparison)"
+
+    return TestResults(
+        source_name=session.source_name,
+        meta=meta,
+        mode=mode,
+        settings=settings,
+        averaged=avg,
+        phases=phases,
+        phase_times=_phase_times(clean, phases),
+        thresholds=report,
+        excluded_breaths=excluded,
+        breaths_total=len(breaths),
+        breaths_used=len(clean),
+        peak=peak,
+        vt1=vt1,
+        vt2=vt2,
+        maximality=maximality,
+        rer_peak=maximality.rer_peak,
+        hr_peak_bpm=maximality.hr_peak_bpm,
+        indices=indices,
+        predicted=predicted,
+        classes=classes,
+        zones=zones,
+        oxygen=oxygen,
+        methods=methods,
+        warnings=warns,
+    )
