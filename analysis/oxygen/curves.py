@@ -62,6 +62,13 @@ KELMAN_CO2_COEFFICIENT = 0.06
 
 MMHG_PER_KPA = 7.500617
 
+#: Caution shown beside any curve value.
+CURVE_CAUTION = (
+    "Model estimates from a published dissociation-curve model, not measurements. Tidemark is not a "
+    "medical device; clinical decisions follow measured values (e.g. co-oximetry) and licensed practice, "
+    "interpreted by qualified staff under local protocols."
+)
+
 _MODEL_SUGGESTION = {
     "dpg_mmol_l": "use model='siggaard_andersen', which takes 2,3-BPG",
     "base_excess_mmol_l": "use model='siggaard_andersen', which takes base excess",
