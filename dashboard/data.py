@@ -17,6 +17,7 @@ from __future__ import annotations
 import json
 import logging
 import os
+from pathlib import Path
 from typing import Any
 
 import streamlit as st
@@ -112,6 +113,7 @@ def preview_import(
     return import_bytes(data, file_name=file_name, mapping=mapping, sheet=sheet, gas_unit=gas_unit)
 
 
+
 @st.cache_data(show_spinner=False, max_entries=8)
 def sheet_names(data: bytes) -> list[str]:
     """Sheet names of an .xlsx upload."""
@@ -125,3 +127,51 @@ def clear_test_caches() -> None:
     _analyze.clear()
     _results_json.clear()
     _load_session.clear()
+
+
+@st.cache_data(show_spinner=False, max_entries=16)
+def source_headers(data: bytes, *, file_name: str, sheet: str | None = None) -> list[str] | None:
+    """Every column header of an uploaded table (for the mapping editor), or ``None``.
+
+    Uses the importer's own table finder so the headers are exactly what the import sees.
+    ``None`` when the file has no recognisable header row (the import check says why).
+    """
+    from analysis.errors import TidemarkError
+
+    try:
+        from analysis.io._decode import container_kind, decode_text, split_lines
+        from analysis.io._table import choose_delimiter, locate_table, split_rows
+        from analysis.io._xlsx import list_sheets, sheet_rows
+
+        if container_kind(data) == "xlsx":
+            name = sheet if sheet is not None else list_sheets(data, file_name=file_name)[0]
+            _, rows = sheet_rows(data, name, file_name=file_name)
+        else:
+            lines = split_lines(decode_text(data, file_name=file_name).text)
+            rows = split_rows(lines, delimiter=choose_delimiter(lines, file_name=file_name), file_name=file_name)
+        return list(locate_table(rows, file_name=file_name).headers)
+    except (TidemarkError, ImportError, IndexError):
+        return None
+
+
+def profiles_dir() -> Path:
+    """Folder of saved column-mapping profiles: beside a SQLite store file, else ``~/.tidemark``."""
+    from sqlalchemy.engine import make_url
+
+    url = getattr(get_store(), "url", None) or store_url()
+    base = Path("~/.tidemark").expanduser()
+    try:
+        parsed = make_url(url) if url else None
+    except Exception:  # noqa: BLE001 - fall back to the home folder
+        parsed = None
+    if parsed is not None and parsed.get_backend_name() == "sqlite" and parsed.database not in (None, "", ":memory:"):
+        base = Path(parsed.database).expanduser().resolve().parent
+    return base / "mapping-profiles"
+
+
+def list_profiles() -> dict[str, Path]:
+    """Saved mapping profiles: name -> file."""
+    folder = profiles_dir()
+    if not folder.is_dir():
+        return {}
+    return {p.stem: p for p in sorted(folder.glob("*.json"))}

@@ -18,6 +18,21 @@ VE_VO2 = "ve_vo2"
 VE_VCO2 = "ve_vco2"
 
 
+def _ratios(avg: pd.DataFrame) -> pd.DataFrame:
+    """VE/VO2 and VE/VCO2 columns of ``avg``; derived from VE, VO2, VCO2 only when absent.
+
+    The ratio is the definition of a ventilatory equivalent (VE in L/min over VO2 or VCO2 in
+    L/min; common practice). It is derived here only because the analysis does not yet return
+    it as a series; the threshold detection in :mod:`analysis.thresholds` uses the same ratio.
+    """
+    if has(avg, VE_VO2) and has(avg, VE_VCO2):
+        return avg
+    out = avg[[C.T_S]].copy()
+    out[VE_VO2] = 1000.0 * avg[C.VE_L_MIN] / avg[C.VO2_ML_MIN].where(avg[C.VO2_ML_MIN] > 0)
+    out[VE_VCO2] = 1000.0 * avg[C.VE_L_MIN] / avg[C.VCO2_ML_MIN].where(avg[C.VCO2_ML_MIN] > 0)
+    return out
+
+
 def equivalents_figure(
     avg: pd.DataFrame,
     *,
@@ -43,7 +58,7 @@ def equivalents_figure(
         Panel 1 VE/VO2 and VE/VCO2; panel 2 PETO2 and PETCO2 (mmHg). Panels without data show
         a note instead of lines.
     """
-    eq = equivalents if equivalents is not None else avg
+    eq = equivalents if equivalents is not None else _ratios(avg)
     fig = make_subplots(rows=2, cols=1, shared_xaxes=True, vertical_spacing=0.08)
     for col, name in ((VE_VO2, "VE/VO2"), (VE_VCO2, "VE/VCO2")):
         if has(eq, col):
@@ -90,3 +105,9 @@ def equivalents_figure(
         **BASE_LAYOUT, title={"text": "Ventilatory equivalents and end-tidal pressures", "font": {"size": 15}}, height=560
     )
     return fig
+
+
+def equivalents_from_results(results: Any, session: Any | None = None) -> go.Figure:
+    """:func:`equivalents_figure` for a :class:`analysis.results.TestResults`."""
+    report = results.thresholds
+    return equivalents_figure(results.averaged, thresholds={"vt1": report.vt1, "vt2": report.vt2})

@@ -139,3 +139,16 @@ def time_course_figure(
     title = "Time course" + (f" — {averaging_label}" if averaging_label else "")
     fig.update_layout(**BASE_LAYOUT, title={"text": title, "font": {"size": 15}}, height=720, clickmode="event+select")
     return fig
+
+
+def time_course_from_results(results: Any, session: Any | None = None) -> go.Figure:
+    """:func:`time_course_figure` for a :class:`analysis.results.TestResults` (and its session)."""
+    excluded = results.excluded_breaths
+    rows = excluded["source_row"].tolist() if excluded is not None and "source_row" in excluded.columns else []
+    return time_course_figure(
+        results.averaged,
+        breaths=session.breaths if session is not None else None,
+        excluded_rows=rows,
+        thresholds={"vt1": results.thresholds.vt1, "vt2": results.thresholds.vt2},
+        averaging_label=results.settings.averaging.label,
+    )

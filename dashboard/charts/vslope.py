@@ -129,3 +129,22 @@ def vslope_figure(
     fig.update_yaxes(title_text="VCO2 (mL/min)")
     fig.update_layout(**BASE_LAYOUT, title={"text": "V-slope: VCO2 against VO2", "font": {"size": 15}}, height=460)
     return fig
+
+
+def exercise_rows(avg: pd.DataFrame) -> pd.DataFrame:
+    """The exercise part of the averaged frame (all of it when there is no ``phase`` column)."""
+    if "phase" in avg.columns and (avg["phase"] == "exercise").any():
+        return avg[avg["phase"] == "exercise"]
+    return avg
+
+
+def vslope_from_results(results: Any, session: Any | None = None) -> go.Figure:
+    """:func:`vslope_figure` for a :class:`analysis.results.TestResults` (exercise rows only)."""
+    report = results.thresholds
+    return vslope_figure(
+        exercise_rows(results.averaged),
+        fit=report.vslope,
+        candidates=report.vt1_candidates,
+        vt1=report.vt1,
+        vt2=report.vt2,
+    )

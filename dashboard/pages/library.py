@@ -1,0 +1,317 @@
+"""Library page: add tests (upload, import check, column mapping) and open stored tests.
+
+Import checks come from :func:`analysis.io.import_bytes` (through :func:`dashboard.data.
+preview_import`); storing goes through :meth:`store.Store.import_test`; headline numbers in the
+list are the store's (computed by the analysis when the test was saved).
+"""
+
+from __future__ import annotations
+
+import hashlib
+import json
+import logging
+from collections.abc import Mapping, Sequence
+from typing import Any
+
+import pandas as pd
+import streamlit as st
+
+from analysis import columns as C
+from analysis.errors import ImportRejected, InvalidParameter
+from dashboard import data, state
+from dashboard.errors import show_error
+
+log = logging.getLogger("tidemark.dashboard")
+
+UPLOAD_TYPES = ["csv", "tsv", "txt", "xlsx"]
+IGNORE = "ignore"
+#: Choices of the gas-unit selector: code -> label (codes as the importer's mapping units).
+GAS_UNITS: dict[str, str] = {"auto": "Detect from the values", "ml_min": "mL/min", "l_min": "L/min"}
+GUESS = "(guess from the column headers)"
+
+
+# --- pure helpers -------------------------------------------------------------------------
+
+
+def target_options() -> list[str]:
+    """What a source column can be mapped to: 'ignore' or a canonical column."""
+    return [IGNORE, *C.COLUMNS]
+
+
+def target_label(name: str) -> str:
+    if name == IGNORE:
+        return "— ignore —"
+    spec = C.COLUMNS[name]
+    return f"{spec.label} ({spec.unit})" if spec.unit else spec.label
+
+
+def mapping_dict(columns: Mapping[str, str], *, gas_unit: str = "auto", guess_rest: bool = True) -> dict[str, Any]:
+    """A :class:`analysis.io.ColumnMapping` dict from the editor's choices and the gas unit."""
+    from analysis.io import ColumnMapping
+
+    units = {}
+    if gas_unit in ("ml_min", "l_min"):
+        targets = set(columns.values())
+        units = {n: gas_unit for n in (C.VO2_ML_MIN, C.VCO2_ML_MIN) if n in targets or guess_rest}
+    return ColumnMapping(dict(columns), units, guess_rest).to_dict()
+
+
+def problem_rows(exc: ImportRejected) -> list[dict[str, Any]]:
+    """The problems of a rejected import as table rows (line, column, problem, what to do)."""
+    return [
+        {"Line": p.row if p.row is not None else "", "Column": p.column or "", "Problem": p.message, "What to do": p.fix}
+        for p in exc.problems
+    ]
+
+
+def flag_summary(flags: pd.DataFrame) -> pd.DataFrame:
+    """Flagged rows counted by column and reason (what the reviewer should look at)."""
+    if flags is None or not len(flags):
+        return pd.DataFrame(columns=["Column", "Reason", "Rows"])
+    g = flags.groupby(["column", "reason"], dropna=False).size().reset_index(name="Rows")
+    return g.rename(columns={"column": "Column", "reason": "Reason"})
+
+
+def test_rows(tests: Sequence[Any]) -> pd.DataFrame:
+    """The test list as a table (numbers are the store's stored results)."""
+    rows = []
+    for t in tests:
+        rows.append(
+            {
+                "Test": t.id,
+                "Person": t.person_code + (f" ({t.display_name})" if t.display_name else ""),
+                "Date": t.test_date or "",
+                "Protocol": t.protocol or "",
+                "VO2peak (mL/min)": None if t.vo2peak_ml_min is None else round(t.vo2peak_ml_min),
+                "VT1 VO2 (mL/min)": None if t.vt1_vo2_ml_min is None else round(t.vt1_vo2_ml_min),
+                "VE/VCO2 slope": None if t.ve_vco2_slope is None else round(t.ve_vco2_slope, 1),
+                "Version": t.version,
+                "Signed off": "yes" if t.signed_version == t.version else "",
+                "File": t.file_name,
+            }
+        )
+    return pd.DataFrame(rows)
+
+
+# --- the test list --------------------------------------------------------------------------
+
+
+def _test_list(store: Any) -> None:
+    st.subheader("Tests in the library")
+    people = list(store.list_people())
+    if not people:
+        st.info("The library is empty. Add a test below.")
+        return
+    codes = {p.id: p.code + (f" ({p.display_name})" if p.display_name else "") for p in people}
+    person = st.selectbox("Person", [None, *codes], format_func=lambda i: "Everyone" if i is None else codes[i], key="lib_person")
+    tests = list(store.list_tests(person))
+    tests.sort(key=lambda t: (t.person_code, t.test_date or ""))
+    if not tests:
+        st.caption("No tests for this person.")
+        return
+    st.dataframe(test_rows(tests), hide_index=True, use_container_width=True)
+    st.caption("Headline numbers are from each test's current stored version.")
+    by_id = {t.id: t for t in tests}
+    current = state.current_test_id()
+    ids = list(by_id)
+    c1, c2 = st.columns([3, 1])
+    chosen = c1.selectbox(
+        "Open a test",
+        ids,
+        index=ids.index(current) if current in ids else 0,
+        format_func=lambda i: f"{by_id[i].person_code} · {by_id[i].test_date or 'no date'} · {by_id[i].protocol or by_id[i].file_name}",
+        key="lib_open_choice",
+    )
+    c2.write("")
+    if c2.button("Open in Review", type="primary", key="lib_open"):
+        open_test(int(chosen))
+
+
+def open_test(test_id: int) -> None:
+    """Make ``test_id`` the current test and switch to the Review page."""
+    state.set_current_test(test_id)
+    if not state.go_to("review"):
+        st.success(f"Test {test_id} is now the current test; open the Review page.")
+
+
+# --- adding tests ---------------------------------------------------------------------------
+
+
+def _mapping_editor(key: str, headers: list[str], used: Mapping[str, str]) -> dict[str, str] | None:
+    """One select box per source column; returns the edited mapping, or None when unchanged."""
+    options = target_options()
+    edited: dict[str, str] = {}
+    cols = st.columns(3)
+    for i, header in enumerate(headers):
+        current = used.get(header, IGNORE)
+        if current not in options:
+            current = IGNORE
+        with cols[i % 3]:
+            edited[header] = st.selectbox(
+                f"‘{header}’", options, index=options.index(current), format_func=target_label, key=f"{key}_col_{i}"
+            )
+    if all(edited[h] == used.get(h, IGNORE) for h in headers):
+        return None
+    return edited
+
+
+def _import_panel(store: Any, upload: Any, index: int) -> None:
+    raw: bytes = upload.getvalue()
+    name: str = upload.name
+    key = "imp_" + hashlib.sha256(raw).hexdigest()[:12] + f"_{index}"
+    is_xlsx = name.lower().endswith(".xlsx")
+    c1, c2, c3 = st.columns(3)
+    sheet = None
+    if is_xlsx:
+        try:
+            sheets = data.sheet_names(raw)
+        except ImportRejected as exc:
+            show_error(exc, context=name)
+            return
+        sheet = c1.selectbox("Sheet", sheets, key=f"{key}_sheet")
+    gas_unit = c2.selectbox("VO2/VCO2 unit", list(GAS_UNITS), format_func=GAS_UNITS.get, key=f"{key}_gas")
+    profiles = data.list_profiles()
+    profile = c3.selectbox("Column mapping", [GUESS, *profiles], key=f"{key}_profile")
+
+    edits_key = f"{key}_edits"
+    columns: dict[str, str] | None = st.session_state.get(edits_key)
+    guess_rest = columns is None
+    if columns is None and profile != GUESS:
+        from analysis.io import load_profile
+
+        try:
+            columns = dict(load_profile(profiles[profile]).columns)
+        except Exception as exc:  # noqa: BLE001 - a bad profile file is shown, the guess is used
+            show_error(exc, context=f"Profile '{profile}'")
+    mapping = mapping_dict(columns or {}, gas_unit=gas_unit, guess_rest=guess_rest) if (columns or gas_unit != "auto") else None
+    mapping_json = json.dumps(mapping, sort_keys=True) if mapping else None
+
+    outcome = None
+    try:
+        outcome = data.preview_import(raw, file_name=name, mapping_json=mapping_json, sheet=sheet)
+    except ImportRejected as exc:
+        st.error(f"**{name}** cannot be imported as set up. Nothing was stored.")
+        st.dataframe(pd.DataFrame(problem_rows(exc)), hide_index=True, use_container_width=True)
+    except InvalidParameter as exc:
+        show_error(exc, context=name)
+
+    headers = data.source_headers(raw, file_name=name, sheet=sheet) or (list(outcome.mapping.columns) if outcome else [])
+    used = dict(outcome.mapping.columns) if outcome else dict(columns or {})
+    if headers:
+        with st.expander("Column mapping (source column → Tidemark column)", expanded=outcome is None):
+            edited = _mapping_editor(key, headers, used)
+            if edited is not None:
+                st.session_state[edits_key] = edited
+                st.rerun()
+            if columns is not None and st.button("Back to the guessed mapping", key=f"{key}_reset"):
+                st.session_state.pop(edits_key, None)
+                st.rerun()
+            p1, p2 = st.columns([2, 1])
+            profile_name = p1.text_input("Save this mapping as a profile named", key=f"{key}_pname")
+            if p2.button("Save profile", key=f"{key}_psave"):
+                _save_profile(profile_name, outcome.mapping.to_dict() if outcome else mapping)
+    if outcome is None:
+        return
+
+    session = outcome.session
+    b = session.breaths
+    m1, m2, m3, m4 = st.columns(4)
+    m1.metric("Breaths", f"{len(b):,}")
+    m2.metric("Time span (s)", f"{b[C.T_S].min():.0f} – {b[C.T_S].max():.0f}")
+    m3.metric("Gas unit found", GAS_UNITS.get(outcome.gas_unit_detected, outcome.gas_unit_detected))
+    m4.metric("Time format", outcome.time_format_detected)
+    details = [f"delimiter {outcome.delimiter!r}" if outcome.delimiter else "Excel workbook",
+               f"decimal mark {outcome.decimal!r}"]
+    if outcome.sheet:
+        details.append(f"sheet ‘{outcome.sheet}’")
+    if outcome.skipped_lines:
+        details.append(f"{len(outcome.skipped_lines)} lines outside the table skipped")
+    st.caption(" · ".join(details))
+    for note in outcome.notes:
+        st.caption(f"Note: {note}")
+    flags = session.flags
+    if len(flags):
+        st.warning(f"{len(flags)} rows are flagged as suspicious but kept (nothing is dropped silently).")
+        st.dataframe(flag_summary(flags), hide_index=True, use_container_width=True)
+        with st.expander("Every flagged row"):
+            st.dataframe(
+                flags.rename(columns={"source_row": "Line", "column": "Column", "reason": "Reason"}),
+                hide_index=True,
+                use_container_width=True,
+            )
+    else:
+        st.success("No suspicious rows found.")
+
+    if not state.can_edit():
+        st.info("Your role can view the library but not import tests.")
+        return
+    if sheet is not None and outcome.sheet and sheets and outcome.sheet != sheets[0]:
+        st.caption("The store reads the first sheet with a table; make sure the chosen sheet is that one.")
+    with st.form(f"{key}_form"):
+        f1, f2 = st.columns(2)
+        code = f1.text_input("Person code (pseudonymous)", value=str(session.meta.get("subject_id", "")), key=f"{key}_code")
+        display = f2.text_input("Display name (optional, staff only)", key=f"{key}_name")
+        go = st.form_submit_button("Import into the library", type="primary")
+    if go:
+        try:
+            result = store.import_test(
+                raw,
+                file_name=name,
+                actor=state.current_user(),
+                person_code=code.strip() or None,
+                display_name=display.strip() or None,
+                mapping=outcome.mapping.to_dict(),
+            )
+        except Exception as exc:  # noqa: BLE001 - refusals shown plainly, nothing written
+            show_error(exc, context=f"Import of {name}")
+            return
+        st.session_state["lib_last_import"] = result.test_id
+        if result.duplicate:
+            st.info(f"{name} is already in the library (test {result.test_id}); nothing new was stored.")
+        else:
+            st.success(f"{name} stored as test {result.test_id}.")
+            if result.results_error:
+                st.warning(f"The analysis could not be completed: {result.results_error}")
+    if st.session_state.get("lib_last_import") is not None and st.button(
+        "Open the imported test in Review", key=f"{key}_open"
+    ):
+        open_test(int(st.session_state["lib_last_import"]))
+
+
+def _save_profile(name: str, mapping: Mapping[str, Any] | None) -> None:
+    from analysis.io import ColumnMapping, save_profile
+
+    clean = "".join(ch for ch in name.strip() if ch.isalnum() or ch in " -_").strip()
+    if not clean:
+        st.error("Give the profile a name (letters, digits, spaces, '-' or '_').")
+        return
+    if not mapping:
+        st.error("There is no mapping to save yet.")
+        return
+    folder = data.profiles_dir()
+    folder.mkdir(parents=True, exist_ok=True)
+    path = save_profile(ColumnMapping.from_dict(mapping), folder / f"{clean}.json")
+    st.success(f"Mapping saved as profile ‘{clean}’ ({path}).")
+
+
+def _add_tests(store: Any) -> None:
+    st.subheader("Add tests")
+    st.caption(
+        "Breath-by-breath exports as CSV, TSV or Excel (.xlsx). Each file is checked before anything "
+        "is stored: columns found, units, time format and every suspicious row."
+    )
+    uploads = st.file_uploader("Exercise test files", type=UPLOAD_TYPES, accept_multiple_files=True, key="lib_upload")
+    for i, upload in enumerate(uploads or []):
+        with st.expander(upload.name, expanded=True):
+            _import_panel(store, upload, i)
+
+
+def render() -> None:
+    """The Library page."""
+    for kind, message in state.pop_flashes():
+        getattr(st, kind, st.info)(message)
+    st.title("Library")
+    store = data.get_store()
+    _test_list(store)
+    st.divider()
+    _add_tests(store)

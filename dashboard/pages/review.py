@@ -1,0 +1,479 @@
+"""Review page: one test — headline results, linked charts, thresholds, exclusions, sign-off.
+
+The page only renders and collects input. Every number comes from
+:func:`analysis.pipeline.analyze_session` (through :mod:`dashboard.data`); a reviewer's change
+becomes new :class:`analysis.settings.AnalysisSettings`, which are re-analysed at once and saved
+through the store (audited, versioned). The small pure functions at the top turn user input
+into settings and can be tested without Streamlit.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import logging
+from collections.abc import Mapping, Sequence
+from typing import Any
+
+import pandas as pd
+import streamlit as st
+
+from analysis.breaths import METHODS as AVERAGING_METHODS
+from analysis.breaths import AveragingSpec
+from analysis.settings import AnalysisSettings, ThresholdOverride
+from analysis.thresholds import pick_from_chart_point
+from dashboard import data, state
+from dashboard.charts import equivalents_figure, time_course_figure, vslope_figure
+from dashboard.charts.time_course import VO2_TRACE
+from dashboard.charts.vslope import DATA_TRACE, exercise_rows
+from dashboard.errors import show_error
+
+log = logging.getLogger("tidemark.dashboard")
+
+#: Plain names of the averaging methods (the choice list of the selector).
+AVERAGING_NAMES: dict[str, str] = {
+    "time_bin": "Time bins (s)",
+    "rolling_time": "Rolling time window (s)",
+    "breaths": "Rolling mean of breaths",
+    "middle_of_n": "Middle of n breaths",
+}
+#: Suggested sizes per method (within what AveragingSpec accepts).
+AVERAGING_SIZES: dict[str, tuple[float, ...]] = {
+    "time_bin": (5, 10, 15, 20, 30, 60),
+    "rolling_time": (10, 15, 20, 30, 60),
+    "breaths": (5, 7, 9, 11, 15, 21),
+    "middle_of_n": (5, 7, 9, 11),
+}
+THRESHOLD_NAMES = {"vt1": "VT1", "vt2": "VT2"}
+
+
+# --- pure helpers: user input -> settings --------------------------------------------------
+
+
+def with_override(
+    settings: Mapping[str, Any], *, kind: str, t_s: float | None = None, vo2_ml_min: float | None = None, reason: str = ""
+) -> dict[str, Any]:
+    """Settings dict with VT1 or VT2 placed by the reviewer (by time or by VO2)."""
+    s = AnalysisSettings.from_dict(dict(settings))
+    override = ThresholdOverride(t_s=t_s, vo2_ml_min=vo2_ml_min, reason=reason)
+    return dataclasses.replace(s, **{f"{_kind(kind)}_override": override}).to_dict()
+
+
+def without_override(settings: Mapping[str, Any], *, kind: str) -> dict[str, Any]:
+    """Settings dict with the reviewer's VT1 or VT2 removed (back to the automatic pick)."""
+    s = AnalysisSettings.from_dict(dict(settings))
+    return dataclasses.replace(s, **{f"{_kind(kind)}_override": None}).to_dict()
+
+
+def with_averaging(settings: Mapping[str, Any], *, method: str, size: float) -> dict[str, Any]:
+    """Settings dict with another averaging (validated by :class:`AveragingSpec`)."""
+    s = AnalysisSettings.from_dict(dict(settings))
+    return dataclasses.replace(s, averaging=AveragingSpec(method, size)).to_dict()  # type: ignore[arg-type]
+
+
+def with_exclusions(
+    settings: Mapping[str, Any], *, restored_rows: Sequence[int] | None = None, excluded_rows: Sequence[int] | None = None
+) -> dict[str, Any]:
+    """Settings dict with the reviewer's restored and/or extra excluded breaths (source rows)."""
+    s = AnalysisSettings.from_dict(dict(settings))
+    changes: dict[str, Any] = {}
+    if restored_rows is not None:
+        changes["restored_rows"] = tuple(int(r) for r in restored_rows)
+    if excluded_rows is not None:
+        changes["excluded_rows"] = tuple(int(r) for r in excluded_rows)
+    return dataclasses.replace(s, **changes).to_dict()
+
+
+def _kind(kind: str) -> str:
+    if kind not in THRESHOLD_NAMES:
+        from analysis.errors import InvalidParameter
+
+        raise InvalidParameter("kind", "'vt1' or 'vt2'", kind)
+    return kind
+
+
+def selected_point(event: Any, *, trace_names: Sequence[str]) -> dict[str, Any] | None:
+    """The first selected point of one of ``trace_names`` from a ``st.plotly_chart`` event.
+
+    Returns a plain dict with ``x``, ``y``, ``point_index`` and ``customdata`` (what
+    :func:`analysis.thresholds.pick_from_chart_point` reads), or ``None`` when nothing usable was
+    selected. The event is the object returned by ``st.plotly_chart(..., on_select="rerun")``.
+    """
+    if not event:
+        return None
+    selection = event.get("selection") if isinstance(event, Mapping) else getattr(event, "selection", None)
+    if not selection:
+        return None
+    points = selection.get("points") if isinstance(selection, Mapping) else getattr(selection, "points", None)
+    for point in points or []:
+        if not isinstance(point, Mapping):
+            continue
+        name = point.get("curve_name") or point.get("name")
+        if trace_names and name is not None and name not in trace_names:
+            continue
+        if "x" not in point and "customdata" not in point:
+            continue
+        return {k: point.get(k) for k in ("x", "y", "point_index", "customdata") if k in point}
+    return None
+
+
+def chart_pick(event: Any, *, chart: str, avg: pd.DataFrame) -> dict[str, Any] | None:
+    """A chart selection turned into ``{"t_s", "vo2_ml_min", "index"}`` (or ``None``)."""
+    names = (DATA_TRACE,) if chart == "vslope" else (VO2_TRACE,)
+    point = selected_point(event, trace_names=names)
+    if point is None:
+        return None
+    return pick_from_chart_point(point, chart=chart, avg=avg)  # type: ignore[arg-type]
+
+
+# --- state: the settings the reviewer is working on -----------------------------------------
+
+
+def ensure_working(store: Any, test_id: int) -> state.WorkingSettings:
+    """The working settings of ``test_id``, loaded from the store the first time."""
+    working = state.working_settings(test_id)
+    if working is None:
+        settings, version = store.get_settings(test_id)
+        working = state.WorkingSettings(dict(settings or data.default_settings_dict()), version, True)
+        state.set_working_settings(test_id, working)
+    return working
+
+
+def apply_change(store: Any, test_id: int, new_settings: dict[str, Any], *, reason: str = "") -> str:
+    """Use ``new_settings`` at once and save them through the store when the user may.
+
+    Returns ``"saved"``, ``"unchanged"``, ``"view-only"`` or ``"conflict"``; what happened is
+    also queued as a message for the next run.
+    """
+    working = ensure_working(store, test_id)
+    if state.settings_key(new_settings) == working.key:
+        return "unchanged"
+    user = state.current_user()
+    if not state.can_edit(user) or working.version is None:
+        state.set_working_settings(test_id, state.WorkingSettings(new_settings, working.version, saved=False))
+        state.flash("View only: the change is shown here but not saved (your role cannot edit).", kind="info")
+        return "view-only"
+    try:
+        version = store.save_settings(
+            test_id, new_settings, actor=user, reason=reason.strip(), expected_version=int(working.version)
+        )
+    except Exception as exc:  # noqa: BLE001 - conflicts and refusals are shown plainly
+        from store.errors import EditConflict
+
+        state.set_working_settings(test_id, state.WorkingSettings(new_settings, working.version, saved=False))
+        if isinstance(exc, EditConflict):
+            state.flash(str(exc), kind="error")
+            return "conflict"
+        raise
+    state.set_working_settings(test_id, state.WorkingSettings(new_settings, int(version), saved=True))
+    state.flash(f"Saved as version {version}.", kind="success")
+    return "saved"
+
+
+def reload_from_store(test_id: int) -> None:
+    state.forget_working_settings(test_id)
+
+
+# --- rendering ------------------------------------------------------------------------------
+
+
+def _fmt(value: Any, digits: int = 0, unit: str = "") -> str:
+    if value is None:
+        return "–"
+    try:
+        v = float(value)
+    except (TypeError, ValueError):
+        return str(value)
+    if v != v:  # NaN
+        return "–"
+    text = f"{v:,.{digits}f}"
+    return f"{text} {unit}".strip()
+
+
+def threshold_rows(results_json: Mapping[str, Any]) -> list[dict[str, str]]:
+    """VT1/VT2 display rows from the results JSON (formatting only)."""
+    rows = []
+    for kind in ("vt1", "vt2"):
+        t = results_json.get(kind)
+        if not t:
+            rows.append({"Threshold": THRESHOLD_NAMES[kind], "Time": "not found", "VO2": "", "VO2/kg": "",
+                         "% VO2peak": "", "Heart rate": "", "Load": "", "Set by": "", "Method": ""})
+            continue
+        load = _fmt(t.get("work_w"), 0, "W") if t.get("work_w") is not None else _fmt(t.get("speed_kmh"), 1, "km/h")
+        manual = t.get("source") == "manual"
+        rows.append(
+            {
+                "Threshold": THRESHOLD_NAMES[kind] + (" ✎ manual" if manual else ""),
+                "Time": _fmt(t.get("time_s"), 0, "s"),
+                "VO2": _fmt(t.get("vo2_ml_min"), 0, "mL/min"),
+                "VO2/kg": _fmt(t.get("vo2_ml_kg_min"), 1, "mL/kg/min"),
+                "% VO2peak": _fmt(t.get("pct_vo2_peak"), 0, "%"),
+                "Heart rate": _fmt(t.get("hr_bpm"), 0, "beats/min"),
+                "Load": load,
+                "Set by": "reviewer (manual)" if manual else f"automatic, {t.get('confidence', '')} confidence",
+                "Method": str(t.get("method") or ""),
+            }
+        )
+    return rows
+
+
+def _header(store: Any, test_id: int, working: state.WorkingSettings) -> Any:
+    record = store.get_test(test_id)
+    s = record.summary
+    who = s.person_code + (f" ({s.display_name})" if s.display_name else "")
+    st.title(f"Review — {who}")
+    signed = record.current_version_signed
+    bits = [f"Test date {s.test_date or 'unknown'}", s.protocol or "", f"file {s.file_name}",
+            f"version {working.version if working.version is not None else '–'}"]
+    if signed and working.saved:
+        sign = next((x for x in record.sign_offs if x.version == s.version), None)
+        bits.append(f"signed off by {sign.signed_by}" if sign else "signed off")
+    st.caption(" · ".join(b for b in bits if b))
+    if not working.saved:
+        st.warning("Unsaved changes: what you see differs from the stored version.")
+    return record
+
+
+def _headline(results_json: Mapping[str, Any]) -> None:
+    from dashboard.report.html_report import headline_rows
+
+    st.subheader("Headline results")
+    rows = headline_rows(results_json)
+    cols = st.columns(min(4, max(1, len(rows))))
+    for i, row in enumerate(rows):
+        with cols[i % len(cols)]:
+            st.metric(f"{row['label']} ({row['unit']})" if row["unit"] else row["label"], row["value"])
+            if row["method"]:
+                st.caption(row["method"])
+    m = results_json.get("maximality") or {}
+    verdict = (m.get("label") or m.get("verdict")) if isinstance(m, Mapping) else None
+    if verdict:
+        reasons = m.get("reasons") or []
+        st.markdown(f"**Maximality:** {verdict}")
+        for r in reasons:
+            st.markdown(f"- {r}")
+
+
+def _averaging_selector(store: Any, test_id: int, working: state.WorkingSettings) -> None:
+    current = working.settings.get("averaging") or {}
+    method = current.get("method", "time_bin")
+    methods = [m for m in AVERAGING_METHODS if m in AVERAGING_NAMES]
+    c1, c2 = st.columns(2)
+    new_method = c1.selectbox(
+        "Averaging", methods, index=methods.index(method) if method in methods else 0,
+        format_func=lambda m: AVERAGING_NAMES[m], key=f"avg_method_{test_id}",
+    )
+    sizes = list(AVERAGING_SIZES[new_method])
+    size = current.get("size")
+    if new_method == method and size not in sizes and size is not None:
+        sizes = sorted(set(sizes) | {size})
+    default = size if new_method == method and size in sizes else sizes[len(sizes) // 2]
+    new_size = c2.selectbox("Window", sizes, index=sizes.index(default), key=f"avg_size_{test_id}_{new_method}")
+    if (new_method, new_size) != (method, size):
+        apply_change(store, test_id, with_averaging(working.settings, method=new_method, size=new_size),
+                     reason=f"averaging changed to {AveragingSpec(new_method, new_size).label}")
+        st.rerun()
+
+
+def _threshold_controls(store: Any, test_id: int, working: state.WorkingSettings, results: Any) -> None:
+    st.subheader("Set a threshold")
+    st.caption("Type a time or a VO2, or pick the threshold below and click a point on the V-slope or time-course chart.")
+    c1, c2, c3 = st.columns([1, 1, 2])
+    kind = c1.radio("Threshold", ["vt1", "vt2"], format_func=THRESHOLD_NAMES.get, horizontal=True, key=f"thr_kind_{test_id}")
+    by = c2.radio("Place by", ["time", "VO2"], horizontal=True, key=f"thr_by_{test_id}")
+    reason = c3.text_input("Reason (kept in the audit trail)", key=f"thr_reason_{test_id}")
+    with st.form(f"thr_form_{test_id}", clear_on_submit=False, border=False):
+        if by == "time":
+            value = st.number_input("Time (s)", min_value=0.0, step=5.0, value=None, key=f"thr_t_{test_id}")
+        else:
+            value = st.number_input("VO2 (mL/min)", min_value=1.0, step=25.0, value=None, key=f"thr_v_{test_id}")
+        a, b = st.columns(2)
+        submitted = a.form_submit_button(f"Set {THRESHOLD_NAMES[kind]}", type="primary")
+        cleared = b.form_submit_button(f"Back to automatic {THRESHOLD_NAMES[kind]}")
+    if submitted:
+        if value is None:
+            st.error("Type a time in seconds or a VO2 in mL/min first.")
+        else:
+            kw = {"t_s": float(value)} if by == "time" else {"vo2_ml_min": float(value)}
+            new = with_override(working.settings, kind=kind, reason=reason, **kw)
+            apply_change(store, test_id, new, reason=reason or f"{THRESHOLD_NAMES[kind]} set by {by}")
+            st.rerun()
+    if cleared:
+        apply_change(store, test_id, without_override(working.settings, kind=kind),
+                     reason=reason or f"{THRESHOLD_NAMES[kind]} back to automatic")
+        st.rerun()
+
+
+def _chart_selection(store: Any, test_id: int, working: state.WorkingSettings, event: Any, *, chart: str, avg: pd.DataFrame) -> None:
+    pick = chart_pick(event, chart=chart, avg=avg)
+    if pick is None:
+        return
+    marker = (chart, round(float(pick["t_s"]), 3), working.key)
+    if st.session_state.get(f"last_pick_{test_id}") == marker:
+        return  # the same selection seen again on a rerun
+    st.session_state[f"last_pick_{test_id}"] = marker
+    kind = st.session_state.get(f"thr_kind_{test_id}", "vt1")
+    reason = st.session_state.get(f"thr_reason_{test_id}", "") or f"{THRESHOLD_NAMES[kind]} picked on the {chart} chart"
+    new = with_override(working.settings, kind=kind, t_s=float(pick["t_s"]), reason=reason)
+    apply_change(store, test_id, new, reason=reason)
+    st.rerun()
+
+
+def _charts(store: Any, test_id: int, working: state.WorkingSettings, results: Any, session: Any) -> None:
+    report = results.thresholds
+    picks = {"vt1": report.vt1, "vt2": report.vt2}
+    excluded = results.excluded_breaths
+    rows = excluded["source_row"].tolist() if len(excluded) and "source_row" in excluded.columns else []
+    fig_t = time_course_figure(results.averaged, breaths=session.breaths, excluded_rows=rows, thresholds=picks,
+                               averaging_label=results.settings.averaging.label)
+    ev_t = st.plotly_chart(fig_t, use_container_width=True, on_select="rerun", selection_mode="points",
+                           key=f"chart_time_{test_id}")
+    _chart_selection(store, test_id, working, ev_t, chart="time", avg=results.averaged)
+    left, right = st.columns(2)
+    with left:
+        ex = exercise_rows(results.averaged)
+        fig_v = vslope_figure(ex, fit=report.vslope, candidates=report.vt1_candidates, vt1=report.vt1, vt2=report.vt2)
+        ev_v = st.plotly_chart(fig_v, use_container_width=True, on_select="rerun", selection_mode="points",
+                               key=f"chart_vslope_{test_id}")
+        _chart_selection(store, test_id, working, ev_v, chart="vslope", avg=results.averaged)
+        if report.vslope is not None and not report.vslope.valid:
+            st.caption(f"V-slope fit not accepted: {report.vslope.reason}")
+    with right:
+        st.plotly_chart(equivalents_figure(results.averaged, thresholds=picks), use_container_width=True,
+                        key=f"chart_eq_{test_id}")
+    for kind in ("vt1", "vt2"):
+        note = (report.agreement or {}).get(kind)
+        if note:
+            st.caption(f"{THRESHOLD_NAMES[kind]}: {note}")
+    for reason in report.reasons or []:
+        st.caption(f"Note: {reason}")
+
+
+def _exclusions(store: Any, test_id: int, working: state.WorkingSettings, results: Any) -> None:
+    st.subheader("Excluded breaths")
+    table = results.excluded_breaths
+    restored = [int(r) for r in working.settings.get("restored_rows") or []]
+    if not len(table) and not restored:
+        st.caption("No breath is excluded.")
+        return
+    if len(table):
+        view = table.rename(columns={"source_row": "Line in file", "t_s": "Time (s)", "column": "Signal",
+                                     "value": "Value", "reason": "Reason", "by": "Excluded by"})
+        st.dataframe(view, hide_index=True, use_container_width=True)
+    candidates = sorted(set(table["source_row"].astype(int).tolist() if len(table) else []) | set(restored))
+    chosen = st.multiselect(
+        "Put these breaths back into the analysis (line numbers in the file)",
+        candidates, default=[r for r in restored if r in candidates], key=f"restore_{test_id}",
+    )
+    if sorted(chosen) != sorted(restored):
+        apply_change(store, test_id, with_exclusions(working.settings, restored_rows=chosen),
+                     reason="breaths restored" if len(chosen) > len(restored) else "breath exclusion re-applied")
+        st.rerun()
+
+
+def _zones(results_json: Mapping[str, Any]) -> None:
+    from dashboard.report.html_report import zone_rows
+
+    st.subheader("Training zones")
+    rows = zone_rows(results_json)
+    if rows:
+        st.dataframe(pd.DataFrame(rows), hide_index=True, use_container_width=True)
+    zones = results_json.get("zones") or {}
+    note = zones.get("note") if isinstance(zones, Mapping) else None
+    if note:
+        st.caption(str(note))
+    if not rows:
+        st.caption("No zones: they need at least VT1.")
+
+
+def _history_and_sign_off(store: Any, test_id: int, working: state.WorkingSettings, record: Any) -> None:
+    st.subheader("Versions, audit trail and sign-off")
+    c1, c2 = st.columns([2, 1])
+    with c2:
+        if not working.saved:
+            if st.button("Discard unsaved changes", key=f"discard_{test_id}"):
+                reload_from_store(test_id)
+                st.rerun()
+        elif record.current_version_signed:
+            st.success(f"Version {record.summary.version} is signed off. A later change starts a new version.")
+        elif state.can_edit():
+            note = st.text_input("Sign-off note", key=f"sign_note_{test_id}")
+            if st.button("Sign off this version", type="primary", key=f"sign_{test_id}"):
+                try:
+                    v = store.sign_off(test_id, actor=state.current_user(), version=working.version, note=note)
+                except Exception as exc:  # noqa: BLE001 - conflicts shown plainly
+                    show_error(exc, context="Sign-off")
+                else:
+                    state.flash(f"Version {v} signed off.")
+                    st.rerun()
+        else:
+            st.caption("Your role can view but not sign off.")
+    with c1:
+        versions = store.list_versions(test_id)
+        st.dataframe(
+            pd.DataFrame(
+                [{"Version": v["version"], "Saved": f"{v['created_at']:%Y-%m-%d %H:%M}" if v["created_at"] else "",
+                  "By": v["created_by"] or "import", "Reason": v["reason"], "Signed off": "yes" if v["signed"] else ""}
+                 for v in versions]
+            ),
+            hide_index=True, use_container_width=True,
+        )
+        entries = store.audit_log(test_id)
+        if entries:
+            with st.expander(f"Audit trail ({len(entries)} entries)"):
+                st.dataframe(
+                    pd.DataFrame(
+                        [{"When": f"{e.at:%Y-%m-%d %H:%M}", "Who": e.actor, "Action": e.action, "Field": e.field or "",
+                          "Old": "" if e.old_value is None else str(e.old_value),
+                          "New": "" if e.new_value is None else str(e.new_value), "Reason": e.reason}
+                         for e in entries]
+                    ),
+                    hide_index=True, use_container_width=True,
+                )
+
+
+def _choose_test(store: Any) -> int | None:
+    tests = list(store.list_tests())
+    if not tests:
+        st.info("No tests yet. Import one on the Library page.")
+        return None
+    by_id = {t.id: t for t in tests}
+    current = state.current_test_id()
+    ids = list(by_id)
+    chosen = st.selectbox(
+        "Test", ids, index=ids.index(current) if current in ids else 0, key="review_test",
+        format_func=lambda i: f"{by_id[i].person_code} · {by_id[i].test_date or 'no date'} · {by_id[i].protocol or by_id[i].file_name}",
+    )
+    if chosen != current:
+        state.set_current_test(chosen)
+    return int(chosen)
+
+
+def render() -> None:
+    """The Review page."""
+    for kind, message in state.pop_flashes():
+        getattr(st, kind, st.info)(message)
+    store = data.get_store()
+    test_id = _choose_test(store)
+    if test_id is None:
+        return
+    working = ensure_working(store, test_id)
+    record = _header(store, test_id, working)
+    st.caption(
+        "Estimates for review by qualified staff; not a medical device. Thresholds and zones are "
+        "estimates and should be checked on the charts."
+    )
+    results = data.analyze(test_id, working.key)
+    results_json = data.results_json(test_id, working.key)
+    session = data.load_session(test_id)
+    for w in results_json.get("warnings") or []:
+        st.warning(str(w))
+    _headline(results_json)
+    st.subheader("Thresholds")
+    st.dataframe(pd.DataFrame(threshold_rows(results_json)), hide_index=True, use_container_width=True)
+    _averaging_selector(store, test_id, working)
+    st.caption(f"Averaging in use: {results.settings.averaging.label}")
+    _threshold_controls(store, test_id, working, results)
+    _charts(store, test_id, working, results, session)
+    _zones(results_json)
+    _exclusions(store, test_id, working, results)
+    _history_and_sign_off(store, test_id, working, record)

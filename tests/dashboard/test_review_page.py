@@ -1,0 +1,126 @@
+"""Review page (AppTest): the numbers shown are the analysis' numbers; overrides and averaging.
+
+Reference for every value shown: :func:`analysis.pipeline.analyze_session` on the same stored
+session (the page must show the number computed in analysis, nothing of its own).
+"""
+
+from __future__ import annotations
+
+import pytest
+
+from analysis.pipeline import analyze_session
+from analysis.settings import AnalysisSettings
+from dashboard.pages import review
+from dashboard.report.html_report import format_number
+
+
+def _review_script() -> None:
+    from dashboard.pages.review import render
+
+    render()
+
+
+def _metric(at, label_start: str) -> str:
+    for m in at.metric:
+        if m.label.startswith(label_start):
+            return m.value
+    raise AssertionError(f"no metric starting with {label_start!r}: {[m.label for m in at.metric]}")
+
+
+def _threshold_table(at):
+    for df in at.dataframe:
+        frame = df.value
+        if "Threshold" in frame.columns:
+            return frame
+    raise AssertionError("no threshold table on the page")
+
+
+@pytest.fixture(scope="module")
+def reference(demo_store):
+    test_id = demo_store.test_ids[0]
+    session = demo_store.store.load_session(test_id)
+    settings, _ = demo_store.store.get_settings(test_id)
+    return analyze_session(session, AnalysisSettings.from_dict(settings)).to_json_dict()
+
+
+def test_headline_numbers_equal_analyze_session(demo_store, page_test, reference):
+    at = page_test(_review_script, tm_user=demo_store.user, tm_test_id=demo_store.test_ids[0]).run()
+    assert not at.exception, at.exception
+    assert _metric(at, "VO2peak (mL/min)") == format_number(reference["vo2_peak_ml_min"], 0)
+    assert _metric(at, "VE/VCO2 slope") == format_number(reference["ve_vco2_slope"], 1)
+    assert _metric(at, "RER peak") == format_number(reference["rer_peak"], 2)
+    table = _threshold_table(at)
+    vt1 = table[table["Threshold"].str.startswith("VT1")].iloc[0]
+    assert vt1["VO2"] == f"{reference['vt1']['vo2_ml_min']:,.0f} mL/min"
+    assert vt1["Time"] == f"{reference['vt1']['time_s']:,.0f} s"
+    assert "manual" not in vt1["Threshold"]
+    assert any("Maximality" in md.value for md in at.markdown)
+    assert any("not a medical device" in c.value for c in at.caption)
+
+
+def test_typing_a_vt1_time_changes_vt1_marks_it_manual_and_saves_a_version(demo_store, page_test, reference):
+    test_id = demo_store.test_ids[0]
+    _, version_before = demo_store.store.get_settings(test_id)
+    at = page_test(_review_script, tm_user=demo_store.user, tm_test_id=test_id).run()
+    new_t = float(reference["vt1"]["time_s"]) + 60.0
+    at.text_input(key=f"thr_reason_{test_id}").input("later on the V-slope chart")
+    at.number_input(key=f"thr_t_{test_id}").set_value(new_t)
+    at.button[[b.label for b in at.button].index("Set VT1")].click().run()
+    assert not at.exception, at.exception
+    vt1 = _threshold_table(at)
+    vt1 = vt1[vt1["Threshold"].str.startswith("VT1")].iloc[0]
+    assert "manual" in vt1["Threshold"]
+    settings, version = demo_store.store.get_settings(test_id)
+    assert version == version_before + 1
+    assert settings["vt1_override"] == {"t_s": new_t, "vo2_ml_min": None, "reason": "later on the V-slope chart"}
+    expected = analyze_session(demo_store.store.load_session(test_id), AnalysisSettings.from_dict(settings)).to_json_dict()
+    assert expected["vt1"]["source"] == "manual"
+    assert vt1["Time"] == f"{expected['vt1']['time_s']:,.0f} s"
+    assert vt1["VO2"] == f"{expected['vt1']['vo2_ml_min']:,.0f} mL/min"
+    assert expected["vt1"]["time_s"] != reference["vt1"]["time_s"]
+    audit = demo_store.store.audit_log(test_id)
+    assert any(e.field and "vt1_override" in e.field and e.reason == "later on the V-slope chart" for e in audit)
+
+
+def test_averaging_selector_changes_the_averaging_label(demo_store, page_test):
+    test_id = demo_store.test_ids[1]
+    at = page_test(_review_script, tm_user=demo_store.user, tm_test_id=test_id).run()
+    assert not at.exception, at.exception
+    assert any("Averaging in use: 10 s bins" in c.value for c in at.caption)
+    at.selectbox(key=f"avg_method_{test_id}").set_value("breaths").run()
+    assert not at.exception, at.exception
+    label = next(c.value for c in at.caption if c.value.startswith("Averaging in use:"))
+    assert label.endswith("-breath rolling mean")
+    settings, _ = demo_store.store.get_settings(test_id)
+    assert settings["averaging"]["method"] == "breaths"
+
+
+def test_chart_point_selection_becomes_a_manual_threshold():
+    # A selection event as st.plotly_chart returns it; the V-slope data trace carries t_s first
+    # in customdata, which pick_from_chart_point trusts (analysis.thresholds).
+    import pandas as pd
+
+    avg = pd.DataFrame({"t_s": [100.0, 110.0, 120.0], "vo2_ml_min": [1000.0, 1100.0, 1200.0],
+                        "vco2_ml_min": [900.0, 1000.0, 1150.0]})
+    event = {"selection": {"points": [
+        {"curve_name": "Lower slope 0.95", "x": 1.0, "y": 1.0},
+        {"curve_name": "Averaged breaths", "x": 1100.0, "y": 1000.0, "point_index": 1, "customdata": [110.0, 1100.0, 1]},
+    ]}}
+    pick = review.chart_pick(event, chart="vslope", avg=avg)
+    assert pick["t_s"] == 110.0 and pick["vo2_ml_min"] == 1100.0
+    assert review.chart_pick({"selection": {"points": []}}, chart="vslope", avg=avg) is None
+    settings = review.with_override(AnalysisSettings().to_dict(), kind="vt1", t_s=pick["t_s"], reason="clicked")
+    assert settings["vt1_override"] == {"t_s": 110.0, "vo2_ml_min": None, "reason": "clicked"}
+    assert review.without_override(settings, kind="vt1")["vt1_override"] is None
+
+
+def test_settings_helpers_validate_like_the_analysis():
+    from analysis.errors import InvalidParameter
+
+    base = AnalysisSettings().to_dict()
+    with pytest.raises(InvalidParameter, match="size"):
+        review.with_averaging(base, method="middle_of_n", size=4)
+    with pytest.raises(InvalidParameter, match="kind"):
+        review.with_override(base, kind="vt3", t_s=10.0)
+    out = review.with_exclusions(base, restored_rows=[12, 5, 12])
+    assert out["restored_rows"] == [5, 12]
