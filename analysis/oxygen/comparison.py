@@ -424,16 +424,21 @@ def _one_state(
         )
 
     # Plain-language plausibility notes.
+    cause = (
+        "The Stringer 1997 estimate was derived in healthy people with normal haemoglobin and does not "
+        f"fit this blood (Hb {hb:g} g/dL); cardiac output would need to be measured."
+        if q_est
+        else "Check VO2, the measured cardiac output and haemoglobin."
+    )
     if cvo2 <= 0:
         notes.append(
             f"The a-vO2 difference ({avo2:.1f} mL/dL) is at least the whole arterial content "
-            f"({cao2:.1f} mL/dL): impossible. Check VO2, cardiac output and haemoglobin."
+            f"({cao2:.1f} mL/dL), which is impossible. {cause}"
         )
     elif avo2 > max_avo2:
         notes.append(
             f"Extraction {avo2:.1f} mL/dL exceeds what the curve allows down to a venous PO2 of "
-            f"{PVO2_FLOOR_MMHG:g} mmHg ({max_avo2:.1f} mL/dL): cardiac output may be underestimated, "
-            "VO2 overestimated, or haemoglobin higher than entered."
+            f"{PVO2_FLOOR_MMHG:g} mmHg ({max_avo2:.1f} mL/dL). {cause}"
         )
     if pv_ex is not None and pv_ex < PVO2_FLOOR_MMHG:
         notes.append(

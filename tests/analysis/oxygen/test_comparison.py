@@ -91,7 +91,27 @@ def test_implausible_extraction_is_explained():
     s = r.state("peak")
     assert s.avo2_ml_dl == pytest.approx(18.0)
     assert s.cvo2_ml_dl < 0 or s.pvo2_exercise_curve_mmhg < 10
-    assert any("impossible" in n or "implausible" in n or "exceeds" in n for n in s.notes)
+    assert any("impossible" in n and "measured cardiac output" in n for n in s.notes)
+
+
+def test_stringer_in_anaemia_points_at_the_estimate():
+    # Stringer 1997 at 100 % VO2max assumes 16.22 mL/dL extraction; with Hb 11 g/dL arterial blood
+    # holds only about 14.6 mL/dL (1.34 x 11 x 0.975 + 0.3), so the estimate cannot apply.
+    r = oxygen_comparison([StatePoint("peak", 2000.0, pct_vo2_peak=100.0)], hb_g_dl=11.0)
+    s = r.state("peak")
+    assert s.cvo2_ml_dl < 0 and s.pvo2_exercise_curve_mmhg is None and s.unloading is None
+    assert any("Stringer 1997 estimate was derived in healthy people" in n for n in s.notes)
+    assert r.to_json_dict()["states"][0]["unloading_ml_dl"] is None
+
+
+def test_low_but_possible_venous_po2_is_flagged():
+    # Measured Q low for VO2: a-vO2 19 mL/dL with Hb 15 (CaO2 ≈ 19.8) leaves under 1 mL/dL in
+    # venous blood, i.e. a venous PO2 below 10 mmHg even on the right-shifted peak curve.
+    r = oxygen_comparison([StatePoint("peak", 3800.0, q_l_min=20.0)], hb_g_dl=15.0)
+    s = r.state("peak")
+    assert s.pvo2_exercise_curve_mmhg is not None and s.pvo2_exercise_curve_mmhg < 10.0
+    assert any("below about 10 mmHg" in n for n in s.notes)
+    assert any("exceeds what the curve allows" in n for n in s.notes)
 
 
 def test_spo2_used_and_low_value_warns():
