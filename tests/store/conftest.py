@@ -1,25 +1,24 @@
 """Store fixtures: every store test runs on SQLite and on a real PostgreSQL server.
 
-A migrated template database (schema + four accounts) is made once per back end; each test
-gets its own copy (a file copy for SQLite, ``CREATE DATABASE ... TEMPLATE`` for PostgreSQL).
+SQLite: a migrated template file (schema + four accounts) is made once and copied for each
+test. PostgreSQL: one migrated database is emptied and re-seeded before each test.
 Accounts in the template carry a cheap scrypt hash so tests stay fast; the production
 parameters are checked in ``test_accounts.py`` with one real hash.
 """
 
 from __future__ import annotations
 
-import itertools
 import shutil
 from collections.abc import Iterator
 from datetime import UTC, datetime, timedelta
 from pathlib import Path
 
 import pytest
-from sqlalchemy import create_engine
+from sqlalchemy import create_engine, text
 from sqlalchemy.orm import Session as DbSession
 
 from store import Store, User, open_store
-from store.models import UserRow
+from store.models import Base, UserRow
 from store.passwords import ScryptParams, hash_password
 from tests.store.pg_server import find_bin_dir, start_server
 from tests.store.standin import StandInBridge
@@ -30,7 +29,6 @@ PASSWORD = "saltmarsh-tide-42"
 #: Cheap parameters for test accounts only (production default: N=2**17).
 CHEAP = ScryptParams(n=2**10, r=8, p=1)
 ACCOUNTS = (("ada", "admin"), ("rhea", "reviewer"), ("remy", "reviewer"), ("vic", "viewer"))
-_counter = itertools.count()
 
 
 class ManualClock:
@@ -46,12 +44,20 @@ class ManualClock:
         self.now += timedelta(**kwargs)
 
 
-def _seed_accounts(url: str) -> None:
+_CHEAP_HASH: list[str] = []
+
+
+def _seed_accounts(url: str, *, wipe: bool = False) -> None:
+    """Migrate ``url`` and (re)create the template accounts; ``wipe`` empties every table first."""
+    if not _CHEAP_HASH:
+        _CHEAP_HASH.append(hash_password(PASSWORD, params=CHEAP))
     store = open_store(url)
-    encoded = hash_password(PASSWORD, params=CHEAP)
     with DbSession(store.engine) as db, db.begin():
+        if wipe:
+            tables = ", ".join(t.name for t in Base.metadata.sorted_tables)
+            db.execute(text(f"TRUNCATE {tables} RESTART IDENTITY CASCADE"))
         for name, role in ACCOUNTS:
-            db.add(UserRow(username=name, role=role, password_hash=encoded, auth_source="local",
+            db.add(UserRow(username=name, role=role, password_hash=_CHEAP_HASH[0], auth_source="local",
                            is_active=True, is_demo=False, created_at=datetime(2026, 1, 1, tzinfo=UTC)))
     store.close()
 
@@ -65,8 +71,7 @@ def pg_server():
         server = start_server()
     except Exception as exc:  # noqa: BLE001
         skip_or_fail(f"PostgreSQL could not be started: {exc}", require_env="TIDEMARK_REQUIRE_POSTGRES")
-    server.admin_execute("CREATE DATABASE tidemark_template")
-    _seed_accounts(server.url("tidemark_template"))
+    server.admin_execute("CREATE DATABASE tidemark_test")
     yield server
     server.stop()
 
@@ -92,10 +97,12 @@ def store_url(request, tmp_path) -> str:
         target = tmp_path / "store.sqlite"
         shutil.copyfile(template, target)
         return str(target)
+    # One PostgreSQL database, emptied and re-seeded before each test (much faster than a new
+    # database per test). Each test closes its store before the next one starts.
     server = request.getfixturevalue("pg_server")
-    name = f"t{next(_counter)}"
-    server.admin_execute(f"CREATE DATABASE {name} TEMPLATE tidemark_template")
-    return server.url(name)
+    url = server.url("tidemark_test")
+    _seed_accounts(url, wipe=True)
+    return url
 
 
 @pytest.fixture
