@@ -6,6 +6,7 @@ that is shown to a user.
 
 from __future__ import annotations
 
+import dataclasses
 import math
 import warnings
 from typing import Any
@@ -33,7 +34,7 @@ from analysis.indices import (
 )
 from analysis.indices.point_values import PointValues
 from analysis.maximality import assess_maximality, peak_values
-from analysis.phases import detect_phases, ramp_rate_w_per_min
+from analysis.phases import detect_phases
 from analysis.reference import (
     friend_vo2max_ml_kg_min,
     mode_code,
@@ -69,7 +70,6 @@ _BASE_METHODS: dict[str, str] = {
     "oues": "slope of VO2 (mL/min) on log10 VE (L/min) over the whole exercise phase (Baba et al. 1996)",
     "o2_pulse": "VO2/HR, highest averaged value during exercise (Wasserman et al.)",
     "vo2_work_rate_slope": "least-squares slope of VO2 on work rate over the ramp, first 60 s left out (ATS/ACCP 2003)",
-    "ramp_rate_w_per_min": "Theil-Sen slope of work rate on time over the exercise phase (Sen 1968)",
     "mets": "VO2peak per kg / 3.5 mL/kg/min (common practice)",
     "hr_reserve": "peak HR - resting HR; % of reserve by Karvonen et al. 1957",
     "hr_recovery_1min": "HR at end of exercise - HR 60 s later (Cole et al. 1999)",
@@ -158,6 +158,24 @@ def _apply_overrides(report: ThresholdReport, avg: pd.DataFrame, settings: Analy
     return report
 
 
+def _ceiling(ex: pd.DataFrame, peak: PointValues, hr_peak: float | None) -> PointValues:
+    """Top of the test for the highest zone: peak HR and the highest load reached in exercise.
+
+    The VO2-peak row itself can sit in an averaging window that already holds the first
+    breaths of recovery (lower load), so the load maxima are used instead.
+    """
+    def top(col: str, fallback: float | None) -> float | None:
+        return float(ex[col].max()) if col in ex and ex[col].notna().any() else fallback
+
+    return dataclasses.replace(
+        peak,
+        hr_bpm=hr_peak if hr_peak is not None else peak.hr_bpm,
+        work_w=top(C.WORK_W, peak.work_w),
+        speed_kmh=top(C.SPEED_KMH, peak.speed_kmh),
+        grade_pct=top(C.GRADE_PCT, peak.grade_pct),
+    )
+
+
 def _safe(fn, *args, **kwargs):  # noqa: ANN001, ANN202 - small internal adapter
     """``fn(...)``, or ``None`` when the data do not allow the index (AnalysisError)."""
     try:
@@ -212,12 +230,9 @@ def _indices(
     if mode == "cycle" and work is not None:
         wr = _safe(vo2_work_rate_slope, t, vo2, work)
         out["vo2_work_rate_slope_ml_min_w"] = wr.slope if wr else None
-        ramp_rows = avg.assign(phase=phases_avg)
-        out["ramp_rate_w_per_min"] = ramp_rate_w_per_min(ramp_rows, ramp_rows[C.PHASE])
         out["work_peak_w"] = float(np.nanmax(work))
     else:
         out["vo2_work_rate_slope_ml_min_w"] = None
-        out["ramp_rate_w_per_min"] = None
         out["work_peak_w"] = None
     out["mets_peak"] = mets(peak.vo2_ml_kg_min) if peak.vo2_ml_kg_min else None
 
@@ -436,7 +451,7 @@ def analyze_session(session: Session, settings: AnalysisSettings | None = None) 
         )
         predicted, classes = _reference(meta, mode, peak, indices["ve_vco2_slope"], maximality.hr_peak_bpm, warns)
         try:
-            zones = training_zones(vt1=vt1, vt2=vt2, peak=peak)
+            zones = training_zones(vt1=vt1, vt2=vt2, peak=_ceiling(ex, peak, maximality.hr_peak_bpm))
         except TidemarkError as exc:
             from analysis.zones import ZoneSet
 

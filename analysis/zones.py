@@ -85,7 +85,8 @@ def training_zones(*, vt1: PointValues | None, vt2: PointValues | None, peak: Po
     vt1, vt2 : PointValues or None, keyword-only
         Values at the thresholds (:func:`analysis.indices.point_values`).
     peak : PointValues, keyword-only
-        Values at peak VO2.
+        The top of the test: the pipeline passes the peak HR and the highest load reached
+        during exercise (with VO2peak).
 
     Returns
     -------

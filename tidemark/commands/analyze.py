@@ -1,0 +1,329 @@
+"""``tidemark analyze``: results of one test, or a one-row-per-test CSV for a whole folder.
+
+Examples::
+
+    tidemark analyze SEL-0107_2026-02-03_cycle-ramp.session.csv
+    tidemark analyze test.session.csv --json --averaging breaths:15 --vt1-time 705
+    tidemark analyze sessions/ --out results.csv --workers 2
+
+Every number comes from :func:`analysis.pipeline.analyze_session`; this module only reads files,
+builds the settings, formats and writes.
+"""
+
+from __future__ import annotations
+
+import argparse
+import csv
+import io
+import json
+import os
+import sys
+from collections.abc import Iterable, Sequence
+from concurrent.futures import ProcessPoolExecutor
+from pathlib import Path
+from typing import Any
+
+from analysis.breaths import METHODS, AveragingSpec
+from analysis.errors import ImportRejected, InvalidParameter, Problem, TidemarkError
+from analysis.exports import SUMMARY_COLUMNS, error_row, safe_csv_cell, summary_row
+from analysis.session import Session
+from analysis.settings import AnalysisSettings, MetadataOverrides, ThresholdOverride
+
+#: File endings analysed in a folder (session files and the generic importer's formats).
+BATCH_SUFFIXES: tuple[str, ...] = (".csv", ".tsv", ".txt", ".xlsx")
+
+
+def add_parser(subparsers: argparse._SubParsersAction) -> argparse.ArgumentParser:
+    p = subparsers.add_parser(
+        "analyze",
+        help="results of one test (summary or --json), or of every test in a folder (--out CSV)",
+        description=(
+            "Analyse a Tidemark session file (or another breath-by-breath export) and print the "
+            "results with the method behind each number. Given a folder, analyse every file in it "
+            "in parallel and write one row per test to --out. Estimates for qualified staff to "
+            "review; not a medical device."
+        ),
+    )
+    p.add_argument("path", type=Path, metavar="FILE_OR_FOLDER", help="a session file, or a folder of them")
+    p.add_argument("--json", action="store_true", help="print exactly one JSON object (single file)")
+    p.add_argument(
+        "--averaging",
+        metavar="METHOD:SIZE",
+        help=f"averaging, METHOD one of {', '.join(METHODS)} (e.g. breaths:15, time_bin:15, rolling_time:30, middle_of_n:7)",
+    )
+    g1 = p.add_mutually_exclusive_group()
+    g1.add_argument("--vt1-time", type=float, metavar="S", help="place VT1 at this time (s)")
+    g1.add_argument("--vt1-vo2", type=float, metavar="ML", help="place VT1 at this VO2 (mL/min)")
+    g2 = p.add_mutually_exclusive_group()
+    g2.add_argument("--vt2-time", type=float, metavar="S", help="place VT2 at this time (s)")
+    g2.add_argument("--vt2-vo2", type=float, metavar="ML", help="place VT2 at this VO2 (mL/min)")
+    p.add_argument("--reason", default="", help="reason recorded with a manual VT1/VT2 placement")
+    p.add_argument("--body-mass-kg", type=float, metavar="KG", help="body mass (replaces the file's value)")
+    p.add_argument("--age-y", type=float, metavar="Y", help="age in years (replaces the file's value)")
+    p.add_argument("--sex", choices=("male", "female", "m", "f"), help="sex for the reference equations")
+    p.add_argument("--height-cm", type=float, metavar="CM", help="height (replaces the file's value)")
+    p.add_argument("--hb-g-dl", type=float, metavar="G_DL", help="haemoglobin (enables the oxygen comparison)")
+    p.add_argument("--out", type=Path, metavar="CSV", help="write the one-row-per-test summary CSV here")
+    p.add_argument("--workers", type=int, default=None, metavar="N", help="parallel processes for a folder (default: CPU count)")
+    p.add_argument("--no-progress", action="store_true", help="no progress bar on stderr")
+    p.set_defaults(func=run)
+    return p
+
+
+def parse_averaging(text: str) -> AveragingSpec:
+    """``"breaths:15"`` -> ``AveragingSpec("breaths", 15)`` (raises InvalidParameter)."""
+    method, sep, size = text.partition(":")
+    if not sep:
+        raise InvalidParameter("--averaging", "METHOD:SIZE such as breaths:15 or time_bin:10", text)
+    try:
+        value = float(size)
+    except ValueError:
+        raise InvalidParameter("--averaging", "a number after the colon, e.g. time_bin:10", text) from None
+    return AveragingSpec(method.strip(), int(value) if value.is_integer() else value)  # type: ignore[arg-type]
+
+
+def settings_from_args(args: argparse.Namespace) -> AnalysisSettings:
+    """The :class:`AnalysisSettings` described by the command-line options."""
+    kw: dict[str, Any] = {}
+    if args.averaging:
+        kw["averaging"] = parse_averaging(args.averaging)
+    for kind in ("vt1", "vt2"):
+        t, v = getattr(args, f"{kind}_time"), getattr(args, f"{kind}_vo2")
+        if t is not None or v is not None:
+            kw[f"{kind}_override"] = ThresholdOverride(t_s=t, vo2_ml_min=v, reason=args.reason or "set on the command line")
+    meta = {
+        k: getattr(args, k)
+        for k in ("body_mass_kg", "age_y", "sex", "height_cm", "hb_g_dl")
+        if getattr(args, k) is not None
+    }
+    if meta:
+        kw["metadata"] = MetadataOverrides(**meta)
+    return AnalysisSettings(**kw)
+
+
+def load_session(path: Path) -> Session:
+    """A session file read strictly, or any other export through the generic importer.
+
+    A file named ``*.session.csv`` is read only as a session file, so its own problems are
+    reported rather than hidden by a second reading.
+    """
+    from analysis.io import import_file, read_session
+
+    if not path.exists():
+        raise ImportRejected(Problem("the file does not exist", "check the path and name", str(path)))
+    if path.is_dir():
+        raise ImportRejected(Problem("this is a folder, not a file", "give a session file or use --out for a folder", str(path)))
+    if path.name.lower().endswith(".session.csv"):
+        return read_session(path)
+    try:
+        return read_session(path)
+    except ImportRejected as first:
+        try:
+            return import_file(path).session
+        except ImportRejected as second:
+            raise second from first
+
+
+def analyze_path(path: str | Path, settings_dict: dict[str, Any]) -> dict[str, Any]:
+    """One summary row for one file; a file that fails gives an error row (never raises)."""
+    from analysis.pipeline import analyze_session
+
+    path = Path(path)
+    try:
+        settings = AnalysisSettings.from_dict(settings_dict)
+        results = analyze_session(load_session(path), settings)
+        return summary_row(results.to_json_dict(), file=path.name)
+    except TidemarkError as exc:
+        return error_row(file=path.name, error=str(exc).replace("\n", " | "))
+    except Exception as exc:  # noqa: BLE001 - one bad file must not stop the batch
+        return error_row(file=path.name, error=f"internal error ({type(exc).__name__}: {exc}); please report it with the file")
+
+
+def _analyze_path_star(job: tuple[str, dict[str, Any]]) -> dict[str, Any]:
+    return analyze_path(*job)
+
+
+def analyze_batch(
+    paths: Sequence[str | Path],
+    *,
+    settings: AnalysisSettings | None = None,
+    workers: int | None = None,
+    progress: bool = True,
+) -> list[dict[str, Any]]:
+    """Analyse many files in parallel; one summary row per file, in the order given.
+
+    Parameters
+    ----------
+    paths : sequence of path
+        Files to analyse.
+    settings : AnalysisSettings, optional
+        Applied to every file.
+    workers : int, optional
+        Processes (default: CPU count); 1 runs in this process.
+    progress : bool
+        Show a tqdm progress bar on stderr.
+
+    Returns
+    -------
+    list of dict
+        Rows with the keys :data:`analysis.exports.SUMMARY_COLUMNS`; failed files have
+        ``status="error"`` and the reason in ``error``.
+    """
+    from tqdm import tqdm
+
+    settings_dict = (settings or AnalysisSettings()).to_dict()
+    jobs = [(str(p), settings_dict) for p in paths]
+    n_workers = max(1, min(workers or os.cpu_count() or 1, len(jobs) or 1))
+    bar = tqdm(total=len(jobs), file=sys.stderr, disable=not progress, unit="test", desc="analyse")
+    rows: list[dict[str, Any]] = []
+    try:
+        if n_workers == 1:
+            for job in jobs:
+                rows.append(_analyze_path_star(job))
+                bar.update()
+        else:
+            chunk = max(1, len(jobs) // (n_workers * 8))
+            with ProcessPoolExecutor(max_workers=n_workers) as pool:
+                for row in pool.map(_analyze_path_star, jobs, chunksize=chunk):
+                    rows.append(row)
+                    bar.update()
+    finally:
+        bar.close()
+    return rows
+
+
+def summary_csv_text(rows: Iterable[dict[str, Any]]) -> str:
+    """CSV text of summary rows; every cell passed through :func:`safe_csv_cell`."""
+    buf = io.StringIO()
+    w = csv.writer(buf, lineterminator="\n")
+    w.writerow(SUMMARY_COLUMNS)
+    for row in rows:
+        w.writerow([safe_csv_cell(row.get(c)) for c in SUMMARY_COLUMNS])
+    return buf.getvalue()
+
+
+def batch_files(folder: Path) -> list[Path]:
+    """Files in ``folder`` (not recursive) with a :data:`BATCH_SUFFIXES` ending, sorted by name."""
+    return sorted(
+        p for p in folder.iterdir() if p.is_file() and not p.name.startswith(".") and p.suffix.lower() in BATCH_SUFFIXES
+    )
+
+
+# --- readable summary -----------------------------------------------------------------------
+
+
+def _n(value: Any, digits: int = 0, unit: str = "") -> str:
+    if value is None:
+        return "–"
+    text = f"{value:,.{digits}f}"
+    return f"{text} {unit}".rstrip()
+
+
+def format_summary(r: dict[str, Any]) -> str:
+    """Readable text of a results JSON dict (numbers with their methods)."""
+    m = r.get("methods", {})
+    sub = r.get("subject", {})
+    lines = [
+        f"Tidemark analysis: {sub.get('source_name') or ''}",
+        f"Subject {sub.get('subject_id', '–')}, mode {sub.get('mode') or 'unknown'}; "
+        f"breaths {r['breaths']['total']} (excluded {r['breaths']['excluded']}); averaging {r['averaging']['label']}",
+        "",
+        "Peak",
+        f"  VO2peak          {_n(r['vo2_peak_ml_min'], 0, 'mL/min')}  ({_n(r['vo2_peak_ml_kg_min'], 1, 'mL/kg/min')})  — {m.get('vo2_peak', '')}",
+        f"  RER peak         {_n(r['rer_peak'], 2)}  — {m.get('rer_peak', '')}",
+        f"  HR peak          {_n(r['hr_peak_bpm'], 0, 'beats/min')}  — {m.get('hr_peak_bpm', '')}",
+        f"  Maximality       {r['maximality']['label']}  — {m.get('maximality', '')}",
+    ]
+    lines += [f"    · {reason}" for reason in r["maximality"]["reasons"]]
+    lines += ["", "Thresholds"]
+    for kind, label in (("vt1", "VT1"), ("vt2", "VT2/RCP")):
+        t = r.get(kind)
+        if t is None:
+            lines.append(f"  {label:<8} not found")
+            continue
+        load = _n(t.get("work_w"), 0, "W") if t.get("work_w") is not None else _n(t.get("speed_kmh"), 1, "km/h")
+        lines.append(
+            f"  {label:<8} {_n(t['time_s'], 0, 's')}, VO2 {_n(t['vo2_ml_min'], 0, 'mL/min')} "
+            f"({_n(t.get('pct_vo2_peak'), 0, '%')} of peak), HR {_n(t.get('hr_bpm'), 0, 'beats/min')}, {load}"
+            f"  — {t['method']} ({t['source']}, confidence {t['confidence']})"
+        )
+    ind = r["indices"]
+    lines += [
+        "",
+        "Indices",
+        f"  VE/VCO2 slope    {_n(r['ve_vco2_slope'], 1)} (to VT2 {_n(ind.get('ve_vco2_slope_to_vt2'), 1)}), nadir {_n(ind.get('ve_vco2_nadir'), 1)}  — {m.get('ve_vco2_slope', '')}",
+        f"  OUES             {_n(r['oues'], 0)}  — {m.get('oues', '')}",
+        f"  O2 pulse peak    {_n(r['o2_pulse_peak_ml_beat'], 1, 'mL/beat')}  — {m.get('o2_pulse', '')}",
+        f"  ΔVO2/ΔWR         {_n(ind.get('vo2_work_rate_slope_ml_min_w'), 1, 'mL/min/W')}  — {m.get('vo2_work_rate_slope', '')}",
+        f"  METs peak        {_n(ind.get('mets_peak'), 1)}  — {m.get('mets', '')}",
+        f"  HR recovery 1min {_n(ind.get('hr_recovery_1min_bpm'), 0, 'beats/min')}  — {m.get('hr_recovery_1min', '')}",
+    ]
+    br = ind.get("breathing_reserve")
+    if br:
+        lines.append(f"  Breathing reserve {_n(br['reserve_pct'], 0, '%')} of MVV {_n(br['mvv_l_min'], 0, 'L/min')}  — {m.get('breathing_reserve', '')}")
+    fm = ind.get("fat_max")
+    if fm:
+        lines.append(
+            f"  FATmax           {_n(fm['fat_g_min'], 2, 'g/min')} at VO2 {_n(fm['vo2_ml_min'], 0, 'mL/min')} "
+            f"({_n(fm.get('pct_vo2_peak'), 0, '%')} of peak)  — {m.get('fat_max', '')}"
+        )
+    pred, cls = r["predicted"], r["classes"]
+    lines += [
+        "",
+        "Reference values (population estimates)",
+        f"  Predicted VO2max {_n(pred.get('vo2max_friend_ml_kg_min'), 1, 'mL/kg/min')} ({_n(pred.get('pct_predicted_vo2max'), 0, '%')} achieved)  — {m.get('predicted_vo2max', '')}",
+        f"  Predicted HRmax  {_n(pred.get('hr_max_tanaka_bpm'), 0, 'beats/min')}  — {m.get('hr_max_predicted', '')}",
+        f"  Weber class      {cls.get('weber') or '–'}; ventilatory class {cls.get('ventilatory') or '–'}",
+        "",
+        "Training zones  — " + m.get("zones", ""),
+    ]
+    def rng(lo: Any, hi: Any, digits: int, unit: str) -> str:
+        return f"< {_n(hi, digits)} {unit}" if lo is None else f"{_n(lo, digits)}–{_n(hi, digits)} {unit}"
+
+    for z in r["zones"]["zones"]:
+        parts = [f"HR {rng(z['hr_low_bpm'], z['hr_high_bpm'], 0, 'beats/min')}"]
+        if z.get("work_high_w") is not None:
+            parts.append(rng(z["work_low_w"], z["work_high_w"], 0, "W"))
+        elif z.get("speed_high_kmh") is not None:
+            parts.append(rng(z["speed_low_kmh"], z["speed_high_kmh"], 1, "km/h"))
+        lines.append(f"  {z['name']}: {', '.join(parts)}")
+    lines.append(f"  {r['zones']['note']}")
+    if r.get("oxygen"):
+        lines += ["", "Oxygen transport: computed (see --json 'oxygen'); model estimates, not measurements."]
+    if r["warnings"]:
+        lines += ["", "Warnings"] + [f"  ! {w}" for w in r["warnings"]]
+    lines += ["", "Cautions"] + [f"  {c}" for c in r["cautions"]]
+    return "\n".join(lines) + "\n"
+
+
+def run(args: argparse.Namespace) -> int:
+    from analysis.pipeline import analyze_session
+
+    settings = settings_from_args(args)
+    path: Path = args.path
+    if args.workers is not None and args.workers < 1:
+        raise InvalidParameter("--workers", "a whole number ≥ 1", args.workers)
+    if path.is_dir():
+        if args.out is None:
+            raise InvalidParameter("--out", "a CSV file to write when analysing a folder", None)
+        if args.json:
+            raise InvalidParameter("--json", "used with a single file only (a folder gives --out CSV)", str(path))
+        files = batch_files(path)
+        if not files:
+            raise ImportRejected(
+                Problem(f"no files ending in {', '.join(BATCH_SUFFIXES)} were found", "check the folder", str(path))
+            )
+        rows = analyze_batch(files, settings=settings, workers=args.workers, progress=not args.no_progress)
+        args.out.write_text(summary_csv_text(rows), encoding="utf-8", newline="")
+        failed = sum(r["status"] != "ok" for r in rows)
+        print(f"{len(rows)} tests analysed, {failed} failed; results in {args.out}", file=sys.stderr)
+        return 0
+    results = analyze_session(load_session(path), settings)
+    data = results.to_json_dict()
+    if args.out is not None:
+        args.out.write_text(summary_csv_text([summary_row(data, file=path.name)]), encoding="utf-8", newline="")
+    if args.json:
+        sys.stdout.write(json.dumps(data, ensure_ascii=False, allow_nan=False) + "\n")
+    else:
+        sys.stdout.write(format_summary(data))
+    return 0
