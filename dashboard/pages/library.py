@@ -72,19 +72,52 @@ def flag_summary(flags: pd.DataFrame) -> pd.DataFrame:
     return g.rename(columns={"column": "Column", "reason": "Reason"})
 
 
-def test_rows(tests: Sequence[Any]) -> pd.DataFrame:
+def stored_headline(store: Any, summary: Any) -> dict[str, float | None]:
+    """VO2peak, VT1 VO2 and VE/VCO2 slope of a test's current stored version.
+
+    The store's summary columns are used; when one is empty the stored results JSON of that
+    version is read instead (same numbers, computed by the analysis when the version was saved).
+    """
+    out = {
+        "vo2_peak_ml_min": summary.vo2peak_ml_min,
+        "vt1_vo2_ml_min": summary.vt1_vo2_ml_min,
+        "ve_vco2_slope": summary.ve_vco2_slope,
+    }
+    if any(v is None for v in out.values()) and not summary.results_error:
+        try:
+            results = store.get_results(summary.id)
+        except Exception:  # noqa: BLE001 - the list still shows what the summary has
+            log.exception("stored results of test %s could not be read", summary.id)
+            return out
+        vt1 = results.get("vt1") or {}
+        out["vo2_peak_ml_min"] = out["vo2_peak_ml_min"] if out["vo2_peak_ml_min"] is not None else results.get("vo2_peak_ml_min")
+        out["vt1_vo2_ml_min"] = out["vt1_vo2_ml_min"] if out["vt1_vo2_ml_min"] is not None else vt1.get("vo2_ml_min")
+        out["ve_vco2_slope"] = out["ve_vco2_slope"] if out["ve_vco2_slope"] is not None else results.get("ve_vco2_slope")
+    return out
+
+
+def _round(value: float | None, digits: int = 0) -> float | None:
+    if value is None:
+        return None
+    return round(float(value)) if digits == 0 else round(float(value), digits)
+
+
+def test_rows(tests: Sequence[Any], headlines: Mapping[int, Mapping[str, float | None]] | None = None) -> pd.DataFrame:
     """The test list as a table (numbers are the store's stored results)."""
     rows = []
     for t in tests:
+        h = (headlines or {}).get(t.id) or {
+            "vo2_peak_ml_min": t.vo2peak_ml_min, "vt1_vo2_ml_min": t.vt1_vo2_ml_min, "ve_vco2_slope": t.ve_vco2_slope,
+        }
         rows.append(
             {
                 "Test": t.id,
                 "Person": t.person_code + (f" ({t.display_name})" if t.display_name else ""),
                 "Date": t.test_date or "",
                 "Protocol": t.protocol or "",
-                "VO2peak (mL/min)": None if t.vo2peak_ml_min is None else round(t.vo2peak_ml_min),
-                "VT1 VO2 (mL/min)": None if t.vt1_vo2_ml_min is None else round(t.vt1_vo2_ml_min),
-                "VE/VCO2 slope": None if t.ve_vco2_slope is None else round(t.ve_vco2_slope, 1),
+                "VO2peak (mL/min)": _round(h["vo2_peak_ml_min"]),
+                "VT1 VO2 (mL/min)": _round(h["vt1_vo2_ml_min"]),
+                "VE/VCO2 slope": _round(h["ve_vco2_slope"], 1),
                 "Version": t.version,
                 "Signed off": "yes" if t.signed_version == t.version else "",
                 "File": t.file_name,
@@ -109,7 +142,8 @@ def _test_list(store: Any) -> None:
     if not tests:
         st.caption("No tests for this person.")
         return
-    st.dataframe(test_rows(tests), hide_index=True, use_container_width=True)
+    headlines = {t.id: stored_headline(store, t) for t in tests}
+    st.dataframe(test_rows(tests, headlines), hide_index=True)
     st.caption("Headline numbers are from each test's current stored version.")
     by_id = {t.id: t for t in tests}
     current = state.current_test_id()
@@ -191,12 +225,19 @@ def _import_panel(store: Any, upload: Any, index: int) -> None:
         outcome = data.preview_import(raw, file_name=name, mapping_json=mapping_json, sheet=sheet)
     except ImportRejected as exc:
         st.error(f"**{name}** cannot be imported as set up. Nothing was stored.")
-        st.dataframe(pd.DataFrame(problem_rows(exc)), hide_index=True, use_container_width=True)
+        st.dataframe(pd.DataFrame(problem_rows(exc)), hide_index=True)
     except InvalidParameter as exc:
         show_error(exc, context=name)
 
     headers = data.source_headers(raw, file_name=name, sheet=sheet) or (list(outcome.mapping.columns) if outcome else [])
-    used = dict(outcome.mapping.columns) if outcome else dict(columns or {})
+    if outcome is not None:
+        used = dict(outcome.mapping.columns)
+    elif columns is not None:
+        used = dict(columns)
+    else:
+        from analysis.io import guess_mapping
+
+        used = dict(guess_mapping(headers).columns) if headers else {}
     if headers:
         with st.expander("Column mapping (source column → Tidemark column)", expanded=outcome is None):
             edited = _mapping_editor(key, headers, used)
@@ -232,12 +273,11 @@ def _import_panel(store: Any, upload: Any, index: int) -> None:
     flags = session.flags
     if len(flags):
         st.warning(f"{len(flags)} rows are flagged as suspicious but kept (nothing is dropped silently).")
-        st.dataframe(flag_summary(flags), hide_index=True, use_container_width=True)
+        st.dataframe(flag_summary(flags), hide_index=True)
         with st.expander("Every flagged row"):
             st.dataframe(
                 flags.rename(columns={"source_row": "Line", "column": "Column", "reason": "Reason"}),
                 hide_index=True,
-                use_container_width=True,
             )
     else:
         st.success("No suspicious rows found.")

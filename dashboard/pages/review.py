@@ -325,20 +325,20 @@ def _charts(store: Any, test_id: int, working: state.WorkingSettings, results: A
     rows = excluded["source_row"].tolist() if len(excluded) and "source_row" in excluded.columns else []
     fig_t = time_course_figure(results.averaged, breaths=session.breaths, excluded_rows=rows, thresholds=picks,
                                averaging_label=results.settings.averaging.label)
-    ev_t = st.plotly_chart(fig_t, use_container_width=True, on_select="rerun", selection_mode="points",
+    ev_t = st.plotly_chart(fig_t, on_select="rerun", selection_mode="points",
                            key=f"chart_time_{test_id}")
     _chart_selection(store, test_id, working, ev_t, chart="time", avg=results.averaged)
     left, right = st.columns(2)
     with left:
         ex = exercise_rows(results.averaged)
         fig_v = vslope_figure(ex, fit=report.vslope, candidates=report.vt1_candidates, vt1=report.vt1, vt2=report.vt2)
-        ev_v = st.plotly_chart(fig_v, use_container_width=True, on_select="rerun", selection_mode="points",
+        ev_v = st.plotly_chart(fig_v, on_select="rerun", selection_mode="points",
                                key=f"chart_vslope_{test_id}")
         _chart_selection(store, test_id, working, ev_v, chart="vslope", avg=results.averaged)
         if report.vslope is not None and not report.vslope.valid:
             st.caption(f"V-slope fit not accepted: {report.vslope.reason}")
     with right:
-        st.plotly_chart(equivalents_figure(results.averaged, thresholds=picks), use_container_width=True,
+        st.plotly_chart(equivalents_figure(results.averaged, thresholds=picks),
                         key=f"chart_eq_{test_id}")
     for kind in ("vt1", "vt2"):
         note = (report.agreement or {}).get(kind)
@@ -358,7 +358,7 @@ def _exclusions(store: Any, test_id: int, working: state.WorkingSettings, result
     if len(table):
         view = table.rename(columns={"source_row": "Line in file", "t_s": "Time (s)", "column": "Signal",
                                      "value": "Value", "reason": "Reason", "by": "Excluded by"})
-        st.dataframe(view, hide_index=True, use_container_width=True)
+        st.dataframe(view, hide_index=True)
     candidates = sorted(set(table["source_row"].astype(int).tolist() if len(table) else []) | set(restored))
     chosen = st.multiselect(
         "Put these breaths back into the analysis (line numbers in the file)",
@@ -376,7 +376,7 @@ def _zones(results_json: Mapping[str, Any]) -> None:
     st.subheader("Training zones")
     rows = zone_rows(results_json)
     if rows:
-        st.dataframe(pd.DataFrame(rows), hide_index=True, use_container_width=True)
+        st.dataframe(pd.DataFrame(rows), hide_index=True)
     zones = results_json.get("zones") or {}
     note = zones.get("note") if isinstance(zones, Mapping) else None
     if note:
@@ -415,7 +415,7 @@ def _history_and_sign_off(store: Any, test_id: int, working: state.WorkingSettin
                   "By": v["created_by"] or "import", "Reason": v["reason"], "Signed off": "yes" if v["signed"] else ""}
                  for v in versions]
             ),
-            hide_index=True, use_container_width=True,
+            hide_index=True,
         )
         entries = store.audit_log(test_id)
         if entries:
@@ -427,7 +427,7 @@ def _history_and_sign_off(store: Any, test_id: int, working: state.WorkingSettin
                           "New": "" if e.new_value is None else str(e.new_value), "Reason": e.reason}
                          for e in entries]
                     ),
-                    hide_index=True, use_container_width=True,
+                    hide_index=True,
                 )
 
 
@@ -469,7 +469,7 @@ def render() -> None:
         st.warning(str(w))
     _headline(results_json)
     st.subheader("Thresholds")
-    st.dataframe(pd.DataFrame(threshold_rows(results_json)), hide_index=True, use_container_width=True)
+    st.dataframe(pd.DataFrame(threshold_rows(results_json)), hide_index=True)
     _averaging_selector(store, test_id, working)
     st.caption(f"Averaging in use: {results.settings.averaging.label}")
     _threshold_controls(store, test_id, working, results)

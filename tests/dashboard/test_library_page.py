@@ -1,0 +1,124 @@
+"""Library page (AppTest): upload, import check, mapping fix, import into the store, open.
+
+The generic export is built here from a demo session with generic trade spellings ("Time",
+"VO2 (L/min)", ...); the unit conversion checked is 1 L/min = 1000 mL/min (SI, common practice).
+"""
+
+from __future__ import annotations
+
+import io
+
+import pandas as pd
+import pytest
+
+from analysis.io import import_bytes
+from dashboard.pages import library
+
+
+def _library_script() -> None:
+    from dashboard.pages.library import render
+
+    render()
+
+
+def _generic_export(demo_store, *, drop_vo2_name: bool = False) -> bytes:
+    session = demo_store.store.load_session(demo_store.test_ids[0])
+    b = session.breaths
+    frame = pd.DataFrame(
+        {
+            "Time": b["t_s"],
+            ("Oxy uptake L" if drop_vo2_name else "VO2 (L/min)"): b["vo2_ml_min"] / 1000.0,
+            "VCO2 (L/min)": b["vco2_ml_min"] / 1000.0,
+            "VE": b["ve_l_min"],
+            "Heart rate": b["hr_bpm"],
+            "Watts": b["work_w"],
+            "Room temp": 21.5,
+        }
+    )
+    buf = io.StringIO()
+    buf.write("Saltmarsh Exercise Lab export\nsubject: fictional\n\n")
+    frame.to_csv(buf, index=False, float_format="%.4f")
+    return buf.getvalue().encode("utf-8")
+
+
+def _table(at, column: str) -> pd.DataFrame:
+    for df in at.dataframe:
+        if column in df.value.columns:
+            return df.value
+    raise AssertionError(f"no table with column {column!r}")
+
+
+def test_lists_stored_tests_with_store_headline_numbers(demo_store, page_test):
+    at = page_test(_library_script, tm_user=demo_store.user).run()
+    assert not at.exception, at.exception
+    table = _table(at, "VO2peak (mL/min)")
+    for _, row in table.iterrows():
+        stored = demo_store.store.get_results(int(row["Test"]))  # computed by analyze_session at import
+        assert row["VO2peak (mL/min)"] == round(stored["vo2_peak_ml_min"])
+        assert row["VE/VCO2 slope"] == round(stored["ve_vco2_slope"], 1)
+        assert row["VT1 VO2 (mL/min)"] == round(stored["vt1"]["vo2_ml_min"])
+    assert set(table["Test"]) == set(demo_store.test_ids)
+
+
+def test_open_sets_the_current_test(demo_store, page_test):
+    at = page_test(_library_script, tm_user=demo_store.user).run()
+    target = demo_store.test_ids[1]
+    at.selectbox(key="lib_open_choice").set_value(target)
+    at.button(key="lib_open").click().run()
+    assert not at.exception, at.exception
+    assert at.session_state["tm_test_id"] == target
+
+
+def test_upload_shows_the_import_check_and_imports_into_the_store(demo_store, page_test):
+    raw = _generic_export(demo_store)
+    expected = import_bytes(raw, file_name="lab-export.csv")  # the analysis' own reading
+    at = page_test(_library_script, tm_user=demo_store.user).run()
+    at.file_uploader(key="lib_upload").set_value(("lab-export.csv", raw, "text/csv")).run()
+    assert not at.exception, at.exception
+    metrics = {m.label: m.value for m in at.metric}
+    assert metrics["Breaths"] == f"{len(expected.session.breaths):,}"
+    assert metrics["Gas unit found"] == "L/min" and expected.gas_unit_detected == "l_min"
+    # the mapping editor lists every source column, the unknown one as ignored
+    labels = [s.label for s in at.selectbox]
+    assert "‘Room temp’" in labels and "‘VO2 (L/min)’" in labels
+    room = next(s for s in at.selectbox if s.label == "‘Room temp’")
+    assert room.value == "ignore"
+    code_key = next(t.key for t in at.text_input if t.label.startswith("Person code"))
+    at.text_input(key=code_key).input("SEL-9001")
+    at.button[[b.label for b in at.button].index("Import into the library")].click().run()
+    assert not at.exception, at.exception
+    assert any("stored as test" in s.value for s in at.success)
+    people = {p.code for p in demo_store.store.list_people()}
+    assert "SEL-9001" in people
+    new = [t for t in demo_store.store.list_tests() if t.person_code == "SEL-9001"]
+    assert len(new) == 1
+    stored = demo_store.store.load_session(new[0].id)
+    # 1 L/min = 1000 mL/min (SI): the stored VO2 equals the exported litres times 1000
+    assert stored.breaths["vo2_ml_min"].iloc[10] == pytest.approx(expected.session.breaths["vo2_ml_min"].iloc[10])
+
+
+def test_rejected_file_lists_problems_and_the_mapping_fix_makes_it_importable(demo_store, page_test):
+    raw = _generic_export(demo_store, drop_vo2_name=True)
+    at = page_test(_library_script, tm_user=demo_store.user).run()
+    at.file_uploader(key="lib_upload").set_value(("odd-names.csv", raw, "text/csv")).run()
+    assert not at.exception, at.exception
+    assert any("cannot be imported" in e.value for e in at.error)
+    problems = _table(at, "Problem")
+    assert problems["Problem"].str.contains("VO2").any()
+    before = len(demo_store.store.list_tests())
+    box = next(s for s in at.selectbox if s.label == "‘Oxy uptake L’")
+    box.set_value("vo2_ml_min").run()
+    assert not at.exception, at.exception
+    assert not any("cannot be imported" in e.value for e in at.error)
+    assert "Breaths" in {m.label for m in at.metric}
+    assert len(demo_store.store.list_tests()) == before  # nothing stored by the check itself
+
+
+def test_pure_helpers():
+    assert library.target_label("vo2_ml_min") == "VO2 (mL/min)"
+    assert library.target_label("ignore") == "— ignore —"
+    m = library.mapping_dict({"Oxygen": "vo2_ml_min"}, gas_unit="l_min", guess_rest=False)
+    assert m["columns"] == {"Oxygen": "vo2_ml_min"} and m["units"] == {"vo2_ml_min": "l_min"}
+    flags = pd.DataFrame({"source_row": [3, 4, 9], "column": ["rer", "rer", "hr_bpm"], "reason": ["RER high"] * 2 + ["gap"]})
+    s = library.flag_summary(flags)
+    assert dict(zip(s["Reason"], s["Rows"])) == {"RER high": 2, "gap": 1}
