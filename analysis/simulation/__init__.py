@@ -5,7 +5,7 @@ Public API
 Inputs
     :class:`SubjectProfile`, :class:`ProtocolSpec`
 Simulation
-    :func:`simulate_session`
+    :func:`simulate_session`, :func:`noise_free_course`
 Demo cast (fictional people of the Saltmarsh Exercise Lab)
     :data:`DEMO_TESTS`, :class:`DemoTest`, :func:`generate_demo`, and the named profiles and
     protocols (``TRAINED_CYCLIST``, ``RECREATIONAL_RUNNER``, ``REHAB_BASELINE``,
@@ -33,7 +33,7 @@ from analysis.simulation.cast import (
     generate_demo,
 )
 from analysis.simulation.profiles import MODES, SEXES, STOP_RULES, ProtocolSpec, SubjectProfile
-from analysis.simulation.simulate import simulate_session
+from analysis.simulation.simulate import noise_free_course, simulate_session
 
 __all__ = [
     "SubjectProfile",
@@ -42,6 +42,7 @@ __all__ = [
     "MODES",
     "STOP_RULES",
     "simulate_session",
+    "noise_free_course",
     "DemoTest",
     "DEMO_TESTS",
     "generate_demo",

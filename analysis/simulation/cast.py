@@ -10,7 +10,6 @@ from __future__ import annotations
 from pathlib import Path
 from typing import NamedTuple
 
-from analysis.io.session_file import write_session
 from analysis.simulation.profiles import ProtocolSpec, SubjectProfile
 from analysis.simulation.simulate import simulate_session
 
@@ -40,6 +39,7 @@ TRAINED_CYCLIST = SubjectProfile(
     tau_off_s=40,
     hr_tau_off_s=70,
     rer_peak=1.16,
+    petco2_rise_mmhg=6.0,
     rf_max_bpm=52,
 )
 
@@ -185,8 +185,8 @@ TREADMILL_RAMP = ProtocolSpec(
     mode="treadmill",
     warmup_speed_kmh=6.0,
     warmup_grade_pct=1.0,
-    start_speed_kmh=8.0,
-    speed_step_kmh_per_min=0.5,
+    start_speed_kmh=7.5,
+    speed_step_kmh_per_min=1.0,
     start_grade_pct=1.0,
     recovery_speed_kmh=4.0,
     stage_s=60,
@@ -255,6 +255,8 @@ def generate_demo(out_dir: str | Path) -> list[Path]:
     list of Path
         The written files, in :data:`DEMO_TESTS` order.
     """
+    from analysis.io.session_file import write_session  # the writer is only needed here
+
     out = Path(out_dir)
     out.mkdir(parents=True, exist_ok=True)
     paths = []

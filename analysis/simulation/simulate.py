@@ -303,6 +303,53 @@ def _truth(profile: SubjectProfile, protocol: ProtocolSpec, line: _Timeline) -> 
     return truth
 
 
+def noise_free_course(profile: SubjectProfile, protocol: ProtocolSpec, t_s: np.ndarray | list[float]) -> pd.DataFrame:
+    """The model's noise-free values at chosen times (no breath noise, no artifacts).
+
+    Useful to draw the truth behind a simulated session or to measure its noise.
+
+    Parameters
+    ----------
+    profile : SubjectProfile
+    protocol : ProtocolSpec
+    t_s : array_like
+        Times in s from the start of the record (0 to the end of recovery).
+
+    Returns
+    -------
+    pandas.DataFrame
+        Canonical columns ``t_s``, ``vo2_ml_min``, ``vco2_ml_min``, ``ve_l_min``, ``hr_bpm``,
+        the load columns of the mode, ``rf_bpm``, ``vt_l``, ``peto2_mmhg``, ``petco2_mmhg``,
+        ``spo2_pct`` and ``phase``.
+
+    Examples
+    --------
+    >>> from analysis.simulation import TRAINED_CYCLIST, CYCLE_RAMP_30, noise_free_course
+    >>> course = noise_free_course(TRAINED_CYCLIST, CYCLE_RAMP_30, [60.0])
+    >>> float(course["vo2_ml_min"].iloc[0]) == TRAINED_CYCLIST.vo2_rest_ml_min
+    True
+    """
+    t = np.asarray(t_s, dtype=float)
+    line = _timeline(profile, protocol)
+    require(
+        t.size == 0 or (t.min() >= 0 and t.max() <= line.t_total_s),
+        "t_s",
+        f"times between 0 and {line.t_total_s:.1f} s (the end of recovery)",
+        f"{t.min():.1f} to {t.max():.1f} s",
+    )
+    ch = _channels(profile, protocol, line, t)
+    frame = pd.DataFrame({C.T_S: t, **{k: ch[k] for k in (C.VO2_ML_MIN, C.VCO2_ML_MIN, C.VE_L_MIN, C.HR_BPM)}})
+    for name in (C.WORK_W, C.SPEED_KMH, C.GRADE_PCT):
+        if name in ch:
+            frame[name] = ch[name]
+    frame[C.RF_BPM] = ch[C.RF_BPM]
+    frame[C.VT_L] = ch[C.VE_L_MIN] / ch[C.RF_BPM]
+    for name in (C.PETO2_MMHG, C.PETCO2_MMHG, C.SPO2_PCT):
+        frame[name] = ch[name]
+    frame[C.PHASE] = _phase_labels(line, t)
+    return frame
+
+
 def simulate_session(
     profile: SubjectProfile,
     protocol: ProtocolSpec,

@@ -46,7 +46,7 @@ def test_treadmill_session_has_speed_and_grade_not_work():
     assert s.meta["mode"] == "treadmill"
     ex = s.breaths[s.breaths[C.PHASE] == "exercise"]
     assert ex[C.SPEED_KMH].is_monotonic_increasing
-    assert ex[C.SPEED_KMH].iloc[0] == pytest.approx(8.0)
+    assert ex[C.SPEED_KMH].iloc[0] == pytest.approx(TREADMILL_RAMP.start_speed_kmh)
 
 
 def test_profile_without_rcp_omits_vt2_truth():
