@@ -317,7 +317,7 @@ def saturation(
     Examples
     --------
     >>> round(saturation(40.0), 3)
-    0.75
+    0.749
     """
     curve = _curve(
         ph=ph,

@@ -173,7 +173,7 @@ def haldane_extra_co2_ml_dl(
     Examples
     --------
     >>> round(haldane_extra_co2_ml_dl(pco2_mmhg=46.0, so2_arterial=0.97, so2_venous=0.75, hb_g_dl=15.0), 1)
-    1.2
+    1.3
     """
     common = dict(
         pco2_mmhg=pco2_mmhg,
