@@ -37,7 +37,7 @@ def normalise_username(username: str) -> str:
 
 class AccountsMixin(StoreCore):
     password_params: ScryptParams = DEFAULT_PARAMS
-    _dummy_hash: str | None = None
+    _dummy_hashes: dict[ScryptParams, str] = {}
 
     def _user_row(self, db, username: str) -> UserRow:  # noqa: ANN001
         row = db.execute(select(UserRow).where(UserRow.username == normalise_username(username))).scalar_one_or_none()
@@ -157,9 +157,11 @@ class AccountsMixin(StoreCore):
 
     # ----------------------------------------------------------------- sign-in
     def _dummy(self) -> str:
-        if AccountsMixin._dummy_hash is None:
-            AccountsMixin._dummy_hash = hash_password("not-a-real-password", params=self.password_params)
-        return AccountsMixin._dummy_hash
+        """A hash at the current parameters, verified for unknown names so they cost the same time."""
+        cache = AccountsMixin._dummy_hashes
+        if self.password_params not in cache:
+            cache[self.password_params] = hash_password("not-a-real-password", params=self.password_params)
+        return cache[self.password_params]
 
     def login_locked_for(self, username: str) -> float:
         """Seconds until ``username`` may try again (0 when not locked)."""
