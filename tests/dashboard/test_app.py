@@ -1,0 +1,88 @@
+"""The app shell (AppTest of dashboard/app.py): demo mode, staff sign-in, coach-link isolation,
+the navigation built from the page modules, and ``tidemark serve``'s command line."""
+
+from __future__ import annotations
+
+import pytest
+
+from dashboard import app
+from tests.support import ROOT
+
+APP = str(ROOT / "dashboard" / "app.py")
+
+
+def _app_test():
+    from streamlit.testing.v1 import AppTest
+
+    return AppTest.from_file(APP, default_timeout=60)
+
+
+def test_demo_store_signs_in_the_demo_reviewer_and_shows_the_library(demo_store):
+    at = _app_test().run()
+    assert not at.exception, at.exception
+    assert at.session_state["tm_demo_mode"] is True
+    assert at.session_state["tm_user"].username == demo_store.user.username
+    assert any("Demo mode" in w.value for w in at.sidebar.warning)
+    assert any(t.value == "Library" for t in at.title)
+    assert any("not a medical device" in c.value for c in at.sidebar.caption)
+
+
+def test_coach_link_shows_only_the_coach_view(demo_store):
+    at = _app_test()
+    at.query_params["link"] = "not-a-real-token"
+    at.run()
+    assert not at.exception, at.exception
+    assert at.session_state["tm_share_token"] == "not-a-real-token"
+    texts = [e.value for e in at.error] + [m.value for m in at.markdown]
+    assert any("This link is not valid." in t for t in texts)
+    assert not any(t.value == "Library" for t in at.title)
+    assert not at.sidebar.warning  # no demo banner, no sign-in: nothing of the staff app
+
+
+def test_page_modules_that_are_missing_are_skipped(caplog):
+    assert app.load_page_module("no_such_page_module") is None
+    assert "not available" in caplog.text
+    assert app.load_page_module("library") is not None
+    assert [p[1] for p in app.PAGES][:2] == ["Library", "Review"]
+
+
+def test_serve_command_line():
+    from analysis.errors import InvalidParameter
+    from tidemark.cli import main
+    from tidemark.commands import serve
+
+    cmd = serve.streamlit_command(port=8630, host="127.0.0.1")
+    assert cmd[1:4] == ["-m", "streamlit", "run"] and cmd[4].endswith("dashboard/app.py")
+    assert cmd[cmd.index("--server.port") + 1] == "8630"
+    assert cmd[cmd.index("--server.address") + 1] == "127.0.0.1"
+    with pytest.raises(InvalidParameter, match="--port"):
+        serve.streamlit_command(port=70000, host="127.0.0.1")
+    assert main(["serve", "--port", "0"]) == 2  # bad input, message on stderr
+    assert serve.DEFAULT_PORT == 8630
+
+
+def test_staff_store_needs_sign_in(tmp_path, monkeypatch):
+    from store import open_store
+    from tests.dashboard.conftest import make_user
+
+    url = f"sqlite:///{tmp_path / 'staff.sqlite'}"
+    store = open_store(url)
+    try:
+        make_user(store, "ana.reviewer", "reviewer", password="Saltmarsh-test-pass-2026!")
+    finally:
+        store.close()
+    monkeypatch.setenv("TIDEMARK_STORE", url)
+    at = _app_test().run()
+    assert not at.exception, at.exception
+    assert "tm_user" not in at.session_state or at.session_state["tm_user"] is None
+    assert [b.label for b in at.button] == ["Sign in"]
+    at.text_input[0].input("ana.reviewer")
+    at.text_input[1].input("wrong password")
+    at.button[0].click().run()
+    assert any("not recognised" in e.value or "refused" in e.value.lower() or "sign-in" in e.value.lower() for e in at.error)
+    at.text_input[1].input("Saltmarsh-test-pass-2026!")
+    at.button[0].click().run()
+    assert not at.exception, at.exception
+    assert at.session_state["tm_user"].username == "ana.reviewer"
+    assert any(t.value == "Library" for t in at.title)
+    assert any("Signed in as" in c.value for c in at.sidebar.caption)
