@@ -32,8 +32,14 @@ def session_to_text(session: Session) -> str:
     """Render a session as the text of a session file."""
     lines = [f"# {key}: {_format_meta_value(value)}" for key, value in session.meta.items() if value is not None]
     cols = [c for c in COLUMN_ORDER if c in session.breaths.columns]
+    table = session.breaths[cols]
+    text_cols = [c for c in (C.PHASE, C.MARKER) if c in cols]
+    if text_cols:  # one breath per line: line breaks inside a marker become spaces
+        table = table.copy()
+        for c in text_cols:
+            table[c] = table[c].map(lambda v: v.replace("\r", " ").replace("\n", " ") if isinstance(v, str) else v)
     buf = io.StringIO()
-    session.breaths[cols].to_csv(buf, index=False, float_format="%.6g", lineterminator="\n")
+    table.to_csv(buf, index=False, float_format="%.6g", lineterminator="\n")
     return ("\n".join(lines) + "\n" if lines else "") + buf.getvalue()
 
 
@@ -71,3 +77,133 @@ def coerce_meta(raw: dict[str, str]) -> dict[str, Any]:
                 pass
         meta[key] = value
     return meta
+
+
+def _session_bytes(source: str | Path | bytes, file_name: str | None, max_bytes: int) -> tuple[bytes, str]:
+    from analysis.errors import ImportRejected, Problem
+    from analysis.io._decode import check_size
+
+    if isinstance(source, (bytes, bytearray)):
+        name = file_name or "session.csv"
+        check_size(len(source), max_bytes=max_bytes, file_name=name)
+        return bytes(source), name
+    path = Path(source)
+    name = file_name or path.name
+    try:
+        check_size(path.stat().st_size, max_bytes=max_bytes, file_name=name)
+        return path.read_bytes(), name
+    except FileNotFoundError:
+        raise ImportRejected(Problem("the session file does not exist", "check the path", str(path))) from None
+    except IsADirectoryError:
+        raise ImportRejected(Problem("this is a folder, not a session file", "give the file's path", str(path))) from None
+    except OSError as exc:
+        raise ImportRejected(Problem(f"the file cannot be read ({exc.strerror})", "check its permissions", name)) from None
+
+
+def read_session(source: str | Path | bytes, *, file_name: str | None = None, max_bytes: int | None = None) -> Session:
+    """Read a Tidemark session file strictly (format in ``docs/session-format.md``).
+
+    Parameters
+    ----------
+    source : str, Path or bytes
+        A path, or the file's content.
+    file_name : str, optional
+        Name used in messages and as ``Session.source_name`` (default: the path's name).
+    max_bytes : int, optional
+        Size limit (default :data:`analysis.io.DEFAULT_MAX_BYTES`).
+
+    Returns
+    -------
+    Session
+        Validated like an import: impossible values rejected, suspicious rows in
+        ``session.flags``; ``breaths["source_row"]`` is the 1-based line number in the file.
+
+    Raises
+    ------
+    ImportRejected
+        Anything outside the format: not UTF-8, unknown or repeated column names, a missing
+        required column, a row with the wrong number of cells, text in a numeric column, or a
+        value the importer would reject.
+    """
+    import numpy as np
+
+    from analysis.errors import ImportRejected, Problem
+    from analysis.io._cells import parse_numbers, text_values
+    from analysis.io._decode import DEFAULT_MAX_BYTES, decode_text, split_lines
+    from analysis.io._table import split_rows
+    from analysis.io._validate import ProblemLog, finish_session, report_cells
+    from analysis.io.mapping import TARGET_ALIASES
+
+    data, name = _session_bytes(source, file_name, max_bytes or DEFAULT_MAX_BYTES)
+    lines = split_lines(decode_text(data, file_name=name, strict_utf8=True).text)
+    raw_meta: dict[str, str] = {}
+    i = 0
+    while i < len(lines) and (not lines[i].strip() or lines[i].lstrip().startswith("#")):
+        parsed = parse_meta_line(lines[i])
+        if parsed:
+            raw_meta[parsed[0]] = parsed[1]
+        i += 1
+    if i == len(lines):
+        raise ImportRejected(
+            Problem("there is no header row", f"the first line after the '# key: value' lines names the columns ({', '.join(C.REQUIRED)})", name)
+        )
+    rows = split_rows(lines[i:], delimiter=",", file_name=name, first_line=i + 1)
+    header_line, header_cells = rows[0]
+    problems = ProblemLog(name)
+    headers = [str(h).strip() for h in header_cells]
+    columns: dict[str, int] = {}
+    factors: dict[str, float] = {}
+    for k, header in enumerate(headers):
+        canonical, scale = header, 1.0
+        if header in TARGET_ALIASES:
+            canonical, scale = TARGET_ALIASES[header][0], 1000.0
+        if canonical not in C.COLUMNS:
+            problems.add(
+                f"'{header}' is not a Tidemark column name",
+                f"use one of: {', '.join(C.COLUMNS)} (or import the file with 'tidemark import', which maps other names)",
+                row=header_line,
+                column=header,
+            )
+        elif canonical in columns:
+            problems.add("this column appears twice", "delete one of them", row=header_line, column=header)
+        else:
+            columns[canonical] = k
+            factors[canonical] = scale
+    for required in C.REQUIRED:
+        if required not in columns:
+            problems.add(
+                f"the required column '{required}' is missing",
+                f"a session file needs {', '.join(C.REQUIRED)}",
+                row=header_line,
+            )
+    problems.raise_if_any()
+    body = [(n, cells) for n, cells in rows[1:] if any(str(c).strip() for c in cells)]
+    for n, cells in body:
+        if len(cells) != len(headers):
+            problems.add(
+                f"the line has {len(cells)} cells but the header has {len(headers)}",
+                "every line needs one value (or an empty cell) per column",
+                row=n,
+            )
+    problems.raise_if_any()
+    line_numbers = np.array([n for n, _ in body], dtype=np.int64)
+    frame = pd.DataFrame({"source_row": line_numbers})
+    shown = {c: headers[k] for c, k in columns.items()}
+    for canonical, k in columns.items():
+        cells = [row[k] for _, row in body]
+        if canonical in C.NUMERIC:
+            values, missing, bad = parse_numbers(cells, decimal=".")
+            report_cells(
+                problems,
+                name=canonical,
+                header=shown[canonical],
+                bad=bad,
+                missing=missing,
+                line_numbers=line_numbers,
+                cell_at=lambda j, k=k: body[j][1][k],
+            )
+            frame[canonical] = values * factors[canonical]
+        else:
+            frame[canonical] = pd.Series(text_values(cells), dtype=object)
+    problems.raise_if_any()
+    return finish_session(frame, meta=coerce_meta(raw_meta), file_name=name, problems=problems, headers=shown)

@@ -1,0 +1,234 @@
+"""Reading cell values: numbers with either decimal mark, times, and missing-value tokens.
+
+A cell is the text of a CSV field or the value of a spreadsheet cell (number, text, time).
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+import re
+from collections.abc import Sequence
+
+import numpy as np
+import pandas as pd
+
+#: Cell texts read as "no value" (compared lower-case, after trimming).
+MISSING_TOKENS: frozenset[str] = frozenset(
+    {"", "-", "--", "---", "na", "n/a", "n.a.", "nan", "none", "null", "#n/a", "."}
+)
+
+_NUM = r"[+-]?(?:\d+(?:[.,]\d*)?|[.,]\d+)(?:[eE][+-]?\d+)?"
+NUMBER_RE = re.compile(_NUM)
+_DOT_NUMBER = r"^[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?$"
+TIME_RE = re.compile(r"[+-]?(?:\d+:)?\d+:\d{1,2}(?:[.,]\d*)?")
+_TIME_PARTS = r"^(?P<sign>[+-]?)(?:(?P<h>\d+):)?(?P<m>\d+):(?P<s>\d{1,2}(?:\.\d*)?)$"
+_COMMA_DECIMAL = re.compile(r"[+-]?\d*,\d+")
+_DOT_DECIMAL = re.compile(r"[+-]?\d*\.\d+")
+
+TIME_FORMATS: tuple[str, ...] = ("auto", "s", "min", "ms", "mm:ss", "h:mm:ss")
+
+
+def _text(cell: object) -> str | None:
+    if isinstance(cell, str):
+        return cell.strip().replace("\u2212", "-")
+    return None
+
+
+def is_missing(cell: object) -> bool:
+    """Empty cell or a missing-value token such as ``"-"`` or ``"n/a"``."""
+    if cell is None:
+        return True
+    if isinstance(cell, float) and np.isnan(cell):
+        return True
+    t = _text(cell)
+    return t is not None and t.lower() in MISSING_TOKENS
+
+
+def is_value(cell: object) -> bool:
+    """A number or a time, written as text or stored natively (spreadsheet)."""
+    if isinstance(cell, bool):
+        return False
+    if isinstance(cell, (int, float, dt.time, dt.timedelta, dt.datetime)):
+        return True
+    t = _text(cell)
+    return t is not None and bool(NUMBER_RE.fullmatch(t) or TIME_RE.fullmatch(t))
+
+
+def detect_decimal(cells: Sequence[object]) -> str:
+    """``','`` when more text cells use a decimal comma than a decimal point, else ``'.'``."""
+    comma = dot = 0
+    for cell in cells:
+        t = _text(cell)
+        if not t:
+            continue
+        if _COMMA_DECIMAL.fullmatch(t):
+            comma += 1
+        elif _DOT_DECIMAL.fullmatch(t):
+            dot += 1
+    return "," if comma > dot else "."
+
+
+def _series(values: Sequence[object]) -> pd.Series:
+    return pd.Series(list(values), dtype=object)
+
+
+def _split_kinds(s: pd.Series) -> tuple[np.ndarray, np.ndarray]:
+    is_str = s.map(lambda v: isinstance(v, str)).to_numpy(dtype=bool, copy=True)
+    is_num = s.map(lambda v: isinstance(v, (int, float, np.integer, np.floating)) and not isinstance(v, bool))
+    return is_str, is_num.to_numpy(dtype=bool, copy=True)
+
+
+def _clean_text(s: pd.Series, *, decimal: str) -> tuple[pd.Series, pd.Series]:
+    """Trimmed text with '.' as the decimal mark, and the missing-token mask."""
+    t = s.astype(str).str.strip().str.replace("\u2212", "-", regex=False)
+    missing = t.str.lower().isin(MISSING_TOKENS)
+    if decimal == ",":
+        t = t.str.replace(",", ".", regex=False)
+    return t, missing
+
+
+def parse_numbers(values: Sequence[object], *, decimal: str) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Parse cells as numbers.
+
+    Returns
+    -------
+    values : ndarray of float
+        NaN where missing or unreadable.
+    missing : ndarray of bool
+        Empty cells and missing-value tokens.
+    bad : ndarray of bool
+        Cells with content that is not a finite number (text, dates, ``inf``).
+    """
+    s = _series(values)
+    n = len(s)
+    out = np.full(n, np.nan)
+    missing = s.map(lambda v: v is None or (isinstance(v, float) and np.isnan(v))).to_numpy(dtype=bool, copy=True)
+    bad = np.zeros(n, dtype=bool)
+    is_str, is_num = _split_kinds(s)
+    num_idx = np.flatnonzero(is_num & ~missing)
+    if num_idx.size:
+        out[num_idx] = s.iloc[num_idx].to_numpy(dtype=float, copy=True)
+    str_idx = np.flatnonzero(is_str)
+    if str_idx.size:
+        t, miss = _clean_text(s.iloc[str_idx], decimal=decimal)
+        ok = t.str.match(_DOT_NUMBER).to_numpy(dtype=bool, copy=True)
+        miss_a = miss.to_numpy(dtype=bool, copy=True)
+        good = ok & ~miss_a
+        parsed = np.full(str_idx.size, np.nan)
+        if good.any():
+            parsed[good] = t[good].to_numpy(dtype=float, copy=True)
+        out[str_idx] = parsed
+        missing[str_idx] = miss_a
+        bad[str_idx] = ~ok & ~miss_a
+    other = ~is_str & ~is_num & ~missing
+    bad |= other
+    finite = np.isfinite(out)
+    bad |= ~finite & ~missing
+    out[bad] = np.nan
+    return out, missing, bad
+
+
+def _time_of(value: object, origin: list[dt.date]) -> float | None:
+    if isinstance(value, dt.datetime):
+        if not origin:
+            origin.append(value.date())
+        day = (value.date() - origin[0]).days
+        return day * 86400.0 + value.hour * 3600 + value.minute * 60 + value.second + value.microsecond / 1e6
+    if isinstance(value, dt.time):
+        return value.hour * 3600.0 + value.minute * 60 + value.second + value.microsecond / 1e6
+    if isinstance(value, dt.timedelta):
+        return value.total_seconds()
+    return None
+
+
+def parse_times(
+    values: Sequence[object], *, decimal: str, time_format: str = "auto", unit: str | None = None
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, str]:
+    """Parse a time column to seconds.
+
+    Text with colons is ``m:ss`` (one colon) or ``h:mm:ss`` (two), with optional fractional
+    seconds; seconds must be below 60 (and minutes below 60 when hours are given). Plain
+    numbers are seconds unless ``time_format`` (or the header ``unit``) says ``min`` or ``ms``.
+    Spreadsheet time values are converted directly.
+
+    Returns
+    -------
+    seconds, missing, bad, detected_format
+        ``detected_format`` is one of ``'s'``, ``'min'``, ``'ms'``, ``'mm:ss'``, ``'h:mm:ss'``.
+    """
+    s = _series(values)
+    n = len(s)
+    out = np.full(n, np.nan)
+    missing = s.map(lambda v: v is None or (isinstance(v, float) and np.isnan(v))).to_numpy(dtype=bool, copy=True)
+    bad = np.zeros(n, dtype=bool)
+    plain_format = time_format if time_format in ("s", "min", "ms") else (unit if unit in ("s", "min", "ms") else "s")
+    plain_factor = {"s": 1.0, "min": 60.0, "ms": 0.001}[plain_format]
+    counts = {"plain": 0, "mm:ss": 0, "h:mm:ss": 0}
+
+    is_str, is_num = _split_kinds(s)
+    num_idx = np.flatnonzero(is_num & ~missing)
+    if time_format in ("mm:ss", "h:mm:ss"):
+        bad[num_idx] = True
+    elif num_idx.size:
+        out[num_idx] = s.iloc[num_idx].to_numpy(dtype=float, copy=True) * plain_factor
+        counts["plain"] += num_idx.size
+    str_idx = np.flatnonzero(is_str)
+    if str_idx.size:
+        t, miss = _clean_text(s.iloc[str_idx], decimal=decimal)
+        t = t.str.replace(r"^([^,]*:\d{1,2}),(\d*)$", r"\1.\2", regex=True)  # "1:05,5": comma fraction
+        miss_a = miss.to_numpy(dtype=bool, copy=True)
+        parsed = np.full(str_idx.size, np.nan)
+        is_plain = t.str.match(_DOT_NUMBER).to_numpy(dtype=bool, copy=True) & ~miss_a
+        if time_format in ("mm:ss", "h:mm:ss"):
+            is_plain[:] = False  # plain numbers are not what the caller said the column holds
+        if is_plain.any():
+            parsed[is_plain] = t[is_plain].to_numpy(dtype=float, copy=True) * plain_factor
+            counts["plain"] += int(is_plain.sum())
+        parts = t.str.extract(_TIME_PARTS)
+        has_colon = parts["m"].notna().to_numpy(dtype=bool, copy=True) & ~miss_a
+        if has_colon.any():
+            p = parts[has_colon]
+            h = pd.to_numeric(p["h"]).fillna(0).to_numpy(dtype=float, copy=True)
+            m = pd.to_numeric(p["m"]).to_numpy(dtype=float, copy=True)
+            sec = pd.to_numeric(p["s"]).to_numpy(dtype=float, copy=True)
+            with_h = p["h"].notna().to_numpy(dtype=bool, copy=True)
+            sign = np.where(p["sign"].to_numpy() == "-", -1.0, 1.0)
+            valid = (sec < 60) & ~(with_h & (m >= 60))
+            seconds = sign * (h * 3600 + m * 60 + sec)
+            seconds[~valid] = np.nan
+            parsed[has_colon] = seconds
+            counts["h:mm:ss"] += int(with_h.sum())
+            counts["mm:ss"] += int((~with_h).sum())
+        out[str_idx] = parsed
+        missing[str_idx] = miss_a
+        bad[str_idx] = ~miss_a & np.isnan(parsed)
+    other_idx = np.flatnonzero(~is_str & ~is_num & ~missing)
+    origin: list[dt.date] = []
+    for i in other_idx:
+        sec_value = _time_of(s.iloc[i], origin)
+        if sec_value is None:
+            bad[i] = True
+        else:
+            out[i] = sec_value
+            counts["h:mm:ss"] += 1
+    bad |= ~np.isfinite(out) & ~missing
+    out[bad] = np.nan
+    if counts["h:mm:ss"] + counts["mm:ss"] > counts["plain"]:
+        detected = "h:mm:ss" if counts["h:mm:ss"] >= counts["mm:ss"] else "mm:ss"
+    else:
+        detected = plain_format
+    return out, missing, bad, detected
+
+
+def text_values(values: Sequence[object]) -> list[str | None]:
+    """Cells of a text column (phase, marker): trimmed text, ``None`` when missing."""
+    out: list[str | None] = []
+    for v in values:
+        if is_missing(v):
+            out.append(None)
+        elif isinstance(v, float) and v.is_integer():
+            out.append(str(int(v)))
+        else:
+            text = str(v).strip()
+            out.append(text or None)
+    return out

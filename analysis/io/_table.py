@@ -1,0 +1,252 @@
+"""Finding the breath table inside a file: delimiter, header row, unit row, body, footer.
+
+Rows are ``(line_number, cells)`` with 1-based line numbers of the original file.
+"""
+
+from __future__ import annotations
+
+import csv
+from collections.abc import Sequence
+from dataclasses import dataclass, field
+
+from analysis.errors import ImportRejected, Problem
+from analysis.io._cells import is_missing, is_value
+from analysis.io._units import unit_code
+
+Row = tuple[int, list[object]]
+
+#: Candidate delimiters in order of preference when two read a file equally well
+#: (``" "`` means runs of spaces). Semicolon before comma: a comma may be the decimal mark.
+DELIMITERS: tuple[str, ...] = ("\t", ";", ",", "|", " ")
+DELIMITER_NAMES: dict[str, str] = {"\t": "tab", ";": "semicolon", ",": "comma", "|": "bar", " ": "spaces", "": "none"}
+
+#: Lines examined when choosing the delimiter (the header must start within them).
+SNIFF_LINES = 2000
+
+
+@dataclass
+class LocatedTable:
+    """Where the table is: header, optional unit row, body rows, everything else."""
+
+    header_line: int
+    headers: list[str]
+    unit_line: int | None
+    unit_row: list[str | None] | None
+    body: list[Row]
+    preamble: list[Row] = field(default_factory=list)
+    interior_skipped: list[int] = field(default_factory=list)
+    after: list[Row] = field(default_factory=list)
+
+
+class _Split:
+    """csv parsing of lines with a fixed delimiter, keeping original line numbers."""
+
+    def __init__(self, delimiter: str, file_name: str):
+        self.delimiter = delimiter
+        self.file_name = file_name
+
+    def rows(self, lines: Sequence[str], first_line: int = 1) -> list[Row]:
+        if self.delimiter == " ":
+            return [(first_line + i, line.split()) for i, line in enumerate(lines)]
+        out: list[Row] = []
+        reader = csv.reader(lines, delimiter=self.delimiter, skipinitialspace=False, strict=False)
+        previous = 0
+        try:
+            for cells in reader:
+                out.append((first_line + previous, list(cells)))
+                previous = reader.line_num
+        except csv.Error as exc:
+            raise ImportRejected(
+                Problem(
+                    f"the table cannot be split into cells ({exc})",
+                    "check for an unclosed quotation mark (\") in this or an earlier line",
+                    self.file_name,
+                    first_line + reader.line_num - 1,
+                )
+            ) from None
+        return out
+
+
+def split_rows(lines: Sequence[str], *, delimiter: str, file_name: str, first_line: int = 1) -> list[Row]:
+    """Split every line into cells with ``delimiter`` (csv quoting rules); ``lines[0]`` is ``first_line``."""
+    return _Split(delimiter, file_name).rows(lines, first_line)
+
+
+def _width(cells: Sequence[object]) -> int:
+    """Number of cells without trailing empty ones."""
+    n = len(cells)
+    while n and (cells[n - 1] is None or (isinstance(cells[n - 1], str) and not cells[n - 1].strip())):
+        n -= 1
+    return n
+
+
+def classify(cells: Sequence[object]) -> str:
+    """``'blank'``, ``'comment'`` (first cell starts with '#'), ``'data'`` or ``'text'``.
+
+    A row is data when at least half of its non-missing cells are numbers or times.
+    """
+    present = [c for c in cells if not (c is None or (isinstance(c, str) and not c.strip()))]
+    if not present:
+        return "blank"
+    first = present[0]
+    if isinstance(first, str) and first.lstrip().startswith("#"):
+        return "comment"
+    counted = [c for c in present if not is_missing(c)]
+    if not counted:
+        return "blank"
+    values = sum(1 for c in counted if is_value(c))
+    return "data" if 2 * values >= len(counted) else "text"
+
+
+def _looks_like_units(cells: Sequence[object]) -> bool:
+    present = [c for c in cells if isinstance(c, str) and c.strip()]
+    if not present or any(len(c.strip()) > 16 for c in present):
+        return False
+    return 2 * sum(1 for c in present if unit_code(c) is not None) >= len(present)
+
+
+@dataclass(frozen=True)
+class _Candidate:
+    score: int
+    width: int
+    header_index: int
+    unit_index: int | None
+    end_index: int  # one past the last body row
+
+
+def _candidate(rows: Sequence[Row], kinds: Sequence[str], i: int) -> _Candidate | None:
+    header_cells = rows[i][1]
+    width = len(header_cells)
+    if _width(header_cells) < 2:
+        return None
+    j = i + 1
+    n = len(rows)
+    while j < n and kinds[j] in ("blank", "comment"):
+        j += 1
+    unit_index = None
+    if j < n and kinds[j] == "text" and _looks_like_units(rows[j][1]):
+        unit_index = j
+        j += 1
+    score = 0
+    end = j
+    while j < n:
+        kind = kinds[j]
+        if kind == "data":
+            w = _width(rows[j][1])
+            if w > width or w < 2:
+                break
+            score += 1
+            end = j + 1
+        elif kind not in ("blank", "comment"):
+            break
+        j += 1
+    if score == 0:
+        return None
+    return _Candidate(score, _width(header_cells), i, unit_index, end)
+
+
+def _best(rows: Sequence[Row], kinds: Sequence[str]) -> _Candidate | None:
+    best: _Candidate | None = None
+    for i, kind in enumerate(kinds):
+        if kind != "text":
+            continue
+        cand = _candidate(rows, kinds, i)
+        if cand and (best is None or (cand.score, cand.width) > (best.score, best.width)):
+            best = cand
+    return best
+
+
+def choose_delimiter(lines: Sequence[str], *, file_name: str) -> str:
+    """The delimiter whose split gives the longest table under a header.
+
+    Ties go to the earlier entry of :data:`DELIMITERS`; runs of spaces are tried only when no
+    other delimiter gives a table.
+    """
+    sample = list(lines[:SNIFF_LINES])
+    best_key: tuple[int, int] | None = None
+    chosen = ","
+    for rank, delim in enumerate(DELIMITERS):
+        if delim == " " and best_key is not None:
+            break  # runs of spaces only when no real delimiter gives a table
+        if delim != " " and not any(delim in line for line in sample):
+            continue
+        try:
+            rows = _Split(delim, file_name).rows(sample)
+        except ImportRejected:
+            continue
+        cand = _best(rows, [classify(c) for _, c in rows])
+        if cand is None:
+            continue
+        key = (cand.score, -rank)
+        if best_key is None or key > best_key:
+            best_key, chosen = key, delim
+    return chosen
+
+
+def _header_names(cells: Sequence[object], width: int) -> list[str]:
+    names: list[str] = []
+    seen: dict[str, int] = {}
+    for k in range(width):
+        raw = cells[k] if k < len(cells) else None
+        name = str(raw).strip() if raw is not None else ""
+        if isinstance(raw, float) and raw.is_integer():
+            name = str(int(raw))
+        if not name:
+            name = f"(column {k + 1})"
+        if name in seen:
+            seen[name] += 1
+            name = f"{name} #{seen[name]}"
+        else:
+            seen[name] = 1
+        names.append(name)
+    return names
+
+
+def locate_table(rows: Sequence[Row], *, file_name: str) -> LocatedTable:
+    """Find the header and the body of the breath table.
+
+    Raises
+    ------
+    ImportRejected
+        No row of column names followed by rows of numbers was found.
+    """
+    kinds = [classify(cells) for _, cells in rows]
+    best = _best(rows, kinds)
+    if best is None:
+        first_data = next((rows[k][0] for k, kind in enumerate(kinds) if kind == "data"), None)
+        if first_data is None:
+            message = "no table of numbers was found"
+            fix = "check this is a breath-by-breath export (one row per breath, one column per signal)"
+        else:
+            message = f"no header row above the numbers that start on line {first_data}"
+            fix = "add a first row naming the columns (e.g. Time, VO2, VCO2, VE)"
+        raise ImportRejected(Problem(message, fix, file_name, first_data))
+    header_line, header_cells = rows[best.header_index]
+    width = max(len(header_cells), max((_width(c) for _, c in rows[best.header_index + 1 : best.end_index]), default=0))
+    headers = _header_names(header_cells, width)
+    unit_row = None
+    unit_line = None
+    if best.unit_index is not None:
+        unit_line, ucells = rows[best.unit_index]
+        unit_row = [(str(ucells[k]).strip() if k < len(ucells) and ucells[k] is not None else None) for k in range(width)]
+    body: list[Row] = []
+    interior: list[int] = []
+    for k in range(best.header_index + 1, best.end_index):
+        if k == best.unit_index:
+            continue
+        line, cells = rows[k]
+        if kinds[k] == "data":
+            padded = list(cells[:width]) + [None] * (width - min(len(cells), width))
+            body.append((line, padded))
+        else:
+            interior.append(line)
+    return LocatedTable(
+        header_line=header_line,
+        headers=headers,
+        unit_line=unit_line,
+        unit_row=unit_row,
+        body=body,
+        preamble=list(rows[: best.header_index]),
+        interior_skipped=interior,
+        after=list(rows[best.end_index :]),
+    )

@@ -1,0 +1,131 @@
+"""``tidemark import``: turn one cart export into a session file, keeping the original.
+
+Writes ``<out>/<stem>.session.csv`` and ``<out>/originals/<file name>`` (byte for byte), then
+prints what was read and how. ``--out`` defaults to the current folder.
+"""
+
+from __future__ import annotations
+
+import argparse
+from pathlib import Path
+
+from analysis.errors import InvalidParameter
+from analysis.io import (
+    DEFAULT_MAX_BYTES,
+    GAS_UNITS,
+    ColumnMapping,
+    describe_outcome,
+    import_bytes,
+    list_sheets,
+    load_profile,
+    save_profile,
+)
+from analysis.io._cells import TIME_FORMATS
+from analysis.io._decode import check_size, container_kind
+from analysis.io.saving import save_import
+from analysis.errors import ImportRejected, Problem
+
+
+def add_parser(subparsers: argparse._SubParsersAction) -> argparse.ArgumentParser:
+    p = subparsers.add_parser(
+        "import",
+        help="import a breath-by-breath export (CSV, TSV, semicolon text or .xlsx) as a session file",
+        description=(
+            "Read one breath-by-breath export, check it, and write OUT/<name>.session.csv plus an "
+            "unchanged copy in OUT/originals/. Nothing is written when the file is rejected."
+        ),
+    )
+    p.add_argument("file", type=Path, help="the export file")
+    p.add_argument("--out", type=Path, default=Path("."), help="output folder (default: the current folder)")
+    p.add_argument(
+        "--map",
+        action="append",
+        default=[],
+        metavar="HEADER=COLUMN",
+        help="use the column HEADER as COLUMN (e.g. \"Oxygen=vo2_ml_min\", \"O2 L=vo2_l_min\", \"Notes=ignore\"); repeatable",
+    )
+    p.add_argument("--sheet", help="worksheet of an .xlsx file: its name, or its number (1 = first)")
+    p.add_argument("--gas-unit", choices=GAS_UNITS, default="auto", help="unit of VO2 and VCO2 (default: auto)")
+    p.add_argument("--time-format", choices=TIME_FORMATS, default="auto", help="how time is written (default: auto)")
+    p.add_argument("--profile", type=Path, help="read column choices from a mapping profile (JSON)")
+    p.add_argument("--save-profile", type=Path, help="save the column choices used as a mapping profile (JSON)")
+    p.add_argument(
+        "--set",
+        action="append",
+        default=[],
+        metavar="KEY=VALUE",
+        help="set a metadata value (e.g. body_mass_kg=72.5, subject_id=SEL-014); repeatable",
+    )
+    p.add_argument(
+        "--max-mb",
+        type=float,
+        default=DEFAULT_MAX_BYTES / 1048576,
+        help=f"reject files larger than this many MB (default {DEFAULT_MAX_BYTES / 1048576:g}; 1 MB = 1,048,576 bytes)",
+    )
+    p.set_defaults(func=run)
+    return p
+
+
+def _pairs(items: list[str], option: str, example: str) -> list[tuple[str, str]]:
+    out = []
+    for item in items:
+        key, sep, value = item.rpartition("=")
+        if not sep or not key.strip():
+            raise InvalidParameter(option, f"KEY=VALUE, e.g. {example}", item)
+        out.append((key.strip(), value.strip()))
+    return out
+
+
+def _sheet(value: str | None, data: bytes, file_name: str) -> str | int | None:
+    if value is None or container_kind(data) != "xlsx":
+        return value
+    names = list_sheets(data, file_name=file_name)
+    if value in names:
+        return value
+    if value.isdigit() and 1 <= int(value) <= len(names):
+        return int(value) - 1
+    raise ImportRejected(Problem(f"there is no sheet {value!r}", f"choose one of: {', '.join(names)}", file_name))
+
+
+def run(args: argparse.Namespace) -> int:
+    path: Path = args.file
+    if not args.max_mb > 0:
+        raise InvalidParameter("--max-mb", "a positive number", args.max_mb)
+    max_bytes = int(args.max_mb * 1048576)
+    mapping = load_profile(args.profile) if args.profile else None
+    overrides = _pairs(args.map, "--map", '"Oxygen uptake=vo2_ml_min"')
+    if overrides:
+        explicit = ColumnMapping(dict(overrides))
+        mapping = mapping.overridden_by(explicit) if mapping else explicit
+    meta = dict(_pairs(args.set, "--set", "body_mass_kg=72.5"))
+    try:
+        size = path.stat().st_size
+    except OSError as exc:
+        raise ImportRejected(
+            Problem("the file cannot be opened" + (f" ({exc.strerror})" if exc.strerror else ""), "check the path", str(path))
+        ) from None
+    if path.is_dir():
+        raise ImportRejected(Problem("this is a folder, not a file", "give the path of the export file", str(path)))
+    check_size(size, max_bytes=max_bytes, file_name=path.name)
+    data = path.read_bytes()
+    outcome = import_bytes(
+        data,
+        file_name=path.name,
+        mapping=mapping,
+        sheet=_sheet(args.sheet, data, path.name),
+        gas_unit=args.gas_unit,
+        time_format=args.time_format,
+        meta_overrides=meta,
+        max_bytes=max_bytes,
+    )
+    saved = save_import(outcome, data, out_dir=args.out, original_name=path.name)
+    verb = "replaced" if saved.session_replaced else "wrote"
+    print(f"Imported '{path.name}': {verb} {saved.session_path}")
+    for line in describe_outcome(outcome):
+        print(f"  {line}")
+    kept = "kept" if saved.original_was_new else "already kept (identical)"
+    print(f"  original {kept}: {saved.original_path}")
+    if args.save_profile:
+        save_profile(outcome.mapping, args.save_profile)
+        print(f"  mapping profile saved: {args.save_profile}")
+    return 0
