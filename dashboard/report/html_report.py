@@ -204,13 +204,14 @@ _ZONE_RANGES: tuple[tuple[str, str, str, int], ...] = (
     ("Heart rate", "hr", "beats/min", 0),
     ("Work rate", "work", "W", 0),
     ("Speed", "speed", "km/h", 1),
+    ("Grade", "grade", "%", 1),
     ("VO2", "vo2", "mL/min", 0),
 )
 
 
 def _zone_range(zone: Mapping[str, Any], stem: str, digits: int) -> str | None:
-    lows = [k for k in zone if k.startswith(stem + "_") and ("low" in k or "from" in k or "min" == k.split("_")[-1])]
-    highs = [k for k in zone if k.startswith(stem + "_") and ("high" in k or "to" in k or "max" == k.split("_")[-1])]
+    lows = [k for k in zone if k.startswith(stem + "_low")]
+    highs = [k for k in zone if k.startswith(stem + "_high")]
     if not lows and not highs:
         return None
     lo = _number(zone.get(lows[0])) if lows else None

@@ -1,0 +1,142 @@
+"""Oxygen dissociation curves with the arterial and venous points of each exercise state.
+
+The curves are drawn with :func:`analysis.oxygen.saturation` (the same model and conditions the
+comparison used); the points come from the comparison table of
+:func:`analysis.oxygen.oxygen_comparison`. No result is computed here.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+from typing import Any
+
+import numpy as np
+import pandas as pd
+import plotly.graph_objects as go
+
+from analysis.oxygen import MODEL_CONDITIONS, saturation
+from dashboard import palette
+from dashboard.charts._common import BASE_LAYOUT
+
+#: Colour and dash of each state's curve and points (rest first, as in the comparison).
+STATE_STYLE: dict[str, dict[str, str]] = {
+    "rest": {"color": palette.BLACK, "dash": "solid", "symbol": "circle"},
+    "vt1": {"color": palette.ORANGE, "dash": "dash", "symbol": "square"},
+    "vt2": {"color": palette.REDDISH_PURPLE, "dash": "dot", "symbol": "diamond"},
+    "peak": {"color": palette.VERMILLION, "dash": "dashdot", "symbol": "triangle-up"},
+}
+STATE_LABEL: dict[str, str] = {"rest": "Rest", "vt1": "VT1", "vt2": "VT2", "peak": "Peak"}
+
+#: PO2 grid of the drawn curves (mmHg).
+PO2_GRID_MMHG = np.linspace(1.0, 120.0, 240)
+
+
+def curve_conditions(conditions: Any, *, model: str) -> dict[str, float]:
+    """The conditions ``model`` applies (:meth:`StateConditions.curve_kwargs`, or a plain mapping)."""
+    if hasattr(conditions, "curve_kwargs"):
+        return conditions.curve_kwargs(model)
+    return {k: float(v) for k, v in conditions.items() if k in MODEL_CONDITIONS.get(model, ())}
+
+
+def dissociation_figure(
+    curves: Mapping[str, Any],
+    *,
+    model: str,
+    points: pd.DataFrame | None = None,
+    p50_mmhg: float | None = None,
+    hill_n: float | None = None,
+) -> go.Figure:
+    """Saturation (%) against PO2 (mmHg) for each state's conditions, with blood points.
+
+    Parameters
+    ----------
+    curves : mapping label -> StateConditions
+        Conditions of each curve (:class:`analysis.oxygen.StateConditions` or a mapping with
+        ``temperature_c``, ``ph``, ``pco2_mmhg``, ``dpg_mmol_l``, ``base_excess_mmol_l``);
+        only those the model applies shape the curve.
+    model : str
+        Dissociation model (as passed to :func:`analysis.oxygen.saturation`).
+    points : pandas.DataFrame, optional
+        Columns ``state``, ``site`` ("arterial" or "venous"), ``po2_mmhg``, ``saturation``
+        (fraction 0-1). Venous points are open markers, arterial filled.
+    p50_mmhg, hill_n : float, optional
+        For ``model="hill"``.
+    """
+    fig = go.Figure()
+    extra = {"p50_mmhg": p50_mmhg, "hill_n": hill_n} if model == "hill" else {}
+    for state, conds in curves.items():
+        style = STATE_STYLE.get(state, {"color": palette.GREY, "dash": "solid", "symbol": "circle"})
+        s = saturation(PO2_GRID_MMHG, model=model, **curve_conditions(conds, model=model), **extra)
+        cond_text = ", ".join(
+            f"{k.split('_')[0] if k != 'temperature_c' else 'T'} {v:g}" for k, v in curve_conditions(conds, model=model).items()
+        )
+        fig.add_trace(
+            go.Scatter(
+                x=PO2_GRID_MMHG,
+                y=100.0 * np.asarray(s),
+                mode="lines",
+                line={"color": style["color"], "dash": style["dash"], "width": 2},
+                name=f"{STATE_LABEL.get(state, state)} curve" + (f" ({cond_text})" if cond_text else ""),
+                hovertemplate="PO2 %{x:.0f} mmHg<br>S %{y:.1f} %<extra></extra>",
+            )
+        )
+    if points is not None and len(points):
+        for (state, site), part in points.groupby(["state", "site"], sort=False):
+            style = STATE_STYLE.get(state, {"color": palette.GREY, "symbol": "circle"})
+            venous = site == "venous"
+            fig.add_trace(
+                go.Scatter(
+                    x=part["po2_mmhg"],
+                    y=100.0 * part["saturation"].astype(float),
+                    mode="markers",
+                    marker={
+                        "size": 12,
+                        "color": "white" if venous else style["color"],
+                        "symbol": style["symbol"] + ("-open" if venous else ""),
+                        "line": {"color": style["color"], "width": 2},
+                    },
+                    name=f"{STATE_LABEL.get(state, state)} {site} (estimate)",
+                    hovertemplate=f"{STATE_LABEL.get(state, state)} {site}<br>PO2 %{{x:.0f}} mmHg<br>S %{{y:.1f}} %<extra></extra>",
+                )
+            )
+    fig.update_layout(**{**BASE_LAYOUT, "legend": {"orientation": "v", "x": 1.02, "y": 1}})
+    fig.update_xaxes(title_text="PO2 (mmHg)", range=[0, 120])
+    fig.update_yaxes(title_text="Haemoglobin O2 saturation (%)", range=[0, 100])
+    return fig
+
+
+#: Parts of the unloading breakdown: (key in ``unloading_ml_dl``, label, colour).
+UNLOADING_PARTS: tuple[tuple[str, str, str], ...] = (
+    ("po2_fall", "Fall in PO2 (resting curve)", palette.BLUE),
+    ("temperature", "Temperature shift", palette.VERMILLION),
+    ("acid_base", "pH / CO2 shift", palette.ORANGE),
+    ("dpg", "2,3-BPG shift", palette.BLUISH_GREEN),
+)
+
+
+def unloading_figure(states: list[dict]) -> go.Figure:
+    """Stacked bars: O2 unloaded per state (mL/dL) split by cause.
+
+    Parameters
+    ----------
+    states : list of dict
+        ``oxygen["states"]`` of the results JSON; each with ``name`` and ``unloading_ml_dl``
+        (``total``, ``po2_fall``, ``temperature``, ``acid_base``, ``dpg``).
+    """
+    fig = go.Figure()
+    shown = [s for s in states if isinstance(s.get("unloading_ml_dl"), Mapping)]
+    names = [STATE_LABEL.get(s["name"], s["name"]) for s in shown]
+    for key, label, colour in UNLOADING_PARTS:
+        fig.add_trace(
+            go.Bar(
+                x=names,
+                y=[s["unloading_ml_dl"].get(key) for s in shown],
+                name=label,
+                marker_color=colour,
+                hovertemplate="%{x}: %{y:.2f} mL/dL<extra>" + label + "</extra>",
+            )
+        )
+    fig.update_layout(**BASE_LAYOUT, barmode="relative")
+    fig.update_xaxes(title_text="State")
+    fig.update_yaxes(title_text="O2 unloaded (mL O2/dL blood), estimate")
+    return fig

@@ -1,0 +1,73 @@
+"""Helpers shared by the Oxygen path, Progress, Reports and Share links pages.
+
+Choosing a test or a person from the store, and reading the settings a test is analysed with
+(the reviewer's working settings when there are any, else the stored ones). No numbers are
+computed here.
+"""
+
+from __future__ import annotations
+
+import logging
+from typing import Any
+
+import streamlit as st
+
+from dashboard import data, state
+
+log = logging.getLogger("tidemark.dashboard")
+
+
+def person_label(summary: Any, *, show_name: bool = True) -> str:
+    """``"SEL-014 (Ann Example)"`` or just the pseudonymous code."""
+    code = str(getattr(summary, "person_code", None) or getattr(summary, "code", "") or "")
+    name = getattr(summary, "display_name", None)
+    return f"{code} ({name})" if show_name and name else code
+
+
+def test_label(summary: Any, *, show_name: bool = True) -> str:
+    """One line naming a test: person, date, protocol."""
+    bits = [person_label(summary, show_name=show_name), str(summary.test_date or "no date")]
+    if getattr(summary, "protocol", None):
+        bits.append(str(summary.protocol))
+    return " · ".join(bits)
+
+
+def choose_test(store: Any, *, key: str, label: str = "Test") -> Any | None:
+    """A select box of the stored tests (current test first); returns the chosen summary.
+
+    Choosing a test here also makes it the current test for the other pages.
+    """
+    tests = list(store.list_tests())
+    if not tests:
+        st.info("No tests in the library yet. Import one on the Library page.")
+        return None
+    ids = [t.id for t in tests]
+    current = state.current_test_id()
+    index = ids.index(current) if current in ids else 0
+    by_id = {t.id: t for t in tests}
+    chosen = st.selectbox(label, ids, index=index, format_func=lambda i: test_label(by_id[i]), key=key)
+    if chosen != current:
+        state.set_current_test(chosen)
+    return by_id[chosen]
+
+
+def test_settings(store: Any, test_id: int) -> tuple[dict[str, Any], int | None]:
+    """The settings dict and store version a test is shown with.
+
+    The reviewer's unsaved working settings (from the Review page) win; otherwise the stored
+    settings; otherwise the analysis defaults.
+    """
+    working = state.working_settings(test_id)
+    if working is not None:
+        return dict(working.settings), working.version
+    try:
+        settings, version = store.get_settings(test_id)
+    except Exception:  # noqa: BLE001 - fall back to defaults, logged
+        log.exception("settings of test %s could not be read; using defaults", test_id)
+        return data.default_settings_dict(), None
+    return dict(settings or data.default_settings_dict()), version
+
+
+def settings_json(settings: dict[str, Any]) -> str:
+    """The cache key text of a settings dict."""
+    return state.settings_key(settings)

@@ -1,0 +1,182 @@
+"""Coach view: what a share link lets its holder see, read-only.
+
+Rendered by ``app.py`` alone (no navigation) when the URL carries ``?link=TOKEN``. Shows only
+the tests in the link's scope: headline numbers, thresholds, zones, charts and the report
+download. Nothing can be changed; no other person is reachable; the person is named by their
+pseudonymous code unless the reviewer chose to show the display name.
+
+An expired, revoked, malformed or unknown token gets exactly the same plain page
+(:func:`render_invalid`), with no data and no hint which case applied.
+"""
+
+from __future__ import annotations
+
+import logging
+import re
+from typing import Any
+
+import pandas as pd
+import streamlit as st
+
+from dashboard import data, state
+from dashboard.pages._test_choice import test_settings
+from dashboard.report import CAUTIONS, headline_rows, zone_rows
+from dashboard.report.assemble import build_test_report, report_figures, report_file_name
+from dashboard.report.html_report import THRESHOLD_ROWS, format_number, threshold_source
+
+log = logging.getLogger("tidemark.dashboard")
+
+#: The only text shown for a link that does not open (any reason).
+INVALID_TEXT = "This link is not valid."
+
+#: Token shape accepted before asking the store (URL-safe base64, as ``secrets.token_urlsafe``).
+_TOKEN_SHAPE = re.compile(r"^[A-Za-z0-9_-]{16,128}$")
+
+#: What a share may show; a scope without sections shows all of them.
+SECTIONS: tuple[str, ...] = ("headline", "zones", "charts", "report")
+
+
+def resolve_scope(store: Any, token: Any) -> Any | None:
+    """The store's share scope for ``token``, or ``None`` for any token that does not open.
+
+    Malformed tokens are refused before the store is asked; store errors are logged and also
+    give ``None`` so that the page cannot tell the cases apart.
+    """
+    if not isinstance(token, str) or not _TOKEN_SHAPE.match(token):
+        return None
+    try:
+        scope = store.resolve_share(token)
+    except Exception:  # noqa: BLE001 - same plain page for every failure, details in the log
+        log.exception("share link could not be resolved")
+        return None
+    if scope is None or not tuple(getattr(scope, "test_ids", ()) or ()):
+        return None
+    return scope
+
+
+def render_invalid() -> None:
+    """The one page every unusable link gets."""
+    st.title("Tidemark")
+    st.write(INVALID_TEXT)
+
+
+def _allowed(scope: Any, section: str) -> bool:
+    sections = tuple(getattr(scope, "sections", ()) or ())
+    return not sections or section in sections
+
+
+def _coach_label(summary: Any, *, show_name: bool) -> str:
+    if show_name and summary.display_name:
+        return str(summary.display_name)
+    return str(summary.person_code)
+
+
+def render() -> None:
+    """Render the coach view for the token in the URL (or session state)."""
+    token = state.share_token()
+    if token is None:
+        token = st.query_params.get("link")
+    try:
+        store = data.get_store()
+    except Exception:  # noqa: BLE001 - never reveal server problems on a public link
+        log.exception("store could not be opened for a coach link")
+        render_invalid()
+        return
+    scope = resolve_scope(store, token)
+    if scope is None:
+        render_invalid()
+        return
+    render_scope(store, scope)
+
+
+def render_scope(store: Any, scope: Any) -> None:
+    """The read-only results of the tests a valid share covers."""
+    show_name = bool(getattr(scope, "show_name", False))
+    summaries = store.list_tests(test_ids=tuple(scope.test_ids))
+    summaries = [s for s in summaries if s.id in set(scope.test_ids)]
+    if not summaries:
+        render_invalid()
+        return
+    summaries.sort(key=lambda s: (str(s.test_date or ""), s.id))
+    by_id = {s.id: s for s in summaries}
+
+    st.title(f"Exercise test results — {_coach_label(summaries[0], show_name=show_name)}")
+    st.caption("Read-only view shared by the Saltmarsh Exercise Lab.")
+    st.warning(" ".join(CAUTIONS))
+    if len(summaries) > 1:
+        test_id = st.selectbox(
+            "Test",
+            [s.id for s in summaries],
+            index=len(summaries) - 1,
+            format_func=lambda i: " · ".join(x for x in (str(by_id[i].test_date or "no date"), by_id[i].protocol or "") if x),
+            key="coach_test",
+        )
+    else:
+        test_id = summaries[0].id
+    summary = by_id[test_id]
+    if len(summaries) == 1:
+        st.subheader(" · ".join(x for x in (str(summary.test_date or ""), summary.protocol or "") if x) or "Test")
+
+    settings, version = stored_settings(store, test_id)
+    results = data.analyze(test_id, state.settings_key(settings))
+    results_json = data.results_json(test_id, state.settings_key(settings))
+
+    if _allowed(scope, "headline"):
+        rows = headline_rows(results_json)
+        cols = st.columns(min(4, max(1, len(rows))))
+        for i, row in enumerate(rows):
+            cols[i % len(cols)].metric(
+                f"{row['label']} ({row['unit']})" if row["unit"] else row["label"], row["value"], help=row["method"] or None
+            )
+        st.markdown("**Ventilatory thresholds (estimates)**")
+        st.dataframe(threshold_frame(results_json), hide_index=True, width="stretch")
+    if _allowed(scope, "zones"):
+        zones = zone_rows(results_json)
+        st.markdown("**Training zones**")
+        if zones:
+            st.dataframe(pd.DataFrame(zones), hide_index=True, width="stretch")
+        else:
+            st.write("No zones for this test (thresholds not found).")
+    session = data.load_session(test_id)
+    if _allowed(scope, "charts"):
+        for title, fig in report_figures(results, session):
+            st.markdown(f"**{title}**")
+            st.plotly_chart(fig, width="stretch", key=f"coach_chart_{title}")
+    if _allowed(scope, "report"):
+        html = build_test_report(store, test_id, results, session, version=version, show_name=show_name)
+        st.download_button(
+            "Download the report (HTML)",
+            html.encode("utf-8"),
+            file_name=report_file_name(summary),
+            mime="text/html",
+            key="coach_report",
+        )
+
+
+def stored_settings(store: Any, test_id: int) -> tuple[dict[str, Any], int | None]:
+    """The reviewer's stored settings (a coach never has working settings of their own)."""
+    try:
+        settings, version = store.get_settings(test_id)
+    except Exception:  # noqa: BLE001 - fall back to the analysis defaults
+        log.exception("settings of shared test %s could not be read", test_id)
+        return test_settings(store, test_id)
+    return dict(settings or data.default_settings_dict()), version
+
+
+def threshold_frame(results_json: dict[str, Any]) -> pd.DataFrame:
+    """VT1/VT2 rows for display: values formatted from the results JSON, manual marked."""
+    rows = []
+    for kind, name in (("vt1", "VT1"), ("vt2", "VT2 / RCP")):
+        t = results_json.get(kind)
+        row = {"Threshold": name}
+        if not isinstance(t, dict):
+            row["Set"] = "not found"
+            rows.append(row)
+            continue
+        for label, key, unit, digits in THRESHOLD_ROWS:
+            if t.get(key) is not None:
+                row[f"{label} ({unit})"] = format_number(t.get(key), digits)
+        row["Method"] = str(t.get("method") or "")
+        row["Set"] = threshold_source(t)
+        rows.append(row)
+    return pd.DataFrame(rows).fillna("–")

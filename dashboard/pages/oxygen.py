@@ -1,0 +1,263 @@
+"""Oxygen path page: Fick extraction against the haemoglobin dissociation curve.
+
+For rest, VT1, VT2 and peak: the dissociation curves under resting and exercise conditions
+with the arterial and implied venous points, the Fick-versus-curve table and the breakdown of
+unloading by cause. The conditions are editable; the page puts them into the analysis settings
+(``oxygen``) and shows what :func:`analysis.pipeline.analyze_session` — which calls
+:func:`analysis.oxygen.oxygen_comparison` — returns. Nothing is computed here.
+"""
+
+from __future__ import annotations
+
+import copy
+import logging
+from dataclasses import asdict
+from typing import Any
+
+import pandas as pd
+import streamlit as st
+
+from analysis.oxygen import CAUTION, DEFAULT_CONDITIONS, STATE_NAMES, StateConditions
+from analysis.oxygen.comparison import COMPARISON_MODELS
+from dashboard import data, state
+from dashboard.charts.oxygen_curves import STATE_LABEL, dissociation_figure, unloading_figure
+from dashboard.pages._test_choice import choose_test, settings_json, test_settings
+from dashboard.report.html_report import format_number
+
+log = logging.getLogger("tidemark.dashboard")
+
+MODEL_LABELS: dict[str, str] = {
+    "siggaard_andersen": "Siggaard-Andersen 1984 (pH, base excess, 2,3-BPG, temperature)",
+    "severinghaus": "Severinghaus 1979 (pH, PCO2, temperature)",
+}
+
+#: Editable conditions: field, label, step, min, max.
+CONDITION_FIELDS: tuple[tuple[str, str, float, float, float], ...] = (
+    ("temperature_c", "Temperature (°C)", 0.1, 30.0, 43.0),
+    ("ph", "pH", 0.01, 6.9, 7.7),
+    ("pco2_mmhg", "PCO2 (mmHg)", 1.0, 15.0, 120.0),
+    ("dpg_mmol_l", "2,3-BPG (mmol/L)", 0.1, 1.0, 12.0),
+    ("base_excess_mmol_l", "Base excess (mmol/L)", 0.5, -30.0, 15.0),
+)
+
+DEFAULT_PAO2_MMHG = 95.0
+DEFAULT_SPO2_PCT = 97.0
+
+
+def widget_key(state_name: str, field: str) -> str:
+    """Session-state key of one condition input (tests set these)."""
+    return f"ox_{state_name}_{field}"
+
+
+def oxygen_settings(
+    *,
+    model: str,
+    pao2_mmhg: float,
+    spo2_pct: float | None,
+    conditions: dict[str, dict[str, float]],
+    q_l_min: dict[str, float],
+) -> dict[str, Any]:
+    """The ``oxygen`` entry of the analysis settings, in the form the pipeline reads."""
+    out: dict[str, Any] = {"model": model, "pao2_mmhg": float(pao2_mmhg), "conditions": conditions}
+    if spo2_pct is not None:
+        out["spo2_pct"] = float(spo2_pct)
+    if q_l_min:
+        out["q_l_min"] = {k: float(v) for k, v in q_l_min.items()}
+    return out
+
+
+def with_oxygen(settings: dict[str, Any], oxygen: dict[str, Any], *, hb_g_dl: float | None) -> dict[str, Any]:
+    """A copy of ``settings`` with the oxygen conditions (and an Hb override when given)."""
+    new = copy.deepcopy(settings)
+    new["oxygen"] = oxygen
+    if hb_g_dl is not None:
+        meta = dict(new.get("metadata") or {})
+        meta["hb_g_dl"] = float(hb_g_dl)
+        new["metadata"] = meta
+    return new
+
+
+def points_frame(oxygen: dict[str, Any]) -> pd.DataFrame:
+    """Arterial and venous points of each state for the curve chart (values from the JSON)."""
+    rows = []
+    seen_arterial = set()
+    for s in oxygen.get("states") or []:
+        art = (round(float(oxygen["pao2_mmhg"]), 3), round(float(s["sao2"]), 5))
+        if art not in seen_arterial:
+            seen_arterial.add(art)
+            rows.append({"state": s["name"], "site": "arterial", "po2_mmhg": oxygen["pao2_mmhg"], "saturation": s["sao2"]})
+        if s.get("svo2") is not None and s.get("pvo2_exercise_curve_mmhg") is not None:
+            rows.append({"state": s["name"], "site": "venous", "po2_mmhg": s["pvo2_exercise_curve_mmhg"], "saturation": s["svo2"]})
+    return pd.DataFrame(rows, columns=["state", "site", "po2_mmhg", "saturation"])
+
+
+def comparison_table(oxygen: dict[str, Any]) -> pd.DataFrame:
+    """The Fick-versus-curve table, one row per state, numbers formatted from the JSON."""
+    rows = []
+    for s in oxygen.get("states") or []:
+        rows.append(
+            {
+                "State": STATE_LABEL.get(s["name"], s["name"]),
+                "VO2 (mL/min)": format_number(s.get("vo2_ml_min"), 0),
+                "Q (L/min)": format_number(s.get("q_l_min"), 1),
+                "Q source": "ESTIMATE (Stringer 1997)" if s.get("q_estimated") else "measured",
+                "SV (mL)": format_number(s.get("stroke_volume_ml"), 0),
+                "Fick a-vO2 (mL/dL)": format_number(s.get("avo2_ml_dl"), 1),
+                "CaO2 (mL/dL)": format_number(s.get("cao2_ml_dl"), 1),
+                "Implied CvO2 (mL/dL)": format_number(s.get("cvo2_ml_dl"), 1),
+                "Implied SvO2 (%)": format_number(None if s.get("svo2") is None else 100.0 * s["svo2"], 1),
+                "Venous PO2, resting curve (mmHg)": format_number(s.get("pvo2_resting_curve_mmhg"), 1),
+                "Venous PO2, exercise curve (mmHg)": format_number(s.get("pvo2_exercise_curve_mmhg"), 1),
+                "Most the curve allows (mL/dL)": format_number(s.get("max_avo2_by_curve_ml_dl"), 1),
+            }
+        )
+    return pd.DataFrame(rows)
+
+
+def unloading_table(oxygen: dict[str, Any]) -> pd.DataFrame:
+    """Unloading by cause per state (mL O2/dL), numbers formatted from the JSON."""
+    rows = []
+    for s in oxygen.get("states") or []:
+        parts = s.get("unloading_ml_dl") or {}
+        rows.append(
+            {
+                "State": STATE_LABEL.get(s["name"], s["name"]),
+                "Total (mL/dL)": format_number(parts.get("total"), 2),
+                "Fall in PO2": format_number(parts.get("po2_fall"), 2),
+                "Temperature": format_number(parts.get("temperature"), 2),
+                "pH / CO2": format_number(parts.get("acid_base"), 2),
+                "2,3-BPG": format_number(parts.get("dpg"), 2),
+                "Extra CO2 carried (Haldane, mL/dL)": format_number(s.get("haldane_extra_co2_ml_dl"), 2),
+            }
+        )
+    return pd.DataFrame(rows)
+
+
+def _start_conditions(settings: dict[str, Any]) -> dict[str, StateConditions]:
+    stored = ((settings.get("oxygen") or {}).get("conditions")) or {}
+    out = {}
+    for name in STATE_NAMES:
+        try:
+            out[name] = StateConditions(**stored[name]) if name in stored else DEFAULT_CONDITIONS[name]
+        except (TypeError, ValueError):
+            out[name] = DEFAULT_CONDITIONS[name]
+    return out
+
+
+def condition_inputs(start: dict[str, StateConditions], *, test_id: int) -> dict[str, dict[str, float]]:
+    """Per-state condition inputs (rest, VT1, VT2, peak side by side)."""
+    cols = st.columns(len(STATE_NAMES))
+    out: dict[str, dict[str, float]] = {}
+    for col, name in zip(cols, STATE_NAMES):
+        with col:
+            st.markdown(f"**{STATE_LABEL[name]}**")
+            values = asdict(start[name])
+            out[name] = {
+                field: float(
+                    st.number_input(
+                        label, min_value=lo, max_value=hi, value=float(values[field]), step=step,
+                        key=widget_key(name, field), format="%.2f" if step < 0.1 else "%.1f",
+                    )
+                )
+                for field, label, step, lo, hi in CONDITION_FIELDS
+            }
+    return out
+
+
+def render() -> None:
+    st.title("Oxygen path")
+    st.caption(
+        "Fick extraction against the haemoglobin dissociation curve at rest, VT1, VT2 and peak: "
+        "what venous PO2 the measured uptake implies, and why the blood could give the oxygen up."
+    )
+    st.warning(CAUTION)
+    store = data.get_store()
+    summary = choose_test(store, key="oxygen_test")
+    if summary is None:
+        return
+    test_id = summary.id
+    settings, _version = test_settings(store, test_id)
+    session = data.load_session(test_id)
+    stored_ox = settings.get("oxygen") or {}
+
+    with st.expander("Blood and curve inputs", expanded=True):
+        left, mid, right = st.columns(3)
+        model = left.selectbox(
+            "Curve model", list(COMPARISON_MODELS),
+            index=list(COMPARISON_MODELS).index(stored_ox.get("model", COMPARISON_MODELS[0]))
+            if stored_ox.get("model") in COMPARISON_MODELS else 0,
+            format_func=lambda m: MODEL_LABELS.get(m, m), key="ox_model",
+        )
+        hb_meta = (settings.get("metadata") or {}).get("hb_g_dl") or session.meta.get("hb_g_dl")
+        hb = mid.number_input(
+            "Haemoglobin (g/dL)", min_value=5.0, max_value=25.0,
+            value=float(hb_meta) if hb_meta else 14.0, step=0.1, key="ox_hb",
+            help="From the test's metadata when recorded; otherwise enter the measured value.",
+        )
+        if not hb_meta:
+            mid.caption("No Hb recorded with this test: enter the measured value.")
+        arterial = right.radio("Arterial saturation from", ["PaO2", "SpO2"], horizontal=True, key="ox_arterial")
+        pao2 = right.number_input(
+            "PaO2 (mmHg)", min_value=30.0, max_value=600.0,
+            value=float(stored_ox.get("pao2_mmhg", DEFAULT_PAO2_MMHG)), step=1.0, key="ox_pao2",
+        )
+        spo2 = None
+        if arterial == "SpO2":
+            spo2 = right.number_input(
+                "SpO2 (%)", min_value=50.0, max_value=100.0,
+                value=float(stored_ox.get("spo2_pct") or DEFAULT_SPO2_PCT), step=0.5, key="ox_spo2",
+            )
+        st.markdown("Venous blood conditions per state (defaults: `docs/oxygen.md`; edit when blood gases were measured)")
+        conditions = condition_inputs(_start_conditions(settings), test_id=test_id)
+        st.markdown("Measured cardiac output (L/min; leave 0 to use the Stringer 1997 estimate)")
+        q_cols = st.columns(len(STATE_NAMES))
+        stored_q = stored_ox.get("q_l_min") or {}
+        q = {}
+        for col, name in zip(q_cols, STATE_NAMES):
+            value = col.number_input(
+                f"Q {STATE_LABEL[name]}", min_value=0.0, max_value=45.0,
+                value=float(stored_q.get(name, 0.0)), step=0.1, key=widget_key(name, "q_l_min"),
+            )
+            if value > 0:
+                q[name] = value
+
+    oxygen_in = oxygen_settings(model=model, pao2_mmhg=pao2, spo2_pct=spo2, conditions=conditions, q_l_min=q)
+    hb_override = float(hb) if (not hb_meta or abs(float(hb) - float(hb_meta)) > 1e-9) else None
+    new_settings = with_oxygen(settings, oxygen_in, hb_g_dl=hb_override)
+    results_json = data.results_json(test_id, settings_json(new_settings))
+    oxygen = results_json.get("oxygen")
+    if not oxygen:
+        reasons = [w for w in results_json.get("warnings") or [] if w.lower().startswith("oxygen")]
+        st.error("The oxygen comparison could not be made for this test. " + " ".join(reasons))
+        return
+
+    st.subheader("Dissociation curves")
+    curves = {"rest": StateConditions(**oxygen["resting_conditions"])}
+    for s in oxygen["states"]:
+        if s["name"] != "rest":
+            curves[s["name"]] = StateConditions(**s["conditions"])
+    st.plotly_chart(
+        dissociation_figure(curves, model=oxygen["model"], points=points_frame(oxygen)),
+        width="stretch", key="oxygen_curves",
+    )
+    st.caption("Filled markers: arterial blood. Open markers: venous blood implied by Fick on each state's curve (estimates).")
+
+    st.subheader("Fick against the curve")
+    st.dataframe(comparison_table(oxygen), hide_index=True, width="stretch")
+    st.subheader("Where the unloaded oxygen comes from")
+    st.plotly_chart(unloading_figure(oxygen["states"]), width="stretch", key="oxygen_unloading")
+    st.dataframe(unloading_table(oxygen), hide_index=True, width="stretch")
+    st.caption(f"Method: {oxygen.get('decomposition_method', '')}.")
+
+    notes = list(oxygen.get("notes") or []) + [
+        f"{STATE_LABEL.get(s['name'], s['name'])}: {n}" for s in oxygen["states"] for n in s.get("notes") or []
+    ]
+    for note in notes:
+        st.info(note)
+
+    if state.can_edit() and state.settings_key(new_settings) != state.settings_key(settings):
+        if st.button("Keep these conditions with the test", key="ox_keep"):
+            from dashboard.pages.review import apply_change
+
+            apply_change(store, test_id, new_settings, reason="oxygen conditions changed on the Oxygen path page")
+            st.rerun()

@@ -1,0 +1,166 @@
+"""Progress page: one person across tests.
+
+VO2peak, VO2 at VT1, VE/VCO2 slope and peak O2 pulse over time; change from a chosen baseline
+test with the typical-error band (figures and provenance from :mod:`analysis.progress`); two
+tests overlaid. Every number comes from the analysis of each test.
+"""
+
+from __future__ import annotations
+
+import logging
+from typing import Any
+
+import pandas as pd
+import streamlit as st
+
+from analysis.progress import BAND_METHOD, METRICS, OVERLAYS, TYPICAL_ERRORS, TestRecord, aligned_series, progress_table
+from dashboard import data, state
+from dashboard.charts.progress import overlay_figure, progress_figure
+from dashboard.pages._test_choice import person_label, settings_json, test_settings
+from dashboard.report.html_report import format_number
+
+log = logging.getLogger("tidemark.dashboard")
+
+OVERLAY_LABELS: dict[str, str] = {"vo2_time": "VO2 against time", "vco2_vo2": "VCO2 against VO2 (V-slope plane)"}
+
+#: Decimals shown per followed result.
+DIGITS: dict[str, int] = {
+    "vo2_peak_ml_min": 0,
+    "vo2_peak_ml_kg_min": 1,
+    "vt1_vo2_ml_min": 0,
+    "ve_vco2_slope": 1,
+    "o2_pulse_peak_ml_beat": 1,
+}
+
+
+def averaged_frame(results: Any) -> pd.DataFrame | None:
+    """The averaged breath frame of a ``TestResults`` (``None`` when it has none)."""
+    for name in ("averaged", "avg", "averages"):
+        value = getattr(results, name, None)
+        if isinstance(value, pd.DataFrame):
+            return value
+    return None
+
+
+def change_display(table: pd.DataFrame) -> pd.DataFrame:
+    """The progress table formatted for reading: one row per test and result."""
+    rows = []
+    for _, r in table.iterrows():
+        digits = DIGITS.get(r["metric"], 1)
+        unit = f" {r['unit']}" if r["unit"] else ""
+        rows.append(
+            {
+                "Test date": r["test_date"],
+                "Result": r["metric_label"],
+                "Value": format_number(r["value"], digits) + (unit if pd.notna(r["value"]) else ""),
+                "Change from baseline": "baseline"
+                if r["is_baseline"]
+                else (format_number(r["change"], digits) if pd.isna(r["change"]) else f"{r['change']:+,.{digits}f}".replace(",", "\u2009") + unit),
+                "Change (%)": "–" if r["is_baseline"] or pd.isna(r["change_pct"]) else f"{r['change_pct']:+.1f} %",
+                "Beyond typical error": "yes" if r["beyond_typical_error"] else "no",
+            }
+        )
+    return pd.DataFrame(rows)
+
+
+def typical_error_display() -> pd.DataFrame:
+    """The typical errors in use with their provenance."""
+    return pd.DataFrame(
+        [
+            {"Result": METRICS[k].label, "Typical error (%)": f"{te.pct:g}", "Source": te.provenance}
+            for k, te in TYPICAL_ERRORS.items()
+        ]
+    )
+
+
+def render() -> None:
+    st.title("Progress")
+    st.caption("One person across tests: change from a baseline test against the typical test-retest error.")
+    store = data.get_store()
+    people = list(store.list_people())
+    if not people:
+        st.info("No people in the library yet. Import a test on the Library page.")
+        return
+    by_id = {p.id: p for p in people}
+    current = state.current_test_id()
+    default_person = None
+    if current is not None:
+        try:
+            default_person = store.get_test(current).summary.person_id
+        except Exception:  # noqa: BLE001 - no current test: start with the first person
+            default_person = None
+    ids = list(by_id)
+    person_id = st.selectbox(
+        "Person",
+        ids,
+        index=ids.index(default_person) if default_person in ids else 0,
+        format_func=lambda i: f"{person_label(by_id[i])} — {by_id[i].n_tests} test(s)",
+        key="progress_person",
+    )
+    tests = sorted(store.list_tests(person_id), key=lambda t: (str(t.test_date or ""), t.id))
+    if not tests:
+        st.info("This person has no tests.")
+        return
+
+    records = []
+    results_by_id: dict[int, Any] = {}
+    for t in tests:
+        settings, _ = test_settings(store, t.id)
+        key = settings_json(settings)
+        records.append(TestRecord(t.id, str(t.test_date or ""), data.results_json(t.id, key), label=_test_name(t)))
+        results_by_id[t.id] = key
+
+    test_by_id = {t.id: t for t in tests}
+    baseline_id = st.selectbox(
+        "Baseline test",
+        [t.id for t in tests],
+        index=0,
+        format_func=lambda i: _test_name(test_by_id[i]),
+        key="progress_baseline",
+    )
+    table = progress_table(records, baseline_test_id=int(baseline_id))
+
+    st.subheader("Change from baseline")
+    st.dataframe(change_display(table), hide_index=True, width="stretch")
+    with st.expander("Typical test-retest error used for the band"):
+        st.write(f"Band: {BAND_METHOD}. Figures are estimates of measurement noise, not of a person's biology.")
+        st.dataframe(typical_error_display(), hide_index=True, width="stretch")
+
+    present = [m for m in METRICS if table.loc[table["metric"] == m, "value"].notna().any()]
+    if present:
+        tabs = st.tabs([METRICS[m].label for m in present])
+        for tab, metric in zip(tabs, present):
+            with tab:
+                st.plotly_chart(progress_figure(table, metric), width="stretch", key=f"progress_{metric}")
+
+    st.subheader("Two tests overlaid")
+    if len(tests) < 2:
+        st.info("Overlays need at least two tests of this person.")
+        return
+    chosen = st.multiselect(
+        "Tests to overlay (choose two)",
+        [t.id for t in tests],
+        default=[tests[0].id, tests[-1].id],
+        max_selections=2,
+        format_func=lambda i: _test_name(test_by_id[i]),
+        key="progress_overlay_tests",
+    )
+    overlay = st.radio(
+        "Overlay", list(OVERLAYS), format_func=lambda k: OVERLAY_LABELS[k], horizontal=True, key="progress_overlay"
+    )
+    if len(chosen) != 2:
+        st.info("Choose two tests to overlay.")
+        return
+    frames = {}
+    for tid in chosen:
+        frame = averaged_frame(data.analyze(tid, results_by_id[tid]))
+        if frame is not None:
+            frames[_test_name(test_by_id[tid])] = frame
+    if len(frames) < 2:
+        st.warning("The averaged data of one of these tests is not available.")
+        return
+    st.plotly_chart(overlay_figure(aligned_series(frames, overlay=overlay), overlay=overlay), width="stretch", key="progress_overlay_chart")
+
+
+def _test_name(t: Any) -> str:
+    return " · ".join(x for x in (str(t.test_date or "no date"), t.protocol or "", f"#{t.id}") if x)

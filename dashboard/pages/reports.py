@@ -1,0 +1,85 @@
+"""Reports page: the one-file HTML report, processed data as CSV and the results as JSON.
+
+All content comes from ``analyze_session(...)`` on the chosen test under the settings the
+reviewer is looking at (working settings from the Review page, else the stored ones).
+"""
+
+from __future__ import annotations
+
+import logging
+from typing import Any
+
+import streamlit as st
+
+from analysis.io.result_exports import export_files
+from dashboard import data, state
+from dashboard.pages._test_choice import choose_test, settings_json, test_settings
+from dashboard.report import CAUTIONS, headline_rows
+from dashboard.report.assemble import build_test_report, report_file_name
+
+log = logging.getLogger("tidemark.dashboard")
+
+EXPORT_LABELS: dict[str, str] = {
+    "breaths_csv": "Processed breaths (CSV)",
+    "averages_csv": "Averaged data (CSV)",
+    "results_json": "Results (JSON)",
+}
+
+
+def review_state_text(record: Any, version: int | None, *, saved: bool) -> str:
+    """One line on the review state: version, sign-off, unsaved changes."""
+    if not saved:
+        return "Working settings with unsaved changes — the report says 'unsaved settings'."
+    if version is None:
+        return "No stored analysis version yet."
+    signed = [s for s in record.sign_offs if s.version == version]
+    if signed:
+        s = signed[-1]
+        return f"Version {version}, signed off by {s.signed_by} on {s.signed_at:%Y-%m-%d %H:%M}."
+    return f"Version {version}, not signed off yet (the report is marked as a draft)."
+
+
+def render() -> None:
+    st.title("Reports")
+    st.caption("Download a one-page report, the processed breath data and the results of a test.")
+    store = data.get_store()
+    summary = choose_test(store, key="reports_test")
+    if summary is None:
+        return
+    test_id = summary.id
+    settings, version = test_settings(store, test_id)
+    working = state.working_settings(test_id)
+    saved = working.saved if working is not None else True
+    key = settings_json(settings)
+    results = data.analyze(test_id, key)
+    results_json = data.results_json(test_id, key)
+    session = data.load_session(test_id)
+    record = store.get_test(test_id)
+
+    st.info(review_state_text(record, version, saved=saved))
+    rows = headline_rows(results_json)
+    if rows:
+        cols = st.columns(min(4, len(rows)))
+        for i, row in enumerate(rows):
+            label = f"{row['label']} ({row['unit']})" if row["unit"] else row["label"]
+            cols[i % len(cols)].metric(label, row["value"], help=row["method"] or None)
+
+    show_name = st.checkbox("Show the display name in the report (otherwise the pseudonymous code)", value=False, key="reports_show_name")
+    html = build_test_report(store, test_id, results, session, version=version if saved else None, show_name=show_name)
+    st.download_button(
+        "Download the report (HTML)",
+        html.encode("utf-8"),
+        file_name=report_file_name(summary),
+        mime="text/html",
+        type="primary",
+        key="reports_html",
+    )
+    stem = report_file_name(summary).removesuffix(".html")
+    files = export_files(results, session, stem=stem)
+    cols = st.columns(len(files))
+    for col, (name, f) in zip(cols, files.items()):
+        col.download_button(EXPORT_LABELS.get(name, name), f.data, file_name=f.file_name, mime=f.mime, key=f"reports_{name}")
+    st.caption(
+        "CSV cells that start with =, +, - or @ are neutralised so that a spreadsheet does not run them as formulas."
+    )
+    st.warning(" ".join(CAUTIONS))

@@ -1,0 +1,146 @@
+"""Share links page: reviewers create read-only links for coaches, list them and revoke them.
+
+A link covers one test or all tests of one person, expires after a chosen number of days, and
+shows the pseudonymous code unless the reviewer ticks "show display name". The token is shown
+once, right after creation; the store keeps only its hash.
+"""
+
+from __future__ import annotations
+
+import logging
+from datetime import datetime, timezone
+from typing import Any
+
+import pandas as pd
+import streamlit as st
+
+from dashboard import data, state
+from dashboard.pages._test_choice import person_label, test_label
+
+log = logging.getLogger("tidemark.dashboard")
+
+DEFAULT_EXPIRY_DAYS = 14
+MAX_EXPIRY_DAYS = 365
+SCOPE_TEST = "One test"
+SCOPE_PERSON = "All tests of one person"
+
+
+def share_url(token: str, *, host: str | None = None) -> str:
+    """``http://<host>/?link=<token>`` — the address a coach opens."""
+    return f"http://{host or 'localhost:8630'}/?link={token}"
+
+
+def request_host() -> str | None:
+    """Host (and port) the reviewer reached the dashboard on, from the request headers."""
+    try:
+        host = st.context.headers.get("host")
+    except Exception:  # noqa: BLE001 - not available outside a browser session (tests)
+        return None
+    return str(host) if host else None
+
+
+def share_state(info: Any, *, now: datetime | None = None) -> str:
+    """"active", "revoked" or "expired" for a store ``ShareInfo``."""
+    if getattr(info, "revoked_at", None) is not None:
+        return "revoked"
+    now = now or datetime.now(timezone.utc)
+    expires = info.expires_at
+    if expires.tzinfo is None:
+        expires = expires.replace(tzinfo=timezone.utc)
+    if expires <= now or not getattr(info, "active", True):
+        return "expired"
+    return "active"
+
+
+def shares_frame(shares: list[Any], *, tests: dict[int, Any], people: dict[int, Any]) -> pd.DataFrame:
+    """The list of links for display (newest first)."""
+    rows = []
+    for s in sorted(shares, key=lambda s: s.created_at, reverse=True):
+        if s.test_id is not None and s.test_id in tests:
+            scope = "test: " + test_label(tests[s.test_id])
+        elif s.person_id is not None and s.person_id in people:
+            scope = "person: " + person_label(people[s.person_id])
+        else:
+            scope = f"{len(s.test_ids)} test(s)"
+        rows.append(
+            {
+                "Link": s.id,
+                "Covers": scope,
+                "Name shown": "yes" if s.show_name else "code only",
+                "Created by": s.created_by,
+                "Created": s.created_at.strftime("%Y-%m-%d %H:%M"),
+                "Expires": s.expires_at.strftime("%Y-%m-%d %H:%M"),
+                "State": share_state(s),
+                "Views": int(s.n_views),
+                "Last viewed": s.last_viewed_at.strftime("%Y-%m-%d %H:%M") if s.last_viewed_at else "never",
+            }
+        )
+    return pd.DataFrame(rows)
+
+
+def render() -> None:
+    st.title("Share links")
+    st.caption(
+        "A share link lets a coach see one test or one person's tests — headline numbers, zones, "
+        "charts and the report — read-only, until it expires or is revoked."
+    )
+    store = data.get_store()
+    user = state.current_user()
+    may_share = state.can_edit(user)
+
+    people = {p.id: p for p in store.list_people()}
+    tests = {t.id: t for t in store.list_tests()}
+    if not tests:
+        st.info("No tests in the library yet. Import one on the Library page.")
+        return
+
+    st.subheader("New link")
+    if not may_share:
+        st.info("Only reviewers and administrators can create or revoke links.")
+    else:
+        create_form(store, user, tests=tests, people=people)
+
+    st.subheader("Links")
+    shares = list(store.list_shares())
+    if not shares:
+        st.write("No links yet.")
+        return
+    st.dataframe(shares_frame(shares, tests=tests, people=people), hide_index=True, width="stretch")
+    active = [s for s in shares if share_state(s) == "active"]
+    if may_share and active:
+        with st.form("revoke_share"):
+            share_id = st.selectbox(
+                "Link to revoke",
+                [s.id for s in active],
+                format_func=lambda i: f"Link {i} (expires {next(s for s in active if s.id == i).expires_at:%Y-%m-%d})",
+            )
+            if st.form_submit_button("Revoke link"):
+                store.revoke_share(int(share_id), actor=user)
+                st.success(f"Link {share_id} revoked. It no longer opens.")
+                st.rerun()
+
+
+def create_form(store: Any, user: Any, *, tests: dict[int, Any], people: dict[int, Any]) -> None:
+    """The form that creates a link and shows its address once."""
+    kind = st.radio("Covers", [SCOPE_TEST, SCOPE_PERSON], horizontal=True, key="share_kind")
+    with st.form("new_share"):
+        if kind == SCOPE_TEST:
+            ids = list(tests)
+            current = state.current_test_id()
+            target = st.selectbox(
+                "Test", ids, index=ids.index(current) if current in ids else 0, format_func=lambda i: test_label(tests[i])
+            )
+        else:
+            ids = list(people)
+            target = st.selectbox("Person", ids, format_func=lambda i: person_label(people[i]))
+        days = st.number_input(
+            "Expires after (days)", min_value=1, max_value=MAX_EXPIRY_DAYS, value=DEFAULT_EXPIRY_DAYS, step=1
+        )
+        show_name = st.checkbox("Show the display name (otherwise only the pseudonymous code)", value=False)
+        submitted = st.form_submit_button("Create link", type="primary")
+    if not submitted:
+        return
+    kwargs = {"test_id": int(target)} if kind == SCOPE_TEST else {"person_id": int(target)}
+    token, share_id = store.create_share(actor=user, expires_in_days=int(days), show_name=bool(show_name), **kwargs)
+    st.success(f"Link {share_id} created. Copy it now: the address is shown only this once.")
+    st.code(share_url(token, host=request_host()), language=None)
