@@ -14,6 +14,8 @@ Fick (:mod:`analysis.oxygen.fick`)
 States and comparison (:mod:`analysis.oxygen.states`, :mod:`analysis.oxygen.comparison`)
     :class:`StatePoint`, :class:`StateConditions`, :data:`DEFAULT_CONDITIONS`,
     :func:`oxygen_comparison`, :class:`OxygenComparison`, :class:`StateOxygen`
+Unloading (:mod:`analysis.oxygen.unloading`)
+    :func:`arterial_content_ml_dl`, :func:`curve_unloading_ml_dl`
 Haldane (:mod:`analysis.oxygen.haldane`)
     :func:`blood_co2_content_ml_dl`, :func:`haldane_extra_co2_ml_dl`, :func:`haldane_factor`
 """
@@ -46,6 +48,7 @@ from analysis.oxygen.haldane import (
     haldane_extra_co2_ml_dl,
     haldane_factor,
 )
+from analysis.oxygen.unloading import arterial_content_ml_dl, curve_unloading_ml_dl
 from analysis.oxygen.states import (
     ARTERIAL_CONDITIONS,
     DEFAULT_CONDITIONS,
@@ -73,7 +76,9 @@ __all__ = [
     "avo2_difference_ml_dl",
     "blood_co2_content_at_base_excess_ml_dl",
     "blood_co2_content_ml_dl",
+    "arterial_content_ml_dl",
     "cardiac_output_l_min",
+    "curve_unloading_ml_dl",
     "haldane_extra_co2_ml_dl",
     "haldane_factor",
     "o2_content_ml_dl",

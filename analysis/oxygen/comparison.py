@@ -34,12 +34,13 @@ from scipy.optimize import brentq
 
 from analysis.errors import InvalidParameter
 from analysis.oxygen import _checks
-from analysis.oxygen.content import DEFAULT_HUEFNER_ML_G, o2_content_ml_dl, saturation_from_spo2
+from analysis.oxygen.content import DEFAULT_HUEFNER_ML_G, o2_content_ml_dl
 from analysis.oxygen.curves import saturation
 from analysis.oxygen.decomposition import shapley_parts
 from analysis.oxygen.fick import avo2_difference_ml_dl, stringer_cardiac_output_l_min, stroke_volume_ml
 from analysis.oxygen.haldane import haldane_extra_co2_ml_dl
 from analysis.oxygen.states import ARTERIAL_CONDITIONS, DEFAULT_CONDITIONS, StateConditions, StatePoint
+from analysis.oxygen.unloading import arterial_content_ml_dl
 
 #: Models the comparison accepts (the Hill model has no conditions to shift).
 COMPARISON_MODELS: tuple[str, ...] = ("siggaard_andersen", "severinghaus")
@@ -374,18 +375,14 @@ def _one_state(
 
     # 3. Arterial content.
     spo2 = point.spo2_pct if point.spo2_pct is not None else spo2_pct
-    if spo2 is not None:
-        with warnings.catch_warnings(record=True) as caught:
-            warnings.simplefilter("always")
-            sao2 = saturation_from_spo2(spo2)
-        for w in caught:
-            warnings.warn(w.message, w.category, stacklevel=3)
-            notes.append(f"SpO2 {spo2:g} % is below 90 %: a concern; check the probe and arterial blood.")
-        sao2_source = "spo2"
-    else:
-        sao2 = float(saturation(pao2, **arterial.curve_kwargs(model), model=model))
-        sao2_source = "curve"
-    cao2 = float(o2_content_ml_dl(saturation=sao2, po2_mmhg=pao2, hb_g_dl=hb, huefner_ml_g=k))
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        cao2, sao2, sao2_source = arterial_content_ml_dl(
+            hb_g_dl=hb, pao2_mmhg=pao2, spo2_pct=spo2, arterial_conditions=arterial, model=model, huefner_ml_g=k
+        )
+    for w in caught:
+        warnings.warn(w.message, w.category, stacklevel=3)
+        notes.append(f"SpO2 {spo2:g} % is below 90 %: a concern; check the probe and arterial blood.")
 
     # 4. Implied venous values.
     cvo2 = cao2 - avo2

@@ -7,7 +7,7 @@ import importlib
 
 import pytest
 
-MODULES = ["curves", "content", "fick", "haldane", "decomposition"]
+MODULES = ["curves", "content", "fick", "haldane", "decomposition", "unloading"]
 
 
 @pytest.mark.parametrize("name", MODULES)
