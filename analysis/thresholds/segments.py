@@ -137,12 +137,16 @@ class TurnUp:
     t_stat_after: float
 
 
-def best_turn_up(t: np.ndarray, y: np.ndarray, *, min_segment: int = 4) -> TurnUp | None:
+def best_turn_up(
+    t: np.ndarray, y: np.ndarray, *, min_segment: int = 4, flat_fraction: float = 0.3
+) -> TurnUp | None:
     """Find where a series turns upward: three free lines, the last one rising.
 
     The first two lines absorb an early fall and a flat stretch (e.g. VE/VCO2 falling at the
     start of exercise, then flat); the break between the second and third lines is the turn.
-    Only splits whose third line rises faster than the second are considered. ``t`` sorted.
+    Only splits whose third line rises and whose second line is at most ``flat_fraction`` as
+    steep as the third are considered (a turn from level or falling into a rise, so the first
+    of two successive rises is found, not the steeper second). ``t`` sorted.
     Returns ``None`` when no admissible split exists.
     """
     n = t.size
@@ -158,7 +162,7 @@ def best_turn_up(t: np.ndarray, y: np.ndarray, *, min_segment: int = 4) -> TurnU
     s3, b3, e3 = run_fit(p, j, np.full_like(j, n))
     s2, b2, e2 = run_fit(p, np.where(valid, I, 0), np.where(valid, J, n))
     total = e1[:, None] + e2 + e3[None, :]
-    admissible = valid & np.isfinite(total) & (s3[None, :] > 0) & (s3[None, :] > s2)
+    admissible = valid & np.isfinite(total) & (s3[None, :] > 0) & (s2 <= flat_fraction * s3[None, :])
     if not admissible.any():
         return None
     total = np.where(admissible, total, np.inf)
