@@ -22,7 +22,7 @@ from dashboard import data, state
 from dashboard.pages._test_choice import test_settings
 from dashboard.report import CAUTIONS, headline_rows, zone_rows
 from dashboard.report.assemble import build_test_report, report_figures, report_file_name
-from dashboard.report.html_report import THRESHOLD_ROWS, format_number, threshold_source
+from dashboard.report.html_report import threshold_display
 
 log = logging.getLogger("tidemark.dashboard")
 
@@ -164,19 +164,5 @@ def stored_settings(store: Any, test_id: int) -> tuple[dict[str, Any], int | Non
 
 
 def threshold_frame(results_json: dict[str, Any]) -> pd.DataFrame:
-    """VT1/VT2 rows for display: values formatted from the results JSON, manual marked."""
-    rows = []
-    for kind, name in (("vt1", "VT1"), ("vt2", "VT2 / RCP")):
-        t = results_json.get(kind)
-        row = {"Threshold": name}
-        if not isinstance(t, dict):
-            row["Set"] = "not found"
-            rows.append(row)
-            continue
-        for label, key, unit, digits in THRESHOLD_ROWS:
-            if t.get(key) is not None:
-                row[f"{label} ({unit})"] = format_number(t.get(key), digits)
-        row["Method"] = str(t.get("method") or "")
-        row["Set"] = threshold_source(t)
-        rows.append(row)
-    return pd.DataFrame(rows).fillna("–")
+    """VT1/VT2 rows for display (see :func:`dashboard.report.html_report.threshold_display`)."""
+    return pd.DataFrame(threshold_display(results_json)).fillna("–")

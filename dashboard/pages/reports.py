@@ -9,6 +9,7 @@ from __future__ import annotations
 import logging
 from typing import Any
 
+import pandas as pd
 import streamlit as st
 
 from analysis.io.result_exports import export_files
@@ -16,6 +17,7 @@ from dashboard import data, state
 from dashboard.pages._test_choice import choose_test, settings_json, test_settings
 from dashboard.report import CAUTIONS, headline_rows
 from dashboard.report.assemble import build_test_report, report_file_name
+from dashboard.report.html_report import threshold_display
 
 log = logging.getLogger("tidemark.dashboard")
 
@@ -63,6 +65,9 @@ def render() -> None:
         for i, row in enumerate(rows):
             label = f"{row['label']} ({row['unit']})" if row["unit"] else row["label"]
             cols[i % len(cols)].metric(label, row["value"], help=row["method"] or None)
+
+    st.markdown("**Ventilatory thresholds in this report (estimates)**")
+    st.dataframe(pd.DataFrame(threshold_display(results_json)).fillna("–"), hide_index=True, width="stretch")
 
     show_name = st.checkbox("Show the display name in the report (otherwise the pseudonymous code)", value=False, key="reports_show_name")
     html = build_test_report(store, test_id, results, session, version=version if saved else None, show_name=show_name)

@@ -172,6 +172,25 @@ def threshold_source(threshold: Mapping[str, Any] | None) -> str:
     return "automatic"
 
 
+def threshold_display(results: Mapping[str, Any]) -> list[dict[str, str]]:
+    """VT1/VT2 as display rows (values formatted from the results JSON; manual picks marked)."""
+    rows = []
+    for kind, name in (("vt1", "VT1"), ("vt2", "VT2 / RCP")):
+        t = results.get(kind)
+        row = {"Threshold": name}
+        if not isinstance(t, Mapping):
+            row["Set"] = "not found"
+            rows.append(row)
+            continue
+        for label, key, unit, digits in THRESHOLD_ROWS:
+            if _number(t.get(key)) is not None:
+                row[f"{label} ({unit})"] = format_number(t.get(key), digits)
+        row["Method"] = str(t.get("method") or "")
+        row["Set"] = threshold_source(t)
+        rows.append(row)
+    return rows
+
+
 def _maximality(results: Mapping[str, Any]) -> tuple[str, list[str]]:
     node = results.get("maximality")
     verdict = ""

@@ -1,0 +1,91 @@
+"""Reports page (AppTest): headline numbers equal the analysis, downloads offered, overrides shown."""
+
+from __future__ import annotations
+
+import json
+import re
+
+import pytest
+
+from analysis.io.result_exports import export_files
+from dashboard import state
+from dashboard.pages.review import with_override
+from dashboard.report.assemble import build_test_report
+from tests.dashboard.pages_helpers import analysis_json, parse_number, signed_in
+
+
+def _reports():
+    from dashboard.pages import reports
+
+    reports.render()
+
+
+@pytest.fixture(scope="module")
+def first_test(demo_store):
+    return demo_store.test_ids[0]
+
+
+def test_headline_numbers_equal_analysis(demo_store, page_test, first_test):
+    at = page_test(_reports, **signed_in(demo_store.user), **{state.TEST_ID: first_test})
+    at.run()
+    assert not at.exception
+    expected = analysis_json(demo_store.store, first_test)
+    shown = {m.label: m.value for m in at.metric}
+    assert parse_number(shown["VO2peak (mL/min)"]) == pytest.approx(expected["vo2_peak_ml_min"], abs=0.5)
+    assert parse_number(shown["VE/VCO2 slope"]) == pytest.approx(expected["ve_vco2_slope"], abs=0.05)
+    assert parse_number(shown["RER peak"]) == pytest.approx(expected["rer_peak"], abs=0.005)
+    labels = [b.proto.label for b in at.get("download_button")]
+    assert labels == [
+        "Download the report (HTML)",
+        "Processed breaths (CSV)",
+        "Results (JSON)",
+        "Averaged data (CSV)",
+    ]
+    # the cautions are on the page
+    assert any("not a medical device" in w.value for w in at.warning)
+
+
+def test_manual_vt1_is_shown_and_marked(demo_store, page_test, first_test):
+    store = demo_store.store
+    settings, version = store.get_settings(first_test)
+    auto = analysis_json(store, first_test)
+    new_t = float(auto["vt1"]["time_s"]) + 60.0
+    moved = with_override(settings, kind="vt1", t_s=new_t, reason="test: later break")
+    working = state.WorkingSettings(moved, version, saved=False)
+    at = page_test(
+        _reports,
+        **signed_in(demo_store.user),
+        **{state.TEST_ID: first_test, f"{state.SETTINGS_PREFIX}{first_test}": working},
+    )
+    at.run()
+    assert not at.exception
+    table = at.dataframe[0].value.set_index("Threshold")
+    expected = analysis_json(store, first_test, moved)
+    assert table.loc["VT1", "Set"] == "manual"
+    assert parse_number(table.loc["VT1", "VO2 (mL/min)"]) == pytest.approx(expected["vt1"]["vo2_ml_min"], abs=0.5)
+    assert parse_number(table.loc["VT1", "Time (s)"]) != pytest.approx(auto["vt1"]["time_s"], abs=0.5)
+    assert any("unsaved" in i.value for i in at.info)
+
+
+def test_report_file_matches_analysis(demo_store, first_test):
+    """The file the button offers is build_test_report on the same results (checked directly)."""
+    from analysis.pipeline import analyze_session
+    from analysis.settings import AnalysisSettings
+
+    store = demo_store.store
+    settings, version = store.get_settings(first_test)
+    session = store.load_session(first_test)
+    results = analyze_session(session, AnalysisSettings.from_dict(settings))
+    doc = build_test_report(store, first_test, results, session, version=version, show_name=False)
+    data = results.to_json_dict()
+    vo2 = f"{data['vo2_peak_ml_min']:,.0f}".replace(",", "\u2009")
+    assert vo2 in doc
+    assert "not a medical device" in doc
+    assert "Gas exchange over time" in doc and "V-slope: VCO2 against VO2" in doc
+    assert len(re.findall(r"plotly\.js v\d", doc)) == 1
+    assert re.search(r"<(script|link)[^>]+(src|href)=[\"']https?://", doc) is None
+    files = export_files(results, session, stem="x")
+    assert json.loads(files["results_json"].data)["vo2_peak_ml_min"] == pytest.approx(data["vo2_peak_ml_min"])
+    header = files["breaths_csv"].data.decode().splitlines()[0].split(",")
+    assert header[0] == "t_s" and "excluded_reason" in header
+    assert len(files["breaths_csv"].data.decode().splitlines()) == len(session.breaths) + 1
