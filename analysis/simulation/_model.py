@@ -15,8 +15,9 @@ from analysis.simulation.profiles import ProtocolSpec, SubjectProfile
 #: horizontal and vertical movement, mL O2/kg/min per (m/min) of speed.
 _WALK_H, _WALK_V = 0.1, 1.8
 _RUN_H, _RUN_V = 0.2, 0.9
-#: Speeds below this are walked, at or above run (ACSM equations; common practice).
-RUN_FROM_KMH = 7.5
+#: Speeds below this are walked, at or above it run: the walk-run transition near 2 m/s
+#: (common practice, from memory).
+RUN_FROM_KMH = 7.2
 #: FIO2 of room air (common practice).
 FIO2 = 0.2093
 #: Water-vapour pressure at 37 °C, mmHg (common practice).

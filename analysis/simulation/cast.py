@@ -43,7 +43,7 @@ TRAINED_CYCLIST = SubjectProfile(
     rf_max_bpm=52,
 )
 
-#: Recreational runner, 50 mL/kg/min, treadmill, no plateau.
+#: Recreational runner, 53 mL/kg/min, treadmill, no plateau.
 RECREATIONAL_RUNNER = SubjectProfile(
     subject_id="SEL-0212",
     display_name="Priya Ashdown",
@@ -53,9 +53,9 @@ RECREATIONAL_RUNNER = SubjectProfile(
     body_mass_kg=58.0,
     hb_g_dl=13.6,
     vo2_rest_ml_min=250,
-    vo2max_ml_min=2900,
-    vt1_fraction=0.58,
-    vt2_fraction=0.83,
+    vo2max_ml_min=3100,
+    vt1_fraction=0.66,
+    vt2_fraction=0.87,
     hr_rest_bpm=58,
     hr_max_bpm=186,
     ve_vco2_slope=27.5,
@@ -183,18 +183,19 @@ SUBMAX_SCREEN = SubjectProfile(
 CYCLE_RAMP_30 = ProtocolSpec(mode="cycle", warmup_w=80, ramp_w_per_min=30, recovery_w=40)
 TREADMILL_RAMP = ProtocolSpec(
     mode="treadmill",
-    warmup_speed_kmh=6.0,
-    warmup_grade_pct=1.0,
-    start_speed_kmh=7.5,
-    speed_step_kmh_per_min=1.0,
+    warmup_speed_kmh=7.5,
+    warmup_grade_pct=0.0,
+    start_speed_kmh=8.0,
+    speed_step_kmh_per_min=0.5,
     start_grade_pct=1.0,
+    grade_step_pct_per_min=0.5,
     recovery_speed_kmh=4.0,
     stage_s=60,
 )
 CYCLE_RAMP_10 = ProtocolSpec(mode="cycle", warmup_w=10, ramp_w_per_min=10, recovery_w=10)
 CYCLE_RAMP_12 = ProtocolSpec(mode="cycle", warmup_w=10, ramp_w_per_min=12, recovery_w=10)
 CYCLE_RAMP_8 = ProtocolSpec(mode="cycle", rest_s=240, warmup_w=0, ramp_w_per_min=8, recovery_w=0)
-CYCLE_SUBMAX = ProtocolSpec(mode="cycle", warmup_w=25, ramp_w_per_min=20, recovery_w=25, stop="rer", stop_rer=1.02)
+CYCLE_SUBMAX = ProtocolSpec(mode="cycle", warmup_w=25, ramp_w_per_min=20, recovery_w=25, stop="rer", stop_rer=1.04)
 
 
 class DemoTest(NamedTuple):
@@ -219,7 +220,7 @@ DEMO_TESTS: tuple[DemoTest, ...] = (
     ),
     DemoTest(
         _stem(RECREATIONAL_RUNNER, "2026-02-10", "treadmill-ramp"), RECREATIONAL_RUNNER, TREADMILL_RAMP, 2212,
-        "2026-02-10", "Recreational runner, half-marathon block. Simulated demo data (fictional person).",
+        "2026-02-10", "Recreational runner, half-marathon block; jogging warm-up. Simulated demo data (fictional person).",
     ),
     DemoTest(
         _stem(REHAB_BASELINE, "2025-11-12", "rehab-baseline"), REHAB_BASELINE, CYCLE_RAMP_10, 3318, "2025-11-12",

@@ -142,6 +142,11 @@ def test_plateau_present_for_cyclist_absent_for_runner():
         load = C.WORK_W if C.WORK_W in ex else C.SPEED_KMH
         assert last[load].iloc[-1] > last[load].iloc[0]  # work kept rising
         assert (rise < 150) is expect_plateau
+        if not expect_plateau:  # still rising with the load's O2 demand (ACSM running equation)
+            p = demo.profile
+            cost = treadmill_net_cost_ml_kg_min(last[C.SPEED_KMH].to_numpy()[[0, -1]], last[C.GRADE_PCT].to_numpy()[[0, -1]])
+            demand_rise = (cost[1] - cost[0]) * p.body_mass_kg
+            assert 0.6 * demand_rise < rise < 1.2 * demand_rise
     s = _clean(DEMO_TESTS[0])
     assert s.meta["truth_plateau"] == 1.0
     assert s.meta["truth_vo2peak_ml_min"] == pytest.approx(TRAINED_CYCLIST.vo2max_ml_min, rel=0.01)
