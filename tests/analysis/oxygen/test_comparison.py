@@ -6,6 +6,8 @@ import json
 import math
 
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from analysis.errors import DataQualityWarning, InvalidParameter
 from analysis.oxygen import (
@@ -174,3 +176,29 @@ def test_default_conditions_cover_the_four_states():
 def test_refuses(call, match):
     with pytest.raises(InvalidParameter, match=match):
         call()
+
+
+@settings(max_examples=40, deadline=None)
+@given(
+    vo2=st.floats(200.0, 5000.0),
+    q=st.floats(4.0, 35.0),
+    hb=st.floats(9.0, 18.0),
+    temperature=st.floats(36.0, 40.5),
+    ph=st.floats(7.0, 7.45),
+    pco2=st.floats(35.0, 80.0),
+    dpg=st.floats(3.0, 8.0),
+    be=st.floats(-15.0, 3.0),
+    model=st.sampled_from(["siggaard_andersen", "severinghaus"]),
+)
+def test_parts_always_sum_to_the_fick_difference(vo2, q, hb, temperature, ph, pco2, dpg, be, model):
+    # Shapley parts add up by construction (Shapley 1953); the total is the Fick a-vO2 difference.
+    conds = {"peak": StateConditions(temperature_c=temperature, ph=ph, pco2_mmhg=pco2, dpg_mmol_l=dpg, base_excess_mmol_l=be)}
+    if model == "severinghaus":
+        conds = {"peak": StateConditions(temperature_c=temperature, ph=ph, pco2_mmhg=pco2)}
+    r = oxygen_comparison([StatePoint("peak", vo2, q_l_min=q)], hb_g_dl=hb, conditions=conds, model=model)
+    s = r.state("peak")
+    if s.unloading is None:
+        assert s.cvo2_ml_dl <= 0 and any("impossible" in n for n in s.notes)
+        return
+    u = s.unloading
+    assert u.po2_fall + u.temperature + u.acid_base + u.dpg == pytest.approx(s.avo2_ml_dl, abs=1e-6)
