@@ -1,0 +1,99 @@
+"""Oxygen path page (AppTest): numbers from analysis.oxygen via the pipeline; conditions react."""
+
+from __future__ import annotations
+
+import pandas as pd
+import pytest
+
+from analysis.oxygen import CAUTION, DEFAULT_CONDITIONS, StateConditions
+from dashboard import state
+from dashboard.charts.oxygen_curves import dissociation_figure, unloading_figure
+from dashboard.pages.oxygen import oxygen_settings, points_frame, widget_key, with_oxygen
+from tests.dashboard.pages_helpers import analysis_json, parse_number, signed_in
+
+
+def _oxygen():
+    from dashboard.pages import oxygen
+
+    oxygen.render()
+
+
+def _default_oxygen_settings() -> dict:
+    conds = {k: {f: getattr(v, f) for f in ("temperature_c", "ph", "pco2_mmhg", "dpg_mmol_l", "base_excess_mmol_l")} for k, v in DEFAULT_CONDITIONS.items()}
+    return oxygen_settings(model="siggaard_andersen", pao2_mmhg=95.0, spo2_pct=None, conditions=conds, q_l_min={})
+
+
+def _table(at) -> pd.DataFrame:
+    return at.dataframe[0].value.set_index("State")
+
+
+@pytest.fixture(scope="module")
+def test_id(demo_store):
+    return demo_store.test_ids[0]
+
+
+def test_table_equals_analysis(demo_store, page_test, test_id):
+    at = page_test(_oxygen, **signed_in(demo_store.user), **{state.TEST_ID: test_id})
+    at.run()
+    assert not at.exception
+    assert any(CAUTION in w.value for w in at.warning)
+    settings, _ = demo_store.store.get_settings(test_id)
+    expected = analysis_json(demo_store.store, test_id, with_oxygen(settings, _default_oxygen_settings(), hb_g_dl=None))
+    states = {s["name"]: s for s in expected["oxygen"]["states"]}
+    table = _table(at)
+    assert list(table.index) == ["Rest", "VT1", "VT2", "Peak"]
+    peak = states["peak"]
+    assert parse_number(table.loc["Peak", "Fick a-vO2 (mL/dL)"]) == pytest.approx(peak["avo2_ml_dl"], abs=0.05)
+    assert parse_number(table.loc["Peak", "CaO2 (mL/dL)"]) == pytest.approx(peak["cao2_ml_dl"], abs=0.05)
+    assert parse_number(table.loc["Peak", "Venous PO2, exercise curve (mmHg)"]) == pytest.approx(
+        peak["pvo2_exercise_curve_mmhg"], abs=0.05
+    )
+    assert table.loc["Peak", "Q source"].startswith("ESTIMATE")
+    unloading = at.dataframe[1].value.set_index("State")
+    assert parse_number(unloading.loc["Peak", "Total (mL/dL)"]) == pytest.approx(peak["unloading_ml_dl"]["total"], abs=0.005)
+
+
+def test_warmer_peak_blood_raises_venous_po2(demo_store, page_test, test_id):
+    """Warmer blood shifts the curve right (Severinghaus 1979 Eq 3 / Siggaard-Andersen 1984):
+    the same venous content then sits at a higher PO2."""
+    at = page_test(_oxygen, **signed_in(demo_store.user), **{state.TEST_ID: test_id})
+    at.run()
+    before = parse_number(_table(at).loc["Peak", "Venous PO2, exercise curve (mmHg)"])
+    at.number_input(key=widget_key("peak", "temperature_c")).set_value(41.0).run()
+    assert not at.exception
+    after = parse_number(_table(at).loc["Peak", "Venous PO2, exercise curve (mmHg)"])
+    assert after > before
+    # the resting-curve value and the other states do not move
+    assert parse_number(_table(at).loc["Rest", "Venous PO2, exercise curve (mmHg)"]) > 0
+
+
+def test_measured_q_replaces_estimate(demo_store, page_test, test_id):
+    at = page_test(_oxygen, **signed_in(demo_store.user), **{state.TEST_ID: test_id})
+    at.run()
+    at.number_input(key=widget_key("peak", "q_l_min")).set_value(20.0).run()
+    table = _table(at)
+    assert table.loc["Peak", "Q source"] == "measured"
+    assert parse_number(table.loc["Peak", "Q (L/min)"]) == pytest.approx(20.0)
+    assert table.loc["VT1", "Q source"].startswith("ESTIMATE")
+
+
+def test_charts_from_comparison_json(demo_store, test_id):
+    settings, _ = demo_store.store.get_settings(test_id)
+    ox = analysis_json(demo_store.store, test_id, with_oxygen(settings, _default_oxygen_settings(), hb_g_dl=None))["oxygen"]
+    pts = points_frame(ox)
+    assert set(pts["site"]) == {"arterial", "venous"}
+    assert (pts["site"] == "arterial").sum() == 1  # one arterial point shared by the states
+    curves = {"rest": StateConditions(**ox["resting_conditions"])} | {
+        s["name"]: StateConditions(**s["conditions"]) for s in ox["states"] if s["name"] != "rest"
+    }
+    fig = dissociation_figure(curves, model=ox["model"], points=pts)
+    assert fig.layout.xaxis.title.text == "PO2 (mmHg)"
+    assert "(%)" in fig.layout.yaxis.title.text
+    # Siggaard-Andersen 1984: standard curve S = 0.5 near 26.8 mmHg; the resting venous curve
+    # (pH 7.37) lies slightly right of it, so at 26.8 mmHg it is a little below 50 %.
+    rest = fig.data[0]
+    i = min(range(len(rest.x)), key=lambda j: abs(rest.x[j] - 26.8))
+    assert 40.0 < rest.y[i] < 50.0
+    bars = unloading_figure(ox["states"])
+    assert [t.name for t in bars.data][0] == "Fall in PO2 (resting curve)"
+    assert "mL O2/dL" in bars.layout.yaxis.title.text
