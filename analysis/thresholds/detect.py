@@ -25,6 +25,9 @@ CONSENSUS = "consensus"
 
 VT1_METHODS: tuple[str, ...] = (VSLOPE, EQUIVALENTS, PETO2_NADIR, EXCESS_CO2)
 VT2_METHODS: tuple[str, ...] = (VE_VCO2_BREAK, VE_VCO2_RISE, PETCO2_FALL)
+#: When groups of agreeing picks are equally large, the group holding the earlier method in
+#: this order wins (ordered by accuracy measured on the project simulator, docs/thresholds.md).
+TIE_ORDER: tuple[str, ...] = (VSLOPE, PETO2_NADIR, EQUIVALENTS, EXCESS_CO2, PETCO2_FALL, VE_VCO2_BREAK, VE_VCO2_RISE)
 
 #: The first minute of exercise is left out of the V-slope and VE-vs-VCO2 fits: VCO2 lags VO2
 #: while CO2 stores fill (Beaver et al. 1986 leave out the early, kinetic part).
@@ -300,7 +303,8 @@ def _consensus(kind: str, cands: dict[str, ThresholdPick | None], ex: _Ex) -> tu
         [q for q in range(len(valid)) if abs(vo2[q] - vo2[p]) <= agreement_tolerance_ml_min(vo2[p])]
         for p in range(len(valid))
     ]
-    best = max(range(len(valid)), key=lambda p: (len(support[p]), -p))  # ties -> earlier (primary) method
+    rank = [TIE_ORDER.index(p.method) if p.method in TIE_ORDER else len(TIE_ORDER) for p in valid]
+    best = max(range(len(valid)), key=lambda p: (len(support[p]), -rank[p]))
     cluster = [valid[q] for q in support[best]]
     v = float(np.median([p.vo2_ml_min for p in cluster]))
     t_s = float(np.median([p.t_s for p in cluster]))
@@ -352,7 +356,7 @@ def detect_thresholds(avg: pd.DataFrame, *, phases: pd.Series | None = None) -> 
     * VE/VCO2 nadir-rise: three-line fit of VE/VCO2 on time, the last line rising.
     * PETCO2 fall: the same fit on -PETCO2.
 
-    VT1 is then sought below the VT2 time (as Beaver et al. restrict V-slope to the part
+    VT1 is then sought below the VT2 time (unless VT2 rests on a single method) (as Beaver et al. restrict V-slope to the part
     below the respiratory compensation point), over the warm-up after its first minute plus
     the exercise phase (without a warm-up: the exercise phase after its first minute):
 
@@ -362,10 +366,11 @@ def detect_thresholds(avg: pd.DataFrame, *, phases: pd.Series | None = None) -> 
     * PETO2 nadir: PETO2 turns up.
     * Excess CO2: VCO2^2/VO2 - VCO2 turns up.
 
-    A turn is a three-line fit whose last line rises after a line at most 0.3 times as steep;
+    VT2 picks at or below the VT1 consensus are then set aside. A turn is a three-line fit whose last line rises after a line at most 0.3 times as steep;
     it counts when the last line's slope is at least 3.5 standard errors and its rise
     exceeds a minimum size. The consensus is
-    the median of the largest group of picks within 150 mL/min (or 5 %) of each other;
+    the median of the largest group of picks within 150 mL/min (or 5 %) of each other (ties
+    go to the group holding the more accurate method, :data:`TIE_ORDER`);
     confidence is high with 3 or more agreeing methods, moderate with 2, low with 1. "None
     found" is a valid result (common in patients and in tests stopped early).
 
@@ -399,12 +404,28 @@ def detect_thresholds(avg: pd.DataFrame, *, phases: pd.Series | None = None) -> 
     vt2_c = _vt2_candidates(ex, reasons)
     vt2, agree2 = _consensus("vt2", vt2_c, ex)
     win = _vt1_window(work, ph)
-    below = win.t < vt2.t_s if vt2 is not None else np.ones(win.t.size, dtype=bool)
-    if vt2 is not None and below.sum() < MIN_EXERCISE_POINTS:
-        reasons.append(f"VT1: fewer than {MIN_EXERCISE_POINTS} points before VT2, searched the whole exercise phase")
-        below = np.ones(win.t.size, dtype=bool)
+    everything = np.ones(win.t.size, dtype=bool)
+    below = everything
+    if vt2 is not None and vt2.confidence != "low":
+        below = win.t < vt2.t_s
+        if below.sum() < MIN_EXERCISE_POINTS:
+            reasons.append(f"VT1: fewer than {MIN_EXERCISE_POINTS} points before VT2, searched the whole exercise phase")
+            below = everything
     vt1_c, fit = _vt1_candidates(win.take(below), reasons)
     vt1, agree1 = _consensus("vt1", vt1_c, ex)
+    if vt1 is None and not below.all():
+        vt1_c, fit = _vt1_candidates(win, reasons)
+        vt1, agree1 = _consensus("vt1", vt1_c, ex)
+    if vt1 is not None:  # a VT2 pick at or below VT1 is not an RCP: set it aside
+        late = {}
+        for m, p in vt2_c.items():
+            if p is not None and p.vo2_ml_min <= vt1.vo2_ml_min:
+                reasons.append(f"{m}: its pick ({p.vo2_ml_min:.0f} mL/min) is at or below VT1, set aside")
+                p = None
+            late[m] = p
+        if late != vt2_c:
+            vt2_c = late
+            vt2, agree2 = _consensus("vt2", vt2_c, ex)
     if vt1 is None:
         reasons.append("VT1 not found: " + agree1)
     if vt2 is None:
