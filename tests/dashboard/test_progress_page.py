@@ -1,0 +1,111 @@
+"""Progress page (AppTest): one person across two tests, change from a chosen baseline."""
+
+from __future__ import annotations
+
+import os
+from collections.abc import Iterator
+
+import pytest
+
+from analysis.progress import TestRecord, progress_table
+from dashboard.charts.progress import overlay_figure, progress_figure
+from tests.dashboard.pages_helpers import analysis_json, parse_number, signed_in
+from tests.support import ROOT
+
+#: The demo cardiac-rehab patient's baseline and 12-week follow-up (same person code).
+REHAB_FILES = (
+    "SEL-0318_2025-11-12_rehab-baseline.session.csv",
+    "SEL-0318_2026-02-04_rehab-week12.session.csv",
+)
+
+
+@pytest.fixture(scope="module")
+def rehab_store(tmp_path_factory) -> Iterator[tuple]:
+    from store import open_store
+    from store.demo_loader import load_demo_sessions
+
+    paths = [ROOT / "demo_sessions" / f for f in REHAB_FILES]
+    missing = [p.name for p in paths if not p.is_file()]
+    if missing:
+        pytest.fail(f"demo sessions missing: {missing} (run `tidemark demo`)")
+    url = f"sqlite:///{tmp_path_factory.mktemp('progress-store') / 'tidemark.sqlite'}"
+    ids = load_demo_sessions(paths, url=url)
+    old = os.environ.get("TIDEMARK_STORE")
+    os.environ["TIDEMARK_STORE"] = url
+    store = open_store(url)
+    try:
+        yield store, ids
+    finally:
+        store.close()
+        if old is None:
+            os.environ.pop("TIDEMARK_STORE", None)
+        else:
+            os.environ["TIDEMARK_STORE"] = old
+
+
+def _progress():
+    from dashboard.pages import progress
+
+    progress.render()
+
+
+def _rows(at):
+    table = at.dataframe[0].value
+    return {(r["Test date"], r["Result"]): r for _, r in table.iterrows()}
+
+
+def test_change_from_baseline_equals_analysis(rehab_store, page_test):
+    store, ids = rehab_store
+    at = page_test(_progress, **signed_in(store.demo_user()))
+    at.run()
+    assert not at.exception
+    base, follow = (analysis_json(store, i) for i in ids)
+    rows = _rows(at)
+    assert rows[("2025-11-12", "VO2peak")]["Change from baseline"] == "baseline"
+    shown = parse_number(rows[("2026-02-04", "VO2peak")]["Value"])
+    assert shown == pytest.approx(follow["vo2_peak_ml_min"], abs=0.5)
+    change = parse_number(rows[("2026-02-04", "VO2peak")]["Change from baseline"])
+    assert change == pytest.approx(follow["vo2_peak_ml_min"] - base["vo2_peak_ml_min"], abs=0.6)
+    # The simulated follow-up improved VO2peak (Simulator's demo cast): the change is positive.
+    assert change > 0
+    assert any("from memory" in str(v) for v in at.dataframe[1].value["Source"])
+
+
+def test_choosing_another_baseline_changes_the_changes(rehab_store, page_test):
+    store, ids = rehab_store
+    at = page_test(_progress, **signed_in(store.demo_user()))
+    at.run()
+    before = parse_number(_rows(at)[("2026-02-04", "VE/VCO2 slope")]["Change from baseline"])
+    at.selectbox(key="progress_baseline").set_value(ids[1]).run()
+    assert not at.exception
+    rows = _rows(at)
+    assert rows[("2026-02-04", "VE/VCO2 slope")]["Change from baseline"] == "baseline"
+    after = parse_number(rows[("2025-11-12", "VE/VCO2 slope")]["Change from baseline"])
+    assert after == pytest.approx(-before, abs=0.11)
+
+
+def test_overlay_chart_for_two_tests(rehab_store, page_test):
+    store, ids = rehab_store
+    at = page_test(_progress, **signed_in(store.demo_user()))
+    at.run()
+    assert at.multiselect(key="progress_overlay_tests").value == list(ids)
+    at.radio(key="progress_overlay").set_value("vco2_vo2").run()
+    assert not at.exception
+    assert not at.warning
+
+
+def test_charts_from_progress_table(rehab_store):
+    store, ids = rehab_store
+    records = [TestRecord(i, d, analysis_json(store, i)) for i, d in zip(ids, ("2025-11-12", "2026-02-04"))]
+    table = progress_table(records)
+    fig = progress_figure(table, "vo2_peak_ml_min")
+    names = [t.name for t in fig.data]
+    assert names[:3] == ["Typical-error band", "VO2peak", "Baseline"]
+    assert fig.layout.yaxis.title.text == "VO2peak (mL/min)"
+    assert list(fig.data[1].y) == pytest.approx([r["vo2_peak_ml_min"] for r in (x.results for x in records)])
+    import pandas as pd
+
+    aligned = pd.DataFrame({"test": ["a", "a", "b"], "x": [0.0, 10.0, 0.0], "y": [1.0, 2.0, 3.0]})
+    ov = overlay_figure(aligned, overlay="vo2_time")
+    assert [t.name for t in ov.data] == ["a", "b"]
+    assert ov.layout.xaxis.title.text == "Time from start of exercise (s)"
