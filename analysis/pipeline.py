@@ -61,8 +61,6 @@ EXCLUDED_WARN_FRACTION = 0.10
 _BASE_METHODS: dict[str, str] = {
     "outliers": "breaths beyond the local mean ± k SD of their neighbours are excluded (Lamarra et al. 1987)",
     "phases": "phase column when present, else from the load signal (common practice)",
-    "vo2_peak": "highest value of the averaged exercise data",
-    "rer_peak": "highest averaged VCO2/VO2 during exercise",
     "hr_peak_bpm": "highest averaged heart rate during exercise",
     "ve_vco2_slope": "least-squares slope of VE on VCO2 over the whole exercise phase (Arena et al. 2007)",
     "ve_vco2_slope_to_vt2": "least-squares slope of VE on VCO2 from exercise start to VT2 (Arena et al. 2007)",
@@ -259,7 +257,9 @@ def _indices(
     br = breathing_reserve(ve_peak, mvv_l_min=meta.get("mvv_l_min"), fev1_l=meta.get("fev1_l"))
     out["breathing_reserve"] = json_safe(br) if br else None
 
-    out["energy_expenditure_peak_kcal_min"] = energy_expenditure_kcal_min(peak.vo2_ml_min, vco2[np.nanargmax(vo2)])
+    out["energy_expenditure_peak_kcal_min"] = (
+        energy_expenditure_kcal_min(peak.vo2_ml_min, peak.rer * peak.vo2_ml_min) if peak.rer is not None else None
+    )
     fm = fat_max(t, vo2, vco2, vo2_peak_ml_min=peak.vo2_ml_min)
     if fm is not None:
         row = ex.iloc[fm.position]
@@ -435,7 +435,7 @@ def analyze_session(session: Session, settings: AnalysisSettings | None = None) 
         report = _apply_overrides(detect_thresholds(avg), avg, settings)
         mode = _mode(meta, avg)
         body_mass = meta.get("body_mass_kg")
-        peak = peak_values(ex, body_mass_kg=body_mass)
+        peak = peak_values(ex, body_mass_kg=body_mass, window_s=settings.peak_window_s)
         vo2_peak = peak.vo2_ml_min
 
         def at(pick) -> PointValues | None:  # noqa: ANN001
@@ -444,7 +444,12 @@ def analyze_session(session: Session, settings: AnalysisSettings | None = None) 
             return point_values(avg, avg.index[int(pick.index)], vo2_peak_ml_min=vo2_peak, body_mass_kg=body_mass)
 
         vt1, vt2 = at(report.vt1), at(report.vt2)
-        maximality = assess_maximality(ex, age_y=meta.get("age_y"), plateau_threshold_ml_min=settings.plateau_threshold_ml_min)
+        maximality = assess_maximality(
+            ex,
+            age_y=meta.get("age_y"),
+            plateau_threshold_ml_min=settings.plateau_threshold_ml_min,
+            peak_window_s=settings.peak_window_s,
+        )
         indices = _indices(
             avg=avg, ex=ex, phases_avg=phases_avg, meta=meta, mode=mode, peak=peak, vt1=vt1, vt2=vt2,
             hr_peak=maximality.hr_peak_bpm, warns=warns,
@@ -476,6 +481,9 @@ def analyze_session(session: Session, settings: AnalysisSettings | None = None) 
 
     methods = dict(_BASE_METHODS)
     methods["averaging"] = settings.averaging.label
+    window = f"centred {settings.peak_window_s:g}-s mean of the" if settings.peak_window_s else "value of the"
+    methods["vo2_peak"] = f"highest {window} averaged exercise VO2 (common practice: 30-s peak values)"
+    methods["rer_peak"] = f"highest {window} averaged exercise VCO2 / VO2 (same window as VO2peak)"
     methods["vt1"] = report.vt1.method if report.vt1 else "not found"
     methods["vt2"] = report.vt2.method if report.vt2 else "not found"
     if oxygen is not None:

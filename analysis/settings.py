@@ -12,7 +12,7 @@ from typing import Any
 
 from analysis.breaths import DEFAULT_AVERAGING, AveragingSpec
 from analysis.errors import InvalidParameter, require
-from analysis.maximality import DEFAULT_PLATEAU_ML_MIN
+from analysis.maximality import DEFAULT_PEAK_WINDOW_S, DEFAULT_PLATEAU_ML_MIN
 
 #: Version of the JSON layout written by :meth:`AnalysisSettings.to_dict`.
 SETTINGS_VERSION = 1
@@ -164,6 +164,9 @@ class AnalysisSettings:
         Manual threshold placements.
     plateau_threshold_ml_min : float
         VO2 rise below which the last minute counts as a plateau (default 150 mL/min).
+    peak_window_s : float
+        Centred window over which the averaged VO2 and RER are meaned for peak values
+        (default 30 s; 0 = the averaged rows as they are).
     metadata : MetadataOverrides
         Replacements for the session's body mass, age, sex, height, Hb, MVV, FEV1, mode.
     oxygen : dict
@@ -179,6 +182,7 @@ class AnalysisSettings:
     vt1_override: ThresholdOverride | None = None
     vt2_override: ThresholdOverride | None = None
     plateau_threshold_ml_min: float = DEFAULT_PLATEAU_ML_MIN
+    peak_window_s: float = DEFAULT_PEAK_WINDOW_S
     metadata: MetadataOverrides = field(default_factory=MetadataOverrides)
     oxygen: dict[str, Any] = field(default_factory=dict)
 
@@ -202,6 +206,7 @@ class AnalysisSettings:
             "plateau_threshold_ml_min",
             _finite("plateau_threshold_ml_min", self.plateau_threshold_ml_min, 10, 1000, "mL/min"),
         )
+        object.__setattr__(self, "peak_window_s", _finite("peak_window_s", self.peak_window_s, 0, 120, "s"))
         require(isinstance(self.metadata, MetadataOverrides), "metadata", "a MetadataOverrides", self.metadata)
         require(isinstance(self.oxygen, dict), "oxygen", "a mapping of oxygen conditions", self.oxygen)
 
@@ -216,6 +221,7 @@ class AnalysisSettings:
             "vt1_override": self.vt1_override.to_dict() if self.vt1_override else None,
             "vt2_override": self.vt2_override.to_dict() if self.vt2_override else None,
             "plateau_threshold_ml_min": self.plateau_threshold_ml_min,
+            "peak_window_s": self.peak_window_s,
             "metadata": self.metadata.to_dict(),
             "oxygen": dict(self.oxygen),
         }
@@ -232,7 +238,7 @@ class AnalysisSettings:
         require(isinstance(data, dict), "settings", "a mapping", data)
         known = {
             "version", "averaging", "outliers", "excluded_rows", "restored_rows",
-            "vt1_override", "vt2_override", "plateau_threshold_ml_min", "metadata", "oxygen",
+            "vt1_override", "vt2_override", "plateau_threshold_ml_min", "peak_window_s", "metadata", "oxygen",
         }
         unknown = set(data) - known
         require(not unknown, "settings", f"keys from {sorted(known)}", sorted(unknown))
@@ -260,6 +266,8 @@ class AnalysisSettings:
                 kw[name] = ThresholdOverride.from_dict(data[name])
         if data.get("plateau_threshold_ml_min") is not None:
             kw["plateau_threshold_ml_min"] = data["plateau_threshold_ml_min"]
+        if data.get("peak_window_s") is not None:
+            kw["peak_window_s"] = data["peak_window_s"]
         if data.get("metadata"):
             kw["metadata"] = MetadataOverrides.from_dict(data["metadata"])
         if data.get("oxygen"):

@@ -5,7 +5,7 @@ import pandas as pd
 import pytest
 
 from analysis.errors import AnalysisError, InvalidParameter
-from analysis.maximality import assess_maximality, peak_hr_bpm, peak_rer, peak_values, plateau_test
+from analysis.maximality import assess_maximality, peak_hr_bpm, peak_rer, peak_values, plateau_test, window_means
 
 
 def ramp(*, plateau_s=0.0, rer_end=1.15, hr_end=185.0, end_s=600.0, load="work_w", late_fraction=0.0):
@@ -27,13 +27,33 @@ def ramp(*, plateau_s=0.0, rer_end=1.15, hr_end=185.0, end_s=600.0, load="work_w
 
 def test_peak_values_at_highest_vo2():
     df = ramp()
+    # window 0: the highest averaged row itself
+    p0 = peak_values(df, body_mass_kg=70.0, window_s=0)
+    assert p0.index == df.index[-1]
+    assert p0.vo2_ml_min == pytest.approx(800 + 10 * 25 / 60 * 595)
+    # default centred 30-s window: at the last row it holds the rows at 585 and 595 s
     p = peak_values(df, body_mass_kg=70.0)
     assert p.index == df.index[-1]
-    assert p.vo2_ml_min == pytest.approx(800 + 10 * 25 / 60 * 595)
+    assert p.vo2_ml_min == pytest.approx(800 + 10 * 25 / 60 * 590)
     assert p.vo2_ml_kg_min == pytest.approx(p.vo2_ml_min / 70)
     assert p.pct_vo2_peak == pytest.approx(100.0)
-    assert peak_rer(df) == pytest.approx(1.15)
+    assert peak_rer(df, window_s=0) == pytest.approx(1.15)
     assert peak_hr_bpm(df) == pytest.approx(185.0)
+
+
+def test_window_means_by_hand():
+    t = np.array([0.0, 10.0, 20.0, 30.0])
+    v = np.array([1.0, 2.0, np.nan, 4.0])
+    # window 20 s: each row with its neighbours within ±10 s, NaN ignored
+    np.testing.assert_allclose(window_means(t, v, window_s=20.0), [1.5, 1.5, 3.0, 4.0])
+    np.testing.assert_allclose(window_means(t, v, window_s=0.0), v)
+
+
+def test_peak_window_damps_a_single_high_row():
+    df = ramp()
+    df.loc[30, "vo2_ml_min"] += 3000.0  # one spuriously high averaged row mid-test
+    assert peak_values(df, body_mass_kg=None, window_s=0).index == 30
+    assert peak_values(df, body_mass_kg=None).index == df.index[-1]
 
 
 def test_peak_values_without_exercise():

@@ -1,0 +1,128 @@
+"""analyze_session: JSON keys and types, settings applied, zones, errors."""
+
+import json
+
+import numpy as np
+import pandas as pd
+import pytest
+
+from analysis.errors import AnalysisError
+from analysis.pipeline import analyze_session
+from analysis.results import CAUTIONS, TOP_LEVEL_KEYS
+from analysis.session import Session
+from analysis.settings import AnalysisSettings, MetadataOverrides, ThresholdOverride
+
+THRESHOLD_KEYS = {"vo2_ml_min", "time_s", "hr_bpm", "work_w", "method", "source", "confidence", "vo2_ml_kg_min", "pct_vo2_peak"}
+
+
+@pytest.fixture(scope="module")
+def results(cyclist):
+    return analyze_session(cyclist)
+
+
+def test_json_has_stable_keys_and_is_strict_json(results):
+    d = results.to_json_dict()
+    assert list(d) == list(TOP_LEVEL_KEYS)
+    text = json.dumps(d, allow_nan=False)  # raises on NaN/inf
+    assert json.loads(text)["vo2_peak_ml_min"] == pytest.approx(results.vo2_peak_ml_min)
+    for kind in ("vt1", "vt2"):
+        assert THRESHOLD_KEYS <= set(d[kind])
+    assert d["cautions"] == list(CAUTIONS)
+    assert isinstance(d["warnings"], list) and all(isinstance(w, str) for w in d["warnings"])
+    assert {"method", "size", "label"} <= set(d["averaging"])
+    assert d["breaths"]["excluded"] == len(d["excluded_breaths"])
+
+
+def test_every_headline_number_has_a_method(results):
+    d = results.to_json_dict()
+    for key in ("vo2_peak", "rer_peak", "hr_peak_bpm", "ve_vco2_slope", "oues", "o2_pulse", "vt1", "vt2",
+                "maximality", "predicted_vo2max", "weber_class", "ventilatory_class", "zones", "averaging",
+                "energy_expenditure", "fat_max", "mets", "breathing_reserve", "vo2_work_rate_slope"):
+        assert d["methods"].get(key), key
+
+
+def test_threshold_values_read_from_averaged_rows(results):
+    d = results.to_json_dict()
+    avg = results.averaged
+    row = avg.iloc[d["vt1"]["index"]]
+    assert d["vt1"]["time_s"] == pytest.approx(row["t_s"])
+    assert d["vt1"]["hr_bpm"] == pytest.approx(row["hr_bpm"])
+    assert d["vt1"]["pct_vo2_peak"] == pytest.approx(100 * row["vo2_ml_min"] / d["vo2_peak_ml_min"])
+
+
+def test_zones_match_threshold_hr_and_rise(results):
+    d = results.to_json_dict()
+    zones = d["zones"]["zones"]
+    assert len(zones) == 3
+    assert zones[0]["hr_high_bpm"] == pytest.approx(d["vt1"]["hr_bpm"])
+    assert zones[1]["hr_low_bpm"] == pytest.approx(d["vt1"]["hr_bpm"])
+    assert zones[1]["hr_high_bpm"] == pytest.approx(d["vt2"]["hr_bpm"])
+    assert zones[2]["hr_high_bpm"] == pytest.approx(d["hr_peak_bpm"])
+    highs = [z["hr_high_bpm"] for z in zones]
+    works = [z["work_high_w"] for z in zones]
+    assert highs == sorted(highs) and works == sorted(works)
+
+
+def test_derived_indices_consistent(results):
+    d = results.to_json_dict()
+    ind = d["indices"]
+    # METs = VO2 per kg / 3.5 (common practice)
+    assert ind["mets_peak"] == pytest.approx(d["vo2_peak_ml_kg_min"] / 3.5)
+    # Weber class A above 20 mL/kg/min (Weber & Janicki 1985, from memory)
+    assert d["classes"]["weber"] == "A"
+    # FRIEND % predicted (de Souza e Silva 2018) = measured / predicted
+    p = d["predicted"]
+    assert p["pct_predicted_vo2max"] == pytest.approx(100 * d["vo2_peak_ml_kg_min"] / p["vo2max_friend_ml_kg_min"])
+
+
+def test_threshold_overrides_and_metadata_overrides(cyclist, results):
+    auto = results.to_json_dict()
+    s = AnalysisSettings(
+        vt1_override=ThresholdOverride(t_s=600.0, reason="clear V-slope break on review"),
+        metadata=MetadataOverrides(body_mass_kg=2 * cyclist.meta["body_mass_kg"]),
+    )
+    d = analyze_session(cyclist, s).to_json_dict()
+    assert d["vt1"]["source"] == "manual" and d["vt1"]["method"] == "manual"
+    assert abs(d["vt1"]["time_s"] - 600.0) <= 10.0
+    assert "clear V-slope break" in d["vt1"]["note"]
+    assert d["vo2_peak_ml_kg_min"] == pytest.approx(auto["vo2_peak_ml_kg_min"] / 2)
+    assert d["settings"]["vt1_override"]["t_s"] == 600.0
+
+
+def test_manual_exclusion_and_restoring(cyclist, results):
+    auto_rows = results.excluded_breaths["source_row"].tolist()
+    assert auto_rows, "the simulator injects artifacts that the outlier test should catch"
+    keep_row = int(auto_rows[0])
+    extra = int(cyclist.breaths["source_row"].iloc[100])
+    r = analyze_session(cyclist, AnalysisSettings(excluded_rows=(extra,), restored_rows=(keep_row,)))
+    ex = r.excluded_breaths
+    assert keep_row not in set(ex["source_row"])
+    assert ex.loc[ex["source_row"] == extra, "by"].tolist() == ["reviewer"]
+    assert r.breaths_used == r.breaths_total - len(ex)
+
+
+def test_no_hb_gives_no_oxygen_section(cyclist):
+    meta = {k: v for k, v in cyclist.meta.items() if k != "hb_g_dl"}
+    d = analyze_session(Session(meta, cyclist.breaths, source_name="x.csv")).to_json_dict()
+    assert d["oxygen"] is None
+
+
+def test_missing_required_column():
+    b = pd.DataFrame({"t_s": np.arange(30.0), "vo2_ml_min": 1000.0, "vco2_ml_min": 900.0})
+    with pytest.raises(AnalysisError, match="ve_l_min"):
+        analyze_session(Session({}, b, source_name="short.csv"))
+
+
+def test_too_few_breaths():
+    b = pd.DataFrame({"t_s": np.arange(5.0), "vo2_ml_min": 1000.0, "vco2_ml_min": 900.0, "ve_l_min": 30.0})
+    with pytest.raises(AnalysisError, match="only 5 breaths"):
+        analyze_session(Session({}, b, source_name="tiny.csv"))
+
+
+def test_without_metadata_values_are_null_and_warned(cyclist):
+    meta = {"subject_id": "X"}
+    d = analyze_session(Session(meta, cyclist.breaths, source_name="anon.csv")).to_json_dict()
+    assert d["vo2_peak_ml_kg_min"] is None
+    assert d["predicted"]["vo2max_friend_ml_kg_min"] is None
+    assert any("Body mass unknown" in w for w in d["warnings"])
+    assert any("FRIEND" in w for w in d["warnings"])
