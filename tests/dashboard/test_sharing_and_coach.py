@@ -1,0 +1,169 @@
+"""Share links page and coach view (AppTest).
+
+- Reviewers create a link (the address is shown once), see it listed with its state and view
+  count, and revoke it; viewers cannot create links.
+- The coach view shows exactly the shared test's numbers (equal to the analysis) read-only.
+- Expired, revoked, malformed and unknown tokens render identical pages with no data.
+"""
+
+from __future__ import annotations
+
+import re
+import secrets
+from datetime import datetime, timedelta, timezone
+
+import pytest
+from streamlit.testing.v1 import AppTest
+
+from dashboard import state
+from dashboard.pages.coach import INVALID_TEXT
+from dashboard.pages.sharing import share_state, share_url
+from tests.dashboard.conftest import APPTEST_TIMEOUT_S, make_user
+from tests.dashboard.pages_helpers import analysis_json, page_text, parse_number, signed_in
+from tests.support import ROOT
+
+
+def _sharing():
+    from dashboard.pages import sharing
+
+    sharing.render()
+
+
+def _coach():
+    from dashboard.pages import coach
+
+    coach.render()
+
+
+TOKEN_IN_URL = re.compile(r"^http://[^/]+/\?link=([A-Za-z0-9_-]{43})$")
+
+
+def test_reviewer_creates_link_shown_once_and_listed(demo_store, page_test):
+    store, test_id = demo_store.store, demo_store.test_ids[0]
+    at = page_test(_sharing, **signed_in(demo_store.user), **{state.TEST_ID: test_id})
+    at.run()
+    assert not at.exception
+    at.number_input[0].set_value(30)
+    at.button(key="FormSubmitter:new_share-Create link").click().run()
+    assert not at.exception
+    url = at.code[0].value
+    match = TOKEN_IN_URL.match(url)
+    assert match, url
+    scope = store.resolve_share(match.group(1), log_view=False)
+    assert scope is not None and scope.test_ids == (test_id,)
+    assert not scope.show_name
+    assert scope.expires_at - datetime.now(timezone.utc) > timedelta(days=29)
+    listed = at.dataframe[0].value
+    assert listed.iloc[0]["State"] == "active" and listed.iloc[0]["Views"] == 0
+    assert listed.iloc[0]["Name shown"] == "code only"
+    # Shown once: the next run of the page no longer carries the address.
+    at.run()
+    assert len(at.code) == 0
+
+
+def test_revoke_from_the_page(demo_store, page_test):
+    store, test_id = demo_store.store, demo_store.test_ids[1]
+    token, share_id = store.create_share(actor=demo_store.user, test_id=test_id, expires_in_days=7)
+    at = page_test(_sharing, **signed_in(demo_store.user))
+    at.run()
+    revoke_box = [s for s in at.selectbox if s.label == "Link to revoke"][0]
+    revoke_box.set_value(share_id)
+    at.button(key="FormSubmitter:revoke_share-Revoke link").click().run()
+    assert not at.exception
+    assert store.resolve_share(token, log_view=False) is None
+    info = {s.id: s for s in store.list_shares()}[share_id]
+    assert share_state(info) == "revoked"
+
+
+def test_viewer_cannot_create_links(demo_store, page_test):
+    viewer = make_user(demo_store.store, "viewer.sharing", "viewer")
+    at = page_test(_sharing, **signed_in(viewer))
+    at.run()
+    assert not at.exception
+    assert any("Only reviewers and administrators" in i.value for i in at.info)
+    assert not [b for b in at.button if "Create link" in str(b.label)]
+
+
+def test_share_url_shape():
+    assert share_url("abc", host="lab.example:8630") == "http://lab.example:8630/?link=abc"
+    assert share_url("abc").startswith("http://localhost:8630/?link=")
+
+
+def _coach_run(token: str) -> AppTest:
+    at = AppTest.from_function(_coach, default_timeout=APPTEST_TIMEOUT_S)
+    at.session_state[state.SHARE_TOKEN] = token
+    at.run()
+    return at
+
+
+def test_coach_view_shows_only_the_shared_test(demo_store):
+    store = demo_store.store
+    shared, other = demo_store.test_ids[0], demo_store.test_ids[1]
+    token, _ = store.create_share(actor=demo_store.user, test_id=shared, expires_in_days=3)
+    at = _coach_run(token)
+    assert not at.exception
+    expected = analysis_json(store, shared)
+    metrics = {m.label: m.value for m in at.metric}
+    assert parse_number(metrics["VO2peak (mL/min)"]) == pytest.approx(expected["vo2_peak_ml_min"], abs=0.5)
+    code_shared = store.get_test(shared).summary.person_code
+    code_other = store.get_test(other).summary.person_code
+    text = "\n".join(page_text(at))
+    assert code_shared in at.title[0].value
+    assert code_other not in text
+    assert len(at.selectbox) == 0  # one test: nothing to choose, nobody else reachable
+    assert not at.text_input and not at.number_input and not at.checkbox  # read-only
+    assert [b.proto.label for b in at.get("download_button")] == ["Download the report (HTML)"]
+    assert any("not a medical device" in w.value for w in at.warning)
+
+
+def test_coach_view_without_display_name_shows_the_code_only(demo_store):
+    store, test_id = demo_store.store, demo_store.test_ids[0]
+    summary = store.get_test(test_id).summary
+    token, _ = store.create_share(actor=demo_store.user, test_id=test_id, expires_in_days=3, show_name=False)
+    at = _coach_run(token)
+    if summary.display_name:
+        assert summary.display_name not in "\n".join(page_text(at))
+    assert summary.person_code in at.title[0].value
+
+
+def test_invalid_links_all_render_the_same_plain_page(demo_store):
+    store, test_id = demo_store.store, demo_store.test_ids[0]
+    # expired: created by a store whose clock stood 10 days ago, valid for 1 day
+    from store import open_store
+
+    past = datetime.now(timezone.utc) - timedelta(days=10)
+    old_clock_store = open_store(demo_store.url, clock=lambda: past)
+    try:
+        expired, _ = old_clock_store.create_share(actor=demo_store.user, test_id=test_id, expires_in_days=1)
+    finally:
+        old_clock_store.close()
+    revoked, revoked_id = store.create_share(actor=demo_store.user, test_id=test_id, expires_in_days=5)
+    store.revoke_share(revoked_id, actor=demo_store.user)
+    malformed = "not a token; DROP TABLE share_links"
+    unknown = secrets.token_urlsafe(32)
+
+    pages = {}
+    for name, token in (("expired", expired), ("revoked", revoked), ("malformed", malformed), ("unknown", unknown)):
+        at = _coach_run(token)
+        assert not at.exception, name
+        pages[name] = (
+            page_text(at),
+            len(at.metric),
+            len(at.dataframe),
+            len(at.get("download_button")),
+            len(at.get("plotly_chart")),
+            len(at.selectbox),
+        )
+    first = pages["expired"]
+    assert all(p == first for p in pages.values()), pages
+    assert first == (["Tidemark", INVALID_TEXT], 0, 0, 0, 0, 0)
+
+
+def test_app_with_invalid_link_shows_no_navigation(demo_store):
+    """Through the app entry script: ``?link=`` with an unknown token gives only the plain page."""
+    at = AppTest.from_file(str(ROOT / "dashboard" / "app.py"), default_timeout=APPTEST_TIMEOUT_S)
+    at.query_params["link"] = secrets.token_urlsafe(32)
+    at.run()
+    assert not at.exception
+    assert page_text(at) == ["Tidemark", INVALID_TEXT]
+    assert len(at.sidebar) == 0
