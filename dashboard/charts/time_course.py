@@ -93,7 +93,7 @@ def time_course_figure(
             legendgroup=col,
         )
         if clickable:
-            trace.customdata = np.column_stack([avg[C.T_S], avg[col], np.arange(len(avg))])
+            trace.customdata = np.column_stack([avg[C.T_S], avg[col], np.arange(len(avg))]).tolist()  # plain lists: selection events carry them back
             trace.hovertemplate = "t %{x:.0f} s<br>VO2 %{y:.0f} mL/min<extra></extra>"
         if secondary:
             fig.add_trace(trace, row=row, col=1, secondary_y=True)

@@ -67,7 +67,7 @@ def vslope_figure(
             mode="markers",
             marker={"size": 7, "color": palette.SIGNAL[C.VCO2_ML_MIN], "opacity": 0.75},
             name=DATA_TRACE,
-            customdata=np.column_stack([t, x, np.arange(len(avg))]),
+            customdata=np.column_stack([t, x, np.arange(len(avg))]).tolist(),  # plain lists: selection events carry them back
             hovertemplate="VO2 %{x:.0f} mL/min<br>VCO2 %{y:.0f} mL/min<br>t %{customdata[0]:.0f} s<extra></extra>",
         )
     )

@@ -216,6 +216,20 @@ def threshold_rows(results_json: Mapping[str, Any]) -> list[dict[str, str]]:
     return rows
 
 
+def threshold_lines(results_json: Mapping[str, Any]) -> list[str]:
+    """One sentence per threshold, e.g. ``VT1: 2,741 mL/min at 715 s — automatic (consensus)``."""
+    lines = []
+    for kind in ("vt1", "vt2"):
+        t = results_json.get(kind)
+        name = THRESHOLD_NAMES[kind]
+        if not t:
+            lines.append(f"**{name}:** not found")
+            continue
+        how = "✎ manual (set by a reviewer)" if t.get("source") == "manual" else f"automatic ({t.get('method', '')})"
+        lines.append(f"**{name}:** {_fmt(t.get('vo2_ml_min'), 0, 'mL/min')} at {_fmt(t.get('time_s'), 0, 's')} — {how}")
+    return lines
+
+
 def _header(store: Any, test_id: int, working: state.WorkingSettings) -> Any:
     record = store.get_test(test_id)
     s = record.summary
@@ -469,6 +483,8 @@ def render() -> None:
         st.warning(str(w))
     _headline(results_json)
     st.subheader("Thresholds")
+    for line in threshold_lines(results_json):
+        st.markdown(line)
     st.dataframe(pd.DataFrame(threshold_rows(results_json)), hide_index=True)
     _averaging_selector(store, test_id, working)
     st.caption(f"Averaging in use: {results.settings.averaging.label}")

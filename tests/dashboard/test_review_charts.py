@@ -64,8 +64,8 @@ def test_time_course_has_units_on_every_axis_and_marks_thresholds(avg):
     excluded = next(t for t in fig.data if t.name == "Excluded breath")
     assert list(excluded.customdata) == [5, 6]
     vo2 = next(t for t in fig.data if t.name == VO2_TRACE)
-    assert vo2.customdata.shape == (len(avg), 3)
-    assert vo2.customdata[7, 0] == avg["t_s"].iloc[7] and vo2.customdata[7, 2] == 7
+    assert len(vo2.customdata) == len(avg) and len(vo2.customdata[0]) == 3
+    assert vo2.customdata[7][0] == avg["t_s"].iloc[7] and vo2.customdata[7][2] == 7
     assert vo2.line.color == palette.SIGNAL["vo2_ml_min"]
 
 
@@ -94,7 +94,7 @@ def test_vslope_lines_follow_the_fit_and_candidates_are_distinct(avg):
     assert markers[0].marker.symbol != markers[1].marker.symbol
     assert set(_axis_titles(fig)) == {"VO2 (mL/min)", "VCO2 (mL/min)"}
     data = next(t for t in fig.data if t.name == DATA_TRACE)
-    assert data.customdata[3, 1] == avg["vo2_ml_min"].iloc[3]
+    assert data.customdata[3][1] == avg["vo2_ml_min"].iloc[3]
 
 
 def test_vslope_without_a_fit_still_plots_the_data(avg):
