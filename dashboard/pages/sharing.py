@@ -24,6 +24,14 @@ MAX_EXPIRY_DAYS = 365
 SCOPE_TEST = "One test"
 SCOPE_PERSON = "All tests of one person"
 
+#: What a link may show (the store's section names) and how the form names them.
+SECTION_LABELS: dict[str, str] = {
+    "headline": "Headline numbers and thresholds",
+    "zones": "Training zones",
+    "charts": "Charts",
+    "report": "Report download",
+}
+
 
 def share_url(token: str, *, host: str | None = None) -> str:
     """``http://<host>/?link=<token>`` — the address a coach opens."""
@@ -67,6 +75,7 @@ def shares_frame(shares: list[Any], *, tests: dict[int, Any], people: dict[int, 
                 "Link": s.id,
                 "Covers": scope,
                 "Name shown": "yes" if s.show_name else "code only",
+                "Shows": ", ".join(SECTION_LABELS.get(x, x).split(" ")[0].lower() for x in s.sections),
                 "Created by": s.created_by,
                 "Created": s.created_at.strftime("%Y-%m-%d %H:%M"),
                 "Expires": s.expires_at.strftime("%Y-%m-%d %H:%M"),
@@ -136,11 +145,22 @@ def create_form(store: Any, user: Any, *, tests: dict[int, Any], people: dict[in
         days = st.number_input(
             "Expires after (days)", min_value=1, max_value=MAX_EXPIRY_DAYS, value=DEFAULT_EXPIRY_DAYS, step=1
         )
+        sections = st.multiselect(
+            "What the coach sees",
+            list(SECTION_LABELS),
+            default=list(SECTION_LABELS),
+            format_func=lambda k: SECTION_LABELS[k],
+        )
         show_name = st.checkbox("Show the display name (otherwise only the pseudonymous code)", value=False)
         submitted = st.form_submit_button("Create link", type="primary")
     if not submitted:
         return
+    if not sections:
+        st.error("Choose at least one thing the coach may see.")
+        return
     kwargs = {"test_id": int(target)} if kind == SCOPE_TEST else {"person_id": int(target)}
-    token, share_id = store.create_share(actor=user, expires_in_days=int(days), show_name=bool(show_name), **kwargs)
+    token, share_id = store.create_share(
+        actor=user, expires_in_days=int(days), show_name=bool(show_name), sections=tuple(sections), **kwargs
+    )
     st.success(f"Link {share_id} created. Copy it now: the address is shown only this once.")
     st.code(share_url(token, host=request_host()), language=None)

@@ -167,3 +167,24 @@ def test_app_with_invalid_link_shows_no_navigation(demo_store):
     assert not at.exception
     assert page_text(at) == ["Tidemark", INVALID_TEXT]
     assert len(at.sidebar) == 0
+
+
+def test_person_link_with_chosen_sections(demo_store, page_test):
+    store, test_id = demo_store.store, demo_store.test_ids[0]
+    person_id = store.get_test(test_id).summary.person_id
+    at = page_test(_sharing, **signed_in(demo_store.user))
+    at.run()
+    at.radio(key="share_kind").set_value("All tests of one person").run()
+    at.multiselect[0].set_value(["headline", "report"])
+    at.button(key="FormSubmitter:new_share-Create link").click().run()
+    assert not at.exception
+    token = TOKEN_IN_URL.match(at.code[0].value).group(1)
+    scope = store.resolve_share(token, log_view=False)
+    assert set(scope.test_ids) == {t.id for t in store.list_tests(person_id)}
+    assert set(scope.sections) == {"headline", "report"}
+    coach = _coach_run(token)
+    assert not coach.exception
+    assert len(coach.get("plotly_chart")) == 0  # charts not shared
+    assert not [m for m in page_text(coach) if m == "**Training zones**"]
+    assert len(coach.metric) > 0
+    assert [b.proto.label for b in coach.get("download_button")] == ["Download the report (HTML)"]
