@@ -39,19 +39,14 @@ def _finite(value: Any) -> float | None:
     return v if math.isfinite(v) else None
 
 
-def _dig(results: dict[str, Any], *paths: str) -> float | None:
-    """First finite number found at one of the dotted ``paths`` of ``results``."""
-    for path in paths:
-        node: Any = results
-        for part in path.split("."):
-            if not isinstance(node, dict) or part not in node:
-                node = None
-                break
-            node = node[part]
-        value = _finite(node)
-        if value is not None:
-            return value
-    return None
+def _dig(results: dict[str, Any], path: str) -> float | None:
+    """The finite number at the dotted ``path`` of ``results``, else ``None``."""
+    node: Any = results
+    for part in path.split("."):
+        if not isinstance(node, dict) or part not in node:
+            return None
+        node = node[part]
+    return _finite(node)
 
 
 def flags_to_records(session: Session) -> list[dict[str, Any]]:
@@ -65,25 +60,23 @@ def flags_to_records(session: Session) -> list[dict[str, Any]]:
 class AnalysisBridge:
     """Calls into :mod:`analysis`. Replaceable per store (tests may substitute a stand-in)."""
 
-    def import_file(self, data: bytes, *, file_name: str, mapping: dict[str, Any] | None) -> ImportedFile:
-        from analysis.io import import_bytes
-        from analysis.io.session_file import session_to_text
+    def import_file(
+        self, data: bytes, *, file_name: str, mapping: dict[str, Any] | None, options: dict[str, Any] | None = None,
+    ) -> ImportedFile:
+        """Convert an upload with ``analysis.io.import_bytes`` (raises ImportRejected)."""
+        from analysis.io import ColumnMapping, import_bytes, session_to_text
 
-        outcome = import_bytes(data, file_name=file_name, mapping=self._mapping_object(mapping))
+        outcome = import_bytes(
+            data,
+            file_name=file_name,
+            mapping=None if mapping is None else ColumnMapping.from_dict(mapping),
+            **(options or {}),
+        )
         session = outcome.session
-        used = getattr(outcome, "mapping", None)
-        used_dict = used.to_dict() if used is not None and hasattr(used, "to_dict") else used
-        return ImportedFile(session, session_to_text(session), used_dict, flags_to_records(session))
-
-    @staticmethod
-    def _mapping_object(mapping: dict[str, Any] | None) -> Any:
-        if mapping is None:
-            return None
-        from analysis.io import ColumnMapping  # provided by the import package
-
-        return ColumnMapping.from_dict(mapping)
+        return ImportedFile(session, session_to_text(session), outcome.mapping.to_dict(), flags_to_records(session))
 
     def read_session_text(self, text: str, *, source_name: str) -> Session:
+        """Read the stored session text back with the strict session-file reader."""
         from analysis.io import read_session
 
         return read_session(text.encode("utf-8"), file_name=source_name)
@@ -106,10 +99,11 @@ class AnalysisBridge:
         return analyze_session(session, AnalysisSettings.from_dict(settings)).to_json_dict()
 
     def headline(self, results: dict[str, Any]) -> Headline:
+        """Copy the list columns from ``TestResults.to_json_dict()`` (keys in docs/results.md)."""
         return Headline(
-            vo2peak_ml_min=_dig(results, "vo2peak_ml_min", "peak.vo2peak_ml_min", "maximality.vo2peak_ml_min"),
-            vt1_vo2_ml_min=_dig(results, "vt1_vo2_ml_min", "vt1.vo2_ml_min", "thresholds.vt1.vo2_ml_min"),
-            ve_vco2_slope=_dig(results, "ve_vco2_slope", "efficiency.ve_vco2_slope", "ve_vco2.slope"),
+            vo2peak_ml_min=_dig(results, "vo2_peak_ml_min"),
+            vt1_vo2_ml_min=_dig(results, "vt1.vo2_ml_min"),
+            ve_vco2_slope=_dig(results, "ve_vco2_slope"),
         )
 
 

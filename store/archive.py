@@ -12,6 +12,7 @@ from sqlalchemy.exc import IntegrityError
 from sqlalchemy.orm import Session as DbSession
 
 from analysis.errors import ImportRejected, Problem, require
+from analysis.io import DEFAULT_MAX_BYTES
 from analysis.session import Session
 from store.analysis_bridge import run_analysis
 from store.core import Actor, StoreCore, aware, to_json
@@ -19,9 +20,10 @@ from store.errors import NotFound, StoreError
 from store.models import AnalysisVersion, PersonRow, SignOff, TestRow
 from store.records import ImportResult, PersonSummary, SignOffRecord, TestRecord, TestSummary
 
-#: Largest upload accepted (bytes). A breath-by-breath file of a long test is well under 5 MB
-#: (common practice); anything this big is not a single exercise test.
-MAX_UPLOAD_BYTES = 25 * 1024 * 1024
+#: Largest upload accepted (bytes): the importer's own limit, checked before anything else.
+MAX_UPLOAD_BYTES = DEFAULT_MAX_BYTES
+#: Keyword options of ``analysis.io.import_bytes`` that may be passed and are stored.
+IMPORT_OPTIONS = ("sheet", "gas_unit", "time_format", "meta_overrides")
 #: Longest person code / display name / file name kept (characters).
 MAX_CODE_CHARS = 120
 MAX_NAME_CHARS = 200
@@ -64,6 +66,7 @@ class ArchiveMixin(StoreCore):
         person_code: str | None = None,
         display_name: str | None = None,
         mapping: dict[str, Any] | None = None,
+        options: dict[str, Any] | None = None,
         birth_year: int | None = None,
     ) -> ImportResult:
         """Store one uploaded file as a test, in a single transaction.
@@ -88,6 +91,9 @@ class ArchiveMixin(StoreCore):
             A name shown to staff (and, only when chosen, on a share link).
         mapping : dict, optional
             Column mapping (``ColumnMapping.to_dict()``) for a generic cart export.
+        options : dict, optional
+            Further ``import_bytes`` options: ``sheet``, ``gas_unit``, ``time_format``,
+            ``meta_overrides``. Stored with the test so the conversion can be repeated.
         birth_year : int, optional
             Year of birth, if the lab records it.
 
@@ -117,6 +123,9 @@ class ArchiveMixin(StoreCore):
                     file=name,
                 )
             )
+        options = dict(options or {})
+        require(set(options) <= set(IMPORT_OPTIONS), "options", f"keys among {', '.join(IMPORT_OPTIONS)}",
+                sorted(options))
         data = bytes(data)
         digest = sha256_hex(data)
         existing = self._find_live_by_hash(digest)
@@ -124,7 +133,7 @@ class ArchiveMixin(StoreCore):
             return existing
 
         # Parsing and analysis are pure and may take a moment: done before the transaction.
-        imported = self.analysis.import_file(data, file_name=name, mapping=mapping)
+        imported = self.analysis.import_file(data, file_name=name, mapping=mapping, options=options)
         settings = self.analysis.default_settings(imported.session)
         results, results_error = run_analysis(self.analysis, imported.session, settings)
         headline = self.analysis.headline(results) if results else None
@@ -150,6 +159,7 @@ class ArchiveMixin(StoreCore):
                     raw_bytes=data,
                     session_text=imported.session_text,
                     mapping_json=None if imported.mapping is None else to_json(imported.mapping),
+                    import_options_json=to_json(options),
                     flags_json=to_json(imported.flags),
                     current_version=1,
                     imported_at=now,
@@ -347,6 +357,7 @@ class ArchiveMixin(StoreCore):
             raw_sha256=test.raw_sha256,
             raw_size_bytes=test.raw_size_bytes,
             mapping=None if test.mapping_json is None else json.loads(test.mapping_json),
+            import_options=json.loads(test.import_options_json),
             flags=json.loads(test.flags_json),
             sign_offs=[
                 SignOffRecord(s.test_id, s.version, names.get(s.signed_by, "?"), aware(s.signed_at), s.note)  # type: ignore[arg-type]

@@ -121,6 +121,8 @@ class TestRow(Base):
     session_text: Mapped[str] = mapped_column(Text, deferred=True)
     #: The column mapping used by the import (JSON), ``None`` for native session files.
     mapping_json: Mapped[str | None] = mapped_column(Text)
+    #: Import options used besides the mapping (sheet, gas_unit, time_format, meta_overrides), JSON.
+    import_options_json: Mapped[str] = mapped_column(Text, default="{}", server_default="{}")
     #: Import flags (suspicious rows) as JSON records.
     flags_json: Mapped[str] = mapped_column(Text, default="[]")
     #: Current analysis version; bumped by every settings save (optimistic lock).

@@ -110,6 +110,7 @@ class TestRecord:
     raw_sha256: str
     raw_size_bytes: int
     mapping: dict[str, Any] | None
+    import_options: dict[str, Any]
     flags: list[dict[str, Any]]
     sign_offs: list[SignOffRecord]
     imported_by: str | None

@@ -15,30 +15,21 @@ from store.errors import EditConflict, NotFound, StoreError
 from store.models import AnalysisVersion, AuditEvent, PersonRow, SignOff, TestRow
 from store.records import AuditEntry
 
-_MISSING = object()
+def changed_fields(old: Any, new: Any, prefix: str = "") -> list[tuple[str, Any, Any]]:
+    """``(field path, old, new)`` for every setting that differs.
 
-
-def flatten(settings: dict[str, Any], prefix: str = "") -> dict[str, Any]:
-    """Nested settings as ``{"a.b": value}``; lists and scalars are leaves."""
-    flat: dict[str, Any] = {}
-    for key, value in settings.items():
-        path = f"{prefix}{key}"
-        if isinstance(value, dict) and value:
-            flat.update(flatten(value, path + "."))
-        else:
-            flat[path] = value
-    return flat
-
-
-def changed_fields(old: dict[str, Any], new: dict[str, Any]) -> list[tuple[str, Any, Any]]:
-    """``(field, old, new)`` for every leaf that differs (``None`` for an absent side)."""
-    a, b = flatten(old), flatten(new)
-    out = []
-    for key in sorted(set(a) | set(b)):
-        va, vb = a.get(key, _MISSING), b.get(key, _MISSING)
-        if to_json(None if va is _MISSING else va) != to_json(None if vb is _MISSING else vb) or (va is _MISSING) != (vb is _MISSING):
-            out.append((key, None if va is _MISSING else va, None if vb is _MISSING else vb))
-    return out
+    Nested dicts are compared key by key (``averaging.window_s``); anything else - a list of
+    excluded rows, a threshold override set or cleared - is one field with its whole old and new
+    value. An absent key counts as ``None``.
+    """
+    if isinstance(old, dict) and isinstance(new, dict):
+        out: list[tuple[str, Any, Any]] = []
+        for key in sorted(set(old) | set(new), key=str):
+            out.extend(changed_fields(old.get(key), new.get(key), f"{prefix}{key}."))
+        return out
+    if to_json(old) == to_json(new):
+        return []
+    return [(prefix.rstrip("."), old, new)]
 
 
 class ReviewMixin(ArchiveMixin):

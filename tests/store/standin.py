@@ -40,7 +40,9 @@ def csv_bytes(vo2_peak_ml_min: float, *, n: int = 30, subject: str | None = None
 
 
 class StandInBridge(AnalysisBridge):
-    def import_file(self, data: bytes, *, file_name: str, mapping: dict[str, Any] | None) -> ImportedFile:
+    def import_file(
+        self, data: bytes, *, file_name: str, mapping: dict[str, Any] | None, options: dict[str, Any] | None = None
+    ) -> ImportedFile:
         try:
             text = data.decode("utf-8", errors="strict")
         except UnicodeDecodeError as exc:

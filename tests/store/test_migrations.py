@@ -59,3 +59,33 @@ def test_reopening_and_upgrading_keeps_every_row(store_url, clock):
 def test_foreign_keys_are_enforced(store, clock):
     with pytest.raises(IntegrityError), DbSession(store.engine) as db, db.begin():
         db.add(ShareView(share_id=424242, viewed_at=clock.now))
+
+
+def test_upgrade_from_the_first_revision_keeps_existing_tests(tmp_path):
+    from alembic import command
+
+    from store.migrate import alembic_config
+
+    url = resolve_url(str(tmp_path / "old.sqlite"))
+    engine = make_engine(url)
+    cfg = alembic_config()
+    with engine.begin() as conn:
+        cfg.attributes["connection"] = conn
+        command.upgrade(cfg, "0001")
+    with engine.begin() as conn:
+        conn.exec_driver_sql(
+            "INSERT INTO people (id, code, created_at) VALUES (1, 'SEL-OLD', '2025-06-01 10:00:00')")
+        conn.exec_driver_sql(
+            "INSERT INTO tests (id, person_id, original_file_name, raw_sha256, raw_size_bytes, raw_bytes, "
+            "session_text, flags_json, current_version, imported_at) VALUES (1, 1, 'old.csv', 'ab', 3, X'414243', "
+            "'t_s', '[]', 1, '2025-06-01 10:00:00')")
+    engine.dispose()
+    assert current_revision(make_engine(url)) == "0001"
+    store = open_store(url)
+    try:
+        assert current_revision(store.engine) == head_revision()
+        with store.engine.connect() as conn:
+            row = conn.exec_driver_sql("SELECT raw_bytes, import_options_json FROM tests WHERE id = 1").one()
+        assert bytes(row[0]) == b"ABC" and row[1] == "{}"
+    finally:
+        store.close()

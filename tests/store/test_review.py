@@ -11,7 +11,7 @@ from sqlalchemy.orm import Session as DbSession
 from analysis.errors import InvalidParameter
 from store import EditConflict, NotFound, PermissionDenied, StoreError, User
 from store.models import TestRow
-from store.review import changed_fields, flatten
+from store.review import changed_fields
 from tests.store.conftest import open_test_store
 from tests.store.standin import csv_bytes
 
@@ -62,9 +62,11 @@ class TestSettingsAndAudit:
             store.save_settings(test_id, {"bogus": 1}, actor=users["rhea"], expected_version=1)
         assert store.get_settings(test_id)[1] == 1
 
-    def test_flatten_and_diff_helpers(self):
-        assert flatten({"a": {"b": 1, "c": {"d": [1]}}, "e": {}}) == {"a.b": 1, "a.c.d": [1], "e": {}}
-        assert changed_fields({"a": 1, "b": None}, {"a": 1, "c": 2}) == [("b", None, None), ("c", None, 2)]
+    def test_diff_helper_reports_leaves_and_whole_values(self):
+        assert changed_fields({"a": 1, "b": None}, {"a": 1, "c": 2}) == [("c", None, 2)]
+        override = {"time_s": 412.5, "by": "rhea"}
+        assert changed_fields({"o": None, "x": {"y": 1}}, {"o": override, "x": {"y": 2}}) == [
+            ("o", None, override), ("x.y", 1, 2)]
 
 
 class TestEditConflict:
