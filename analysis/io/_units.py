@@ -2,7 +2,7 @@
 
 Conversion factors are SI definitions (common practice): 1 L = 1000 mL; 1 min = 60 s;
 1 m/s = 3.6 km/h; 1 mile = 1.609344 km (international mile, 1959);
-1 mmHg = 133.322387415 Pa, so 1 kPa = 7.50061683 mmHg.
+1 mmHg = 133.322387415 Pa, so 1 kPa = 7.5006158 mmHg.
 """
 
 from __future__ import annotations
