@@ -1,0 +1,117 @@
+"""Phase detection and ramp rate."""
+
+from __future__ import annotations
+
+import warnings
+
+import numpy as np
+import pandas as pd
+import pytest
+
+from analysis.errors import DataQualityWarning, InvalidParameter
+from analysis.phases import detect_phases, ramp_rate_w_per_min
+
+
+def cycle_test(*, warmup_s: float = 180.0, ramp_w_per_min: float = 25.0, steps_s: float = 0.0) -> pd.DataFrame:
+    """Rest 120 s at 0 W, warm-up at 20 W, ramp (or steps), then 120 s recovery at 20 W."""
+    t = np.arange(0.0, 120 + warmup_s + 600 + 120, 3.0)
+    ramp_t = np.clip(t - 120 - warmup_s, 0, None)
+    if steps_s:
+        ramp_t = np.floor(ramp_t / steps_s) * steps_s
+    w = np.where(t < 120, 0.0, 20.0 + ramp_w_per_min * ramp_t / 60.0)
+    end = 120 + warmup_s + 600
+    w = np.where(t >= end, 20.0, w)
+    return pd.DataFrame({"t_s": t, "vo2_ml_min": 1000.0, "vco2_ml_min": 900.0, "ve_l_min": 30.0, "work_w": w})
+
+
+def test_phase_column_used_as_given():
+    b = cycle_test()
+    b["phase"] = ["rest"] * 10 + [None] * 5 + ["exercise"] * (len(b) - 15)
+    ph = detect_phases(b)
+    assert ph.iloc[:15].tolist() == ["rest"] * 15  # gaps filled from the breath before
+    assert ph.iloc[-1] == "exercise"
+    assert ph.index.equals(b.index)
+
+
+def test_unknown_phase_label_rejected():
+    b = cycle_test()
+    b["phase"] = "sprint"
+    with pytest.raises(InvalidParameter, match="phase"):
+        detect_phases(b)
+
+
+def test_from_work_rate():
+    b = cycle_test()
+    ph = detect_phases(b)
+    t = b["t_s"].to_numpy()
+    # load rules (common practice): no load = rest, first constant load = warm-up, up to the
+    # last breath at peak load = exercise, after the load drops = recovery
+    assert set(ph[t < 120]) == {"rest"}
+    assert set(ph[(t >= 120) & (t < 300)]) == {"warmup"}
+    assert set(ph[(t >= 303) & (t < 900)]) == {"exercise"}
+    assert set(ph[t >= 900]) == {"recovery"}
+
+
+def test_stepped_protocol_first_stage_is_exercise_without_warmup():
+    # 3-minute stages from 20 W straight after rest: the first stage is as long as the others,
+    # so it is exercise, not warm-up
+    b = cycle_test(warmup_s=0.0, steps_s=180.0)
+    ph = detect_phases(b)
+    t = b["t_s"].to_numpy()
+    assert set(ph[(t >= 120) & (t < 300)]) == {"exercise"}
+
+
+def test_treadmill_speed_and_grade():
+    t = np.arange(0.0, 900.0, 3.0)
+    speed = np.where(t < 60, 0.0, np.where(t < 780, 6.0, 3.0))
+    grade = np.where((t >= 240) & (t < 780), (t - 240) / 60.0, 0.0)
+    b = pd.DataFrame({"t_s": t, "vo2_ml_min": 1.0, "vco2_ml_min": 1.0, "ve_l_min": 1.0, "speed_kmh": speed, "grade_pct": grade})
+    ph = detect_phases(b)
+    assert set(ph[t < 60]) == {"rest"}
+    assert set(ph[(t >= 60) & (t < 240)]) == {"warmup"}
+    assert set(ph[(t > 250) & (t < 777)]) == {"exercise"}
+    assert set(ph[t >= 780]) == {"recovery"}
+
+
+def test_no_load_no_phase_warns_and_calls_everything_exercise():
+    b = pd.DataFrame({"t_s": [0.0, 3.0, 6.0], "vo2_ml_min": 1.0, "vco2_ml_min": 1.0, "ve_l_min": 1.0})
+    with pytest.warns(DataQualityWarning, match="every breath is treated as exercise"):
+        ph = detect_phases(b)
+    assert ph.tolist() == ["exercise"] * 3
+
+
+def test_empty():
+    b = pd.DataFrame({"t_s": [], "vo2_ml_min": [], "vco2_ml_min": [], "ve_l_min": []})
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        assert len(detect_phases(b)) == 0
+
+
+class TestRampRate:
+    @pytest.mark.parametrize("rate", [10.0, 25.0, 30.0])
+    def test_continuous_ramp(self, rate):
+        assert ramp_rate_w_per_min(cycle_test(ramp_w_per_min=rate)) == pytest.approx(rate, rel=1e-6)
+
+    def test_stepped_ramp_mean_rate(self):
+        # 25 W every 60 s is 25 W/min on average (Theil-Sen slope of a staircase)
+        b = cycle_test(ramp_w_per_min=25.0, steps_s=60.0)
+        assert ramp_rate_w_per_min(b) == pytest.approx(25.0, rel=0.06)
+
+    def test_robust_to_a_glitch(self):
+        # one dropped-out sample during the ramp does not move a Theil-Sen slope (Sen 1968)
+        b = cycle_test(ramp_w_per_min=20.0)
+        b.loc[200, "work_w"] = 5.0
+        assert ramp_rate_w_per_min(b, detect_phases(cycle_test(ramp_w_per_min=20.0))) == pytest.approx(20.0, rel=0.01)
+
+    def test_none_without_work_rate(self):
+        b = cycle_test().drop(columns="work_w")
+        assert ramp_rate_w_per_min(b, pd.Series(["exercise"] * len(b))) is None
+
+    def test_none_for_constant_load(self):
+        b = cycle_test()
+        b["work_w"] = 100.0
+        assert ramp_rate_w_per_min(b, pd.Series(["exercise"] * len(b))) is None
+
+    def test_phase_length_checked(self):
+        with pytest.raises(InvalidParameter, match="phases"):
+            ramp_rate_w_per_min(cycle_test(), pd.Series(["exercise"]))
