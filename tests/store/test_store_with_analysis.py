@@ -1,0 +1,106 @@
+"""The store with the real analysis library, on the fictional Saltmarsh Exercise Lab demo files.
+
+What is checked is the store's contract with :mod:`analysis` (each number kept is the one
+``analyze_session`` produced; the session read back is the one imported), not the physiology,
+which ``tests/analysis`` checks against published sources.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+from analysis import columns as C
+from analysis.errors import ImportRejected, InvalidParameter
+from analysis.io import read_session
+from store import StoreError, open_store
+from store.demo_loader import load_demo_sessions
+from tests.support import ROOT
+
+DEMO_DIR = ROOT / "demo_sessions"
+CYCLE = DEMO_DIR / "SEL-0107_2026-02-03_cycle-ramp.session.csv"
+REHAB = DEMO_DIR / "SEL-0318_2025-11-12_rehab-baseline.session.csv"
+
+
+@pytest.fixture(scope="module")
+def demo_files() -> list[Path]:
+    for path in (CYCLE, REHAB):
+        if not path.is_file():
+            pytest.fail(f"demo file {path.name} is missing; run 'tidemark demo' to create demo_sessions/")
+    return [CYCLE, REHAB]
+
+
+@pytest.fixture
+def real_store(store_url, clock):
+    store = open_store(store_url, clock=clock)  # real AnalysisBridge
+    yield store
+    store.close()
+
+
+def test_import_keeps_exactly_what_the_analysis_produced(real_store, demo_files):
+    rhea = {u.username: u for u in real_store.list_users()}["rhea"]
+    res = real_store.import_test(CYCLE.read_bytes(), file_name=CYCLE.name, actor=rhea)
+    assert res.results_error is None and not res.duplicate
+    results = real_store.get_results(res.test_id)
+    (row,) = real_store.list_tests()
+    assert row.person_code == "SEL-0107" and row.test_date == "2026-02-03"
+    assert row.vo2peak_ml_min == pytest.approx(results["vo2_peak_ml_min"])
+    assert row.vt1_vo2_ml_min == pytest.approx(results["vt1"]["vo2_ml_min"])
+    assert row.ve_vco2_slope == pytest.approx(results["ve_vco2_slope"])
+    # The session read back equals the file as the strict reader sees it.
+    original = read_session(CYCLE)
+    stored = real_store.load_session(res.test_id)
+    assert len(stored.breaths) == len(original.breaths)
+    for col in C.REQUIRED:
+        np.testing.assert_allclose(stored.breaths[col], original.breaths[col], rtol=1e-5)
+    assert real_store.get_test(res.test_id).mapping["columns"][C.VO2_ML_MIN] == C.VO2_ML_MIN
+
+
+def test_threshold_override_is_recomputed_and_audited(real_store, demo_files):
+    rhea = {u.username: u for u in real_store.list_users()}["rhea"]
+    tid = real_store.import_test(CYCLE.read_bytes(), file_name=CYCLE.name, actor=rhea).test_id
+    settings, version = real_store.get_settings(tid)
+    before = real_store.get_results(tid)["vt1"]["vo2_ml_min"]
+    override = {"t_s": None, "vo2_ml_min": round(before + 400.0, 1), "reason": "visual V-slope"}
+    settings["vt1_override"] = override
+    assert real_store.save_settings(tid, settings, actor=rhea, reason="visual V-slope", expected_version=version) == 2
+    after = real_store.get_results(tid)
+    assert after["settings"]["vt1_override"] == override
+    assert real_store.list_tests()[0].vt1_vo2_ml_min == pytest.approx(after["vt1"]["vo2_ml_min"])
+    assert real_store.get_results(tid, version=1)["vt1"]["vo2_ml_min"] == pytest.approx(before)
+    (entry,) = [e for e in real_store.audit_log(tid) if e.action == "settings_change"]
+    assert (entry.field, entry.old_value, entry.new_value) == ("vt1_override", None, override)
+    with pytest.raises(InvalidParameter):
+        real_store.save_settings(tid, {**settings, "outliers": {"window_breaths": 4}}, actor=rhea, expected_version=2)
+
+
+def test_unreadable_file_is_rejected_with_nothing_written(real_store):
+    rhea = {u.username: u for u in real_store.list_users()}["rhea"]
+    with pytest.raises(ImportRejected):
+        real_store.import_test(b"time;something\nabc;def\n", file_name="notes.csv", actor=rhea)
+    assert real_store.list_tests() == [] and real_store.list_people() == []
+
+
+def test_demo_loader_marks_the_store_and_is_idempotent(tmp_path, demo_files):
+    url = str(tmp_path / "demo.sqlite")
+    ids = load_demo_sessions(demo_files, url=url)
+    assert len(set(ids)) == 2
+    assert load_demo_sessions(demo_files, url=url) == ids  # recognised by SHA-256, nothing new
+    store = open_store(url)
+    try:
+        assert store.is_demo_store() and store.demo_user().role == "reviewer"
+        assert sorted(p.code for p in store.list_people()) == ["SEL-0107", "SEL-0318"]
+    finally:
+        store.close()
+
+
+def test_demo_loader_refuses_a_store_with_real_data(store_url, demo_files):
+    with pytest.raises(StoreError, match="cannot become a demo store"):
+        load_demo_sessions(demo_files, url=store_url)
+
+
+def test_demo_loader_reports_missing_files(tmp_path):
+    with pytest.raises(ImportRejected, match="does not exist"):
+        load_demo_sessions([tmp_path / "nope.csv"], url=str(tmp_path / "d.sqlite"))
