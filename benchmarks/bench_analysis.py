@@ -1,0 +1,138 @@
+"""Speed of the analysis: one 2,000-breath session, its stages, and a 500-session batch.
+
+Targets (from the pipeline brief): ``analyze_session`` on 2,000 breaths within 3x the time
+``pandas.read_csv`` needs to read that session file (baseline measured in the same run), and
+the folder batch of ``tidemark analyze DIR --out`` at 20 sessions/s or more on 2 cores.
+``TIDEMARK_BENCH_SESSIONS`` sets the batch size (default 500).
+"""
+
+from __future__ import annotations
+
+import os
+import resource
+import tempfile
+import time
+from pathlib import Path
+
+import pandas as pd
+
+from benchmarks.table import BenchRow, best_of
+
+N_BREATHS = 2000
+
+
+def best_cpu(fn, *, repeats: int = 5) -> float:
+    """Best process CPU time of ``repeats`` calls, s (less sensitive to other load than wall time)."""
+    best = float("inf")
+    for _ in range(repeats):
+        c0 = time.process_time()
+        fn()
+        best = min(best, time.process_time() - c0)
+    return best
+
+
+def long_session():
+    """A 2,000-breath simulated cycle test (long rest, warm-up and recovery around a ramp)."""
+    from analysis.simulation import TRAINED_CYCLIST, ProtocolSpec, simulate_session
+    from analysis.session import Session
+
+    protocol = ProtocolSpec(
+        mode="cycle", rest_s=1200, warmup_s=1200, warmup_w=120, ramp_w_per_min=9, recovery_s=1200, recovery_w=30
+    )
+    s = simulate_session(TRAINED_CYCLIST, protocol, seed=2000)
+    if len(s.breaths) < N_BREATHS:
+        raise RuntimeError(f"the benchmark protocol gave only {len(s.breaths)} breaths")
+    return Session(dict(s.meta), s.breaths.iloc[:N_BREATHS].reset_index(drop=True), source_name="bench.session.csv")
+
+
+def measure() -> list[BenchRow]:
+    from analysis import pipeline as P
+    from analysis.io import read_session
+    from analysis.io.session_file import write_session
+    from analysis.settings import AnalysisSettings
+    from analysis.simulation import DEMO_TESTS, generate_demo
+    from tidemark.commands.analyze import analyze_batch
+
+    rows: list[BenchRow] = []
+    session = long_session()
+    settings = AnalysisSettings()
+    with tempfile.TemporaryDirectory() as tmp:
+        path = write_session(session, Path(tmp) / "bench.session.csv")
+        read_csv = best_of(lambda: pd.read_csv(path, comment="#"), repeats=10)
+        read_sess = best_of(lambda: read_session(path), repeats=5)
+        read_csv_cpu = best_cpu(lambda: pd.read_csv(path, comment="#"), repeats=10)
+    analyze = best_of(lambda: P.analyze_session(session, settings), repeats=5)
+    analyze_cpu = best_cpu(lambda: P.analyze_session(session, settings), repeats=5)
+    extra = f"{len(session.breaths)} breaths"
+    rows.append(
+        BenchRow(
+            "analyze_session, 2,000 breaths", analyze, "pd.read_csv", read_csv, "≤ 3x",
+            f"{extra}; CPU time {analyze_cpu * 1000:.0f} ms vs {read_csv_cpu * 1000:.1f} ms = {analyze_cpu / read_csv_cpu:.0f}x",
+        )
+    )
+    rows.append(BenchRow("read_session (strict reader), same file", read_sess, "pd.read_csv", read_csv, "", extra))
+
+    # stages, to show where the time goes (same baseline)
+    breaths = session.breaths
+    excluded = P._excluded_table(breaths, settings)
+    clean = P.exclude_breaths(breaths, excluded["source_row"].tolist())
+    phases = P.detect_phases(clean)
+    clean = clean.assign(phase=phases.to_numpy())
+    avg = P.average_breaths(clean, settings.averaging).reset_index(drop=True)
+    res = P.analyze_session(session, settings)
+    phases_avg = res.averaged["phase"].astype(str).to_numpy()
+    warns: list[str] = []
+    stages = [
+        ("stage: outlier breaths", lambda: P._excluded_table(breaths, settings)),
+        ("stage: phases", lambda: P.detect_phases(clean)),
+        ("stage: averaging", lambda: P.average_breaths(clean, settings.averaging)),
+        ("stage: thresholds", lambda: P.detect_thresholds(avg)),
+        (
+            "stage: oxygen comparison (4 states)",
+            lambda: P._oxygen(res.meta, settings, avg=res.averaged, phases_avg=phases_avg, peak=res.peak,
+                              vt1=res.vt1, vt2=res.vt2, warns=warns),
+        ),
+        ("stage: results JSON (to_json_dict)", res.to_json_dict),
+    ]
+    for name, fn in stages:
+        t = best_of(fn, repeats=5)
+        rows.append(BenchRow(name, t, "pd.read_csv", read_csv, ""))
+
+    n = int(os.environ.get("TIDEMARK_BENCH_SESSIONS", "500"))
+    workers = 2
+    with tempfile.TemporaryDirectory() as tmp:
+        demo = generate_demo(Path(tmp) / "demo")
+        folder = Path(tmp) / "batch"
+        folder.mkdir()
+        files = []
+        for i in range(n):
+            src = demo[i % len(demo)]
+            dst = folder / f"{i:04d}_{src.name}"
+            dst.write_bytes(src.read_bytes())
+            files.append(dst)
+        cpu0 = resource.getrusage(resource.RUSAGE_CHILDREN)
+        t0 = time.perf_counter()
+        out = analyze_batch(files, workers=workers, progress=False)
+        batch = time.perf_counter() - t0
+        cpu1 = resource.getrusage(resource.RUSAGE_CHILDREN)
+    child_cpu = (cpu1.ru_utime + cpu1.ru_stime) - (cpu0.ru_utime + cpu0.ru_stime)
+    failed = sum(r["status"] != "ok" for r in out)
+    rate = n / batch
+    rows.append(
+        BenchRow(
+            f"batch: {n} sessions, {workers} workers",
+            batch,
+            "",
+            None,
+            "≥ 20 sessions/s",
+            f"{rate:.1f} sessions/s; {failed} failed; worker CPU {1000 * child_cpu / n:.0f} ms/session "
+            f"(= {workers * n / child_cpu:.1f} sessions/s on {workers} idle cores); demo files, 250-550 breaths",
+        )
+    )
+    return rows
+
+
+if __name__ == "__main__":
+    from benchmarks.table import format_table
+
+    print(format_table(measure()))
