@@ -144,6 +144,12 @@ class SubjectProfile:
         if self.mvv_l_min is not None:
             _in("mvv_l_min", self.mvv_l_min, 20, 300, "L/min")
         _in("plateau_s", self.plateau_s, 30, 180, "s")
+        require(
+            not self.plateau or self.plateau_s >= 2 * self.tau_on_s,
+            "plateau_s",
+            f"at least twice tau_on_s ({2 * self.tau_on_s:g} s) so that VO2 has levelled off",
+            self.plateau_s,
+        )
         _in("vo2_work_slope_ml_min_w", self.vo2_work_slope_ml_min_w, 6, 14, "mL/min/W")
         _in("tau_on_s", self.tau_on_s, 15, 90, "s")
         _in("tau_off_s", self.tau_off_s, 20, 150, "s")

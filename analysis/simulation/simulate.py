@@ -30,6 +30,12 @@ PETCO2_SD_MMHG = 0.8
 PETO2_SD_MMHG = 0.8
 HR_SD_BPM = 1.0
 SPO2_SD_PCT = 0.4
+#: Model limits: peak VE and peak tidal volume a profile may ask for (generous adult values,
+#: common practice), and the largest tidal volume a noisy breath may show (a longer breath is
+#: counted as faster beyond it).
+MAX_MODEL_VE_L_MIN = 220.0
+MAX_MODEL_VT_L = 4.5
+MAX_BREATH_VT_L = 6.0
 #: Artifact breaths are at least this many breaths apart and away from the record's ends.
 ARTIFACT_SPACING = 15
 ARTIFACT_EDGE = 5
@@ -111,6 +117,20 @@ def _timeline(profile: SubjectProfile, protocol: ProtocolSpec) -> _Timeline:
         f"a warm-up below this person's VT1 (VO2 {profile.vo2_vt1_ml_min:.0f} mL/min)",
         f"a warm-up needing {warm_demand:.0f} mL/min",
     )
+    ve_peak = M.ve_peak_l_min(profile)
+    require(
+        ve_peak <= MAX_MODEL_VE_L_MIN,
+        "ve_vco2_slope",
+        f"a ventilation at VO2max of at most {MAX_MODEL_VE_L_MIN:g} L/min (lower the VE/VCO2 slope, "
+        "rc_ve_factor or rer_peak)",
+        f"{profile.ve_vco2_slope} (peak VE would be {ve_peak:.0f} L/min)",
+    )
+    require(
+        ve_peak / profile.rf_max_bpm <= MAX_MODEL_VT_L,
+        "rf_max_bpm",
+        f"high enough that the peak tidal volume stays at or below {MAX_MODEL_VT_L:g} L",
+        f"{profile.rf_max_bpm} (peak tidal volume would be {ve_peak / profile.rf_max_bpm:.1f} L)",
+    )
     plateau = profile.plateau and protocol.stop == "max"
     lag_input = np.minimum(demand, profile.vo2max_ml_min) if plateau else demand
     vo2 = M.first_order_lag(lag_input, dt_s=GRID_DT_S, tau_s=profile.tau_on_s, x0=profile.vo2_rest_ml_min)
@@ -133,6 +153,16 @@ def _timeline(profile: SubjectProfile, protocol: ProtocolSpec) -> _Timeline:
             f"a protocol that reaches its stop rule ('{protocol.stop}') within max_exercise_s "
             f"= {protocol.max_exercise_s:g} s for this person (use a steeper ramp)",
             protocol.describe(),
+        )
+    end_loads = _loads(protocol, np.array([t_end]))
+    for name, value in end_loads.items():
+        limit = C.COLUMNS[name].flag_above
+        require(
+            float(value[0]) <= limit,
+            "protocol",
+            f"a protocol whose {C.COLUMNS[name].label.lower()} stays at or below {limit:g} "
+            f"{C.COLUMNS[name].unit} before it stops (use a gentler ramp or another start)",
+            f"{protocol.describe()} (reaches {float(value[0]):.0f} {C.COLUMNS[name].unit})",
         )
     keep = t < t_end
     vo2_end = float(np.interp(t_end, t, vo2))
@@ -247,6 +277,7 @@ def _inject_artifacts(frame: pd.DataFrame, *, count: int, rng: np.random.Generat
     vo2 = frame[C.VO2_ML_MIN].to_numpy(copy=True)
     vco2 = frame[C.VCO2_ML_MIN].to_numpy(copy=True)
     rf = frame[C.RF_BPM].to_numpy(copy=True)
+    vt = ve / rf
     lim = C.COLUMNS
     for i in chosen:
         cough = rng.random() < 0.6
@@ -257,6 +288,7 @@ def _inject_artifacts(frame: pd.DataFrame, *, count: int, rng: np.random.Generat
             and vo2[i] * f_gas < 0.95 * lim[C.VO2_ML_MIN].flag_above
             and vco2[i] * f_gas * f_co2 < 0.95 * lim[C.VCO2_ML_MIN].flag_above
             and rf[i] * np.sqrt(f_ve) < 0.95 * lim[C.RF_BPM].flag_above
+            and vt[i] * np.sqrt(f_ve) < 0.95 * lim[C.VT_L].flag_above
         )
         if not (cough and fits):  # swallow or interrupted breath: a small one
             f_ve = f_swallow
@@ -445,6 +477,7 @@ def simulate_session(
     ve = ch[C.VE_L_MIN] * np.clip(1.0 + e_vol, 0.2, None)
     vo2 = ch[C.VO2_ML_MIN] * np.clip(1.0 + VOLUME_TO_GAS * e_vol + e_gas + VO2_OWN_SD * z[2], 0.2, None)
     vco2 = ch[C.VCO2_ML_MIN] * np.clip(1.0 + VOLUME_TO_GAS * e_vol + e_gas + VCO2_OWN_SD * z[3], 0.2, None)
+    rf_breath = np.maximum(rf_breath, ve / MAX_BREATH_VT_L)
     petco2 = ch[C.PETCO2_MMHG] + PETCO2_SD_MMHG * z[4]
     peto2 = ch[C.PETO2_MMHG] - PETCO2_SD_MMHG * z[4] + PETO2_SD_MMHG * z[5]
     hr = ch[C.HR_BPM] + HR_SD_BPM * z[6]
