@@ -484,8 +484,14 @@ def analyze_session(session: Session, settings: AnalysisSettings | None = None) 
     window = f"centred {settings.peak_window_s:g}-s mean of the" if settings.peak_window_s else "value of the"
     methods["vo2_peak"] = f"highest {window} averaged exercise VO2 (common practice: 30-s peak values)"
     methods["rer_peak"] = f"highest {window} averaged exercise VCO2 / VO2 (same window as VO2peak)"
-    methods["vt1"] = report.vt1.method if report.vt1 else "not found"
-    methods["vt2"] = report.vt2.method if report.vt2 else "not found"
+    for kind in ("vt1", "vt2"):
+        pick = getattr(report, kind)
+        if pick is None:
+            methods[kind] = "not found (see thresholds.reasons)"
+        elif pick.source == "manual":
+            methods[kind] = f"set by the reviewer — {pick.note}"
+        else:
+            methods[kind] = f"{pick.method} of the automatic methods — {pick.note}" if pick.note else pick.method
     if oxygen is not None:
         methods["oxygen"] = "Fick a-vO2 difference against the dissociation curve (analysis.oxygen.oxygen_comparison)"
 
