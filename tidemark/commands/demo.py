@@ -59,5 +59,10 @@ def run(args: argparse.Namespace) -> int:
         print(f"  {path}")
     if args.load:
         result = _load(paths, args.store)
-        print(f"Loaded into the store: {result}" if result is not None else "Loaded into the store.")
+        where = args.store or "the default store"
+        if isinstance(result, (list, tuple)):
+            ids = ", ".join(str(x) for x in result)
+            print(f"Loaded {len(result)} sessions into {where} (test ids {ids}).")
+        else:
+            print(f"Loaded the sessions into {where}.")
     return 0

@@ -101,9 +101,9 @@ def test_demo_file_round_trips(demo, demo_dir):
 @pytest.mark.parametrize("demo", DEMO_TESTS, ids=[d.stem for d in DEMO_TESTS])
 def test_demo_file_reads_back_with_the_project_reader(demo, demo_dir):
     try:
-        from analysis.io.session_file import read_session
+        from analysis.io import read_session
     except ImportError:
-        pytest.skip("analysis.io.session_file.read_session is not available yet")
+        pytest.skip("analysis.io.read_session is not available yet")
     path = demo_dir / f"{demo.stem}.session.csv"
     session = read_session(path)
     expected = _demo_session(demo)
@@ -148,3 +148,15 @@ def test_cli_demo_out_is_a_file(tmp_path, capsys):
     target.write_text("x")
     assert cli.main(["demo", "--out", str(target)]) == cli.EXIT_BAD_INPUT
     assert "not a folder" in capsys.readouterr().err
+
+
+@pytest.mark.slow
+def test_cli_demo_load_into_a_real_store(tmp_path, capsys):
+    try:
+        import store.demo_loader  # noqa: F401
+    except ImportError:
+        pytest.skip("store.demo_loader is not available yet")
+    url = str(tmp_path / "demo.sqlite")
+    assert cli.main(["demo", "--out", str(tmp_path / "d"), "--load", "--store", url]) == 0
+    out = capsys.readouterr().out
+    assert f"Loaded {len(DEMO_TESTS)} sessions into {url}" in out
