@@ -54,17 +54,18 @@ def is_value(cell: object) -> bool:
     return t is not None and bool(NUMBER_RE.fullmatch(t) or TIME_RE.fullmatch(t))
 
 
+#: A cell that reads as a number or a time (either decimal mark; unicode minus allowed).
+VALUE_RE = re.compile(rf"(?:{_NUM}|[+-]?(?:\d+:)?\d+:\d{{1,2}}(?:[.,]\d*)?)")
+
+
 def detect_decimal(cells: Sequence[object]) -> str:
     """``','`` when more text cells use a decimal comma than a decimal point, else ``'.'``."""
-    comma = dot = 0
-    for cell in cells:
-        t = _text(cell)
-        if not t:
-            continue
-        if _COMMA_DECIMAL.fullmatch(t):
-            comma += 1
-        elif _DOT_DECIMAL.fullmatch(t):
-            dot += 1
+    texts = pd.Series([c for c in cells if type(c) is str], dtype=object)
+    if texts.empty:
+        return "."
+    texts = texts.str.strip()
+    comma = int(texts.str.fullmatch(_COMMA_DECIMAL.pattern).sum())
+    dot = int(texts.str.fullmatch(_DOT_DECIMAL.pattern).sum())
     return "," if comma > dot else "."
 
 
@@ -72,10 +73,21 @@ def _series(values: Sequence[object]) -> pd.Series:
     return pd.Series(list(values), dtype=object)
 
 
+def _is_num(v: object) -> bool:
+    return isinstance(v, (int, float, np.integer, np.floating)) and not isinstance(v, bool)
+
+
 def _split_kinds(s: pd.Series) -> tuple[np.ndarray, np.ndarray]:
-    is_str = s.map(lambda v: isinstance(v, str)).to_numpy(dtype=bool, copy=True)
-    is_num = s.map(lambda v: isinstance(v, (int, float, np.integer, np.floating)) and not isinstance(v, bool))
-    return is_str, is_num.to_numpy(dtype=bool, copy=True)
+    values = s.tolist()
+    n = len(values)
+    is_str = np.fromiter((type(v) is str for v in values), dtype=bool, count=n)
+    is_num = np.fromiter((type(v) is not str and _is_num(v) for v in values), dtype=bool, count=n)
+    return is_str, is_num
+
+
+def _none_or_nan(s: pd.Series) -> np.ndarray:
+    values = s.tolist()
+    return np.fromiter((v is None or (type(v) is float and v != v) for v in values), dtype=bool, count=len(values))
 
 
 def _clean_text(s: pd.Series, *, decimal: str) -> tuple[pd.Series, pd.Series]:
@@ -102,7 +114,7 @@ def parse_numbers(values: Sequence[object], *, decimal: str) -> tuple[np.ndarray
     s = _series(values)
     n = len(s)
     out = np.full(n, np.nan)
-    missing = s.map(lambda v: v is None or (isinstance(v, float) and np.isnan(v))).to_numpy(dtype=bool, copy=True)
+    missing = _none_or_nan(s)
     bad = np.zeros(n, dtype=bool)
     is_str, is_num = _split_kinds(s)
     num_idx = np.flatnonzero(is_num & ~missing)
@@ -159,7 +171,7 @@ def parse_times(
     s = _series(values)
     n = len(s)
     out = np.full(n, np.nan)
-    missing = s.map(lambda v: v is None or (isinstance(v, float) and np.isnan(v))).to_numpy(dtype=bool, copy=True)
+    missing = _none_or_nan(s)
     bad = np.zeros(n, dtype=bool)
     plain_format = time_format if time_format in ("s", "min", "ms") else (unit if unit in ("s", "min", "ms") else "s")
     plain_factor = {"s": 1.0, "min": 60.0, "ms": 0.001}[plain_format]

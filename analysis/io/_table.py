@@ -10,7 +10,7 @@ from collections.abc import Sequence
 from dataclasses import dataclass, field
 
 from analysis.errors import ImportRejected, Problem
-from analysis.io._cells import is_missing, is_value
+from analysis.io._cells import MISSING_TOKENS, VALUE_RE, is_missing, is_value
 from analysis.io._units import unit_code
 
 Row = tuple[int, list[object]]
@@ -85,17 +85,33 @@ def classify(cells: Sequence[object]) -> str:
 
     A row is data when at least half of its non-missing cells are numbers or times.
     """
-    present = [c for c in cells if not (c is None or (isinstance(c, str) and not c.strip()))]
-    if not present:
-        return "blank"
-    first = present[0]
-    if isinstance(first, str) and first.lstrip().startswith("#"):
-        return "comment"
-    counted = [c for c in present if not is_missing(c)]
+    counted = values = 0
+    first = True
+    for c in cells:
+        if c is None:
+            continue
+        if type(c) is str:
+            t = c.strip()
+            if not t:
+                continue
+            if first and t[0] == "#":
+                return "comment"
+            first = False
+            if t.lower() in MISSING_TOKENS:
+                continue
+            counted += 1
+            if VALUE_RE.fullmatch(t.replace("\u2212", "-")):
+                values += 1
+        else:
+            first = False
+            if is_missing(c):
+                continue
+            counted += 1
+            if is_value(c):
+                values += 1
     if not counted:
         return "blank"
-    values = sum(1 for c in counted if is_value(c))
-    return "data" if 2 * values >= len(counted) else "text"
+    return "data" if 2 * values >= counted else "text"
 
 
 def _looks_like_units(cells: Sequence[object]) -> bool:
@@ -117,8 +133,8 @@ class _Candidate:
 def _candidate(rows: Sequence[Row], kinds: Sequence[str], i: int) -> _Candidate | None:
     header_cells = rows[i][1]
     width = len(header_cells)
-    if _width(header_cells) < 2:
-        return None
+    if _width(header_cells) < 2 or not any(isinstance(c, str) and any(ch.isalpha() for ch in c) for c in header_cells):
+        return None  # column names contain letters
     j = i + 1
     n = len(rows)
     while j < n and kinds[j] in ("blank", "comment"):
