@@ -22,7 +22,6 @@ from analysis.simulation.cast import (
     CYCLE_SUBMAX,
     DEMO_TESTS,
     HEART_FAILURE,
-    LAB_NAME,
     RECREATIONAL_RUNNER,
     REHAB_BASELINE,
     REHAB_FOLLOWUP,
@@ -33,7 +32,7 @@ from analysis.simulation.cast import (
     generate_demo,
 )
 from analysis.simulation.profiles import MODES, SEXES, STOP_RULES, ProtocolSpec, SubjectProfile
-from analysis.simulation.simulate import noise_free_course, simulate_session
+from analysis.simulation.simulate import LAB_NAME, noise_free_course, simulate_session
 
 __all__ = [
     "SubjectProfile",

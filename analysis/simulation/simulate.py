@@ -13,6 +13,8 @@ from analysis.session import Session
 from analysis.simulation import _model as M
 from analysis.simulation.profiles import ProtocolSpec, SubjectProfile
 
+#: The fictional lab named in every simulated session's metadata.
+LAB_NAME = "Saltmarsh Exercise Lab"
 #: Step of the internal time grid, s.
 GRID_DT_S = 0.5
 #: Recovery time constants of VCO2 and VE relative to VO2 (CO2 stores empty more slowly).
@@ -514,7 +516,7 @@ def simulate_session(
     meta: dict[str, object] = {
         "subject_id": profile.subject_id,
         "display_name": profile.display_name,
-        "lab": "Saltmarsh Exercise Lab",
+        "lab": LAB_NAME,
         "sex": profile.sex,
         "age_y": float(profile.age_y),
         "height_cm": float(profile.height_cm),
