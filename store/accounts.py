@@ -46,7 +46,7 @@ class AccountsMixin(StoreCore):
         return row
 
     def count_users(self) -> int:
-        with self._tx() as db:
+        with self._read() as db:
             return int(db.execute(select(func.count(UserRow.id))).scalar_one())
 
     def create_user(
@@ -84,11 +84,11 @@ class AccountsMixin(StoreCore):
             return user_record(row)
 
     def list_users(self) -> list[User]:
-        with self._tx() as db:
+        with self._read() as db:
             return [user_record(r) for r in db.execute(select(UserRow).order_by(UserRow.username)).scalars()]
 
     def get_user(self, user_id: int) -> User:
-        with self._tx() as db:
+        with self._read() as db:
             row = db.get(UserRow, user_id)
             if row is None:
                 raise NotFound(f"No account with number {user_id}.")
@@ -167,7 +167,7 @@ class AccountsMixin(StoreCore):
         """Seconds until ``username`` may try again (0 when not locked)."""
         name = normalise_username(username)
         now = self.now()
-        with self._tx() as db:
+        with self._read() as db:
             times = db.execute(
                 select(LoginAttempt.at)
                 .where(LoginAttempt.username == name, LoginAttempt.outcome.in_(_FAILURES),
@@ -231,7 +231,7 @@ class AccountsMixin(StoreCore):
         query = select(LoginAttempt).order_by(LoginAttempt.id.desc()).limit(limit)
         if username is not None:
             query = query.where(LoginAttempt.username == normalise_username(username))
-        with self._tx() as db:
+        with self._read() as db:
             return [(r.username, r.outcome, aware(r.at)) for r in db.execute(query).scalars()]
 
     def user_for_identity(self, email: str) -> User | None:
@@ -283,7 +283,7 @@ class AccountsMixin(StoreCore):
 
     def demo_user(self) -> User | None:
         """The built-in demo reviewer, only in a store created by ``tidemark demo --load``."""
-        with self._tx() as db:
+        with self._read() as db:
             if self._info(db, "demo") != "1":
                 return None
             row = db.execute(select(UserRow).where(UserRow.is_demo.is_(True), UserRow.is_active.is_(True))).scalars().first()

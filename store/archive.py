@@ -141,65 +141,81 @@ class ArchiveMixin(StoreCore):
         code = person_code or (str(meta.get("subject_id") or "").strip() or None)
         code = _clean_text(code, name="person_code", limit=MAX_CODE_CHARS)
 
-        try:
-            with self._tx() as db:
-                actor_row = self._check_actor(db, actor, "reviewer", "import tests")
-                person = self._person_for_import(
-                    db, code=code, display_name=display_name, sex=_normalise_sex(meta.get("sex")),
-                    birth_year=birth_year, actor_row_id=actor_row.id if actor_row else None,
+        for attempt in range(2):
+            try:
+                return self._write_import(
+                    actor=actor, code=code, display_name=display_name, birth_year=birth_year, meta=meta,
+                    name=name, data=data, digest=digest, imported=imported, options=options,
+                    settings=settings, results=results, results_error=results_error, headline=headline,
                 )
-                now = self.now()
-                test = TestRow(
-                    person_id=person.id,
-                    test_date=str(meta.get("test_date") or "").strip()[:32] or None,
-                    protocol=str(meta.get("protocol") or "").strip()[:200] or None,
-                    original_file_name=name,
-                    raw_sha256=digest,
-                    raw_size_bytes=len(data),
-                    raw_bytes=data,
-                    session_text=imported.session_text,
-                    mapping_json=None if imported.mapping is None else to_json(imported.mapping),
-                    import_options_json=to_json(options),
-                    flags_json=to_json(imported.flags),
-                    current_version=1,
-                    imported_at=now,
-                    imported_by=actor_row.id if actor_row else None,
+            except IntegrityError:
+                # Another import committed first: the same bytes (report that test), or a new
+                # person with the same code (retry once; the person now exists).
+                existing = self._find_live_by_hash(digest)
+                if existing is not None:
+                    return existing
+                if attempt:
+                    raise
+        raise AssertionError("unreachable")
+
+    def _write_import(
+        self, *, actor: Actor, code: str | None, display_name: str | None, birth_year: int | None,
+        meta: dict[str, Any], name: str, data: bytes, digest: str, imported: Any, options: dict[str, Any],
+        settings: dict[str, Any], results: dict[str, Any] | None, results_error: str | None, headline: Any,
+    ) -> ImportResult:
+        """The single transaction of an import: person, test, first version and audit row."""
+        with self._tx() as db:
+            actor_row = self._check_actor(db, actor, "reviewer", "import tests")
+            person = self._person_for_import(
+                db, code=code, display_name=display_name, sex=_normalise_sex(meta.get("sex")),
+                birth_year=birth_year, actor_row_id=actor_row.id if actor_row else None,
+            )
+            now = self.now()
+            test = TestRow(
+                person_id=person.id,
+                test_date=str(meta.get("test_date") or "").strip()[:32] or None,
+                protocol=str(meta.get("protocol") or "").strip()[:200] or None,
+                original_file_name=name,
+                raw_sha256=digest,
+                raw_size_bytes=len(data),
+                raw_bytes=data,
+                session_text=imported.session_text,
+                mapping_json=None if imported.mapping is None else to_json(imported.mapping),
+                import_options_json=to_json(options),
+                flags_json=to_json(imported.flags),
+                current_version=1,
+                imported_at=now,
+                imported_by=actor_row.id if actor_row else None,
+            )
+            db.add(test)
+            db.flush()
+            db.add(
+                AnalysisVersion(
+                    test_id=test.id,
+                    version=1,
+                    settings_json=to_json(settings),
+                    results_json=None if results is None else to_json(results),
+                    results_error=results_error,
+                    vo2peak_ml_min=headline.vo2peak_ml_min if headline else None,
+                    vt1_vo2_ml_min=headline.vt1_vo2_ml_min if headline else None,
+                    ve_vco2_slope=headline.ve_vco2_slope if headline else None,
+                    created_at=now,
+                    created_by=actor_row.id if actor_row else None,
+                    reason="import",
                 )
-                db.add(test)
-                db.flush()
-                db.add(
-                    AnalysisVersion(
-                        test_id=test.id,
-                        version=1,
-                        settings_json=to_json(settings),
-                        results_json=None if results is None else to_json(results),
-                        results_error=results_error,
-                        vo2peak_ml_min=headline.vo2peak_ml_min if headline else None,
-                        vt1_vo2_ml_min=headline.vt1_vo2_ml_min if headline else None,
-                        ve_vco2_slope=headline.ve_vco2_slope if headline else None,
-                        created_at=now,
-                        created_by=actor_row.id if actor_row else None,
-                        reason="import",
-                    )
-                )
-                self._audit(
-                    db, actor=actor, actor_row=actor_row, action="import", test_id=test.id,
-                    person_id=person.id, new={"file_name": name, "sha256": digest, "size_bytes": len(data)},
-                )
-                result = ImportResult(
-                    test_id=test.id, person_id=person.id, duplicate=False, version=1,
-                    flags=imported.flags, results_error=results_error,
-                )
-        except IntegrityError:
-            # Another import of the same bytes committed first: report that one.
-            existing = self._find_live_by_hash(digest)
-            if existing is None:
-                raise
-            return existing
+            )
+            self._audit(
+                db, actor=actor, actor_row=actor_row, action="import", test_id=test.id,
+                person_id=person.id, new={"file_name": name, "sha256": digest, "size_bytes": len(data)},
+            )
+            result = ImportResult(
+                test_id=test.id, person_id=person.id, duplicate=False, version=1,
+                flags=imported.flags, results_error=results_error,
+            )
         return result
 
     def _find_live_by_hash(self, digest: str) -> ImportResult | None:
-        with self._tx() as db:
+        with self._read() as db:
             row = db.execute(
                 select(TestRow.id, TestRow.person_id, TestRow.current_version, TestRow.flags_json).where(
                     TestRow.raw_sha256 == digest, TestRow.deleted_at.is_(None)
@@ -250,7 +266,7 @@ class ArchiveMixin(StoreCore):
     # ----------------------------------------------------------------- people
     def list_people(self) -> list[PersonSummary]:
         """Live people (not deleted), ordered by code, with their number of live tests."""
-        with self._tx() as db:
+        with self._read() as db:
             counts = (
                 select(
                     TestRow.person_id,
@@ -339,13 +355,13 @@ class ArchiveMixin(StoreCore):
             query = query.where(TestRow.person_id == person_id)
         if test_ids is not None:
             query = query.where(TestRow.id.in_(list(test_ids)))
-        with self._tx() as db:
+        with self._read() as db:
             rows = db.execute(query.order_by(TestRow.test_date, TestRow.id)).all()
         return [self._summary(*row) for row in rows]
 
     def get_test(self, test_id: int, *, include_deleted: bool = False) -> TestRecord:
         """Everything about one test except raw bytes and session text (see ``raw_file``)."""
-        with self._tx() as db:
+        with self._read() as db:
             row = db.execute(self._summary_query().where(TestRow.id == test_id)).first()
             if row is None or (not include_deleted and (row[0].deleted_at is not None or row[1].deleted_at is not None)):
                 raise NotFound(f"No test with number {test_id} (it may have been deleted).")
@@ -375,18 +391,18 @@ class ArchiveMixin(StoreCore):
 
     def raw_file(self, test_id: int) -> tuple[str, bytes]:
         """``(original file name, bytes)`` exactly as uploaded. The name is text, not a path."""
-        with self._tx() as db:
+        with self._read() as db:
             test = self._live_test(db, test_id)
             return test.original_file_name, test.raw_bytes
 
     def session_text(self, test_id: int) -> str:
         """The converted session in Tidemark's session-file format."""
-        with self._tx() as db:
+        with self._read() as db:
             return self._live_test(db, test_id).session_text
 
     def load_session(self, test_id: int) -> Session:
         """The stored session of a test, ready for :mod:`analysis`."""
-        with self._tx() as db:
+        with self._read() as db:
             test = self._live_test(db, test_id)
             text, name = test.session_text, test.original_file_name
         return self.analysis.read_session_text(text, source_name=name)

@@ -88,7 +88,15 @@ def _sqlite_on_connect(dbapi_connection, _record) -> None:  # noqa: ANN001 - DB-
     cursor.close()
 
 
+#: Execution option marking a read-only transaction (plain BEGIN on SQLite).
+READ_ONLY_OPTION = "tidemark_read_only"
+
+
 def _sqlite_on_begin(connection) -> None:  # noqa: ANN001 - SQLAlchemy Connection
-    # IMMEDIATE takes the write lock at the start, so two writers queue instead of one failing
-    # half-way with "database is locked" after reading stale data.
-    connection.exec_driver_sql("BEGIN IMMEDIATE")
+    # A writing transaction takes the write lock at once (BEGIN IMMEDIATE), so two writers queue
+    # instead of one failing half-way with "database is locked" after reading stale data.
+    # Read-only transactions use a plain BEGIN: with WAL they never wait for a writer.
+    if connection.get_execution_options().get(READ_ONLY_OPTION):
+        connection.exec_driver_sql("BEGIN")
+    else:
+        connection.exec_driver_sql("BEGIN IMMEDIATE")

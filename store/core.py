@@ -14,6 +14,7 @@ from sqlalchemy.orm import Session as DbSession
 from sqlalchemy.orm import sessionmaker
 
 from store.analysis_bridge import AnalysisBridge
+from store.config import READ_ONLY_OPTION
 from store.errors import PermissionDenied
 from store.models import AuditEvent, StoreInfo, UserRow
 from store.records import ROLE_ORDER, Operator, User
@@ -59,6 +60,9 @@ class StoreCore:
         self.clock: Clock = clock or utc_now
         self.analysis = AnalysisBridge()
         self._sessions = sessionmaker(engine, expire_on_commit=False)
+        self._read_sessions = sessionmaker(
+            engine.execution_options(**{READ_ONLY_OPTION: True}), expire_on_commit=False
+        )
 
     @property
     def dialect(self) -> str:
@@ -78,6 +82,12 @@ class StoreCore:
     def _tx(self) -> Iterator[DbSession]:
         """One transaction: committed when the block ends, rolled back on any exception."""
         with self._sessions.begin() as db:
+            yield db
+
+    @contextmanager
+    def _read(self) -> Iterator[DbSession]:
+        """A read-only transaction (on SQLite it does not wait for writers)."""
+        with self._read_sessions.begin() as db:
             yield db
 
     def now(self) -> datetime:
@@ -153,7 +163,7 @@ class StoreCore:
 
     def is_demo_store(self) -> bool:
         """True when this store was created by ``tidemark demo --load`` (local demo mode)."""
-        with self._tx() as db:
+        with self._read() as db:
             return self._info(db, "demo") == "1"
 
     def _usernames(self, db: DbSession, ids: set[int | None]) -> dict[int, str]:

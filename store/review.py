@@ -48,7 +48,7 @@ class ReviewMixin(ArchiveMixin):
 
         Pass the returned version as ``expected_version`` to :meth:`save_settings`.
         """
-        with self._tx() as db:
+        with self._read() as db:
             row = self._version_row(db, test_id, version)
             return json.loads(row.settings_json), row.version
 
@@ -58,13 +58,13 @@ class ReviewMixin(ArchiveMixin):
         Returns an empty dict when the analysis could not be carried out; the reason is in
         ``get_test(test_id).summary.results_error``.
         """
-        with self._tx() as db:
+        with self._read() as db:
             row = self._version_row(db, test_id, version)
             return {} if row.results_json is None else json.loads(row.results_json)
 
     def list_versions(self, test_id: int) -> list[dict[str, Any]]:
         """Every analysis version: number, when, who, reason, whether signed."""
-        with self._tx() as db:
+        with self._read() as db:
             self._live_test(db, test_id)
             rows = db.execute(
                 select(AnalysisVersion).where(AnalysisVersion.test_id == test_id).order_by(AnalysisVersion.version)
@@ -212,7 +212,7 @@ class ReviewMixin(ArchiveMixin):
             query = query.where(AuditEvent.test_id == test_id)
         if person_id is not None:
             query = query.where(AuditEvent.person_id == person_id)
-        with self._tx() as db:
+        with self._read() as db:
             rows = db.execute(query.order_by(AuditEvent.id.desc()).limit(limit)).scalars().all()
         return [
             AuditEntry(
@@ -249,3 +249,44 @@ class ReviewMixin(ArchiveMixin):
                             person_id=person_id, reason=reason)
             self._audit(db, actor=actor, actor_row=actor_row, action="soft_delete_person",
                         person_id=person_id, reason=reason)
+
+    def restore_test(self, test_id: int, *, actor: Actor, reason: str = "") -> None:
+        """Undo a soft delete (admin only, logged). Refused while a live test has the same file."""
+        with self._tx() as db:
+            actor_row = self._check_actor(db, actor, "admin", "restore tests")
+            test = db.get(TestRow, test_id)
+            if test is None or test.deleted_at is None:
+                raise NotFound(f"No deleted test with number {test_id}.")
+            person = db.get(PersonRow, test.person_id)
+            if person is not None and person.deleted_at is not None:
+                raise StoreError(f"Test {test_id} belongs to a deleted person; restore the person instead.")
+            clash = db.execute(
+                select(TestRow.id).where(TestRow.raw_sha256 == test.raw_sha256, TestRow.deleted_at.is_(None))
+            ).scalar_one_or_none()
+            if clash is not None:
+                raise StoreError(f"The same file is already stored as test {clash}; test {test_id} stays deleted.")
+            test.deleted_at, test.deleted_by = None, None
+            self._audit(db, actor=actor, actor_row=actor_row, action="restore", test_id=test.id,
+                        person_id=test.person_id, reason=reason)
+
+    def restore_person(self, person_id: int, *, actor: Actor, reason: str = "") -> None:
+        """Undo a person's soft delete and that of the tests deleted with them (admin only, logged)."""
+        with self._tx() as db:
+            actor_row = self._check_actor(db, actor, "admin", "restore people")
+            person = db.get(PersonRow, person_id)
+            if person is None or person.deleted_at is None:
+                raise NotFound(f"No deleted person with number {person_id}.")
+            deleted_at = person.deleted_at
+            person.deleted_at, person.deleted_by = None, None
+            live_hashes = set(db.execute(select(TestRow.raw_sha256).where(TestRow.deleted_at.is_(None))).scalars())
+            for test in db.execute(
+                select(TestRow).where(TestRow.person_id == person_id, TestRow.deleted_at == deleted_at)
+            ).scalars():
+                if test.raw_sha256 in live_hashes:
+                    continue
+                test.deleted_at, test.deleted_by = None, None
+                live_hashes.add(test.raw_sha256)
+                self._audit(db, actor=actor, actor_row=actor_row, action="restore", test_id=test.id,
+                            person_id=person_id, reason=reason)
+            self._audit(db, actor=actor, actor_row=actor_row, action="restore_person", person_id=person_id,
+                        reason=reason)

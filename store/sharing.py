@@ -152,7 +152,7 @@ class SharingMixin(ReviewMixin):
         query = select(ShareLink).order_by(ShareLink.id.desc())
         if person_id is not None:
             query = query.where(ShareLink.person_id == person_id)
-        with self._tx() as db:
+        with self._read() as db:
             if test_id is not None:
                 covering = select(ShareLinkTest.share_id).where(ShareLinkTest.test_id == test_id)
                 query = query.where(ShareLink.id.in_(covering))

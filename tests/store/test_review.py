@@ -197,3 +197,22 @@ class TestSoftDelete:
         assert [e.action for e in store.audit_log(person_id=person_id)][-3:] == ["soft_delete", "soft_delete", "soft_delete_person"]
         with pytest.raises(StoreError, match="deleted"):
             store.import_test(csv_bytes(3400.0, subject="SEL-007"), file_name="c.csv", actor=users["rhea"])
+
+    def test_admin_restores_a_deleted_test_and_person(self, store, users, test_id):
+        person_id = store.get_test(test_id).summary.person_id
+        store.soft_delete_test(test_id, actor=users["ada"])
+        with pytest.raises(PermissionDenied):
+            store.restore_test(test_id, actor=users["rhea"])
+        store.restore_test(test_id, actor=users["ada"], reason="deleted by mistake")
+        assert [t.id for t in store.list_tests()] == [test_id]
+        store.soft_delete_person(person_id, actor=users["ada"])
+        store.restore_person(person_id, actor=users["ada"])
+        assert [t.id for t in store.list_tests()] == [test_id]
+        assert [e.action for e in store.audit_log(test_id)][-4:] == ["soft_delete", "restore", "soft_delete", "restore"]
+        assert store.audit_log(person_id=person_id)[-1].action == "restore_person"
+
+    def test_restore_refused_while_the_same_file_is_live_again(self, store, users, test_id):
+        store.soft_delete_test(test_id, actor=users["ada"])
+        again = store.import_test(csv_bytes(3200.0, subject="SEL-007"), file_name="sel007.csv", actor=users["rhea"])
+        with pytest.raises(StoreError, match=f"test {again.test_id}"):
+            store.restore_test(test_id, actor=users["ada"])
