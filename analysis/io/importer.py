@@ -87,6 +87,11 @@ def _ranges(lines: Sequence[int]) -> str:
     return ", ".join(out)
 
 
+def _lines(numbers: Sequence[int]) -> str:
+    """``'line 4'`` or ``'lines 1-3, 7'``."""
+    return ("line " if len(set(numbers)) == 1 else "lines ") + _ranges(numbers)
+
+
 def _resolve_mapping(
     headers: list[str], unit_row: list[str | None] | None, explicit: ColumnMapping | None
 ) -> tuple[ColumnMapping, list[str]]:
@@ -321,9 +326,10 @@ def import_bytes(
     )
     footer: list[int] = []
     end = len(body)
-    while end > 0 and t_bad[end - 1]:
+    t_index = index[C.T_S]
+    while end > 0 and t_bad[end - 1] and any(ch.isalpha() for ch in str(body[end - 1][1][t_index])):
         end -= 1
-    if end < len(body):
+    if 0 < end < len(body):
         footer = [int(n) for n in line_numbers[end:]]
         body = body[:end]
         line_numbers = line_numbers[:end]
@@ -391,7 +397,7 @@ def import_bytes(
             for name in table:
                 table[name] = table[name][keep]
         line_numbers = line_numbers[keep]
-        notes.append(f"{len(event_lines)} row(s) without VO2, VCO2 and VE were skipped (lines {_ranges(event_lines)})")
+        notes.append(f"{len(event_lines)} row(s) without VO2, VCO2 and VE were skipped ({_lines(event_lines)})")
 
     cells_by_line = dict(located.body)
     for name in mapped:
@@ -458,7 +464,11 @@ def import_bytes(
     for name in mapped:
         if name not in session.breaths.columns:
             notes.append(f"column '{mapped[name]}' ({name}) holds no values and was left out")
-    unused = [h for h in headers if h not in used.columns]
+    unused = [
+        h
+        for k, h in enumerate(headers)
+        if h not in used.columns and any(c is not None and str(c).strip() for c in (r[k] for _, r in body))
+    ]
     if unused:
         notes.append("columns not used: " + ", ".join(repr(h) for h in unused))
 
@@ -471,10 +481,10 @@ def import_bytes(
     )
     before = [n for n, _ in located.preamble]
     if before:
-        notes.append(f"lines {_ranges(before)} above the table header (line {located.header_line}) were skipped")
+        notes.append(f"{_lines(before)} above the table header (line {located.header_line}) were skipped")
     after = footer + [n for n, cells in located.after if classify(cells) != "blank"]
     if after:
-        notes.append(f"lines {_ranges(after)} after the table were skipped")
+        notes.append(f"{_lines(after)} after the table were skipped")
     if located.unit_line is not None:
         notes.append(f"line {located.unit_line} was read as the units of the columns")
 

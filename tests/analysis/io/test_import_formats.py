@@ -228,3 +228,38 @@ def test_phase_synonyms_normalised():
     data = b"Time,VO2,VCO2,VE,Phase\n0,300,250,10,Rest\n3,310,260,11,Warm-up\n6,400,330,12,Exercise\n9,400,330,12,Cool-down\n"
     out = import_bytes(data, file_name="p.csv")
     assert out.session.breaths["phase"].tolist() == ["rest", "warmup", "exercise", "recovery"]
+
+
+class TestLayouts:
+    def test_space_aligned_columns(self):
+        out = import_bytes(b"Time   VO2   VCO2   VE\n0   300   250   10\n3   310   260   11\n", file_name="s.txt")
+        assert out.delimiter == " "
+        assert out.session.breaths["vco2_ml_min"].tolist() == [250.0, 260.0]
+
+    def test_trailing_delimiters_and_empty_header_cell(self):
+        out = import_bytes(b"Time;VO2;VCO2;VE;\n0;300;250;10;\n3;310;260;11;\n", file_name="t.csv")
+        assert len(out.session.breaths) == 2
+        assert not any("not used" in n for n in out.notes)
+
+    def test_repeated_header_gets_a_suffix(self):
+        out = import_bytes(b"Time,VO2,VO2,VCO2,VE\n0,300,5,250,10\n", file_name="d.csv")
+        assert out.session.breaths["vo2_ml_min"].tolist() == [300.0]
+        assert any("'VO2 #2'" in n for n in out.notes)
+
+    def test_time_not_first_and_negative(self):
+        out = import_bytes(b"VO2,VCO2,VE,Time\n300,250,10,-1:30\n310,260,11,-1:27\n", file_name="n.csv")
+        assert out.session.breaths["t_s"].tolist() == [-90.0, -87.0]
+
+    def test_small_summary_table_above_the_breaths(self):
+        data = b"Summary\nVO2peak,HRpeak\n2800,180\n\nTime,VO2,VCO2,VE\n0,300,250,10\n3,310,260,11\n6,310,260,11\n"
+        out = import_bytes(data, file_name="s.csv")
+        assert out.session.breaths["source_row"].tolist() == [6, 7, 8]
+        assert out.skipped_lines == [1, 2, 3, 4]
+
+    def test_footer_with_text_time_is_skipped_but_text_times_in_every_row_are_not(self):
+        out = import_bytes(b"Time,VO2,VCO2,VE\n0,300,250,10\n3,310,260,11\nMax,310,260,11\n", file_name="f.csv")
+        assert out.skipped_lines == [4] and any("line 4 after the table" in n for n in out.notes)
+        from analysis.errors import ImportRejected
+
+        with pytest.raises(ImportRejected, match=r"line 2, column 'Time': 'abc' is not a time"):
+            import_bytes(b"Time,VO2,VCO2,VE\nabc,300,250,10\ndef,310,260,11\n", file_name="f.csv")
