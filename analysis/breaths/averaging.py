@@ -103,7 +103,8 @@ def _numeric_columns(breaths: pd.DataFrame) -> list[str]:
 
 def _phase_mode(phase: np.ndarray, starts: np.ndarray, ends: np.ndarray) -> np.ndarray:
     """Most common phase label in each ``[start, end)`` range of rows (ties -> first label)."""
-    labels, codes = np.unique(phase.astype(str), return_inverse=True)
+    codes, labels = pd.factorize(pd.Series(phase, dtype=object).astype(str), sort=True)
+    labels = np.asarray(labels, dtype=object)
     onehot = np.zeros((phase.size + 1, labels.size))
     onehot[np.arange(phase.size) + 1, codes] = 1.0
     csum = np.cumsum(onehot, axis=0)
@@ -122,11 +123,23 @@ def _window_means(values: np.ndarray, starts: np.ndarray, ends: np.ndarray) -> n
 
 
 def _assemble(
-    breaths: pd.DataFrame, cols: list[str], t: np.ndarray, starts: np.ndarray, ends: np.ndarray, t_centre: np.ndarray
+    breaths: pd.DataFrame,
+    cols: list[str],
+    t: np.ndarray,
+    starts: np.ndarray,
+    ends: np.ndarray,
+    t_centre: np.ndarray,
+    means: np.ndarray | None = None,
 ) -> pd.DataFrame:
+    """One frame: ``t_s``, the column means (``means`` when given, else window means), phase, n."""
     out: dict[str, Any] = {C.T_S: t_centre}
-    for c in cols:
-        out[c] = _window_means(breaths[c].to_numpy(dtype=float), starts, ends)
+    if means is None:
+        values = breaths[cols].to_numpy(dtype=float) if cols else np.zeros((t.size, 0))
+        for j, c in enumerate(cols):
+            out[c] = _window_means(values[:, j], starts, ends)
+    else:
+        for j, c in enumerate(cols):
+            out[c] = means[:, j]
     if C.PHASE in breaths.columns and len(starts):
         out[C.PHASE] = _phase_mode(breaths[C.PHASE].fillna("").to_numpy(), starts, ends)
     out["n_breaths"] = (ends - starts).astype(int)
@@ -196,15 +209,12 @@ def average_breaths(breaths: pd.DataFrame, spec: AveragingSpec = DEFAULT_AVERAGI
     if spec.method == "breaths":
         return _assemble(breaths, cols, t, starts, ends, centre)
     # middle_of_n: per column drop the highest and lowest of each window, mean of the rest.
-    out = _assemble(breaths, [], t, starts, ends, centre)
-    for c in cols:
-        win = sliding_window_view(breaths[c].to_numpy(dtype=float), w)
-        srt = np.sort(win, axis=1)  # NaN last
-        cnt = np.sum(~np.isnan(win), axis=1)
-        pos = np.arange(w)[None, :]
-        keep = (pos >= 1) & (pos < (cnt - 1)[:, None])
-        k = keep.sum(axis=1)
-        with np.errstate(invalid="ignore", divide="ignore"):
-            out[c] = np.where(k > 0, np.where(keep, srt, 0.0).sum(axis=1) / np.where(k > 0, k, 1), np.nan)
-    order = [C.T_S, *cols] + [x for x in (C.PHASE, "n_breaths") if x in out.columns]
-    return out[order]
+    values = breaths[cols].to_numpy(dtype=float) if cols else np.zeros((n, 0))
+    win = np.sort(sliding_window_view(values, w, axis=0), axis=2)  # (windows, columns, w), NaN last
+    cnt = np.sum(~np.isnan(win), axis=2)
+    pos = np.arange(w)[None, None, :]
+    keep = (pos >= 1) & (pos < (cnt - 1)[:, :, None])
+    k = keep.sum(axis=2)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        means = np.where(k > 0, np.where(keep, win, 0.0).sum(axis=2) / np.where(k > 0, k, 1), np.nan)
+    return _assemble(breaths, cols, t, starts, ends, centre, means)

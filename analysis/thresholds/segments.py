@@ -46,18 +46,17 @@ def run_fit(p: _Prefix, a: np.ndarray, b: np.ndarray) -> tuple[np.ndarray, np.nd
     Runs whose x values are all equal get SSE = inf.
     """
     n = p.n[b] - p.n[a]
-    sx = p.sx[b] - p.sx[a]
-    sy = p.sy[b] - p.sy[a]
     with np.errstate(invalid="ignore", divide="ignore"):
-        cxx = (p.sxx[b] - p.sxx[a]) - sx * sx / n
-        cxy = (p.sxy[b] - p.sxy[a]) - sx * sy / n
-        cyy = (p.syy[b] - p.syy[a]) - sy * sy / n
-        ok = cxx > 1e-12 * np.maximum(1.0, p.sxx[-1])
-        slope = np.where(ok, cxy / np.where(ok, cxx, 1.0), np.nan)
+        mx = (p.sx[b] - p.sx[a]) / n
+        my = (p.sy[b] - p.sy[a]) / n
+        cxx = (p.sxx[b] - p.sxx[a]) - n * mx * mx
+        cxy = (p.sxy[b] - p.sxy[a]) - n * mx * my
+        cyy = (p.syy[b] - p.syy[a]) - n * my * my
+        ok = cxx > 1e-12 * max(1.0, float(p.sxx[-1]))
+        slope = cxy / np.where(ok, cxx, np.nan)
         sse = np.where(ok, np.maximum(cyy - slope * cxy, 0.0), np.inf)
-        # intercept in original units: y - y0 = slope * (x - x0) + c, c = mean(yc) - slope*mean(xc)
-        c = sy / n - slope * sx / n
-    intercept = p.y0 + c - slope * p.x0
+    # intercept in original units: y - y0 = slope * (x - x0) + (my - slope * mx)
+    intercept = p.y0 + my - slope * (mx + p.x0)
     return slope, intercept, sse
 
 
@@ -82,19 +81,37 @@ def crossing(s1: float, b1: float, s2: float, b2: float, lo: float, hi: float) -
     return float(np.clip((b2 - b1) / (s1 - s2), lo, hi))
 
 
-def best_two_lines(
-    xs: np.ndarray,
-    ys: np.ndarray,
-    *,
-    min_segment: int,
-    admissible: Callable[[np.ndarray, np.ndarray], np.ndarray] | None = None,
-) -> TwoLine | None:
-    """Two-line least-squares fit over every split point of points already sorted by x.
+@dataclass(frozen=True)
+class SplitTable:
+    """Both lines at every allowed split of points sorted by x (upper line from ``k``)."""
 
-    Splits between equal x values are not allowed. ``admissible(slope_below, slope_above)``
-    may return a boolean mask restricting the splits considered (e.g. "the upper line is
-    steeper"). Returns ``None`` when no split leaves ``min_segment`` points on each side (or
-    none is admissible).
+    xs: np.ndarray
+    k: np.ndarray
+    s1: np.ndarray
+    b1: np.ndarray
+    s2: np.ndarray
+    b2: np.ndarray
+    total: np.ndarray
+    sse_one_line: float
+
+    def best(self, mask: np.ndarray | None = None) -> TwoLine | None:
+        """The split with the smallest total SSE among ``mask`` (all finite ones by default)."""
+        ok = np.isfinite(self.total)
+        if mask is not None:
+            ok &= mask
+        if not ok.any():
+            return None
+        j = int(np.argmin(np.where(ok, self.total, np.inf)))
+        s1, b1, s2, b2 = float(self.s1[j]), float(self.b1[j]), float(self.s2[j]), float(self.b2[j])
+        x_cross = crossing(s1, b1, s2, b2, float(self.xs[0]), float(self.xs[-1]))
+        return TwoLine(int(self.k[j]), s1, b1, s2, b2, float(self.total[j]), self.sse_one_line, x_cross)
+
+
+def split_table(xs: np.ndarray, ys: np.ndarray, *, min_segment: int) -> SplitTable | None:
+    """Fit both lines at every split of points already sorted by x, in O(n).
+
+    Splits between equal x values are not allowed. Returns ``None`` when no split leaves
+    ``min_segment`` points on each side.
     """
     n = xs.size
     if n < 2 * min_segment:
@@ -106,18 +123,31 @@ def best_two_lines(
         return None
     s1, b1, e1 = run_fit(p, np.zeros_like(k), k)
     s2, b2, e2 = run_fit(p, k, np.full_like(k, n))
-    total = e1 + e2
-    ok = np.isfinite(total)
+    _, _, e_all = run_fit(p, np.array([0]), np.array([n]))
+    return SplitTable(xs, k, s1, b1, s2, b2, e1 + e2, float(e_all[0]))
+
+
+def best_two_lines(
+    xs: np.ndarray,
+    ys: np.ndarray,
+    *,
+    min_segment: int,
+    admissible: Callable[[np.ndarray, np.ndarray], np.ndarray] | None = None,
+) -> TwoLine | None:
+    """Two-line least-squares fit over every split point of points already sorted by x.
+
+    ``admissible(slope_below, slope_above)`` may return a boolean mask restricting the splits
+    considered (e.g. "the upper line is steeper"). Returns ``None`` when no split leaves
+    ``min_segment`` points on each side (or none is admissible).
+    """
+    table = split_table(xs, ys, min_segment=min_segment)
+    if table is None:
+        return None
+    mask = None
     if admissible is not None:
         with np.errstate(invalid="ignore"):
-            ok &= np.asarray(admissible(s1, s2), dtype=bool)
-    if not ok.any():
-        return None
-    j = int(np.argmin(np.where(ok, total, np.inf)))
-    _, _, e_all = run_fit(p, np.array([0]), np.array([n]))
-    kk = int(k[j])
-    x_cross = crossing(float(s1[j]), float(b1[j]), float(s2[j]), float(b2[j]), float(xs[0]), float(xs[-1]))
-    return TwoLine(kk, float(s1[j]), float(b1[j]), float(s2[j]), float(b2[j]), float(total[j]), float(e_all[0]), x_cross)
+            mask = np.asarray(admissible(table.s1, table.s2), dtype=bool)
+    return table.best(mask)
 
 
 @dataclass(frozen=True)

@@ -9,7 +9,7 @@ from scipy import stats
 
 from analysis.errors import InvalidParameter, require
 from analysis.thresholds.results import VSlopeFit
-from analysis.thresholds.segments import best_two_lines
+from analysis.thresholds.segments import split_table
 
 #: Acceptance rules for a V-slope breakpoint. Beaver et al. (1986) require the upper slope to
 #: exceed the lower by more than 0.1 and the lower slope to be near 1 (from memory); the
@@ -95,11 +95,12 @@ def vslope_fit(
     hi = float(xs[-1]) if n else math.nan
     lo_s, hi_s = LOWER_SLOPE_RANGE
 
-    def admissible(s1: np.ndarray, s2: np.ndarray) -> np.ndarray:
-        return (s2 - s1 > MIN_SLOPE_INCREASE) & (s1 >= lo_s) & (s1 <= hi_s)
-
-    free = best_two_lines(xs, ys, min_segment=int(min_segment))
-    fit = best_two_lines(xs, ys, min_segment=int(min_segment), admissible=admissible) if free is not None else None
+    table = split_table(xs, ys, min_segment=int(min_segment))
+    free = table.best() if table is not None else None
+    fit = None
+    if table is not None:
+        with np.errstate(invalid="ignore"):
+            fit = table.best((table.s2 - table.s1 > MIN_SLOPE_INCREASE) & (table.s1 >= lo_s) & (table.s1 <= hi_s))
     if free is None:
         return VSlopeFit(
             -1, math.nan, math.nan, math.nan, math.nan, math.nan, math.nan, math.nan, False,
