@@ -90,10 +90,10 @@ def dissociation_figure(
                     y=100.0 * part["saturation"].astype(float),
                     mode="markers",
                     marker={
-                        "size": 12,
-                        "color": "white" if venous else style["color"],
+                        "size": 13,
+                        "color": style["color"],
                         "symbol": style["symbol"] + ("-open" if venous else ""),
-                        "line": {"color": style["color"], "width": 2},
+                        "line": {"color": style["color"], "width": 2.5},
                     },
                     name=f"{STATE_LABEL.get(state, state)} {site} (estimate)",
                     hovertemplate=f"{STATE_LABEL.get(state, state)} {site}<br>PO2 %{{x:.0f}} mmHg<br>S %{{y:.1f}} %<extra></extra>",

@@ -140,7 +140,6 @@ def render_scope(store: Any, scope: Any) -> None:
     session = data.load_session(test_id)
     if _allowed(scope, "charts"):
         for title, fig in report_figures(results, session):
-            st.markdown(f"**{title}**")
             st.plotly_chart(fig, width="stretch", key=f"coach_chart_{title}")
     if _allowed(scope, "report"):
         html = build_test_report(store, test_id, results, session, version=version, show_name=show_name)

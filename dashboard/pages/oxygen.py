@@ -91,8 +91,17 @@ def points_frame(oxygen: dict[str, Any]) -> pd.DataFrame:
     return pd.DataFrame(rows, columns=["state", "site", "po2_mmhg", "saturation"])
 
 
+def by_state(rows: list[dict[str, str]]) -> pd.DataFrame:
+    """Quantities as rows and the states (Rest, VT1, VT2, Peak) as columns: reads on a tablet."""
+    if not rows:
+        return pd.DataFrame()
+    frame = pd.DataFrame(rows).set_index("State").T
+    frame.index.name = "Quantity"
+    return frame.reset_index()
+
+
 def comparison_table(oxygen: dict[str, Any]) -> pd.DataFrame:
-    """The Fick-versus-curve table, one row per state, numbers formatted from the JSON."""
+    """The Fick-versus-curve table (one column per state), numbers formatted from the JSON."""
     rows = []
     for s in oxygen.get("states") or []:
         rows.append(
@@ -111,11 +120,11 @@ def comparison_table(oxygen: dict[str, Any]) -> pd.DataFrame:
                 "Most the curve allows (mL/dL)": format_number(s.get("max_avo2_by_curve_ml_dl"), 1),
             }
         )
-    return pd.DataFrame(rows)
+    return by_state(rows)
 
 
 def unloading_table(oxygen: dict[str, Any]) -> pd.DataFrame:
-    """Unloading by cause per state (mL O2/dL), numbers formatted from the JSON."""
+    """Unloading by cause (mL O2/dL, one column per state), numbers formatted from the JSON."""
     rows = []
     for s in oxygen.get("states") or []:
         parts = s.get("unloading_ml_dl") or {}
@@ -130,7 +139,18 @@ def unloading_table(oxygen: dict[str, Any]) -> pd.DataFrame:
                 "Extra CO2 carried (Haldane, mL/dL)": format_number(s.get("haldane_extra_co2_ml_dl"), 2),
             }
         )
-    return pd.DataFrame(rows)
+    return by_state(rows)
+
+
+def grouped_notes(oxygen: dict[str, Any]) -> list[str]:
+    """The comparison's notes, each said once with the states it applies to."""
+    notes = [str(n) for n in oxygen.get("notes") or []]
+    per_note: dict[str, list[str]] = {}
+    for s in oxygen.get("states") or []:
+        for n in s.get("notes") or []:
+            per_note.setdefault(str(n), []).append(STATE_LABEL.get(s["name"], s["name"]))
+    notes += [f"{', '.join(states)}: {n}" for n, states in per_note.items()]
+    return notes
 
 
 def _start_conditions(settings: dict[str, Any]) -> dict[str, StateConditions]:
@@ -249,10 +269,7 @@ def render() -> None:
     st.dataframe(unloading_table(oxygen), hide_index=True, width="stretch")
     st.caption(f"Method: {oxygen.get('decomposition_method', '')}.")
 
-    notes = list(oxygen.get("notes") or []) + [
-        f"{STATE_LABEL.get(s['name'], s['name'])}: {n}" for s in oxygen["states"] for n in s.get("notes") or []
-    ]
-    for note in notes:
+    for note in grouped_notes(oxygen):
         st.info(note)
 
     if state.can_edit() and state.settings_key(new_settings) != state.settings_key(settings):

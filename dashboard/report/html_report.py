@@ -196,7 +196,7 @@ def _maximality(results: Mapping[str, Any]) -> tuple[str, list[str]]:
     verdict = ""
     reasons: list[str] = []
     if isinstance(node, Mapping):
-        verdict = str(node.get("verdict") or node.get("label") or "")
+        verdict = str(node.get("label") or node.get("verdict") or "")
         reasons = [str(r) for r in (node.get("reasons") or [])]
     elif node:
         verdict = str(node)
@@ -306,8 +306,16 @@ def _threshold_table(results: Mapping[str, Any], ctx: ReportContext) -> str:
 
 
 def _figure_html(title: str, fig: Any, *, first: bool) -> str:
-    fig = fig.__class__(fig)  # a copy: the caller's figure keeps its own size
-    fig.update_layout(width=CHART_WIDTH_PX, height=CHART_HEIGHT_PX, autosize=False, margin=dict(l=60, r=20, t=30, b=45))
+    fig = fig.__class__(fig)  # a copy: the caller's figure keeps its own size and title
+    panels = sum(1 for key in fig.layout.to_plotly_json() if key.startswith("yaxis"))
+    height = CHART_HEIGHT_PX + 90 * max(0, panels - 2)  # stacked panels get room to read
+    fig.update_layout(
+        width=CHART_WIDTH_PX,
+        height=height,
+        autosize=False,
+        title=None,
+        margin=dict(l=70, r=60, t=80, b=50),
+    )
     div = fig.to_html(
         include_plotlyjs=True if first else False,
         full_html=False,
@@ -328,7 +336,7 @@ def _methods_list(results: Mapping[str, Any]) -> list[str]:
             text = "; ".join(f"{k}: {v}" for k, v in value.items()) if isinstance(value, Mapping) else str(value)
             items.append(f"{key.replace('_', ' ')}: {text}")
     averaging = results.get("averaging")
-    if averaging:
+    if averaging and not any(str(k).startswith("averaging") for k in (methods or {})):
         text = (
             averaging.get("label") or ", ".join(f"{k} {v}" for k, v in averaging.items())
             if isinstance(averaging, Mapping)

@@ -24,7 +24,8 @@ def _default_oxygen_settings() -> dict:
 
 
 def _table(at) -> pd.DataFrame:
-    return at.dataframe[0].value.set_index("State")
+    """The Fick-versus-curve table turned back to one row per state (the page shows states as columns)."""
+    return at.dataframe[0].value.set_index("Quantity").T
 
 
 @pytest.fixture(scope="module")
@@ -42,6 +43,7 @@ def test_table_equals_analysis(demo_store, page_test, test_id):
     states = {s["name"]: s for s in expected["oxygen"]["states"]}
     table = _table(at)
     assert list(table.index) == ["Rest", "VT1", "VT2", "Peak"]
+    assert at.dataframe[0].value.columns.tolist() == ["Quantity", "Rest", "VT1", "VT2", "Peak"]
     peak = states["peak"]
     assert parse_number(table.loc["Peak", "Fick a-vO2 (mL/dL)"]) == pytest.approx(peak["avo2_ml_dl"], abs=0.05)
     assert parse_number(table.loc["Peak", "CaO2 (mL/dL)"]) == pytest.approx(peak["cao2_ml_dl"], abs=0.05)
@@ -49,7 +51,10 @@ def test_table_equals_analysis(demo_store, page_test, test_id):
         peak["pvo2_exercise_curve_mmhg"], abs=0.05
     )
     assert table.loc["Peak", "Q source"].startswith("ESTIMATE")
-    unloading = at.dataframe[1].value.set_index("State")
+    # each plain-language note is said once, with the states it concerns
+    infos = [i.value for i in at.info]
+    assert len(infos) == len(set(infos))
+    unloading = at.dataframe[1].value.set_index("Quantity").T
     assert parse_number(unloading.loc["Peak", "Total (mL/dL)"]) == pytest.approx(peak["unloading_ml_dl"]["total"], abs=0.005)
 
 
