@@ -135,6 +135,43 @@ def report_cells(
             )
 
 
+def checked_meta(
+    entries: list[tuple[str, str, int | None]],
+    problems: ProblemLog,
+    *,
+    overrides: Mapping[str, Any] | None = None,
+) -> dict[str, Any]:
+    """Metadata from ``(key, value, line)`` entries, then ``overrides`` (which win).
+
+    Known numeric keys (``body_mass_kg``, ``age_y``, ...) must read as numbers: an empty value
+    leaves the key out, text is a located problem. Other keys are kept as text.
+    """
+    from analysis.io.session_file import coerce_meta
+    from analysis.session import META_FLOAT_KEYS
+
+    items = list(entries) + [(str(k).strip(), "" if v is None else str(v), None) for k, v in (overrides or {}).items()]
+    meta: dict[str, Any] = {}
+    for key, value, line in items:
+        if not key or any(ch.isspace() for ch in key):
+            problems.add(f"metadata key {key!r} is empty or contains spaces", "use a key like body_mass_kg", row=line)
+            continue
+        numeric = key in META_FLOAT_KEYS or key.startswith("truth_")
+        if numeric and not value.strip():
+            meta.pop(key, None)
+            continue
+        coerced = coerce_meta({key: value})[key]
+        if key in META_FLOAT_KEYS and not isinstance(coerced, float):
+            where = "" if line is not None else " (set for the import)"
+            problems.add(
+                f"metadata {key} is {value!r}{where}, not a number",
+                f"write a number, e.g. '{key}: 72.5'",
+                row=line,
+            )
+            continue
+        meta[key] = coerced
+    return meta
+
+
 def _fmt(value: float) -> str:
     return f"{value:.6g}"
 

@@ -19,10 +19,10 @@ from analysis.io._cells import TIME_FORMATS, detect_decimal, parse_numbers, pars
 from analysis.io._decode import DEFAULT_MAX_BYTES, check_size, container_kind, decode_text, split_lines
 from analysis.io._table import DELIMITER_NAMES, LocatedTable, Row, choose_delimiter, classify, locate_table, split_rows
 from analysis.io._units import CANONICAL_UNIT, UNIT_LABELS, factor
-from analysis.io._validate import ProblemLog, finish_session, report_cells
+from analysis.io._validate import ProblemLog, checked_meta, finish_session, report_cells
 from analysis.io._xlsx import list_sheets, sheet_rows
 from analysis.io.mapping import IGNORE, ColumnMapping, guess_mapping, is_per_kg, split_header
-from analysis.io.session_file import coerce_meta, parse_meta_line
+from analysis.io.session_file import parse_meta_line
 from analysis.session import Session
 
 GAS_UNITS: tuple[str, ...] = ("auto", "ml_min", "l_min")
@@ -128,8 +128,8 @@ def _check_mapping(mapping: ColumnMapping, headers: list[str], problems: Problem
         )
 
 
-def _meta_from_preamble(preamble: list[Row], lines: list[str] | None) -> dict[str, str]:
-    raw: dict[str, str] = {}
+def _meta_from_preamble(preamble: list[Row], lines: list[str] | None) -> list[tuple[str, str, int | None]]:
+    entries: list[tuple[str, str, int | None]] = []
     for number, cells in preamble:
         if lines is not None:
             text = lines[number - 1]
@@ -138,8 +138,8 @@ def _meta_from_preamble(preamble: list[Row], lines: list[str] | None) -> dict[st
             text = firsts[0] if firsts else ""
         parsed = parse_meta_line(text)
         if parsed:
-            raw[parsed[0]] = parsed[1]
-    return raw
+            entries.append((parsed[0], parsed[1], number))
+    return entries
 
 
 def _gas_unit(
@@ -454,9 +454,7 @@ def import_bytes(
         elif name in gas_codes:
             unit_notes[name] = "values were read as mL/min — set the gas unit to L/min if that is wrong"
 
-    meta: dict[str, Any] = coerce_meta(_meta_from_preamble(located.preamble, lines))
-    if meta_overrides:
-        meta.update(coerce_meta({str(k).strip(): str(v) for k, v in meta_overrides.items()}))
+    meta = checked_meta(_meta_from_preamble(located.preamble, lines), problems, overrides=meta_overrides)
 
     session = finish_session(
         frame, meta=meta, file_name=file_name, problems=problems, headers=mapped, unit_notes=unit_notes

@@ -131,17 +131,17 @@ def read_session(source: str | Path | bytes, *, file_name: str | None = None, ma
     from analysis.io._cells import parse_numbers, text_values
     from analysis.io._decode import DEFAULT_MAX_BYTES, decode_text, split_lines
     from analysis.io._table import split_rows
-    from analysis.io._validate import ProblemLog, finish_session, report_cells
+    from analysis.io._validate import ProblemLog, checked_meta, finish_session, report_cells
     from analysis.io.mapping import TARGET_ALIASES
 
     data, name = _session_bytes(source, file_name, max_bytes or DEFAULT_MAX_BYTES)
     lines = split_lines(decode_text(data, file_name=name, strict_utf8=True).text)
-    raw_meta: dict[str, str] = {}
+    meta_entries: list[tuple[str, str, int | None]] = []
     i = 0
     while i < len(lines) and (not lines[i].strip() or lines[i].lstrip().startswith("#")):
         parsed = parse_meta_line(lines[i])
         if parsed:
-            raw_meta[parsed[0]] = parsed[1]
+            meta_entries.append((parsed[0], parsed[1], i + 1))
         i += 1
     if i == len(lines):
         raise ImportRejected(
@@ -206,4 +206,5 @@ def read_session(source: str | Path | bytes, *, file_name: str | None = None, ma
         else:
             frame[canonical] = pd.Series(text_values(cells), dtype=object)
     problems.raise_if_any()
-    return finish_session(frame, meta=coerce_meta(raw_meta), file_name=name, problems=problems, headers=shown)
+    meta = checked_meta(meta_entries, problems)
+    return finish_session(frame, meta=meta, file_name=name, problems=problems, headers=shown)
