@@ -90,6 +90,8 @@ def render() -> None:
         except Exception:  # noqa: BLE001 - no current test: start with the first person
             default_person = None
     ids = list(by_id)
+    if default_person not in ids:  # no current test: start with the person followed longest
+        default_person = max(people, key=lambda p: (p.n_tests, -p.id)).id
     person_id = st.selectbox(
         "Person",
         ids,
@@ -101,6 +103,8 @@ def render() -> None:
     if not tests:
         st.info("This person has no tests.")
         return
+    if len(tests) == 1:
+        st.info("Only one test of this person so far: changes appear once a second test is stored.")
 
     records = []
     results_by_id: dict[int, Any] = {}

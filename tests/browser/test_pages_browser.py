@@ -47,6 +47,8 @@ def test_pages_render(app_server, page, screenshot):
 
     _open(page, app_server, "Progress")
     page.get_by_text("Change from baseline").first.wait_for(timeout=60_000)
+    page.locator(".js-plotly-plot").first.wait_for(timeout=60_000)
+    wait_for_app(page)
     screenshot(page, "progress")
 
 
