@@ -71,5 +71,5 @@ def test_unknown_role_is_rejected_by_the_parser(db, monkeypatch):
 
 
 def test_empty_store_list_explains_the_first_step(db, monkeypatch, capsys):
-    assert run(["users", "--store", db, "list"], monkeypatch) == EXIT_OK
+    assert run(["users", "list", "--store", db], monkeypatch) == EXIT_OK  # --store after the action too
     assert "tidemark users add NAME --role admin" in capsys.readouterr().out

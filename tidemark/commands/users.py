@@ -24,28 +24,32 @@ def add_parser(subparsers: argparse._SubParsersAction) -> argparse.ArgumentParse
         description="Manage staff accounts. Roles: viewer (reads), reviewer (imports, edits, signs off, "
         "shares), admin (also manages accounts and deletes).",
     )
-    p.add_argument("--store", default=None, help=f"store URL or SQLite file (default: ${STORE_ENV} or ~/.tidemark/tidemark.sqlite)")
+    store_help = f"store URL or SQLite file (default: ${STORE_ENV} or ~/.tidemark/tidemark.sqlite)"
+    p.add_argument("--store", default=None, help=store_help)
+    # --store is accepted before or after the action ("users --store X list" or "users list --store X").
+    common = argparse.ArgumentParser(add_help=False)
+    common.add_argument("--store", default=argparse.SUPPRESS, help=store_help)
     actions = p.add_subparsers(dest="users_action", metavar="ACTION", required=True)
 
-    add = actions.add_parser("add", help="create an account")
+    add = actions.add_parser("add", help="create an account", parents=[common])
     add.add_argument("name", help="user name (letters, digits, . _ @ -); for --oidc the e-mail the provider reports")
     add.add_argument("--role", required=True, choices=ROLE_ORDER)
     how = add.add_mutually_exclusive_group()
     how.add_argument("--password-stdin", action="store_true", help="read the password as one line from standard input")
     how.add_argument("--oidc", action="store_true", help="the account signs in through the identity provider (no password)")
 
-    actions.add_parser("list", help="list accounts")
+    actions.add_parser("list", help="list accounts", parents=[common])
 
-    role = actions.add_parser("set-role", help="change an account's role")
+    role = actions.add_parser("set-role", help="change an account's role", parents=[common])
     role.add_argument("name")
     role.add_argument("role", choices=ROLE_ORDER)
 
-    disable = actions.add_parser("disable", help="disable an account (it stays in the history)")
+    disable = actions.add_parser("disable", help="disable an account (it stays in the history)", parents=[common])
     disable.add_argument("name")
-    enable = actions.add_parser("enable", help="enable a disabled account")
+    enable = actions.add_parser("enable", help="enable a disabled account", parents=[common])
     enable.add_argument("name")
 
-    pw = actions.add_parser("set-password", help="set a local account's password")
+    pw = actions.add_parser("set-password", help="set a local account's password", parents=[common])
     pw.add_argument("name")
     pw.add_argument("--password-stdin", action="store_true", help="read the password as one line from standard input")
 
