@@ -335,6 +335,13 @@ def import_bytes(
         line_numbers = line_numbers[:end]
         t_vals, t_missing, t_bad = t_vals[:end], t_missing[:end], t_bad[:end]
 
+    first_t = t_vals[np.isfinite(t_vals)][:1]
+    if first_t.size and first_t[0] >= 3600:
+        notes.append(
+            f"time starts at {first_t[0]:.0f} s (over an hour): if the export holds clock time, "
+            "times stay on that clock (seconds since midnight)"
+        )
+
     # Data-looking rows after the table would be lost breaths: refuse rather than drop them.
     tail = [(n, cells) for n, cells in located.after if classify(cells) == "data"]
     if tail:
@@ -505,6 +512,29 @@ def import_bytes(
     )
 
 
+def read_input_file(path: str | Path, *, max_bytes: int = DEFAULT_MAX_BYTES) -> bytes:
+    """The bytes of an export file, after checking it exists, is a file and is within ``max_bytes``.
+
+    Raises
+    ------
+    ImportRejected
+        Missing, a folder, unreadable, empty or too large (checked before reading).
+    """
+    path = Path(path)
+    try:
+        if path.is_dir():
+            raise ImportRejected(Problem("this is a folder, not a file", "give the path of the export file", str(path)))
+        size = path.stat().st_size
+        check_size(size, max_bytes=max_bytes, file_name=path.name)
+        return path.read_bytes()
+    except FileNotFoundError:
+        raise ImportRejected(Problem("the file does not exist", "check the path and name", str(path))) from None
+    except OSError as exc:
+        raise ImportRejected(
+            Problem(f"the file cannot be read ({exc.strerror or exc})", "check the path and its permissions", str(path))
+        ) from None
+
+
 def import_file(
     path: str | Path,
     *,
@@ -523,21 +553,7 @@ def import_file(
         The file is missing, unreadable, too large, or cannot be imported.
     """
     path = Path(path)
-    try:
-        size = path.stat().st_size
-    except FileNotFoundError:
-        raise ImportRejected(Problem("the file does not exist", "check the path and name", str(path))) from None
-    except OSError as exc:
-        raise ImportRejected(Problem(f"the file cannot be read ({exc.strerror})", "check the path", str(path))) from None
-    if path.is_dir():
-        raise ImportRejected(Problem("this is a folder, not a file", "give the path of the export file", str(path)))
-    check_size(size, max_bytes=max_bytes, file_name=path.name)
-    try:
-        data = path.read_bytes()
-    except OSError as exc:
-        raise ImportRejected(
-            Problem(f"the file cannot be read ({exc.strerror})", "check its permissions", path.name)
-        ) from None
+    data = read_input_file(path, max_bytes=max_bytes)
     return import_bytes(
         data,
         file_name=path.name,

@@ -63,7 +63,7 @@ def test_bad_file_exit_2_message_and_nothing_written(tmp_path, capsys):
 
 def test_missing_file_and_bad_options(tmp_path, capsys):
     assert main(["import", str(tmp_path / "none.csv")]) == EXIT_BAD_INPUT
-    assert "cannot be opened" in capsys.readouterr().err
+    assert "does not exist" in capsys.readouterr().err
     src = tmp_path / "a.csv"
     src.write_bytes(b"Time,VO2,VCO2,VE\n0,300,250,10\n")
     assert main(["import", str(src), "--map", "no-equals-sign", "--out", str(tmp_path)]) == EXIT_BAD_INPUT

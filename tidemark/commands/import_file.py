@@ -9,21 +9,21 @@ from __future__ import annotations
 import argparse
 from pathlib import Path
 
-from analysis.errors import InvalidParameter
+from analysis.errors import ImportRejected, InvalidParameter, Problem
 from analysis.io import (
     DEFAULT_MAX_BYTES,
     GAS_UNITS,
+    TIME_FORMATS,
     ColumnMapping,
     describe_outcome,
+    file_kind,
     import_bytes,
     list_sheets,
     load_profile,
+    read_input_file,
     save_profile,
 )
-from analysis.io._cells import TIME_FORMATS
-from analysis.io._decode import check_size, container_kind
 from analysis.io.saving import save_import
-from analysis.errors import ImportRejected, Problem
 
 
 def add_parser(subparsers: argparse._SubParsersAction) -> argparse.ArgumentParser:
@@ -77,7 +77,7 @@ def _pairs(items: list[str], option: str, example: str) -> list[tuple[str, str]]
 
 
 def _sheet(value: str | None, data: bytes, file_name: str) -> str | int | None:
-    if value is None or container_kind(data) != "xlsx":
+    if value is None or file_kind(data) != "xlsx":
         return value
     names = list_sheets(data, file_name=file_name)
     if value in names:
@@ -98,16 +98,7 @@ def run(args: argparse.Namespace) -> int:
         explicit = ColumnMapping(dict(overrides))
         mapping = mapping.overridden_by(explicit) if mapping else explicit
     meta = dict(_pairs(args.set, "--set", "body_mass_kg=72.5"))
-    try:
-        size = path.stat().st_size
-    except OSError as exc:
-        raise ImportRejected(
-            Problem("the file cannot be opened" + (f" ({exc.strerror})" if exc.strerror else ""), "check the path", str(path))
-        ) from None
-    if path.is_dir():
-        raise ImportRejected(Problem("this is a folder, not a file", "give the path of the export file", str(path)))
-    check_size(size, max_bytes=max_bytes, file_name=path.name)
-    data = path.read_bytes()
+    data = read_input_file(path, max_bytes=max_bytes)
     outcome = import_bytes(
         data,
         file_name=path.name,
