@@ -17,7 +17,7 @@ from analysis import columns as C
 from analysis.errors import ImportRejected, Problem, require
 from analysis.io._cells import TIME_FORMATS, detect_decimal, parse_numbers, parse_times, text_values
 from analysis.io._decode import DEFAULT_MAX_BYTES, check_size, container_kind, decode_text, split_lines
-from analysis.io._table import DELIMITER_NAMES, LocatedTable, Row, choose_delimiter, classify, locate_table, split_rows
+from analysis.io._table import LocatedTable, Row, choose_delimiter, classify, locate_table, split_rows
 from analysis.io._units import CANONICAL_UNIT, UNIT_LABELS, factor
 from analysis.io._validate import ProblemLog, checked_meta, finish_session, report_cells
 from analysis.io._xlsx import list_sheets, sheet_rows
