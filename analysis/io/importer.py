@@ -392,6 +392,10 @@ def import_bytes(
                     markers[i] = "; ".join(carried + ([markers[i]] if markers[i] else []))
                     carried = []
                     moved += 1
+            last = int(np.flatnonzero(keep)[-1]) if keep.any() else None
+            if carried and last is not None:  # events after the last breath go to the last breath
+                markers[last] = "; ".join(([markers[last]] if markers[last] else []) + carried)
+                moved += 1
             values[C.MARKER] = markers
             if moved:
                 notes.append(f"{moved} marker(s) from rows without gas values were moved to the next breath")

@@ -263,3 +263,9 @@ class TestLayouts:
 
         with pytest.raises(ImportRejected, match=r"line 2, column 'Time': 'abc' is not a time"):
             import_bytes(b"Time,VO2,VCO2,VE\nabc,300,250,10\ndef,310,260,11\n", file_name="f.csv")
+
+
+def test_event_rows_after_the_last_breath_keep_their_marker():
+    data = b"Time,VO2,VCO2,VE,Event\n0,300,250,10,\n3,310,260,11,peak\n5,,,,Stop test\n"
+    out = import_bytes(data, file_name="ev.csv")
+    assert out.session.breaths["marker"].tolist() == [None, "peak; Stop test"]
