@@ -101,3 +101,16 @@ def test_generated_valid_table_round_trips(case):
     np.testing.assert_allclose(back.breaths["vo2_ml_min"], b["vo2_ml_min"], rtol=1e-5)
     pairs = ["column", "reason"]
     assert back.flags[pairs].to_numpy().tolist() == out.session.flags[pairs].to_numpy().tolist()
+
+
+@FAST
+@given(st.lists(st.text(max_size=20), max_size=12))
+def test_guess_mapping_on_any_headers(headers):
+    from analysis import columns as C
+    from analysis.io import ColumnMapping, guess_mapping
+
+    m = guess_mapping(headers)
+    targets = list(m.mapped())
+    assert len(targets) == len(set(targets)) and set(targets) <= set(C.COLUMNS)
+    assert set(m.columns) <= set(headers)
+    assert ColumnMapping.from_dict(m.to_dict()) == m
