@@ -372,7 +372,9 @@ def _oxygen(
         return None
 
 
-def analyze_session(session: Session, settings: AnalysisSettings | None = None) -> TestResults:
+def analyze_session(
+    session: Session, settings: AnalysisSettings | None = None, *, with_oxygen: bool = True
+) -> TestResults:
     """Analyse one exercise test: clean, average, find thresholds, and compute every result.
 
     Parameters
@@ -382,6 +384,10 @@ def analyze_session(session: Session, settings: AnalysisSettings | None = None) 
     settings : AnalysisSettings, optional
         Averaging, outlier test, manual exclusions and restorations, threshold overrides,
         plateau threshold, metadata overrides and oxygen conditions (defaults when omitted).
+    with_oxygen : bool, keyword-only
+        Compute the per-state oxygen comparison when Hb is known (default). The folder batch
+        turns it off because its summary row holds no oxygen values; ``oxygen`` is then
+        ``None`` and every other result is unchanged.
 
     Returns
     -------
@@ -461,7 +467,11 @@ def analyze_session(session: Session, settings: AnalysisSettings | None = None) 
             from analysis.zones import ZoneSet
 
             zones = ZoneSet([], f"Zones not given: {exc}")
-        oxygen = _oxygen(meta, settings, avg=avg, phases_avg=phases_avg, peak=peak, vt1=vt1, vt2=vt2, warns=warns)
+        oxygen = (
+            _oxygen(meta, settings, avg=avg, phases_avg=phases_avg, peak=peak, vt1=vt1, vt2=vt2, warns=warns)
+            if with_oxygen
+            else None
+        )
     for w in caught:
         if issubclass(w.category, DataQualityWarning):
             text = str(w.message)

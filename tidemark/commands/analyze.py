@@ -131,7 +131,7 @@ def analyze_path(path: str | Path, settings_dict: dict[str, Any]) -> dict[str, A
     path = Path(path)
     try:
         settings = AnalysisSettings.from_dict(settings_dict)
-        results = analyze_session(load_session(path), settings)
+        results = analyze_session(load_session(path), settings, with_oxygen=False)  # no oxygen column in the row
         return summary_row(results.to_json_dict(), file=path.name)
     except TidemarkError as exc:
         return error_row(file=path.name, error=str(exc).replace("\n", " | "))

@@ -126,3 +126,11 @@ def test_without_metadata_values_are_null_and_warned(cyclist):
     assert d["predicted"]["vo2max_friend_ml_kg_min"] is None
     assert any("Body mass unknown" in w for w in d["warnings"])
     assert any("FRIEND" in w for w in d["warnings"])
+
+
+def test_without_oxygen_only_the_oxygen_section_changes(cyclist, results):
+    full = results.to_json_dict()
+    lean = analyze_session(cyclist, with_oxygen=False).to_json_dict()
+    assert full["oxygen"] is not None and lean["oxygen"] is None
+    for key in ("vo2_peak_ml_min", "vt1", "vt2", "indices", "zones", "maximality"):
+        assert lean[key] == full[key]
