@@ -5,6 +5,8 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from analysis.breaths import DEFAULT_AVERAGING, AveragingSpec, average_breaths
 from analysis.errors import InvalidParameter
@@ -143,3 +145,24 @@ class TestAverage:
     def test_spec_type_checked(self):
         with pytest.raises(InvalidParameter, match="spec"):
             average_breaths(frame([0.0], [1.0]), {"method": "time_bin", "size": 10})  # type: ignore[arg-type]
+
+
+# ---------------------------------------------------------------- properties (hypothesis)
+
+@settings(max_examples=60, deadline=None)
+@given(
+    gaps=st.lists(st.floats(0.5, 8.0), min_size=1, max_size=120),
+    values=st.lists(st.floats(100.0, 5000.0), min_size=120, max_size=120),
+    spec=st.sampled_from(ALL_SPECS + [AveragingSpec("time_bin", 3.5), AveragingSpec("breaths", 2)]),
+)
+def test_means_stay_within_the_data_and_breaths_are_counted(gaps, values, spec):
+    t = np.cumsum(gaps)
+    v = np.asarray(values[: t.size])
+    out = average_breaths(frame(t, v), spec)
+    if len(out):
+        assert out["vo2_ml_min"].min() >= v.min() - 1e-9
+        assert out["vo2_ml_min"].max() <= v.max() + 1e-9
+        assert out["t_s"].is_monotonic_increasing
+        assert t.min() - spec.size <= out["t_s"].min() and out["t_s"].max() <= t.max() + spec.size
+    if spec.method == "time_bin":
+        assert int(out["n_breaths"].sum()) == t.size  # every breath in exactly one bin
