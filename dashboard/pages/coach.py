@@ -32,20 +32,24 @@ INVALID_TEXT = "This link is not valid."
 #: Token shape accepted before asking the store (URL-safe base64, as ``secrets.token_urlsafe``).
 _TOKEN_SHAPE = re.compile(r"^[A-Za-z0-9_-]{16,128}$")
 
+#: Session-state flag: this browser session's view of the link has been counted.
+VIEW_LOGGED_KEY = "tm_coach_view_logged"
+
 #: What a share may show; a scope without sections shows all of them.
 SECTIONS: tuple[str, ...] = ("headline", "zones", "charts", "report")
 
 
-def resolve_scope(store: Any, token: Any) -> Any | None:
+def resolve_scope(store: Any, token: Any, *, log_view: bool = True) -> Any | None:
     """The store's share scope for ``token``, or ``None`` for any token that does not open.
 
     Malformed tokens are refused before the store is asked; store errors are logged and also
-    give ``None`` so that the page cannot tell the cases apart.
+    give ``None`` so that the page cannot tell the cases apart. The link is checked again on
+    every run, so a revoked or expired link stops working at once.
     """
     if not isinstance(token, str) or not _TOKEN_SHAPE.match(token):
         return None
     try:
-        scope = store.resolve_share(token)
+        scope = store.resolve_share(token, log_view=log_view)
     except Exception:  # noqa: BLE001 - same plain page for every failure, details in the log
         log.exception("share link could not be resolved")
         return None
@@ -82,10 +86,13 @@ def render() -> None:
         log.exception("store could not be opened for a coach link")
         render_invalid()
         return
-    scope = resolve_scope(store, token)
+    # One view is counted per browser session, not per rerun (choosing another test, ...).
+    first_view = not st.session_state.get(VIEW_LOGGED_KEY)
+    scope = resolve_scope(store, token, log_view=first_view)
     if scope is None:
         render_invalid()
         return
+    st.session_state[VIEW_LOGGED_KEY] = True
     render_scope(store, scope)
 
 

@@ -89,3 +89,29 @@ def test_report_file_matches_analysis(demo_store, first_test):
     header = files["breaths_csv"].data.decode().splitlines()[0].split(",")
     assert header[0] == "t_s" and "excluded_reason" in header
     assert len(files["breaths_csv"].data.decode().splitlines()) == len(session.breaths) + 1
+
+
+def test_saved_manual_vt1_names_who_set_it_and_sign_off(demo_store, page_test):
+    """A VT1 saved through the store: the report names the reviewer and reason (audit trail),
+    and after sign-off it carries the signed state instead of 'Draft'."""
+    from analysis.pipeline import analyze_session
+    from analysis.settings import AnalysisSettings
+
+    store, user = demo_store.store, demo_store.user
+    test_id = demo_store.test_ids[1]
+    settings, version = store.get_settings(test_id)
+    auto = analysis_json(store, test_id)
+    moved = with_override(settings, kind="vt1", t_s=float(auto["vt1"]["time_s"]) - 60.0, reason="clearer break earlier")
+    new_version = store.save_settings(test_id, moved, actor=user, reason="clearer break earlier", expected_version=version)
+    session = store.load_session(test_id)
+    results = analyze_session(session, AnalysisSettings.from_dict(moved))
+    doc = build_test_report(store, test_id, results, session, version=new_version)
+    assert f"MANUAL — {user.username} on " in doc and "clearer break earlier" in doc
+    assert "Draft — not signed off" in doc
+    store.sign_off(test_id, actor=user)
+    signed = build_test_report(store, test_id, results, session, version=new_version)
+    assert f"Signed off by {user.username}" in signed and "Draft — not signed off" not in signed
+    at = page_test(_reports, **signed_in(user), **{state.TEST_ID: test_id})
+    at.run()
+    assert not at.exception
+    assert any(f"Version {new_version}, signed off by {user.username}" in i.value for i in at.info)

@@ -188,3 +188,17 @@ def test_person_link_with_chosen_sections(demo_store, page_test):
     assert not [m for m in page_text(coach) if m == "**Training zones**"]
     assert len(coach.metric) > 0
     assert [b.proto.label for b in coach.get("download_button")] == ["Download the report (HTML)"]
+
+
+def test_one_view_counted_per_session_and_revocation_is_immediate(demo_store):
+    store, test_id = demo_store.store, demo_store.test_ids[0]
+    token, share_id = store.create_share(actor=demo_store.user, test_id=test_id, expires_in_days=2)
+    at = _coach_run(token)
+    at.run()
+    at.run()
+    views = {s.id: s for s in store.list_shares()}[share_id].n_views
+    assert views == 1
+    store.revoke_share(share_id, actor=demo_store.user)
+    at.run()  # the same browser session, after revocation
+    assert page_text(at) == ["Tidemark", INVALID_TEXT]
+    assert len(at.metric) == 0
