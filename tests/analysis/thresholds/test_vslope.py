@@ -151,3 +151,41 @@ def test_handles_100k_points():
     fit = vslope_fit(vo2, vco2)
     assert fit.valid
     assert fit.vo2_break_ml_min == pytest.approx(2500.0, abs=25.0)
+
+
+def brute_force_admissible_sse(x: np.ndarray, y: np.ndarray, m: int) -> float:
+    """O(n^2) reference for vslope_fit's choice: best split meeting Beaver's slope rules."""
+    order = np.argsort(x, kind="stable")
+    xs, ys = x[order], y[order]
+    best = np.inf
+    for k in range(m, xs.size - m + 1):
+        if xs[k - 1] == xs[k] or np.ptp(xs[:k]) == 0 or np.ptp(xs[k:]) == 0:
+            continue
+        (s1, c1), (s2, c2) = np.polyfit(xs[:k], ys[:k], 1), np.polyfit(xs[k:], ys[k:], 1)
+        if not (s2 - s1 > 0.1 and 0.6 <= s1 <= 1.3):
+            continue
+        sse = float(np.sum((ys[:k] - (s1 * xs[:k] + c1)) ** 2) + np.sum((ys[k:] - (s2 * xs[k:] + c2)) ** 2))
+        best = min(best, sse)
+    return best
+
+
+@settings(max_examples=60, deadline=None)
+@given(
+    st.lists(st.integers(50, 400), min_size=12, max_size=40, unique=True),
+    st.floats(0.7, 1.2),
+    st.floats(0.0, 1.0),
+    st.integers(0, 10_000),
+)
+def test_vslope_choice_matches_brute_force(xs, s1, rise, seed):
+    # Random two-line data with noise: vslope_fit's split is the brute-force best admissible one
+    x = np.array(xs, dtype=float) * 10.0
+    brk = float(np.median(x))
+    rng = np.random.default_rng(seed)
+    y = np.where(x <= brk, s1 * x, s1 * brk + (s1 + rise) * (x - brk)) + 30.0 * rng.standard_normal(x.size)
+    fit = vslope_fit(x, y, min_segment=3)
+    slow = brute_force_admissible_sse(x, y, 3)
+    if np.isfinite(slow):
+        assert fit.sse == pytest.approx(slow, rel=1e-6, abs=1e-6)
+        assert fit.slope_above - fit.slope_below > 0.1
+    else:
+        assert not fit.valid and ("slope" in fit.reason)
