@@ -114,3 +114,38 @@ def test_guess_mapping_on_any_headers(headers):
     assert len(targets) == len(set(targets)) and set(targets) <= set(C.COLUMNS)
     assert set(m.columns) <= set(headers)
     assert ColumnMapping.from_dict(m.to_dict()) == m
+
+
+XLSX_CELL = st.one_of(
+    st.none(),
+    st.booleans(),
+    st.integers(-100, 5000),
+    st.floats(-10, 5000, allow_nan=False),
+    st.sampled_from(["", "abc", "0:30", "1,5", "VO2", "Time", "=1+1", "#N/A"]),
+    st.times(),
+    st.datetimes(min_value=__import__("datetime").datetime(2020, 1, 1), max_value=__import__("datetime").datetime(2030, 1, 1)),
+    st.timedeltas(min_value=__import__("datetime").timedelta(0), max_value=__import__("datetime").timedelta(hours=2)),
+)
+
+
+@settings(max_examples=15, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(st.lists(st.lists(XLSX_CELL, min_size=1, max_size=6), min_size=1, max_size=8), st.booleans())
+def test_arbitrary_workbooks_never_crash(rows, with_header):
+    import io
+
+    import openpyxl
+
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    if with_header:
+        ws.append(["Time", "VO2", "VCO2", "VE", "HR", "Marker"])
+    for row in rows:
+        ws.append(row)
+    buf = io.BytesIO()
+    wb.save(buf)
+    try:
+        out = import_bytes(buf.getvalue(), file_name="fuzz.xlsx")
+    except ImportRejected as exc:
+        assert all(p.file == "fuzz.xlsx" for p in exc.problems)
+        return
+    assert len(out.session.breaths) > 0
