@@ -144,6 +144,7 @@ class TestAccountManagement:
         with pytest.raises(StoreError, match="last active administrator"):
             store.disable_user("ada", actor=LOCAL_OPERATOR)
 
+    @pytest.mark.parametrize("store_url", ["sqlite"], indirect=True)  # refusal does not depend on the back end
     @pytest.mark.parametrize("name", ["a", "has space", "semi;colon", "x" * 121, "../etc"])
     def test_bad_user_names_refused(self, store, users, name):
         with pytest.raises(InvalidParameter, match="username"):
