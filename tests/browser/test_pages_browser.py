@@ -12,6 +12,7 @@ import secrets
 from html.parser import HTMLParser
 
 from tests.browser.conftest import wait_for_app
+from tests.support import ARTIFACTS
 
 LINK_RE = re.compile(r"http://[^/\s]+/\?link=([A-Za-z0-9_-]{43})")
 
@@ -71,6 +72,18 @@ def test_report_download_is_self_contained(app_server, page, screenshot, tmp_pat
     page.goto(path.as_uri())
     page.locator(".js-plotly-plot").first.wait_for(timeout=60_000)
     screenshot(page, "report-file")
+    # Print: every chart lies inside the printable width of A4 (210 - 2 x 12 mm) and Letter
+    # (215.9 - 2 x 12 mm) at 96 px per inch (CSS reference pixel, W3C CSS Values).
+    page.emulate_media(media="print")
+    for paper, width_mm in (("A4", 210.0), ("Letter", 215.9)):
+        printable_px = int((width_mm - 24.0) / 25.4 * 96)
+        page.set_viewport_size({"width": printable_px, "height": 1100})
+        boxes = page.eval_on_selector_all(
+            ".js-plotly-plot", "els => els.map(e => { const r = e.getBoundingClientRect(); return [r.left, r.right]; })"
+        )
+        assert boxes, "no charts in the report"
+        assert all(left >= 0 and right <= printable_px + 0.5 for left, right in boxes), (paper, boxes)
+        page.pdf(path=str(ARTIFACTS / f"report-{paper.lower()}.pdf"), format=paper, print_background=True)
 
 
 def test_share_link_opens_coach_view_only(app_server, browser, page, screenshot):
