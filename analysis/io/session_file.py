@@ -24,6 +24,8 @@ def _format_meta_value(value: Any) -> str:
     if isinstance(value, float):
         if math.isnan(value):
             return ""
+        if math.isinf(value):
+            return repr(value)
         return repr(round(value, 6)).rstrip("0").rstrip(".") if value != int(value) else str(int(value))
     return str(value).replace("\r", " ").replace("\n", " ")
 
