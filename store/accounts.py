@@ -73,6 +73,11 @@ class AccountsMixin(StoreCore):
         encoded = hash_password(password, params=self.password_params) if password is not None else None
         with self._tx() as db:
             actor_row = self._check_actor(db, actor, "admin", "create accounts")
+            if self._info(db, "demo") == "1":
+                raise StoreError(
+                    "This is a demo store: the dashboard signs everyone in as the demo reviewer, so an "
+                    "account here would protect nothing. Create accounts in a real store (--store)."
+                )
             if db.execute(select(UserRow.id).where(UserRow.username == name)).first() is not None:
                 raise StoreError(f"An account named '{name}' already exists.")
             row = UserRow(username=name, role=role, password_hash=encoded, auth_source=auth_source,
@@ -202,7 +207,7 @@ class AccountsMixin(StoreCore):
                 "or ask an administrator.",
                 retry_after_s=wait_s,
             )
-        with self._tx() as db:
+        with self._read() as db:
             row = db.execute(select(UserRow).where(UserRow.username == name)).scalar_one_or_none()
             stored = row.password_hash if row is not None and row.auth_source == "local" else None
         ok = verify_password(password or "", stored or self._dummy())

@@ -104,7 +104,7 @@ class ArchiveMixin(StoreCore):
         PermissionDenied
             The actor is not a reviewer or admin.
         """
-        with self._tx() as db:
+        with self._read() as db:
             self._check_actor(db, actor, "reviewer", "import tests")
         name = _clean_text(file_name, name="file_name", limit=MAX_FILE_NAME_CHARS, required=True) or ""
         person_code = _clean_text(person_code, name="person_code", limit=MAX_CODE_CHARS)
@@ -356,7 +356,8 @@ class ArchiveMixin(StoreCore):
         if test_ids is not None:
             query = query.where(TestRow.id.in_(list(test_ids)))
         with self._read() as db:
-            rows = db.execute(query.order_by(TestRow.test_date, TestRow.id)).all()
+            # Undated tests last on every back end (SQLite and PostgreSQL sort NULL differently).
+            rows = db.execute(query.order_by(TestRow.test_date.is_(None), TestRow.test_date, TestRow.id)).all()
         return [self._summary(*row) for row in rows]
 
     def get_test(self, test_id: int, *, include_deleted: bool = False) -> TestRecord:

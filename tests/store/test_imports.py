@@ -59,6 +59,11 @@ class TestImport:
         b = store.import_test(data + b"\n", file_name="x.csv", actor=users["rhea"])
         assert not b.duplicate and b.test_id != a.test_id and b.person_id == a.person_id
 
+    def test_tests_listed_by_date_with_undated_last(self, store, users):
+        undated = store.import_test(csv_bytes(2000.0), file_name="u.csv", actor=users["rhea"]).test_id
+        dated = store.import_test(csv_bytes(2100.0, subject="SEL-002"), file_name="d.csv", actor=users["rhea"]).test_id
+        assert [t.id for t in store.list_tests()] == [dated, undated]
+
     def test_person_gets_a_random_pseudonymous_code_when_none_given(self, store, users):
         res = store.import_test(csv_bytes(2500.0), file_name="anon.csv", actor=users["rhea"])
         person = store.get_person(res.person_id)
