@@ -73,11 +73,6 @@ class AccountsMixin(StoreCore):
         encoded = hash_password(password, params=self.password_params) if password is not None else None
         with self._tx() as db:
             actor_row = self._check_actor(db, actor, "admin", "create accounts")
-            if self._info(db, "demo") == "1":
-                raise StoreError(
-                    "This is a demo store: the dashboard signs everyone in as the demo reviewer, so an "
-                    "account here would protect nothing. Create accounts in a real store (--store)."
-                )
             if db.execute(select(UserRow.id).where(UserRow.username == name)).first() is not None:
                 raise StoreError(f"An account named '{name}' already exists.")
             row = UserRow(username=name, role=role, password_hash=encoded, auth_source=auth_source,
