@@ -122,8 +122,12 @@ def parse_numbers(values: Sequence[object], *, decimal: str) -> tuple[np.ndarray
         out[num_idx] = s.iloc[num_idx].to_numpy(dtype=float, copy=True)
     str_idx = np.flatnonzero(is_str)
     if str_idx.size:
-        t, miss = _clean_text(s.iloc[str_idx], decimal=decimal)
+        raw = s.iloc[str_idx]
+        t, miss = _clean_text(raw, decimal=decimal)
         ok = t.str.match(_DOT_NUMBER).to_numpy(dtype=bool, copy=True)
+        if decimal == ",":
+            # "2.345" in a decimal-comma file may be 2345 or 2.345: refuse to guess
+            ok &= ~raw.astype(str).str.contains(".", regex=False).to_numpy(dtype=bool, copy=True)
         miss_a = miss.to_numpy(dtype=bool, copy=True)
         good = ok & ~miss_a
         parsed = np.full(str_idx.size, np.nan)

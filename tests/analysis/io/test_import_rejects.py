@@ -86,3 +86,8 @@ def test_bad_arguments_are_invalid_parameter():
         ColumnMapping({"A": "vo2_ml_min", "B": "vo2_l_min"})
     with pytest.raises(InvalidParameter, match="unit of hr_bpm"):
         ColumnMapping({"HR": "hr_bpm"}, {"hr_bpm": "l_min"})
+
+
+def test_mixed_decimal_marks_are_rejected_with_location():
+    data = b"Time;VO2;VCO2;VE\n0;300,5;250,1;10,2\n3;2.345;260,1;11,4\n"
+    _reject(data, r"line 3, column 'VO2': '2.345' is not a number .*one decimal mark")

@@ -83,3 +83,9 @@ def test_detect_decimal():
     assert detect_decimal(["1,5", "2,5", "3"]) == ","
     assert detect_decimal(["1.5", "2,5", "3.25"]) == "."
     assert detect_decimal(["10", "20"]) == "."
+
+
+def test_a_point_in_a_decimal_comma_file_is_not_guessed():
+    # "2.345" could be 2345 (thousands point) or 2.345 (stray decimal point): refused (common practice: never guess)
+    v, _, bad = parse_numbers(["2,5", "2.345", "2345"], decimal=",")
+    assert v[0] == 2.5 and bad.tolist() == [False, True, False] and v[2] == 2345.0
