@@ -314,17 +314,30 @@ def guess_mapping(headers: Sequence[str], *, unit_row: Sequence[str | None] | No
     return ColumnMapping(columns, units)
 
 
+class ProfileError(TidemarkError):
+    """A mapping profile file cannot be read or written."""
+
+
 def save_profile(mapping: ColumnMapping, path: str | Path) -> Path:
-    """Write ``mapping`` as a JSON profile (UTF-8) and return the path."""
+    """Write ``mapping`` as a JSON profile (UTF-8) and return the path.
+
+    Raises
+    ------
+    ProfileError
+        The file cannot be written.
+    """
     path = Path(path)
     tmp = path.with_name(path.name + ".tmp")
-    tmp.write_text(json.dumps(mapping.to_dict(), indent=2, ensure_ascii=False) + "\n", encoding="utf-8")
-    tmp.replace(path)
+    try:
+        tmp.write_text(json.dumps(mapping.to_dict(), indent=2, ensure_ascii=False) + "\n", encoding="utf-8")
+        tmp.replace(path)
+    except OSError as exc:
+        if tmp.parent.is_dir():
+            tmp.unlink(missing_ok=True)
+        raise ProfileError(
+            f"mapping profile '{path}' cannot be written ({exc.strerror or exc}) — check the folder exists and is writable"
+        ) from None
     return path
-
-
-class ProfileError(TidemarkError):
-    """A mapping profile file cannot be read."""
 
 
 def load_profile(path: str | Path) -> ColumnMapping:

@@ -99,3 +99,12 @@ def test_xlsx_sheet_by_number(tmp_path):
     assert main(["import", str(src), "--sheet", "2", "--out", str(tmp_path / "o")]) == EXIT_OK
     assert _sha(tmp_path / "o" / "originals" / "book.xlsx") == _sha(src)
     assert read_session(tmp_path / "o" / "book.session.csv").breaths["t_s"].tolist() == [0.0, 3.0]
+
+
+def test_unwritable_profile_is_bad_input_and_nothing_written(tmp_path, capsys):
+    src = tmp_path / "a.csv"
+    src.write_bytes(b"Time,VO2,VCO2,VE\n0,300,250,10\n")
+    rc = main(["import", str(src), "--out", str(tmp_path / "o"), "--save-profile", str(tmp_path / "no" / "dir" / "p.json")])
+    assert rc == EXIT_BAD_INPUT
+    assert "cannot be written" in capsys.readouterr().err
+    assert not (tmp_path / "o").exists()

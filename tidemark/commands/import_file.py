@@ -109,6 +109,8 @@ def run(args: argparse.Namespace) -> int:
         meta_overrides=meta,
         max_bytes=max_bytes,
     )
+    if args.save_profile:  # first: a profile that cannot be written stops before anything else is
+        save_profile(outcome.mapping, args.save_profile)
     saved = save_import(outcome, data, out_dir=args.out, original_name=path.name)
     verb = "replaced" if saved.session_replaced else "wrote"
     print(f"Imported '{path.name}': {verb} {saved.session_path}")
@@ -117,6 +119,5 @@ def run(args: argparse.Namespace) -> int:
     kept = "kept" if saved.original_was_new else "already kept (identical)"
     print(f"  original {kept}: {saved.original_path}")
     if args.save_profile:
-        save_profile(outcome.mapping, args.save_profile)
         print(f"  mapping profile saved: {args.save_profile}")
     return 0
