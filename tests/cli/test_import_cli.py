@@ -22,11 +22,11 @@ def test_import_writes_session_and_keeps_original(tmp_path, capsys):
     src.parent.mkdir()
     src.write_bytes(EXPORT)
     out = tmp_path / "out"
-    rc = main(["import", str(src), "--out", str(out), "--set", "body_mass_kg=70.5", "--set", "subject_id=SEL-009"])
+    rc = main(["import", str(src), "--out", str(out), "--set", "body_mass_kg=70.5", "--set", "subject_id=SEL-009", "--set", "notes=a=b"])
     assert rc == EXIT_OK
     session = read_session(out / "ride 1.session.csv")
     assert session.breaths["vo2_ml_min"].tolist() == [300.0, 320.0, 400.0]
-    assert session.meta == {"body_mass_kg": 70.5, "subject_id": "SEL-009"}
+    assert session.meta == {"body_mass_kg": 70.5, "subject_id": "SEL-009", "notes": "a=b"}
     assert _sha(out / "originals" / "ride 1.csv") == _sha(src)
     printed = capsys.readouterr().out
     assert "breaths: 3" in printed

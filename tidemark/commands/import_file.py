@@ -66,10 +66,11 @@ def add_parser(subparsers: argparse._SubParsersAction) -> argparse.ArgumentParse
     return p
 
 
-def _pairs(items: list[str], option: str, example: str) -> list[tuple[str, str]]:
+def _pairs(items: list[str], option: str, example: str, *, split_at_last: bool) -> list[tuple[str, str]]:
+    """``KEY=VALUE`` texts as pairs; a header may contain '=', a metadata key may not."""
     out = []
     for item in items:
-        key, sep, value = item.rpartition("=")
+        key, sep, value = item.rpartition("=") if split_at_last else item.partition("=")
         if not sep or not key.strip():
             raise InvalidParameter(option, f"KEY=VALUE, e.g. {example}", item)
         out.append((key.strip(), value.strip()))
@@ -93,11 +94,11 @@ def run(args: argparse.Namespace) -> int:
         raise InvalidParameter("--max-mb", "a positive number", args.max_mb)
     max_bytes = int(args.max_mb * 1048576)
     mapping = load_profile(args.profile) if args.profile else None
-    overrides = _pairs(args.map, "--map", '"Oxygen uptake=vo2_ml_min"')
+    overrides = _pairs(args.map, "--map", '"Oxygen uptake=vo2_ml_min"', split_at_last=True)
     if overrides:
         explicit = ColumnMapping(dict(overrides))
         mapping = mapping.overridden_by(explicit) if mapping else explicit
-    meta = dict(_pairs(args.set, "--set", "body_mass_kg=72.5"))
+    meta = dict(_pairs(args.set, "--set", "body_mass_kg=72.5", split_at_last=False))
     data = read_input_file(path, max_bytes=max_bytes)
     outcome = import_bytes(
         data,
