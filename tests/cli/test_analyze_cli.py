@@ -116,3 +116,21 @@ def test_parse_averaging():
     assert (spec.method, spec.size) == ("rolling_time", 30)
     with pytest.raises(Exception, match="METHOD:SIZE"):
         parse_averaging("time_bin")
+
+
+def test_other_exports_go_through_the_generic_importer(tmp_path, capsys):
+    # a semicolon / decimal-comma export with its own headers is not a session file
+    s = simulate_session(TRAINED_CYCLIST, CYCLE_RAMP_30, seed=3)
+    b = s.breaths
+    lines = ["Time (s);VO2 (mL/min);VCO2 (mL/min);VE (L/min);HR;Load (W)"]
+    for r in b.itertuples():
+        cells = (r.t_s, r.vo2_ml_min, r.vco2_ml_min, r.ve_l_min, r.hr_bpm, r.work_w)
+        lines.append(";".join(f"{v:.3f}".replace(".", ",") for v in cells))
+    f = tmp_path / "cart_export.csv"
+    f.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    assert main(["analyze", str(f), "--json"]) == EXIT_OK
+    d = json.loads(capsys.readouterr().out)
+    assert d["subject"]["mode"] == "cycle"
+    # same breaths as the simulated session: peak within 5 % of the model (ground truth)
+    assert d["vo2_peak_ml_min"] == pytest.approx(s.meta["truth_vo2peak_ml_min"], rel=0.05)
+    assert any("Body mass unknown" in w for w in d["warnings"])
