@@ -49,7 +49,7 @@ from analysis.session import Session
 from analysis.settings import AnalysisSettings
 from analysis.thresholds import detect_thresholds, override_threshold
 from analysis.thresholds.results import ThresholdReport
-from analysis.zones import training_zones
+from analysis.zones import ZoneSet, training_zones
 
 #: Columns of :attr:`TestResults.excluded_breaths`.
 EXCLUDED_COLUMNS: tuple[str, ...] = ("source_row", "t_s", "column", "value", "reason", "by")
@@ -464,8 +464,6 @@ def analyze_session(
         try:
             zones = training_zones(vt1=vt1, vt2=vt2, peak=_ceiling(ex, peak, maximality.hr_peak_bpm))
         except TidemarkError as exc:
-            from analysis.zones import ZoneSet
-
             zones = ZoneSet([], f"Zones not given: {exc}")
         oxygen = (
             _oxygen(meta, settings, avg=avg, phases_avg=phases_avg, peak=peak, vt1=vt1, vt2=vt2, warns=warns)
@@ -486,7 +484,7 @@ def analyze_session(
             f"{n_ex} of {len(breaths)} breaths ({100 * n_ex / len(breaths):.0f} %) were excluded — check the recording."
         )
     warns.extend(r if r[:1].isupper() else r[:1].upper() + r[1:] for r in report.reasons if "not found" in r)
-    if hasattr(zones, "note") and not zones.zones:
+    if not zones.zones:
         warns.append(zones.note)
 
     methods = dict(_BASE_METHODS)
