@@ -11,6 +11,8 @@ from alembic.script import ScriptDirectory
 from sqlalchemy.engine import Engine
 
 MIGRATIONS_DIR = Path(__file__).resolve().parent / "migrations"
+#: Arbitrary constant naming Tidemark's migration lock on PostgreSQL.
+_MIGRATION_LOCK_ID = 7_461_726_101
 
 
 def alembic_config() -> Config:
@@ -39,5 +41,10 @@ def upgrade_to_head(engine: Engine) -> None:
         return
     cfg = alembic_config()
     with engine.begin() as conn:
+        # Two processes opening a new store at once: the second waits here, then finds the
+        # schema current (SQLite: BEGIN IMMEDIATE already holds the write lock; PostgreSQL: a
+        # transaction-scoped advisory lock).
+        if conn.dialect.name == "postgresql":
+            conn.exec_driver_sql(f"SELECT pg_advisory_xact_lock({_MIGRATION_LOCK_ID})")
         cfg.attributes["connection"] = conn
         command.upgrade(cfg, "head")

@@ -89,3 +89,37 @@ def test_upgrade_from_the_first_revision_keeps_existing_tests(tmp_path):
         assert bytes(row[0]) == b"ABC" and row[1] == "{}"
     finally:
         store.close()
+
+
+@pytest.mark.parametrize("backend", ["sqlite", pytest.param("postgresql", marks=pytest.mark.postgres)])
+def test_two_processes_creating_the_same_store_at_once(tmp_path, request, backend):
+    """Two openers racing on a new, empty store: both succeed and the schema is created once."""
+    import threading
+
+    if backend == "sqlite":
+        url = str(tmp_path / "race.sqlite")
+    else:
+        server = request.getfixturevalue("pg_server")
+        server.admin_execute("CREATE DATABASE race_to_create")  # one per test server
+        url = server.url("race_to_create")
+    errors: list[BaseException] = []
+    barrier = threading.Barrier(2)
+
+    def opener() -> None:
+        barrier.wait()
+        try:
+            open_store(url).close()
+        except BaseException as exc:  # noqa: BLE001 - reported below
+            errors.append(exc)
+
+    threads = [threading.Thread(target=opener) for _ in range(2)]
+    for t in threads:
+        t.start()
+    for t in threads:
+        t.join(60)
+    assert errors == []
+    store = open_store(url)
+    try:
+        assert current_revision(store.engine) == head_revision()
+    finally:
+        store.close()
