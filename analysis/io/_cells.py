@@ -99,6 +99,30 @@ def _clean_text(s: pd.Series, *, decimal: str) -> tuple[pd.Series, pd.Series]:
     return t, missing
 
 
+def _fast_column_re(decimal: str) -> re.Pattern[str]:
+    num = rf"[+-]?(?:\d+(?:\{decimal}\d*)?|\{decimal}\d+)(?:[eE][+-]?\d+)?"
+    return re.compile(rf"(?:{num})?(?:\n(?:{num})?)*")
+
+
+_FAST_COLUMN = {".": _fast_column_re("."), ",": _fast_column_re(",")}
+
+
+def _parse_plain_column(values: Sequence[object], decimal: str) -> tuple[np.ndarray, np.ndarray, np.ndarray] | None:
+    """Fast path: every cell is text that is a plain number or empty (the usual case)."""
+    if not values or set(map(type, values)) != {str}:
+        return None
+    if not _FAST_COLUMN[decimal].fullmatch("\n".join(values)):  # type: ignore[arg-type]
+        return None
+    missing = np.fromiter((v == "" for v in values), dtype=bool, count=len(values))
+    cells = [v or "nan" for v in values]  # type: ignore[misc]
+    if decimal == ",":
+        cells = [v.replace(",", ".") for v in cells]
+    out = np.array(cells, dtype=float)
+    bad = ~np.isfinite(out) & ~missing  # e.g. 1e999
+    out[bad] = np.nan
+    return out, missing, bad
+
+
 def parse_numbers(values: Sequence[object], *, decimal: str) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Parse cells as numbers.
 
@@ -111,6 +135,9 @@ def parse_numbers(values: Sequence[object], *, decimal: str) -> tuple[np.ndarray
     bad : ndarray of bool
         Cells with content that is not a finite number (text, dates, ``inf``).
     """
+    fast = _parse_plain_column(values, decimal)
+    if fast is not None:
+        return fast
     s = _series(values)
     n = len(s)
     out = np.full(n, np.nan)

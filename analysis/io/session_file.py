@@ -179,7 +179,7 @@ def read_session(source: str | Path | bytes, *, file_name: str | None = None, ma
                 row=header_line,
             )
     problems.raise_if_any()
-    body = [(n, cells) for n, cells in rows[1:] if any(str(c).strip() for c in cells)]
+    body = [(n, cells) for n, cells in rows[1:] if len(cells) > 1 or (cells and cells[0].strip())]
     for n, cells in body:
         if len(cells) != len(headers):
             problems.add(
@@ -191,8 +191,9 @@ def read_session(source: str | Path | bytes, *, file_name: str | None = None, ma
     line_numbers = np.array([n for n, _ in body], dtype=np.int64)
     frame = pd.DataFrame({"source_row": line_numbers})
     shown = {c: headers[k] for c, k in columns.items()}
+    by_column = list(zip(*(row for _, row in body))) if body else [()] * len(headers)
     for canonical, k in columns.items():
-        cells = [row[k] for _, row in body]
+        cells = list(by_column[k])
         if canonical in C.NUMERIC:
             values, missing, bad = parse_numbers(cells, decimal=".")
             report_cells(
