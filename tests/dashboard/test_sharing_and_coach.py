@@ -76,7 +76,7 @@ def test_revoke_from_the_page(demo_store, page_test):
 
 
 def test_viewer_cannot_create_links(demo_store, page_test):
-    viewer = make_user(demo_store.store, "viewer.sharing", "viewer")
+    viewer = make_user(demo_store.store, f"viewer.{secrets.token_hex(4)}", "viewer")
     at = page_test(_sharing, **signed_in(viewer))
     at.run()
     assert not at.exception
