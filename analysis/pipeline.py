@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import dataclasses
 import math
+import threading
 import warnings
 from typing import Any
 
@@ -53,6 +54,8 @@ from analysis.zones import ZoneSet, training_zones
 
 #: Columns of :attr:`TestResults.excluded_breaths`.
 EXCLUDED_COLUMNS: tuple[str, ...] = ("source_row", "t_s", "column", "value", "reason", "by")
+
+_WARNINGS_LOCK = threading.Lock()
 
 #: Share of breaths excluded above which a warning is raised (common practice: a clean
 #: recording loses a few per cent to swallows, coughs and talking).
@@ -424,7 +427,9 @@ def analyze_session(
         breaths = breaths.sort_values(C.T_S, kind="stable").reset_index(drop=True)
 
     warns: list[str] = []
-    with warnings.catch_warnings(record=True) as caught:
+    # warnings.catch_warnings swaps process-wide state, so analyses in several threads (the
+    # dashboard server) take turns here to keep each one's warnings its own.
+    with _WARNINGS_LOCK, warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always")
         meta = _effective_meta(session, settings)
         excluded = _excluded_table(breaths, settings)

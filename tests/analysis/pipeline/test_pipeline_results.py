@@ -134,3 +134,15 @@ def test_without_oxygen_only_the_oxygen_section_changes(cyclist, results):
     assert full["oxygen"] is not None and lean["oxygen"] is None
     for key in ("vo2_peak_ml_min", "vt1", "vt2", "indices", "zones", "maximality"):
         assert lean[key] == full[key]
+
+
+def test_parallel_threads_give_the_same_results(cyclist, results):
+    # the dashboard server analyses in threads; results must not depend on that
+    from concurrent.futures import ThreadPoolExecutor
+
+    with ThreadPoolExecutor(max_workers=3) as pool:
+        outs = list(pool.map(lambda _: analyze_session(cyclist).to_json_dict(), range(3)))
+    expected = results.to_json_dict()
+    for d in outs:
+        assert d["vo2_peak_ml_min"] == expected["vo2_peak_ml_min"]
+        assert d["warnings"] == expected["warnings"]
