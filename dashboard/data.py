@@ -17,6 +17,9 @@ from __future__ import annotations
 import json
 import logging
 import os
+import threading
+from concurrent.futures import Future, ThreadPoolExecutor
+from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
@@ -175,3 +178,84 @@ def list_profiles() -> dict[str, Path]:
     if not folder.is_dir():
         return {}
     return {p.stem: p for p in sorted(folder.glob("*.json"))}
+
+
+# --- saving settings without making the reviewer wait ---------------------------------------
+
+#: One worker: saves run one after another, in the order they were made (each save needs the
+#: version the previous one produced).
+_SAVE_POOL = ThreadPoolExecutor(max_workers=1, thread_name_prefix="tidemark-save")
+
+
+@dataclass
+class SaveTracker:
+    """What the background saves of one browser session have done (thread-safe).
+
+    ``versions[test_id]`` is the store version the next save must expect; ``pending`` counts
+    queued saves; ``failed`` holds the message of a refused save (later queued saves of that test
+    are skipped until the reviewer reloads); ``saved_keys`` the settings JSON last stored.
+    """
+
+    versions: dict[int, int] = field(default_factory=dict)
+    pending: dict[int, int] = field(default_factory=dict)
+    failed: dict[int, str] = field(default_factory=dict)
+    saved_keys: dict[int, str] = field(default_factory=dict)
+    lock: threading.Lock = field(default_factory=threading.Lock)
+
+    def status(self, test_id: int) -> tuple[int, int | None, str | None, str | None]:
+        """``(pending saves, current version, failure message, settings JSON last saved)``."""
+        with self.lock:
+            return (self.pending.get(test_id, 0), self.versions.get(test_id), self.failed.get(test_id),
+                    self.saved_keys.get(test_id))
+
+    def forget(self, test_id: int) -> None:
+        with self.lock:
+            if not self.pending.get(test_id):
+                self.versions.pop(test_id, None)
+                self.failed.pop(test_id, None)
+                self.saved_keys.pop(test_id, None)
+
+
+def save_in_background(
+    store: Any, tracker: SaveTracker, test_id: int, settings: dict[str, Any], *, actor: Any, reason: str,
+    expected_version: int, settings_json: str,
+) -> Future:
+    """Queue ``store.save_settings`` for this change; the page does not wait for it.
+
+    The store re-reads the session and recomputes the results for the audit trail, which takes
+    longer than showing the change; the reviewer sees the new numbers at once (computed here by
+    the same ``analyze_session``) and a "saving" note until the store confirms the new version.
+    """
+    with tracker.lock:
+        tracker.versions.setdefault(test_id, int(expected_version))
+        tracker.pending[test_id] = tracker.pending.get(test_id, 0) + 1
+
+    def job() -> None:
+        from analysis.errors import TidemarkError
+
+        with tracker.lock:
+            skip = test_id in tracker.failed
+            expected = tracker.versions[test_id]
+        try:
+            if not skip:
+                version = store.save_settings(test_id, settings, actor=actor, reason=reason, expected_version=expected)
+                with tracker.lock:
+                    tracker.versions[test_id] = int(version)
+                    tracker.saved_keys[test_id] = settings_json
+        except TidemarkError as exc:
+            with tracker.lock:
+                tracker.failed[test_id] = str(exc)
+        except Exception:  # noqa: BLE001 - logged with its traceback, the user gets a plain message
+            log.exception("saving settings of test %s failed", test_id)
+            with tracker.lock:
+                tracker.failed[test_id] = "The change could not be saved because of a server problem (see the server log)."
+        finally:
+            with tracker.lock:
+                tracker.pending[test_id] = max(0, tracker.pending.get(test_id, 1) - 1)
+
+    return _SAVE_POOL.submit(job)
+
+
+def wait_for_saves(timeout_s: float = 60.0) -> None:
+    """Block until every queued save has finished (tests, sign-off)."""
+    _SAVE_POOL.submit(lambda: None).result(timeout=timeout_s)

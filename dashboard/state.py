@@ -24,6 +24,7 @@ TEST_ID = "tm_test_id"
 SETTINGS_PREFIX = "tm_settings_"
 SHARE_TOKEN = "tm_share_token"
 FLASH = "tm_flash"
+SAVES = "tm_saves"
 
 #: Roles that may change settings and thresholds (store roles).
 EDIT_ROLES = frozenset({"admin", "reviewer"})
@@ -174,3 +175,17 @@ def go_to(page: str) -> bool:
         return False
     st.switch_page(target)
     return True
+
+
+# --- background saves -----------------------------------------------------------------------
+
+
+def save_tracker() -> Any:
+    """This browser session's :class:`dashboard.data.SaveTracker` (created on first use)."""
+    from dashboard.data import SaveTracker
+
+    tracker = st.session_state.get(SAVES)
+    if tracker is None:
+        tracker = SaveTracker()
+        st.session_state[SAVES] = tracker
+    return tracker

@@ -11,12 +11,27 @@ import plotly.graph_objects as go
 
 from dashboard import palette
 
+_GRID = "#E5E8EE"
+#: A small white template (plain dict): light grid, Okabe & Ito colours by default. Kept small
+#: because every rerun copies the figure, template included.
+TEMPLATE: dict[str, Any] = {
+    "layout": {
+        "paper_bgcolor": "white",
+        "plot_bgcolor": "white",
+        "font": {"color": "#2A3F5F"},
+        "colorway": list(palette.OKABE_ITO[1:]) + [palette.BLACK],
+        "xaxis": {"gridcolor": _GRID, "linecolor": _GRID, "zerolinecolor": _GRID, "ticks": "", "automargin": True},
+        "yaxis": {"gridcolor": _GRID, "linecolor": _GRID, "zerolinecolor": _GRID, "ticks": "", "automargin": True},
+        "hoverlabel": {"align": "left"},
+    }
+}
+
 #: Layout shared by the review charts: readable on a laptop and a tablet.
 BASE_LAYOUT: dict[str, Any] = {
-    "template": "plotly_white",
+    "template": TEMPLATE,
     "font": {"size": 13},
-    "margin": {"l": 60, "r": 20, "t": 40, "b": 50},
-    "legend": {"orientation": "h", "yanchor": "bottom", "y": 1.02, "xanchor": "left", "x": 0},
+    "margin": {"l": 60, "r": 20, "t": 90, "b": 50},
+    "legend": {"orientation": "h", "yanchor": "bottom", "y": 1.01, "xanchor": "left", "x": 0},
     "hovermode": "closest",
 }
 
@@ -53,48 +68,88 @@ def phase_runs(t_s: np.ndarray, phases: np.ndarray) -> list[tuple[str, float, fl
     return runs
 
 
-def shade_phases(fig: go.Figure, frame: pd.DataFrame) -> None:
-    """Shade rest, warm-up and recovery behind all panels of ``fig``."""
+def phase_shapes(frame: pd.DataFrame) -> tuple[list[dict], list[dict]]:
+    """Shapes and labels shading rest, warm-up and recovery through every panel.
+
+    Built as plain layout dicts spanning the whole plot height (``yref="paper"``): one shape per
+    phase run instead of one per panel, which keeps figure building fast.
+    """
+    shapes: list[dict] = []
+    labels: list[dict] = []
     if "phase" not in frame.columns or "t_s" not in frame.columns:
-        return
+        return shapes, labels
     sub = frame[["t_s", "phase"]].dropna()
     for phase, start, end in phase_runs(sub["t_s"].to_numpy(), sub["phase"].astype(str).to_numpy()):
         fill = palette.PHASE_FILL.get(phase)
         if not fill or fill.endswith("0.0)") or end <= start:
             continue
-        fig.add_vrect(
-            x0=start,
-            x1=end,
-            fillcolor=fill,
-            line_width=0,
-            layer="below",
-            annotation_text=phase,
-            annotation_position="top left",
-            annotation_font_size=11,
-            annotation_font_color=palette.GREY,
+        shapes.append(
+            {"type": "rect", "xref": "x", "yref": "paper", "x0": start, "x1": end, "y0": 0, "y1": 1,
+             "fillcolor": fill, "line": {"width": 0}, "layer": "below"}
         )
+        labels.append(
+            {"x": start, "y": 0, "xref": "x", "yref": "paper", "text": phase, "showarrow": False,
+             "xanchor": "left", "yanchor": "bottom", "font": {"size": 11, "color": palette.GREY}}
+        )
+    return shapes, labels
+
+
+def threshold_shapes(thresholds: Mapping[str, Any] | None, *, key: str = "t_s") -> tuple[list[dict], list[dict]]:
+    """Vertical VT1/VT2 lines through every panel (``key`` = ``"t_s"`` or ``"vo2_ml_min"``), labelled at the top."""
+    shapes: list[dict] = []
+    labels: list[dict] = []
+    for kind, pick in (thresholds or {}).items():
+        x = pick_value(pick, key)
+        if x is None:
+            continue
+        style = palette.THRESHOLD.get(kind, palette.THRESHOLD["vt1"])
+        shapes.append(
+            {"type": "line", "xref": "x", "yref": "paper", "x0": float(x), "x1": float(x), "y0": 0, "y1": 1,
+             "line": {"color": style["color"], "dash": style["dash"], "width": 2}}
+        )
+        labels.append(
+            {"x": float(x), "y": 1, "xref": "x", "yref": "paper", "text": pick_label(kind, pick), "showarrow": False,
+             "xanchor": "left", "yanchor": "top", "font": {"color": style["color"]}}
+        )
+    return shapes, labels
+
+
+def decorations(
+    frame: pd.DataFrame | None, thresholds: Mapping[str, Any] | None, *, key: str = "t_s"
+) -> tuple[list[dict], list[dict]]:
+    """Phase shading (when ``frame`` is given) and threshold lines: ``(shapes, annotations)``."""
+    shapes, labels = phase_shapes(frame) if frame is not None else ([], [])
+    t_shapes, t_labels = threshold_shapes(thresholds, key=key)
+    return shapes + t_shapes, labels + t_labels
+
+
+def column(frame: pd.DataFrame, name: str) -> np.ndarray:
+    """A column as a float array (NaN stays NaN: a gap in the line).
+
+    Arrays, not lists: plotly and Streamlit copy and encode a float array in one step (base64),
+    where a list of 2,000 Python floats is copied one object at a time on every rerun.
+    """
+    return np.ascontiguousarray(frame[name].to_numpy(dtype=float))
+
+
+def build_figure(traces: list[dict], layout: dict[str, Any]) -> go.Figure:
+    """A figure from plain trace and layout dicts, skipping plotly's per-property validation.
+
+    The dicts are written by hand in this package with known-good property names, and the
+    validation pass costs ten times more than everything else on a 2,000-breath test.
+    """
+    full = dict(BASE_LAYOUT)
+    full.update(layout)
+    return go.Figure(data=traces, layout=full, _validate=False)
+
+
+def axis_title(text: str) -> dict[str, Any]:
+    return {"text": text}
+
+
+def figure_title(text: str) -> dict[str, Any]:
+    return {"text": text, "font": {"size": 15}, "x": 0.01, "y": 0.985, "yanchor": "top"}
 
 
 def has(frame: pd.DataFrame | None, column: str) -> bool:
     return frame is not None and column in frame.columns and bool(frame[column].notna().any())
-
-
-def mark_thresholds(fig: go.Figure, thresholds: Mapping[str, Any] | None) -> None:
-    """Vertical VT1/VT2 lines through every panel, labelled once at the top panel."""
-    for kind, pick in (thresholds or {}).items():
-        t = pick_value(pick, "t_s")
-        if t is None:
-            continue
-        style = palette.THRESHOLD.get(kind, palette.THRESHOLD["vt1"])
-        fig.add_vline(x=float(t), line={"color": style["color"], "dash": style["dash"], "width": 2})
-        fig.add_annotation(
-            x=float(t),
-            y=1,
-            xref="x",
-            yref="y domain",
-            text=pick_label(kind, pick),
-            showarrow=False,
-            xanchor="left",
-            yanchor="top",
-            font={"color": style["color"]},
-        )

@@ -7,11 +7,10 @@ from typing import Any
 
 import pandas as pd
 import plotly.graph_objects as go
-from plotly.subplots import make_subplots
 
 from analysis import columns as C
 from dashboard import palette
-from dashboard.charts._common import BASE_LAYOUT, has, mark_thresholds, shade_phases
+from dashboard.charts._common import axis_title, build_figure, column, decorations, figure_title, has
 
 #: Columns of the equivalents frame (computed in analysis, not here).
 VE_VO2 = "ve_vo2"
@@ -59,52 +58,43 @@ def equivalents_figure(
         a note instead of lines.
     """
     eq = equivalents if equivalents is not None else _ratios(avg)
-    fig = make_subplots(rows=2, cols=1, shared_xaxes=True, vertical_spacing=0.08)
+    traces: list[dict] = []
     for col, name in ((VE_VO2, "VE/VO2"), (VE_VCO2, "VE/VCO2")):
         if has(eq, col):
-            fig.add_trace(
-                go.Scatter(
-                    x=eq[C.T_S],
-                    y=eq[col],
-                    mode="lines",
-                    line={"color": palette.SIGNAL[col], "width": 2, "dash": "solid" if col == VE_VO2 else "dash"},
-                    name=name,
-                ),
-                row=1,
-                col=1,
+            traces.append(
+                {
+                    "type": "scatter", "x": column(eq, C.T_S), "y": column(eq, col), "mode": "lines", "name": name,
+                    "line": {"color": palette.SIGNAL[col], "width": 2, "dash": "solid" if col == VE_VO2 else "dash"},
+                    "xaxis": "x", "yaxis": "y",
+                }
             )
     for col, name in ((C.PETO2_MMHG, "PETO2"), (C.PETCO2_MMHG, "PETCO2")):
         if has(avg, col):
-            fig.add_trace(
-                go.Scatter(
-                    x=avg[C.T_S],
-                    y=avg[col],
-                    mode="lines",
-                    line={"color": palette.SIGNAL[col], "width": 2, "dash": "solid" if col == C.PETO2_MMHG else "dash"},
-                    name=name,
-                ),
-                row=2,
-                col=1,
+            traces.append(
+                {
+                    "type": "scatter", "x": column(avg, C.T_S), "y": column(avg, col), "mode": "lines", "name": name,
+                    "line": {"color": palette.SIGNAL[col], "width": 2, "dash": "solid" if col == C.PETO2_MMHG else "dash"},
+                    "xaxis": "x", "yaxis": "y2",
+                }
             )
+    shapes, annotations = decorations(avg, thresholds)
     if not (has(avg, C.PETO2_MMHG) or has(avg, C.PETCO2_MMHG)):
-        fig.add_annotation(
-            text="No end-tidal pressures in this recording",
-            xref="x2 domain",
-            yref="y2 domain",
-            x=0.5,
-            y=0.5,
-            showarrow=False,
-            font={"color": palette.GREY},
+        annotations.append(
+            {"text": "No end-tidal pressures in this recording", "xref": "paper", "yref": "paper",
+             "x": 0.5, "y": 0.22, "showarrow": False, "font": {"color": palette.GREY}}
         )
-    shade_phases(fig, avg)
-    mark_thresholds(fig, thresholds)
-    fig.update_yaxes(title_text="Ventilatory equivalent (ratio, no unit)", row=1, col=1)
-    fig.update_yaxes(title_text="End-tidal pressure (mmHg)", row=2, col=1)
-    fig.update_xaxes(title_text="Time (s)", row=2, col=1)
-    fig.update_layout(
-        **BASE_LAYOUT, title={"text": "Ventilatory equivalents and end-tidal pressures", "font": {"size": 15}}, height=560
+    return build_figure(
+        traces,
+        {
+            "title": figure_title("Ventilatory equivalents and end-tidal pressures"),
+            "height": 560,
+            "xaxis": {"anchor": "y2", "title": axis_title("Time (s)")},
+            "yaxis": {"domain": [0.54, 1.0], "anchor": "x", "title": axis_title("Ventilatory equivalent (ratio, no unit)")},
+            "yaxis2": {"domain": [0.0, 0.46], "anchor": "x", "title": axis_title("End-tidal pressure (mmHg)")},
+            "shapes": shapes,
+            "annotations": annotations,
+        },
     )
-    return fig
 
 
 def equivalents_from_results(results: Any, session: Any | None = None) -> go.Figure:

@@ -8,11 +8,10 @@ from typing import Any
 import numpy as np
 import pandas as pd
 import plotly.graph_objects as go
-from plotly.subplots import make_subplots
 
 from analysis import columns as C
 from dashboard import palette
-from dashboard.charts._common import BASE_LAYOUT, has, mark_thresholds, shade_phases
+from dashboard.charts._common import axis_title, build_figure, column, decorations, figure_title, has
 
 #: The clickable trace (averaged VO2) is named so the page can find it in a selection.
 VO2_TRACE = "VO2 (averaged)"
@@ -50,55 +49,37 @@ def time_course_figure(
         ``customdata = [t_s, vo2_ml_min, row]`` for selection.
     """
     load_col = C.WORK_W if has(avg, C.WORK_W) else (C.SPEED_KMH if has(avg, C.SPEED_KMH) else None)
-    fig = make_subplots(
-        rows=3,
-        cols=1,
-        shared_xaxes=True,
-        vertical_spacing=0.05,
-        row_heights=[0.45, 0.27, 0.28],
-        specs=[[{}], [{}], [{"secondary_y": load_col is not None}]],
-    )
     excluded = set(int(r) for r in excluded_rows)
+    traces: list[dict] = []
+    axis_of_row = {1: "y", 2: "y2", 3: "y3"}
 
     def raw(col: str, row: int, name: str) -> None:
         if breaths is None or not has(breaths, col):
             return
-        keep = ~breaths["source_row"].isin(excluded) if "source_row" in breaths.columns else slice(None)
-        sub = breaths.loc[keep]
-        fig.add_trace(
-            go.Scattergl(
-                x=sub[C.T_S],
-                y=sub[col],
-                mode="markers",
-                marker={"size": 3, "color": palette.SIGNAL[col], "opacity": palette.BREATH_DOT_OPACITY},
-                name=f"{name} breaths",
-                legendgroup=col,
-                showlegend=False,
-                hoverinfo="skip",
-            ),
-            row=row,
-            col=1,
+        sub = breaths[~breaths["source_row"].isin(excluded)] if "source_row" in breaths.columns else breaths
+        traces.append(
+            {
+                "type": "scattergl", "x": column(sub, C.T_S), "y": column(sub, col), "mode": "markers",
+                "marker": {"size": 3, "color": palette.SIGNAL[col], "opacity": palette.BREATH_DOT_OPACITY},
+                "name": f"{name} breaths", "legendgroup": col, "showlegend": False, "hoverinfo": "skip",
+                "xaxis": "x", "yaxis": axis_of_row[row],
+            }
         )
 
     def line(col: str, row: int, name: str, *, secondary: bool = False, clickable: bool = False) -> None:
         if not has(avg, col):
             return
-        trace = go.Scatter(
-            x=avg[C.T_S],
-            y=avg[col],
-            mode="lines+markers" if clickable else "lines",
-            line={"color": palette.SIGNAL[col], "width": 2},
-            marker={"size": 5, "color": palette.SIGNAL[col]},
-            name=name,
-            legendgroup=col,
-        )
+        trace: dict[str, Any] = {
+            "type": "scatter", "x": column(avg, C.T_S), "y": column(avg, col),
+            "mode": "lines+markers" if clickable else "lines",
+            "line": {"color": palette.SIGNAL[col], "width": 2}, "marker": {"size": 5, "color": palette.SIGNAL[col]},
+            "name": name, "legendgroup": col, "xaxis": "x", "yaxis": "y4" if secondary else axis_of_row[row],
+        }
         if clickable:
-            trace.customdata = np.column_stack([avg[C.T_S], avg[col], np.arange(len(avg))]).tolist()  # plain lists: selection events carry them back
-            trace.hovertemplate = "t %{x:.0f} s<br>VO2 %{y:.0f} mL/min<extra></extra>"
-        if secondary:
-            fig.add_trace(trace, row=row, col=1, secondary_y=True)
-        else:
-            fig.add_trace(trace, row=row, col=1)
+            # plain lists, t_s first: selection events carry them back (pick_from_chart_point)
+            trace["customdata"] = np.column_stack([avg[C.T_S], avg[col], np.arange(len(avg))]).tolist()
+            trace["hovertemplate"] = "t %{x:.0f} s<br>VO2 %{y:.0f} mL/min<extra></extra>"
+        traces.append(trace)
 
     raw(C.VO2_ML_MIN, 1, "VO2")
     raw(C.VCO2_ML_MIN, 1, "VCO2")
@@ -112,33 +93,35 @@ def time_course_figure(
 
     if breaths is not None and excluded and "source_row" in breaths.columns and has(breaths, C.VO2_ML_MIN):
         out = breaths[breaths["source_row"].isin(excluded)]
-        fig.add_trace(
-            go.Scatter(
-                x=out[C.T_S],
-                y=out[C.VO2_ML_MIN],
-                mode="markers",
-                marker={"symbol": palette.EXCLUDED_SYMBOL, "size": 10, "color": palette.EXCLUDED, "line": {"width": 2}},
-                name="Excluded breath",
-                customdata=out["source_row"],
-                hovertemplate="excluded breath (line %{customdata})<br>t %{x:.0f} s, VO2 %{y:.0f} mL/min<extra></extra>",
-            ),
-            row=1,
-            col=1,
+        traces.append(
+            {
+                "type": "scatter", "x": column(out, C.T_S), "y": column(out, C.VO2_ML_MIN), "mode": "markers",
+                "marker": {"symbol": palette.EXCLUDED_SYMBOL, "size": 10, "color": palette.EXCLUDED, "line": {"width": 2}},
+                "name": "Excluded breath", "customdata": [int(r) for r in out["source_row"]],
+                "hovertemplate": "excluded breath (line %{customdata})<br>t %{x:.0f} s, VO2 %{y:.0f} mL/min<extra></extra>",
+                "xaxis": "x", "yaxis": "y",
+            }
         )
 
-    shade_phases(fig, avg)
-    mark_thresholds(fig, thresholds)
-    fig.update_yaxes(title_text="VO2, VCO2 (mL/min)", row=1, col=1)
-    fig.update_yaxes(title_text="VE (L/min)", row=2, col=1)
-    fig.update_yaxes(title_text="Heart rate (beats/min)", row=3, col=1, secondary_y=False)
+    shapes, annotations = decorations(avg, thresholds)
+    right = 0.93 if load_col is not None else 1.0
+    layout: dict[str, Any] = {
+        "title": figure_title("Time course" + (f" — {averaging_label}" if averaging_label else "")),
+        "height": 720,
+        "clickmode": "event+select",
+        "xaxis": {"domain": [0, right], "anchor": "y3", "title": axis_title("Time (s)")},
+        "yaxis": {"domain": [0.57, 1.0], "anchor": "x", "title": axis_title("VO2, VCO2 (mL/min)")},
+        "yaxis2": {"domain": [0.30, 0.53], "anchor": "x", "title": axis_title("VE (L/min)")},
+        "yaxis3": {"domain": [0.0, 0.26], "anchor": "x", "title": axis_title("Heart rate (beats/min)")},
+        "shapes": shapes,
+        "annotations": annotations,
+    }
     if load_col is not None:
-        fig.update_yaxes(
-            title_text="Work rate (W)" if load_col == C.WORK_W else "Speed (km/h)", row=3, col=1, secondary_y=True
-        )
-    fig.update_xaxes(title_text="Time (s)", row=3, col=1)
-    title = "Time course" + (f" — {averaging_label}" if averaging_label else "")
-    fig.update_layout(**BASE_LAYOUT, title={"text": title, "font": {"size": 15}}, height=720, clickmode="event+select")
-    return fig
+        layout["yaxis4"] = {
+            "overlaying": "y3", "side": "right", "anchor": "x", "showgrid": False,
+            "title": axis_title("Work rate (W)" if load_col == C.WORK_W else "Speed (km/h)"),
+        }
+    return build_figure(traces, layout)
 
 
 def time_course_from_results(results: Any, session: Any | None = None) -> go.Figure:

@@ -11,7 +11,7 @@ import plotly.graph_objects as go
 
 from analysis import columns as C
 from dashboard import palette
-from dashboard.charts._common import BASE_LAYOUT, pick_label, pick_value
+from dashboard.charts._common import axis_title, build_figure, column, decorations, figure_title, pick_value
 
 #: Name of the clickable data trace.
 DATA_TRACE = "Averaged breaths"
@@ -56,21 +56,19 @@ def vslope_figure(
     Beaver WL, Wasserman K, Whipp BJ. A new method for detecting anaerobic threshold by gas
     exchange. J Appl Physiol 1986;60:2020-2027.
     """
-    fig = go.Figure()
     x = avg[C.VO2_ML_MIN].to_numpy(dtype=float)
     y = avg[C.VCO2_ML_MIN].to_numpy(dtype=float)
     t = avg[C.T_S].to_numpy(dtype=float)
-    fig.add_trace(
-        go.Scatter(
-            x=x,
-            y=y,
-            mode="markers",
-            marker={"size": 7, "color": palette.SIGNAL[C.VCO2_ML_MIN], "opacity": 0.75},
-            name=DATA_TRACE,
-            customdata=np.column_stack([t, x, np.arange(len(avg))]).tolist(),  # plain lists: selection events carry them back
-            hovertemplate="VO2 %{x:.0f} mL/min<br>VCO2 %{y:.0f} mL/min<br>t %{customdata[0]:.0f} s<extra></extra>",
-        )
-    )
+    traces: list[dict] = [
+        {
+            "type": "scatter", "x": column(avg, C.VO2_ML_MIN), "y": column(avg, C.VCO2_ML_MIN), "mode": "markers",
+            "marker": {"size": 7, "color": palette.SIGNAL[C.VCO2_ML_MIN], "opacity": 0.75},
+            "name": DATA_TRACE,
+            # plain lists, t_s first: selection events carry them back (pick_from_chart_point)
+            "customdata": np.column_stack([t, x, np.arange(len(avg))]).tolist(),
+            "hovertemplate": "VO2 %{x:.0f} mL/min<br>VCO2 %{y:.0f} mL/min<br>t %{customdata[0]:.0f} s<extra></extra>",
+        }
+    ]
     brk = _fit_value(fit, "vo2_break_ml_min")
     if brk is not None and np.isfinite(brk) and len(x):
         top = pick_value(vt2, "vo2_ml_min")
@@ -82,53 +80,43 @@ def vslope_figure(
             slope, icpt = _fit_value(fit, slope_key), _fit_value(fit, icpt_key)
             if slope is None or icpt is None:
                 continue
-            xs = np.array([lo_x, hi_x])
-            fig.add_trace(
-                go.Scatter(
-                    x=xs,
-                    y=slope * xs + icpt,
-                    mode="lines",
-                    line={"color": palette.BLACK, "width": 2, "dash": "solid" if name == "Lower slope" else "dashdot"},
-                    name=f"{name} {slope:.2f}",
-                    hoverinfo="skip",
-                )
+            traces.append(
+                {
+                    "type": "scatter", "x": [lo_x, hi_x], "y": [slope * lo_x + icpt, slope * hi_x + icpt], "mode": "lines",
+                    "line": {"color": palette.BLACK, "width": 2, "dash": "solid" if name == "Lower slope" else "dashdot"},
+                    "name": f"{name} {slope:.2f}", "hoverinfo": "skip",
+                }
             )
     for i, (method, pick) in enumerate((candidates or {}).items()):
         vo2 = pick_value(pick, "vo2_ml_min")
         if vo2 is None or not len(x):
             continue
         j = int(np.nanargmin(np.abs(x - float(vo2))))
-        fig.add_trace(
-            go.Scatter(
-                x=[float(vo2)],
-                y=[y[j]],
-                mode="markers",
-                marker={
+        traces.append(
+            {
+                "type": "scatter", "x": [float(vo2)], "y": [float(y[j])], "mode": "markers",
+                "marker": {
                     "symbol": palette.CANDIDATE_SYMBOLS[i % len(palette.CANDIDATE_SYMBOLS)],
                     "size": 14,
                     "color": palette.CANDIDATE_COLOURS[i % len(palette.CANDIDATE_COLOURS)],
                     "line": {"width": 1, "color": palette.BLACK},
                 },
-                name=f"VT1 by {method}",
-                hovertemplate=f"{method}: VO2 %{{x:.0f}} mL/min<extra></extra>",
-            )
+                "name": f"VT1 by {method}",
+                "hovertemplate": f"{method}: VO2 %{{x:.0f}} mL/min<extra></extra>",
+            }
         )
-    for kind, pick in (("vt1", vt1), ("vt2", vt2)):
-        vo2 = pick_value(pick, "vo2_ml_min")
-        if vo2 is None:
-            continue
-        style = palette.THRESHOLD[kind]
-        fig.add_vline(
-            x=float(vo2),
-            line={"color": style["color"], "dash": style["dash"], "width": 2},
-            annotation_text=pick_label(kind, pick),
-            annotation_position="top left",
-            annotation_font_color=style["color"],
-        )
-    fig.update_xaxes(title_text="VO2 (mL/min)")
-    fig.update_yaxes(title_text="VCO2 (mL/min)")
-    fig.update_layout(**BASE_LAYOUT, title={"text": "V-slope: VCO2 against VO2", "font": {"size": 15}}, height=460)
-    return fig
+    shapes, annotations = decorations(None, {"vt1": vt1, "vt2": vt2}, key="vo2_ml_min")
+    return build_figure(
+        traces,
+        {
+            "title": figure_title("V-slope: VCO2 against VO2"),
+            "height": 460,
+            "xaxis": {"title": axis_title("VO2 (mL/min)")},
+            "yaxis": {"title": axis_title("VCO2 (mL/min)")},
+            "shapes": shapes,
+            "annotations": annotations,
+        },
+    )
 
 
 def exercise_rows(avg: pd.DataFrame) -> pd.DataFrame:

@@ -10,6 +10,7 @@ into settings and can be tested without Streamlit.
 from __future__ import annotations
 
 import dataclasses
+import functools
 import logging
 from collections.abc import Mapping, Sequence
 from typing import Any
@@ -19,6 +20,7 @@ import streamlit as st
 
 from analysis.breaths import METHODS as AVERAGING_METHODS
 from analysis.breaths import AveragingSpec
+from analysis.errors import TidemarkError
 from analysis.settings import AnalysisSettings, ThresholdOverride
 from analysis.thresholds import pick_from_chart_point
 from dashboard import data, state
@@ -44,6 +46,8 @@ AVERAGING_SIZES: dict[str, tuple[float, ...]] = {
     "middle_of_n": (5, 7, 9, 11),
 }
 THRESHOLD_NAMES = {"vt1": "VT1", "vt2": "VT2"}
+#: Session-state key of the saves waiting for the end of the page run.
+SAVE_QUEUE = "tm_review_save_queue"
 
 
 # --- pure helpers: user input -> settings --------------------------------------------------
@@ -139,38 +143,61 @@ def ensure_working(store: Any, test_id: int) -> state.WorkingSettings:
 
 
 def apply_change(store: Any, test_id: int, new_settings: dict[str, Any], *, reason: str = "") -> str:
-    """Use ``new_settings`` at once and save them through the store when the user may.
+    """Use ``new_settings`` at once; save them through the store when the user may.
 
-    Returns ``"saved"``, ``"unchanged"``, ``"view-only"`` or ``"conflict"``; what happened is
-    also queued as a message for the next run.
+    The change is shown immediately (the next run analyses the new settings); the save to the
+    store runs in the background (:func:`dashboard.data.save_in_background`) and its outcome is
+    picked up by :func:`sync_saves`. Returns ``"saving"``, ``"unchanged"`` or ``"view-only"``.
     """
     working = ensure_working(store, test_id)
-    if state.settings_key(new_settings) == working.key:
+    key = state.settings_key(new_settings)
+    if key == working.key:
         return "unchanged"
     user = state.current_user()
     if not state.can_edit(user) or working.version is None:
         state.set_working_settings(test_id, state.WorkingSettings(new_settings, working.version, saved=False))
         state.flash("View only: the change is shown here but not saved (your role cannot edit).", kind="info")
         return "view-only"
-    try:
-        version = store.save_settings(
-            test_id, new_settings, actor=user, reason=reason.strip(), expected_version=int(working.version)
-        )
-    except Exception as exc:  # noqa: BLE001 - conflicts and refusals are shown plainly
-        from store.errors import EditConflict
-
+    tracker = state.save_tracker()
+    _, version, failed, _ = tracker.status(test_id)
+    if failed:
         state.set_working_settings(test_id, state.WorkingSettings(new_settings, working.version, saved=False))
-        if isinstance(exc, EditConflict):
-            state.flash(str(exc), kind="error")
-            return "conflict"
-        raise
-    state.set_working_settings(test_id, state.WorkingSettings(new_settings, int(version), saved=True))
-    state.flash(f"Saved as version {version}.", kind="success")
-    return "saved"
+        return "view-only"
+    with tracker.lock:  # counted as pending now; handed to the save worker once the page is drawn
+        tracker.versions.setdefault(test_id, int(version if version is not None else working.version))
+    st.session_state.setdefault(SAVE_QUEUE, []).append(
+        {"test_id": test_id, "settings": new_settings, "actor": user, "reason": reason.strip(), "settings_json": key}
+    )
+    state.set_working_settings(test_id, state.WorkingSettings(new_settings, working.version, saved=False))
+    return "saving"
+
+
+def flush_saves(store: Any) -> int:
+    """Hand the queued saves to the background worker (called after the page is drawn, so the
+    save does not compete with drawing the change). Returns how many were queued."""
+    queue = st.session_state.pop(SAVE_QUEUE, [])
+    tracker = state.save_tracker()
+    for job in queue:
+        _, version, _, _ = tracker.status(job["test_id"])
+        data.save_in_background(store, tracker, expected_version=int(version or 0), **job)
+    return len(queue)
+
+
+def sync_saves(test_id: int) -> tuple[int, str | None]:
+    """Fold finished background saves into the working settings: ``(pending, failure message)``."""
+    working = state.working_settings(test_id)
+    pending, version, failed, saved_key = state.save_tracker().status(test_id)
+    if working is not None and not pending and not failed and version is not None:
+        saved = saved_key == working.key
+        if saved or version != working.version:
+            state.set_working_settings(test_id, state.WorkingSettings(working.settings, version, saved=saved or working.saved))
+    return pending, failed
 
 
 def reload_from_store(test_id: int) -> None:
+    """Drop the reviewer's unsaved changes (and a refused save) and show the stored version."""
     state.forget_working_settings(test_id)
+    state.save_tracker().forget(test_id)
 
 
 # --- rendering ------------------------------------------------------------------------------
@@ -230,19 +257,30 @@ def threshold_lines(results_json: Mapping[str, Any]) -> list[str]:
     return lines
 
 
+@st.fragment(run_every=1.0)
+def _save_status(test_id: int) -> None:
+    """A "saving" note that polls the background save and refreshes the page when it is done."""
+    pending, _, failed, _ = state.save_tracker().status(test_id)
+    if pending or st.session_state.get(SAVE_QUEUE):
+        st.caption("Saving the change to the store…")
+    else:
+        st.rerun(scope="app")
+
+
 def _header(store: Any, test_id: int, working: state.WorkingSettings) -> Any:
     record = store.get_test(test_id)
     s = record.summary
     who = s.person_code + (f" ({s.display_name})" if s.display_name else "")
-    st.title(f"Review — {who}")
+    st.subheader(f"{who} — {s.test_date or 'no date'}")
     signed = record.current_version_signed
-    bits = [f"Test date {s.test_date or 'unknown'}", s.protocol or "", f"file {s.file_name}",
+    bits = [s.protocol or "", f"file {s.file_name}",
             f"version {working.version if working.version is not None else '–'}"]
     if signed and working.saved:
         sign = next((x for x in record.sign_offs if x.version == s.version), None)
         bits.append(f"signed off by {sign.signed_by}" if sign else "signed off")
     st.caption(" · ".join(b for b in bits if b))
-    if not working.saved:
+    pending, _, failed, _ = state.save_tracker().status(test_id)
+    if not working.saved and not pending and not failed and not st.session_state.get(SAVE_QUEUE):
         st.warning("Unsaved changes: what you see differs from the stored version.")
     return record
 
@@ -267,25 +305,68 @@ def _headline(results_json: Mapping[str, Any]) -> None:
             st.markdown(f"- {r}")
 
 
+def _guard(fn: Any) -> Any:
+    """Run a widget callback; a problem becomes a message on the next run, never a traceback."""
+
+    def run(*args: Any, **kwargs: Any) -> None:
+        try:
+            fn(*args, **kwargs)
+        except Exception as exc:  # noqa: BLE001 - shown plainly after the rerun
+            from dashboard.errors import describe
+
+            if not isinstance(exc, TidemarkError):
+                log.exception("review change failed")
+            state.flash(describe(exc), kind="error")
+
+    return run
+
+
+def _on_averaging(store: Any, test_id: int, *, method_changed: bool) -> None:
+    working = ensure_working(store, test_id)
+    method = st.session_state[f"avg_method_{test_id}"]
+    sizes = AVERAGING_SIZES[method]
+    size = sizes[len(sizes) // 2] if method_changed else st.session_state[f"avg_size_{test_id}_{method}"]
+    apply_change(store, test_id, with_averaging(working.settings, method=method, size=size),
+                 reason=f"averaging changed to {AveragingSpec(method, size).label}")  # type: ignore[arg-type]
+
+
 def _averaging_selector(store: Any, test_id: int, working: state.WorkingSettings) -> None:
     current = working.settings.get("averaging") or {}
     method = current.get("method", "time_bin")
-    methods = [m for m in AVERAGING_METHODS if m in AVERAGING_NAMES]
-    c1, c2 = st.columns(2)
-    new_method = c1.selectbox(
-        "Averaging", methods, index=methods.index(method) if method in methods else 0,
-        format_func=lambda m: AVERAGING_NAMES[m], key=f"avg_method_{test_id}",
-    )
-    sizes = list(AVERAGING_SIZES[new_method])
     size = current.get("size")
-    if new_method == method and size not in sizes and size is not None:
+    methods = [m for m in AVERAGING_METHODS if m in AVERAGING_NAMES]
+    st.session_state[f"avg_method_{test_id}"] = method if method in methods else methods[0]
+    c1, c2 = st.columns(2)
+    c1.selectbox(
+        "Averaging", methods, format_func=lambda m: AVERAGING_NAMES[m], key=f"avg_method_{test_id}",
+        on_change=_guard(_on_averaging), args=(store, test_id), kwargs={"method_changed": True},
+    )
+    sizes = list(AVERAGING_SIZES.get(method, ()))
+    if size is not None and size not in sizes:
         sizes = sorted(set(sizes) | {size})
-    default = size if new_method == method and size in sizes else sizes[len(sizes) // 2]
-    new_size = c2.selectbox("Window", sizes, index=sizes.index(default), key=f"avg_size_{test_id}_{new_method}")
-    if (new_method, new_size) != (method, size):
-        apply_change(store, test_id, with_averaging(working.settings, method=new_method, size=new_size),
-                     reason=f"averaging changed to {AveragingSpec(new_method, new_size).label}")
-        st.rerun()
+    size_key = f"avg_size_{test_id}_{method}"
+    if size in sizes:
+        st.session_state[size_key] = size
+    c2.selectbox("Window", sizes, key=size_key, on_change=_guard(_on_averaging), args=(store, test_id),
+                 kwargs={"method_changed": False})
+
+
+def _on_threshold(store: Any, test_id: int, *, clear: bool) -> None:
+    working = ensure_working(store, test_id)
+    kind = st.session_state.get(f"thr_kind_{test_id}", "vt1")
+    by = st.session_state.get(f"thr_by_{test_id}", "time")
+    reason = (st.session_state.get(f"thr_reason_{test_id}") or "").strip()
+    if clear:
+        apply_change(store, test_id, without_override(working.settings, kind=kind),
+                     reason=reason or f"{THRESHOLD_NAMES[kind]} back to automatic")
+        return
+    value = st.session_state.get(f"thr_t_{test_id}" if by == "time" else f"thr_v_{test_id}")
+    if value is None:
+        state.flash("Type a time in seconds or a VO2 in mL/min first.", kind="error")
+        return
+    kw = {"t_s": float(value)} if by == "time" else {"vo2_ml_min": float(value)}
+    new = with_override(working.settings, kind=kind, reason=reason, **kw)
+    apply_change(store, test_id, new, reason=reason or f"{THRESHOLD_NAMES[kind]} set by {by}")
 
 
 def _threshold_controls(store: Any, test_id: int, working: state.WorkingSettings, results: Any) -> None:
@@ -294,42 +375,37 @@ def _threshold_controls(store: Any, test_id: int, working: state.WorkingSettings
     c1, c2, c3 = st.columns([1, 1, 2])
     kind = c1.radio("Threshold", ["vt1", "vt2"], format_func=THRESHOLD_NAMES.get, horizontal=True, key=f"thr_kind_{test_id}")
     by = c2.radio("Place by", ["time", "VO2"], horizontal=True, key=f"thr_by_{test_id}")
-    reason = c3.text_input("Reason (kept in the audit trail)", key=f"thr_reason_{test_id}")
+    c3.text_input("Reason (kept in the audit trail)", key=f"thr_reason_{test_id}")
     with st.form(f"thr_form_{test_id}", clear_on_submit=False, border=False):
         if by == "time":
-            value = st.number_input("Time (s)", min_value=0.0, step=5.0, value=None, key=f"thr_t_{test_id}")
+            st.number_input("Time (s)", min_value=0.0, step=5.0, value=None, key=f"thr_t_{test_id}")
         else:
-            value = st.number_input("VO2 (mL/min)", min_value=1.0, step=25.0, value=None, key=f"thr_v_{test_id}")
+            st.number_input("VO2 (mL/min)", min_value=1.0, step=25.0, value=None, key=f"thr_v_{test_id}")
         a, b = st.columns(2)
-        submitted = a.form_submit_button(f"Set {THRESHOLD_NAMES[kind]}", type="primary")
-        cleared = b.form_submit_button(f"Back to automatic {THRESHOLD_NAMES[kind]}")
-    if submitted:
-        if value is None:
-            st.error("Type a time in seconds or a VO2 in mL/min first.")
-        else:
-            kw = {"t_s": float(value)} if by == "time" else {"vo2_ml_min": float(value)}
-            new = with_override(working.settings, kind=kind, reason=reason, **kw)
-            apply_change(store, test_id, new, reason=reason or f"{THRESHOLD_NAMES[kind]} set by {by}")
-            st.rerun()
-    if cleared:
-        apply_change(store, test_id, without_override(working.settings, kind=kind),
-                     reason=reason or f"{THRESHOLD_NAMES[kind]} back to automatic")
-        st.rerun()
+        a.form_submit_button(f"Set {THRESHOLD_NAMES[kind]}", type="primary", on_click=_guard(_on_threshold),
+                             args=(store, test_id), kwargs={"clear": False})
+        b.form_submit_button(f"Back to automatic {THRESHOLD_NAMES[kind]}", on_click=_guard(_on_threshold),
+                             args=(store, test_id), kwargs={"clear": True})
 
 
-def _chart_selection(store: Any, test_id: int, working: state.WorkingSettings, event: Any, *, chart: str, avg: pd.DataFrame) -> None:
+def _on_chart_select(store: Any, test_id: int, *, chart: str) -> None:
+    working = ensure_working(store, test_id)
+    event = st.session_state.get(f"chart_{chart}_{test_id}")
+    avg = data.analyze(test_id, working.key).averaged
     pick = chart_pick(event, chart=chart, avg=avg)
     if pick is None:
         return
-    marker = (chart, round(float(pick["t_s"]), 3), working.key)
-    if st.session_state.get(f"last_pick_{test_id}") == marker:
-        return  # the same selection seen again on a rerun
-    st.session_state[f"last_pick_{test_id}"] = marker
     kind = st.session_state.get(f"thr_kind_{test_id}", "vt1")
-    reason = st.session_state.get(f"thr_reason_{test_id}", "") or f"{THRESHOLD_NAMES[kind]} picked on the {chart} chart"
-    new = with_override(working.settings, kind=kind, t_s=float(pick["t_s"]), reason=reason)
-    apply_change(store, test_id, new, reason=reason)
-    st.rerun()
+    reason = (st.session_state.get(f"thr_reason_{test_id}") or "").strip() or (
+        f"{THRESHOLD_NAMES[kind]} picked on the {'V-slope' if chart == 'vslope' else 'time-course'} chart"
+    )
+    apply_change(store, test_id, with_override(working.settings, kind=kind, t_s=float(pick["t_s"]), reason=reason),
+                 reason=reason)
+
+
+def _select_callback(store: Any, test_id: int, chart: str) -> Any:
+    guarded = _guard(_on_chart_select)
+    return functools.partial(guarded, store, test_id, chart=chart)
 
 
 def _charts(store: Any, test_id: int, working: state.WorkingSettings, results: Any, session: Any) -> None:
@@ -339,16 +415,14 @@ def _charts(store: Any, test_id: int, working: state.WorkingSettings, results: A
     rows = excluded["source_row"].tolist() if len(excluded) and "source_row" in excluded.columns else []
     fig_t = time_course_figure(results.averaged, breaths=session.breaths, excluded_rows=rows, thresholds=picks,
                                averaging_label=results.settings.averaging.label)
-    ev_t = st.plotly_chart(fig_t, on_select="rerun", selection_mode="points",
-                           key=f"chart_time_{test_id}")
-    _chart_selection(store, test_id, working, ev_t, chart="time", avg=results.averaged)
+    st.plotly_chart(fig_t, on_select=_select_callback(store, test_id, "time"), selection_mode="points",
+                    key=f"chart_time_{test_id}")
     left, right = st.columns(2)
     with left:
         ex = exercise_rows(results.averaged)
         fig_v = vslope_figure(ex, fit=report.vslope, candidates=report.vt1_candidates, vt1=report.vt1, vt2=report.vt2)
-        ev_v = st.plotly_chart(fig_v, on_select="rerun", selection_mode="points",
-                               key=f"chart_vslope_{test_id}")
-        _chart_selection(store, test_id, working, ev_v, chart="vslope", avg=results.averaged)
+        st.plotly_chart(fig_v, on_select=_select_callback(store, test_id, "vslope"), selection_mode="points",
+                        key=f"chart_vslope_{test_id}")
         if report.vslope is not None and not report.vslope.valid:
             st.caption(f"V-slope fit not accepted: {report.vslope.reason}")
     with right:
@@ -374,14 +448,19 @@ def _exclusions(store: Any, test_id: int, working: state.WorkingSettings, result
                                      "value": "Value", "reason": "Reason", "by": "Excluded by"})
         st.dataframe(view, hide_index=True)
     candidates = sorted(set(table["source_row"].astype(int).tolist() if len(table) else []) | set(restored))
-    chosen = st.multiselect(
+    st.session_state[f"restore_{test_id}"] = [r for r in restored if r in candidates]
+    st.multiselect(
         "Put these breaths back into the analysis (line numbers in the file)",
-        candidates, default=[r for r in restored if r in candidates], key=f"restore_{test_id}",
+        candidates, key=f"restore_{test_id}", on_change=_guard(_on_restore), args=(store, test_id),
     )
-    if sorted(chosen) != sorted(restored):
-        apply_change(store, test_id, with_exclusions(working.settings, restored_rows=chosen),
-                     reason="breaths restored" if len(chosen) > len(restored) else "breath exclusion re-applied")
-        st.rerun()
+
+
+def _on_restore(store: Any, test_id: int) -> None:
+    working = ensure_working(store, test_id)
+    restored = [int(r) for r in working.settings.get("restored_rows") or []]
+    chosen = [int(r) for r in st.session_state.get(f"restore_{test_id}") or []]
+    apply_change(store, test_id, with_exclusions(working.settings, restored_rows=chosen),
+                 reason="breaths restored" if len(chosen) > len(restored) else "breath exclusion re-applied")
 
 
 def _zones(results_json: Mapping[str, Any]) -> None:
@@ -409,6 +488,8 @@ def _history_and_sign_off(store: Any, test_id: int, working: state.WorkingSettin
                 st.rerun()
         elif record.current_version_signed:
             st.success(f"Version {record.summary.version} is signed off. A later change starts a new version.")
+        elif state.save_tracker().status(test_id)[0]:
+            st.caption("Saving the last change; sign-off is possible once it is stored.")
         elif state.can_edit():
             note = st.text_input("Sign-off note", key=f"sign_note_{test_id}")
             if st.button("Sign off this version", type="primary", key=f"sign_{test_id}"):
@@ -466,12 +547,22 @@ def render() -> None:
     """The Review page."""
     for kind, message in state.pop_flashes():
         getattr(st, kind, st.info)(message)
+    st.title("Review")
     store = data.get_store()
     test_id = _choose_test(store)
     if test_id is None:
         return
+    ensure_working(store, test_id)
+    pending, failed = sync_saves(test_id)
     working = ensure_working(store, test_id)
     record = _header(store, test_id, working)
+    if failed:
+        st.error(f"{failed} Your change is shown below but was not saved.")
+        if st.button("Reload the stored version", key=f"reload_{test_id}"):
+            reload_from_store(test_id)
+            st.rerun()
+    elif pending or st.session_state.get(SAVE_QUEUE):
+        _save_status(test_id)
     st.caption(
         "Estimates for review by qualified staff; not a medical device. Thresholds and zones are "
         "estimates and should be checked on the charts."
@@ -493,3 +584,10 @@ def render() -> None:
     _zones(results_json)
     _exclusions(store, test_id, working, results)
     _history_and_sign_off(store, test_id, working, record)
+    flush_saves(store)
+
+
+if __name__ == "__main__":  # opened as a folder page by a fresh server: hand over to the app
+    from dashboard.app import run
+
+    run()

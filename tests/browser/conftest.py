@@ -176,8 +176,18 @@ def screenshot() -> Callable[[object, str], Path]:
     SCREENSHOTS.mkdir(parents=True, exist_ok=True)
 
     def take(pg, name: str) -> Path:  # noqa: ANN001 - Playwright Page
+        """Whole page: Streamlit scrolls inside its main block, so the viewport is made as tall
+        as that block for the shot (capped) and restored afterwards."""
         path = SCREENSHOTS / f"{name}.png"
+        size = pg.viewport_size or {"width": 1366, "height": 900}
+        height = pg.evaluate(
+            "() => { const m = document.querySelector('[data-testid=\"stMain\"]') ||"
+            " document.querySelector('section.main'); return m ? m.scrollHeight : document.body.scrollHeight; }"
+        )
+        pg.set_viewport_size({"width": size["width"], "height": int(min(max(height, size["height"]), 8000))})
+        pg.wait_for_timeout(400)
         pg.screenshot(path=str(path), full_page=True)
+        pg.set_viewport_size(size)
         return path
 
     return take

@@ -10,6 +10,7 @@ import pytest
 
 from analysis.pipeline import analyze_session
 from analysis.settings import AnalysisSettings
+from dashboard import data
 from dashboard.pages import review
 from dashboard.report.html_report import format_number
 
@@ -67,6 +68,10 @@ def test_typing_a_vt1_time_changes_vt1_marks_it_manual_and_saves_a_version(demo_
     at.number_input(key=f"thr_t_{test_id}").set_value(new_t)
     at.button[[b.label for b in at.button].index("Set VT1")].click().run()
     assert not at.exception, at.exception
+    data.wait_for_saves()  # the store save runs in the background; the page did not wait
+    at.run()
+    assert not at.exception, at.exception
+    assert any("version" in c.value and str(version_before + 1) in c.value for c in at.caption)
     vt1 = _threshold_table(at)
     vt1 = vt1[vt1["Threshold"].str.startswith("VT1")].iloc[0]
     assert "manual" in vt1["Threshold"]
@@ -91,6 +96,7 @@ def test_averaging_selector_changes_the_averaging_label(demo_store, page_test):
     assert not at.exception, at.exception
     label = next(c.value for c in at.caption if c.value.startswith("Averaging in use:"))
     assert label.endswith("-breath rolling mean")
+    data.wait_for_saves()
     settings, _ = demo_store.store.get_settings(test_id)
     assert settings["averaging"]["method"] == "breaths"
 
