@@ -60,7 +60,7 @@ def test_upload_review_override_and_report(app_server, page, screenshot, tmp_pat
     page.get_by_role("button", name="Open the imported test in Review").click()
 
     # --- Review: read VT1
-    page.get_by_role("heading", name=re.compile("Review — SEL-0425")).wait_for(timeout=60_000)
+    page.get_by_role("heading", name=re.compile("SEL-0425 — 2026-01-21")).wait_for(timeout=60_000)
     page.locator("[data-testid='stMarkdownContainer']", has_text="VT1:").first.wait_for(timeout=60_000)
     page.locator(".js-plotly-plot").nth(1).wait_for(timeout=60_000)
     wait_for_app(page)
