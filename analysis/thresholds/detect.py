@@ -40,6 +40,10 @@ FIT_BIN_S = 20.0
 #: flattens both least-squares lines and pulls their crossing to lower VO2 (regression
 #: dilution, common practice); measured bias -3.5 % without it, about 0 % with it.
 VSLOPE_SMOOTH_POINTS = 3
+#: A VT1 reading within this long before a VT2 estimate is taken for the first breaths of
+#: respiratory compensation (VT2 is uncertain by a bin or two), and VT1 is read again in a
+#: window ending this long before VT2.
+VT2_MARGIN_S = 60.0
 #: Fewest averaged points needed in the exercise phase before any threshold is sought.
 MIN_EXERCISE_POINTS = 12
 #: Picks agree when within this many mL/min of each other, or this fraction of VO2 when larger
@@ -356,7 +360,8 @@ def detect_thresholds(avg: pd.DataFrame, *, phases: pd.Series | None = None) -> 
     * VE/VCO2 nadir-rise: three-line fit of VE/VCO2 on time, the last line rising.
     * PETCO2 fall: the same fit on -PETCO2.
 
-    VT1 is then sought below the VT2 time (unless VT2 rests on a single method) (as Beaver et al. restrict V-slope to the part
+    VT1 is then sought below the VT2 time (unless VT2 rests on a single method); a VT1 that
+    lands within 60 s of VT2 is read again in a window ending 60 s before VT2 (as Beaver et al. restrict V-slope to the part
     below the respiratory compensation point), over the warm-up after its first minute plus
     the exercise phase (without a warm-up: the exercise phase after its first minute):
 
@@ -411,11 +416,24 @@ def detect_thresholds(avg: pd.DataFrame, *, phases: pd.Series | None = None) -> 
         if below.sum() < MIN_EXERCISE_POINTS:
             reasons.append(f"VT1: fewer than {MIN_EXERCISE_POINTS} points before VT2, searched the whole exercise phase")
             below = everything
-    vt1_c, fit = _vt1_candidates(win.take(below), reasons)
+    r1: list[str] = []
+    vt1_c, fit = _vt1_candidates(win.take(below), r1)
     vt1, agree1 = _consensus("vt1", vt1_c, ex)
     if vt1 is None and not below.all():
-        vt1_c, fit = _vt1_candidates(win, reasons)
+        r1 = []
+        vt1_c, fit = _vt1_candidates(win, r1)
         vt1, agree1 = _consensus("vt1", vt1_c, ex)
+    elif vt1 is not None and vt2 is not None and vt1.t_s > vt2.t_s - VT2_MARGIN_S:
+        # VT1 read on the rise that VT2 (even a single-method VT2) marks: read again below it
+        cut = win.t < vt2.t_s - VT2_MARGIN_S
+        if cut.sum() >= MIN_EXERCISE_POINTS:
+            r_cut: list[str] = []
+            c_cut, f_cut = _vt1_candidates(win.take(cut), r_cut)
+            v_cut, a_cut = _consensus("vt1", c_cut, ex)
+            if v_cut is not None:
+                r1 = r_cut + [f"VT1: the first reading ({vt1.vo2_ml_min:.0f} mL/min) fell on the VT2 rise; read again below VT2"]
+                vt1_c, fit, vt1, agree1 = c_cut, f_cut, v_cut, a_cut
+    reasons.extend(r1)
     if vt1 is not None:  # a VT2 pick at or below VT1 is not an RCP: set it aside
         late = {}
         for m, p in vt2_c.items():
