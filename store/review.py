@@ -224,6 +224,12 @@ class ReviewMixin(ArchiveMixin):
             for r in reversed(rows)
         ]
 
+    def audit_csv(self, test_id: int | None = None, *, person_id: int | None = None) -> str:
+        """The audit trail of a test, a person or the whole store as spreadsheet-safe CSV text."""
+        from store.audit_export import audit_to_csv
+
+        return audit_to_csv(self.audit_log(test_id, person_id=person_id, limit=1_000_000))
+
     def soft_delete_test(self, test_id: int, *, actor: Actor, reason: str = "") -> None:
         """Hide a test from every list and share link (admin only). Rows are kept and logged."""
         with self._tx() as db:
