@@ -22,8 +22,8 @@ NUMBER_RE = re.compile(_NUM)
 _DOT_NUMBER = r"^[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?$"
 TIME_RE = re.compile(r"[+-]?(?:\d+:)?\d+:\d{1,2}(?:[.,]\d*)?")
 _TIME_PARTS = r"^(?P<sign>[+-]?)(?:(?P<h>\d+):)?(?P<m>\d+):(?P<s>\d{1,2}(?:\.\d*)?)$"
-_COMMA_DECIMAL = re.compile(r"[+-]?\d*,\d+")
-_DOT_DECIMAL = re.compile(r"[+-]?\d*\.\d+")
+_COMMA_LINES = re.compile(r"^[ \t]*[+-]?\d*,\d+[ \t]*$", re.MULTILINE)
+_DOT_LINES = re.compile(r"^[ \t]*[+-]?\d*\.\d+[ \t]*$", re.MULTILINE)
 
 TIME_FORMATS: tuple[str, ...] = ("auto", "s", "min", "ms", "mm:ss", "h:mm:ss")
 
@@ -60,12 +60,9 @@ VALUE_RE = re.compile(rf"(?:{_NUM}|[+-]?(?:\d+:)?\d+:\d{{1,2}}(?:[.,]\d*)?)")
 
 def detect_decimal(cells: Sequence[object]) -> str:
     """``','`` when more text cells use a decimal comma than a decimal point, else ``'.'``."""
-    texts = pd.Series([c for c in cells if type(c) is str], dtype=object)
-    if texts.empty:
-        return "."
-    texts = texts.str.strip()
-    comma = int(texts.str.fullmatch(_COMMA_DECIMAL.pattern).sum())
-    dot = int(texts.str.fullmatch(_DOT_DECIMAL.pattern).sum())
+    joined = "\n".join(c for c in cells if type(c) is str and "\n" not in c)
+    comma = len(_COMMA_LINES.findall(joined))
+    dot = len(_DOT_LINES.findall(joined))
     return "," if comma > dot else "."
 
 

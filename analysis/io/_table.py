@@ -21,7 +21,7 @@ DELIMITERS: tuple[str, ...] = ("\t", ";", ",", "|", " ")
 DELIMITER_NAMES: dict[str, str] = {"\t": "tab", ";": "semicolon", ",": "comma", "|": "bar", " ": "spaces", "": "none"}
 
 #: Lines examined when choosing the delimiter (the header must start within them).
-SNIFF_LINES = 2000
+SNIFF_LINES = 400
 
 
 @dataclass
