@@ -172,15 +172,9 @@ def _best(rows: Sequence[Row], kinds: Sequence[str]) -> _Candidate | None:
     return best
 
 
-def choose_delimiter(lines: Sequence[str], *, file_name: str) -> str:
-    """The delimiter whose split gives the longest table under a header.
-
-    Ties go to the earlier entry of :data:`DELIMITERS`; runs of spaces are tried only when no
-    other delimiter gives a table.
-    """
-    sample = list(lines[:SNIFF_LINES])
+def _sniff(sample: Sequence[str], file_name: str) -> str | None:
     best_key: tuple[int, int] | None = None
-    chosen = ","
+    chosen: str | None = None
     for rank, delim in enumerate(DELIMITERS):
         if delim == " " and best_key is not None:
             break  # runs of spaces only when no real delimiter gives a table
@@ -197,6 +191,19 @@ def choose_delimiter(lines: Sequence[str], *, file_name: str) -> str:
         if best_key is None or key > best_key:
             best_key, chosen = key, delim
     return chosen
+
+
+def choose_delimiter(lines: Sequence[str], *, file_name: str) -> str:
+    """The delimiter whose split gives the longest table under a header.
+
+    Judged on the first :data:`SNIFF_LINES` lines (the whole file when they hold no table).
+    Ties go to the earlier entry of :data:`DELIMITERS`; runs of spaces are tried only when no
+    other delimiter gives a table. Comma when nothing gives a table.
+    """
+    chosen = _sniff(list(lines[:SNIFF_LINES]), file_name)
+    if chosen is None and len(lines) > SNIFF_LINES:
+        chosen = _sniff(list(lines), file_name)
+    return chosen or ","
 
 
 def _header_names(cells: Sequence[object], width: int) -> list[str]:

@@ -269,3 +269,11 @@ def test_event_rows_after_the_last_breath_keep_their_marker():
     data = b"Time,VO2,VCO2,VE,Event\n0,300,250,10,\n3,310,260,11,peak\n5,,,,Stop test\n"
     out = import_bytes(data, file_name="ev.csv")
     assert out.session.breaths["marker"].tolist() == [None, "peak; Stop test"]
+
+
+def test_long_preamble_beyond_the_sniffed_lines():
+    before = "".join(f"Setting {i};value {i}\n" for i in range(450))
+    df = breath_table(10)
+    out = import_bytes(to_text(df, headers=GENERIC, sep=";", decimal=",", before=before), file_name="long.csv")
+    assert out.delimiter == ";" and len(out.session.breaths) == 10
+    assert out.session.breaths["source_row"].iloc[0] == 452
