@@ -134,3 +134,9 @@ def test_other_exports_go_through_the_generic_importer(tmp_path, capsys):
     # same breaths as the simulated session: peak within 5 % of the model (ground truth)
     assert d["vo2_peak_ml_min"] == pytest.approx(s.meta["truth_vo2peak_ml_min"], rel=0.05)
     assert any("Body mass unknown" in w for w in d["warnings"])
+
+
+def test_unwritable_out_is_exit_2(session_dir, tmp_path, capsys):
+    target = tmp_path / "no_such_folder" / "results.csv"
+    assert main(["analyze", str(session_dir), "--out", str(target), "--workers", "1", "--no-progress"]) == EXIT_BAD_INPUT
+    assert "--out" in capsys.readouterr().err

@@ -296,6 +296,13 @@ def format_summary(r: dict[str, Any]) -> str:
     return "\n".join(lines) + "\n"
 
 
+def _write(path: Path, text: str) -> None:
+    try:
+        path.write_text(text, encoding="utf-8", newline="")
+    except OSError as exc:
+        raise InvalidParameter("--out", "a CSV file path that can be written", f"{path} ({exc.strerror})") from None
+
+
 def run(args: argparse.Namespace) -> int:
     from analysis.pipeline import analyze_session
 
@@ -314,14 +321,14 @@ def run(args: argparse.Namespace) -> int:
                 Problem(f"no files ending in {', '.join(BATCH_SUFFIXES)} were found", "check the folder", str(path))
             )
         rows = analyze_batch(files, settings=settings, workers=args.workers, progress=not args.no_progress)
-        args.out.write_text(summary_csv_text(rows), encoding="utf-8", newline="")
+        _write(args.out, summary_csv_text(rows))
         failed = sum(r["status"] != "ok" for r in rows)
         print(f"{len(rows)} tests analysed, {failed} failed; results in {args.out}", file=sys.stderr)
         return 0
     results = analyze_session(load_session(path), settings)
     data = results.to_json_dict()
     if args.out is not None:
-        args.out.write_text(summary_csv_text([summary_row(data, file=path.name)]), encoding="utf-8", newline="")
+        _write(args.out, summary_csv_text([summary_row(data, file=path.name)]))
     if args.json:
         sys.stdout.write(json.dumps(data, ensure_ascii=False, allow_nan=False) + "\n")
     else:
