@@ -289,6 +289,15 @@ def import_bytes(
         known, and what would fix it (at most 10 listed). Nothing is written anywhere.
     InvalidParameter
         An argument outside the accepted values.
+
+    Examples
+    --------
+    >>> export = b"Time;VO2 (L/min);VCO2 (L/min);VE\\n0:00;0,30;0,25;10\\n0:03;0,32;0,27;11\\n"
+    >>> out = import_bytes(export, file_name="ramp.csv")
+    >>> out.session.breaths["vo2_ml_min"].tolist(), out.gas_unit_detected, out.time_format_detected
+    ([300.0, 320.0], 'l_min', 'mm:ss')
+    >>> out.delimiter, out.decimal, out.session.flags.empty
+    (';', ',', True)
     """
     require(isinstance(data, (bytes, bytearray)), "data", "bytes", type(data).__name__)
     require(gas_unit in GAS_UNITS, "gas_unit", f"one of {GAS_UNITS}", gas_unit)

@@ -126,6 +126,12 @@ def read_session(source: str | Path | bytes, *, file_name: str | None = None, ma
         Anything outside the format: not UTF-8, unknown or repeated column names, a missing
         required column, a row with the wrong number of cells, text in a numeric column, or a
         value the importer would reject.
+
+    Examples
+    --------
+    >>> s = read_session(b"# body_mass_kg: 70\\nt_s,vo2_ml_min,vco2_ml_min,ve_l_min\\n0,300,250,10\\n")
+    >>> s.meta, s.breaths["source_row"].tolist(), s.breaths["vo2_ml_min"].tolist()
+    ({'body_mass_kg': 70.0}, [3], [300.0])
     """
     import numpy as np
 
