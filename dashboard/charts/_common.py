@@ -35,6 +35,9 @@ BASE_LAYOUT: dict[str, Any] = {
     "hovermode": "closest",
 }
 
+#: Legend under the plot, for charts in a half-width column (keeps the plot area tall).
+BOTTOM_LEGEND: dict[str, Any] = {"orientation": "h", "yanchor": "top", "y": -0.14, "xanchor": "left", "x": 0}
+
 THRESHOLD_LABEL = {"vt1": "VT1", "vt2": "VT2"}
 
 

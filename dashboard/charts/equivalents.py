@@ -10,7 +10,7 @@ import plotly.graph_objects as go
 
 from analysis import columns as C
 from dashboard import palette
-from dashboard.charts._common import axis_title, build_figure, column, decorations, figure_title, has
+from dashboard.charts._common import BOTTOM_LEGEND, axis_title, build_figure, column, decorations, figure_title, has
 
 #: Columns of the equivalents frame (computed in analysis, not here).
 VE_VO2 = "ve_vo2"
@@ -73,7 +73,7 @@ def equivalents_figure(
             traces.append(
                 {
                     "type": "scatter", "x": column(avg, C.T_S), "y": column(avg, col), "mode": "lines", "name": name,
-                    "line": {"color": palette.SIGNAL[col], "width": 2, "dash": "solid" if col == C.PETO2_MMHG else "dash"},
+                    "line": {"color": palette.SIGNAL[col], "width": 2, "dash": "solid" if col == C.PETO2_MMHG else "dashdot"},
                     "xaxis": "x", "yaxis": "y2",
                 }
             )
@@ -87,7 +87,9 @@ def equivalents_figure(
         traces,
         {
             "title": figure_title("Ventilatory equivalents and end-tidal pressures"),
-            "height": 560,
+            "height": 600,
+            "legend": BOTTOM_LEGEND,
+            "margin": {"l": 60, "r": 20, "t": 50, "b": 110},
             "xaxis": {"anchor": "y2", "title": axis_title("Time (s)")},
             "yaxis": {"domain": [0.54, 1.0], "anchor": "x", "title": axis_title("Ventilatory equivalent (ratio, no unit)")},
             "yaxis2": {"domain": [0.0, 0.46], "anchor": "x", "title": axis_title("End-tidal pressure (mmHg)")},

@@ -118,7 +118,7 @@ def time_course_figure(
     }
     if load_col is not None:
         layout["yaxis4"] = {
-            "overlaying": "y3", "side": "right", "anchor": "x", "showgrid": False,
+            "overlaying": "y3", "side": "right", "anchor": "x", "showgrid": False, "rangemode": "tozero",
             "title": axis_title("Work rate (W)" if load_col == C.WORK_W else "Speed (km/h)"),
         }
     return build_figure(traces, layout)

@@ -11,7 +11,7 @@ import plotly.graph_objects as go
 
 from analysis import columns as C
 from dashboard import palette
-from dashboard.charts._common import axis_title, build_figure, column, decorations, figure_title, pick_value
+from dashboard.charts._common import BOTTOM_LEGEND, axis_title, build_figure, column, decorations, figure_title, pick_value
 
 #: Name of the clickable data trace.
 DATA_TRACE = "Averaged breaths"
@@ -110,7 +110,9 @@ def vslope_figure(
         traces,
         {
             "title": figure_title("V-slope: VCO2 against VO2"),
-            "height": 460,
+            "height": 600,
+            "legend": BOTTOM_LEGEND,
+            "margin": {"l": 60, "r": 20, "t": 50, "b": 170},
             "xaxis": {"title": axis_title("VO2 (mL/min)")},
             "yaxis": {"title": axis_title("VCO2 (mL/min)")},
             "shapes": shapes,

@@ -114,12 +114,12 @@ def test_rows(tests: Sequence[Any], headlines: Mapping[int, Mapping[str, float |
                 "Test": t.id,
                 "Person": t.person_code + (f" ({t.display_name})" if t.display_name else ""),
                 "Date": t.test_date or "",
-                "Protocol": t.protocol or "",
                 "VO2peak (mL/min)": _round(h["vo2_peak_ml_min"]),
                 "VT1 VO2 (mL/min)": _round(h["vt1_vo2_ml_min"]),
                 "VE/VCO2 slope": _round(h["ve_vco2_slope"], 1),
                 "Version": t.version,
                 "Signed off": "yes" if t.signed_version == t.version else "",
+                "Protocol": t.protocol or "",
                 "File": t.file_name,
             }
         )
@@ -194,7 +194,7 @@ def _import_panel(store: Any, upload: Any, index: int) -> None:
     name: str = upload.name
     key = "imp_" + hashlib.sha256(raw).hexdigest()[:12] + f"_{index}"
     is_xlsx = name.lower().endswith(".xlsx")
-    c1, c2, c3 = st.columns(3)
+    c1, c2, c3 = st.columns(3) if is_xlsx else (None, *st.columns(2))
     sheet = None
     if is_xlsx:
         try:
