@@ -130,3 +130,44 @@ def test_settings_helpers_validate_like_the_analysis():
         review.with_override(base, kind="vt3", t_s=10.0)
     out = review.with_exclusions(base, restored_rows=[12, 5, 12])
     assert out["restored_rows"] == [5, 12]
+
+
+def test_edit_conflict_is_shown_plainly_and_nothing_is_overwritten(demo_store, page_test):
+    # Optimistic locking (store): a second reviewer saved first, so this page's save is refused.
+    from tests.dashboard.conftest import make_user
+
+    test_id = demo_store.test_ids[1]
+    at = page_test(_review_script, tm_user=demo_store.user, tm_test_id=test_id).run()
+    assert not at.exception, at.exception
+    other = make_user(demo_store.store, "rho.reviewer", "reviewer")
+    settings, version = demo_store.store.get_settings(test_id)
+    theirs = review.with_exclusions(settings, excluded_rows=[40])
+    demo_store.store.save_settings(test_id, theirs, actor=other, reason="other reviewer", expected_version=version)
+    at.number_input(key=f"thr_t_{test_id}").set_value(300.0)
+    at.button[[b.label for b in at.button].index("Set VT1")].click().run()
+    data.wait_for_saves()
+    at.run()
+    assert not at.exception, at.exception
+    assert any("was not saved" in e.value and "changed" in e.value for e in at.error)
+    stored, _ = demo_store.store.get_settings(test_id)
+    assert stored["excluded_rows"] == [40] and stored["vt1_override"] is None  # theirs kept, ours not written
+    at.button(key=f"reload_{test_id}").click().run()
+    assert not at.exception, at.exception
+    assert not any("was not saved" in e.value for e in at.error)
+
+
+def test_viewer_can_explore_but_nothing_is_saved(demo_store, page_test):
+    from tests.dashboard.conftest import make_user
+
+    test_id = demo_store.test_ids[0]
+    viewer = make_user(demo_store.store, "vic.viewer", "viewer")
+    _, version_before = demo_store.store.get_settings(test_id)
+    at = page_test(_review_script, tm_user=viewer, tm_test_id=test_id).run()
+    at.selectbox(key=f"avg_method_{test_id}").set_value("rolling_time").run()
+    assert not at.exception, at.exception
+    assert any("View only" in i.value for i in at.info)
+    label = next(c.value for c in at.caption if c.value.startswith("Averaging in use:"))
+    assert label.endswith("s rolling window")
+    data.wait_for_saves()
+    assert demo_store.store.get_settings(test_id)[1] == version_before
+    assert not any(b.label == "Sign off this version" for b in at.button)
