@@ -115,3 +115,35 @@ class TestRampRate:
     def test_phase_length_checked(self):
         with pytest.raises(InvalidParameter, match="phases"):
             ramp_rate_w_per_min(cycle_test(), pd.Series(["exercise"]))
+
+
+@pytest.mark.parametrize("which", [0, 1, 2, 3, 5])
+def test_simulated_phases_recovered_from_the_load(which):
+    # Ground truth: the simulator's own phase labels. Demo tests with a loaded warm-up (cycle)
+    # or a walking warm-up (treadmill) are recovered breath for breath from the load alone.
+    sim = pytest.importorskip("analysis.simulation")
+    demo = sim.DEMO_TESTS[which]
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        s = sim.simulate_session(demo.profile, demo.protocol, seed=0)
+    b = s.breaths
+    ph = detect_phases(b.drop(columns="phase"))
+    assert (ph.to_numpy() == b["phase"].to_numpy()).all()
+    if demo.protocol.mode == "cycle":
+        assert ramp_rate_w_per_min(b) == pytest.approx(demo.protocol.ramp_w_per_min, rel=1e-6)
+
+
+def test_unloaded_warmup_reads_as_rest():
+    # A warm-up at 0 W cannot be told from rest by the load (documented limit): the simulated
+    # heart-failure test pedals unloaded before its ramp, and those breaths read as rest.
+    sim = pytest.importorskip("analysis.simulation")
+    demo = sim.DEMO_TESTS[4]
+    assert demo.protocol.warmup_w == 0
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        s = sim.simulate_session(demo.profile, demo.protocol, seed=0)
+    ph = detect_phases(s.breaths.drop(columns="phase")).to_numpy()
+    truth = s.breaths["phase"].to_numpy()
+    assert set(ph[truth == "warmup"]) == {"rest"}
+    assert (ph[truth == "recovery"] == "recovery").all()
+    assert (ph == truth).mean() > 0.85
