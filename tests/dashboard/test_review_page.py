@@ -171,3 +171,47 @@ def test_viewer_can_explore_but_nothing_is_saved(demo_store, page_test):
     data.wait_for_saves()
     assert demo_store.store.get_settings(test_id)[1] == version_before
     assert not any(b.label == "Sign off this version" for b in at.button)
+
+
+def test_sign_off_freezes_the_version_and_a_later_edit_starts_a_new_one(demo_store, page_test):
+    test_id = demo_store.test_ids[0]
+    at = page_test(_review_script, tm_user=demo_store.user, tm_test_id=test_id).run()
+    data.wait_for_saves()
+    at.run()
+    _, version = demo_store.store.get_settings(test_id)
+    at.text_input(key=f"sign_note_{test_id}").input("checked on the charts")
+    at.button(key=f"sign_{test_id}").click().run()
+    assert not at.exception, at.exception
+    record = demo_store.store.get_test(test_id)
+    assert record.current_version_signed and record.sign_offs[-1].version == version
+    assert any(f"Version {version} is signed off" in s.value for s in at.success)
+    at.text_input(key=f"thr_reason_{test_id}").input("after sign-off: VT1 later")
+    at.number_input(key=f"thr_t_{test_id}").set_value(600.0)
+    at.button[[b.label for b in at.button].index("Set VT1")].click().run()
+    data.wait_for_saves()
+    at.run()
+    assert not at.exception, at.exception
+    record = demo_store.store.get_test(test_id)
+    assert record.summary.version == version + 1 and not record.current_version_signed
+    assert any(s.version == version for s in record.sign_offs)  # the signed version stays signed
+
+
+def test_restoring_an_excluded_breath_puts_it_back(demo_store, page_test):
+    test_id = demo_store.test_ids[1]
+    at = page_test(_review_script, tm_user=demo_store.user, tm_test_id=test_id).run()
+    data.wait_for_saves()
+    at.run()
+    settings, _ = demo_store.store.get_settings(test_id)
+    results = analyze_session(demo_store.store.load_session(test_id), AnalysisSettings.from_dict(settings))
+    auto = results.excluded_breaths
+    auto_rows = sorted(auto.loc[auto["by"] == "auto", "source_row"].astype(int).unique().tolist())
+    if not auto_rows:
+        pytest.skip("this demo test has no automatically excluded breath")
+    row = auto_rows[0]
+    at.multiselect(key=f"restore_{test_id}").select(row).run()
+    assert not at.exception, at.exception
+    data.wait_for_saves()
+    stored, _ = demo_store.store.get_settings(test_id)
+    assert row in stored["restored_rows"]
+    after = analyze_session(demo_store.store.load_session(test_id), AnalysisSettings.from_dict(stored))
+    assert row not in after.excluded_breaths["source_row"].astype(int).tolist()
