@@ -7,6 +7,8 @@ import warnings
 import numpy as np
 import pandas as pd
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from analysis.breaths import OUTLIER_COLUMNS, exclude_breaths, find_outlier_breaths
 from analysis.errors import InvalidParameter
@@ -127,3 +129,21 @@ def test_simulated_artifacts_found_with_few_false_positives():
     # Measured (docs/thresholds.md): every artifact found; about 1.5 % of clean breaths flagged.
     assert missed == 0
     assert false / total < 0.025
+
+
+@settings(max_examples=40, deadline=None)
+@given(
+    values=st.lists(st.floats(200.0, 4000.0), min_size=0, max_size=150),
+    k=st.floats(2.0, 5.0),
+)
+def test_reported_numbers_explain_every_exclusion(values, k):
+    # Each reported breath really lies more than k local SDs from its local mean, and its
+    # value is the one in the table (the report can be checked by hand).
+    n = len(values)
+    v = np.asarray(values, dtype=float)
+    b = pd.DataFrame({"t_s": np.arange(n) * 2.0, "vo2_ml_min": v, "vco2_ml_min": 0.9 * v[::-1] if n else v, "ve_l_min": v / 30.0})
+    out = find_outlier_breaths(b, k_sd=k)
+    assert out["source_row"].is_unique
+    for r in out.itertuples():
+        assert abs(r.value - r.local_mean) > k * r.local_sd
+        assert b.loc[r.source_row - 1, r.column] == r.value
