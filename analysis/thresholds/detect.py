@@ -51,11 +51,12 @@ MIN_EXERCISE_POINTS = 12
 AGREE_ML_MIN = 150.0
 AGREE_FRACTION = 0.05
 #: A turn in a ratio or end-tidal pressure counts when the slope after it exceeds this many
-#: standard errors (a strict level, since every split pair is searched; common practice).
+#: standard errors (ours: a strict level, since every pair of split points is searched).
 TURN_MIN_T = 3.5
-#: ... and at least these absolute sizes (common practice, chosen above the noise of 10 s bins).
+#: ... and at least these absolute sizes (ours, chosen above the noise of 10-20 s bins).
 MIN_RISE = {"ve_vo2": 1.0, "ve_vco2": 1.0, "peto2_mmhg": 2.0, "petco2_mmhg": 1.5, "excess_co2": 30.0}
-#: VE must steepen against VCO2 by at least this factor at the RCP (common practice).
+#: VE must steepen against VCO2 by at least this factor at the RCP (ours; the simulator's
+#: demo profiles steepen 1.6 times).
 VE_VCO2_STEEPENING = 1.15
 
 

@@ -38,6 +38,9 @@ class ThresholdPick:
         e.g. ``"V-slope (Beaver 1986)"``, ``"consensus"``, ``"manual"``.
     source : {"auto", "manual"}
     confidence : {"high", "moderate", "low"}
+        For the consensus: high with 3 or more agreeing methods, moderate with 2, low with 1.
+        A single method's own pick is "moderate" (it passed that method's acceptance rules);
+        a reviewer's pick is "high".
     note : str
         Plain-language explanation.
     index : int
