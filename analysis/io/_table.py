@@ -22,6 +22,8 @@ DELIMITER_NAMES: dict[str, str] = {"\t": "tab", ";": "semicolon", ",": "comma", 
 
 #: Lines examined when choosing the delimiter (the header must start within them).
 SNIFF_LINES = 400
+#: ... and when those hold no table, this many (a longer preamble is not a breath export).
+SNIFF_LINES_MAX = 20000
 
 
 @dataclass
@@ -172,9 +174,11 @@ def _best(rows: Sequence[Row], kinds: Sequence[str]) -> _Candidate | None:
     return best
 
 
-def _sniff(sample: Sequence[str], file_name: str) -> str | None:
+def _sniff(sample: Sequence[str], file_name: str) -> tuple[str | None, str | None]:
+    """(delimiter giving the best table under a header, delimiter giving most rows of numbers)."""
     best_key: tuple[int, int] | None = None
     chosen: str | None = None
+    most_data, fallback = 0, None
     for rank, delim in enumerate(DELIMITERS):
         if delim == " " and best_key is not None:
             break  # runs of spaces only when no real delimiter gives a table
@@ -184,26 +188,31 @@ def _sniff(sample: Sequence[str], file_name: str) -> str | None:
             rows = _Split(delim, file_name).rows(sample)
         except ImportRejected:
             continue
-        cand = _best(rows, [classify(c) for _, c in rows])
+        kinds = [classify(c) for _, c in rows]
+        n_data = sum(1 for (_, c), k in zip(rows, kinds) if k == "data" and _width(c) >= 2)
+        if n_data > most_data:
+            most_data, fallback = n_data, delim
+        cand = _best(rows, kinds)
         if cand is None:
             continue
         key = (cand.score, -rank)
         if best_key is None or key > best_key:
             best_key, chosen = key, delim
-    return chosen
+    return chosen, fallback
 
 
 def choose_delimiter(lines: Sequence[str], *, file_name: str) -> str:
     """The delimiter whose split gives the longest table under a header.
 
-    Judged on the first :data:`SNIFF_LINES` lines (the whole file when they hold no table).
-    Ties go to the earlier entry of :data:`DELIMITERS`; runs of spaces are tried only when no
-    other delimiter gives a table. Comma when nothing gives a table.
+    Judged on the first :data:`SNIFF_LINES` lines (:data:`SNIFF_LINES_MAX` when they hold no
+    table). Ties go to the earlier entry of :data:`DELIMITERS`; runs of spaces are tried only
+    when no other delimiter gives a table. Without any header, the delimiter that splits most
+    rows into numbers (so that the rejection can point at them); comma when nothing does.
     """
-    chosen = _sniff(list(lines[:SNIFF_LINES]), file_name)
+    chosen, fallback = _sniff(list(lines[:SNIFF_LINES]), file_name)
     if chosen is None and len(lines) > SNIFF_LINES:
-        chosen = _sniff(list(lines), file_name)
-    return chosen or ","
+        chosen, fallback = _sniff(list(lines[:SNIFF_LINES_MAX]), file_name)
+    return chosen or fallback or ","
 
 
 def _header_names(cells: Sequence[object], width: int) -> list[str]:

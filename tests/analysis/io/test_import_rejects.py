@@ -91,3 +91,7 @@ def test_bad_arguments_are_invalid_parameter():
 def test_mixed_decimal_marks_are_rejected_with_location():
     data = b"Time;VO2;VCO2;VE\n0;300,5;250,1;10,2\n3;2.345;260,1;11,4\n"
     _reject(data, r"line 3, column 'VO2': '2.345' is not a number .*one decimal mark")
+
+
+def test_semicolon_numbers_without_header_are_pointed_at():
+    _reject(b"1;2;3;4\n5;6;7;8\n", r"line 1: no header row above the numbers that start on line 1")
