@@ -272,9 +272,33 @@ def render() -> None:
     for note in grouped_notes(oxygen):
         st.info(note)
 
-    if state.can_edit() and state.settings_key(new_settings) != state.settings_key(settings):
+    start = _start_conditions(settings)
+    start_oxygen = oxygen_settings(
+        model=stored_ox.get("model") if stored_ox.get("model") in COMPARISON_MODELS else COMPARISON_MODELS[0],
+        pao2_mmhg=float(stored_ox.get("pao2_mmhg", DEFAULT_PAO2_MMHG)),
+        spo2_pct=stored_ox.get("spo2_pct"),
+        conditions={k: asdict(v) for k, v in start.items()},
+        q_l_min={k: float(v) for k, v in (stored_ox.get("q_l_min") or {}).items() if float(v) > 0},
+    )
+    changed = state.settings_key(oxygen_in) != state.settings_key(start_oxygen) or hb_override is not None
+    if state.can_edit() and changed:
         if st.button("Keep these conditions with the test", key="ox_keep"):
-            from dashboard.pages.review import apply_change
-
-            apply_change(store, test_id, new_settings, reason="oxygen conditions changed on the Oxygen path page")
+            keep_conditions(store, test_id, new_settings, version=_version)
             st.rerun()
+
+
+def keep_conditions(store: Any, test_id: int, new_settings: dict[str, Any], *, version: int | None) -> int:
+    """Save the settings with these oxygen conditions as a new version (audited by the store).
+
+    Raises the store's ``EditConflict`` (shown plainly by the app) when someone else saved the
+    test in the meantime; nothing is saved then.
+    """
+    if version is None:
+        _, version = store.get_settings(test_id)
+    new_version = store.save_settings(
+        test_id, new_settings, actor=state.current_user(),
+        reason="oxygen conditions changed on the Oxygen path page", expected_version=int(version),
+    )
+    state.set_working_settings(test_id, state.WorkingSettings(new_settings, int(new_version), saved=True))
+    state.flash(f"Oxygen conditions kept with the test as version {new_version}.")
+    return int(new_version)

@@ -102,3 +102,38 @@ def test_charts_from_comparison_json(demo_store, test_id):
     bars = unloading_figure(ox["states"])
     assert [t.name for t in bars.data][0] == "Fall in PO2 (resting curve)"
     assert "mL O2/dL" in bars.layout.yaxis.title.text
+
+
+def test_hb_input_changes_arterial_content_by_the_content_equation(demo_store, page_test, test_id):
+    """CaO2 = 1.34 x Hb x SaO2 + 0.0031 x PaO2 (mL/dL; common practice, references.md)."""
+    at = page_test(_oxygen, **signed_in(demo_store.user), **{state.TEST_ID: test_id})
+    at.run()
+    at.number_input(key="ox_hb").set_value(12.0).run()
+    assert not at.exception
+    table = _table(at)
+    settings, _ = demo_store.store.get_settings(test_id)
+    ox = analysis_json(
+        demo_store.store, test_id, with_oxygen(settings, _default_oxygen_settings(), hb_g_dl=12.0)
+    )["oxygen"]
+    sao2 = ox["states"][0]["sao2"]
+    expected = 1.34 * 12.0 * sao2 + 0.0031 * 95.0
+    assert parse_number(table.loc["Rest", "CaO2 (mL/dL)"]) == pytest.approx(expected, abs=0.05)
+
+
+def test_keep_conditions_saves_a_new_version(demo_store, page_test):
+    store = demo_store.store
+    test_id = demo_store.test_ids[1]
+    _, version = store.get_settings(test_id)
+    at = page_test(_oxygen, **signed_in(demo_store.user), **{state.TEST_ID: test_id})
+    at.run()
+    assert not [b for b in at.button if b.key == "ox_keep"]  # nothing changed yet: nothing to keep
+    at.number_input(key=widget_key("vt2", "temperature_c")).set_value(38.8).run()
+    at.button(key="ox_keep").click().run()
+    assert not at.exception
+    saved, new_version = store.get_settings(test_id)
+    assert new_version == version + 1
+    assert saved["oxygen"]["conditions"]["vt2"]["temperature_c"] == pytest.approx(38.8)
+    changes = [e for e in store.audit_log(test_id) if str(e.field).startswith("oxygen")]
+    assert changes and "Oxygen path" in changes[0].reason
+    # the page now shows the kept conditions as the stored ones: nothing left to keep
+    assert not [b for b in at.button if b.key == "ox_keep"]
