@@ -57,6 +57,7 @@ def test_settings(store: Any, test_id: int) -> tuple[dict[str, Any], int | None]
     The reviewer's unsaved working settings (from the Review page) win; otherwise the stored
     settings; otherwise the analysis defaults.
     """
+    _fold_finished_saves(test_id)
     working = state.working_settings(test_id)
     if working is not None:
         return dict(working.settings), working.version
@@ -66,6 +67,19 @@ def test_settings(store: Any, test_id: int) -> tuple[dict[str, Any], int | None]
         log.exception("settings of test %s could not be read; using defaults", test_id)
         return data.default_settings_dict(), None
     return dict(settings or data.default_settings_dict()), version
+
+
+def _fold_finished_saves(test_id: int) -> None:
+    """Let the Review page's background saves that have finished update the working settings
+    (so a change saved from Review shows here with its new version, not as unsaved)."""
+    try:
+        from dashboard.pages.review import sync_saves
+    except ImportError:
+        return
+    try:
+        sync_saves(test_id)
+    except Exception:  # noqa: BLE001 - the working settings stay as they are; logged
+        log.exception("background saves of test %s could not be folded in", test_id)
 
 
 def settings_json(settings: dict[str, Any]) -> str:
