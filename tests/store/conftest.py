@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import shutil
 from collections.abc import Iterator
-from datetime import UTC, datetime, timedelta
+from datetime import UTC, datetime
 from pathlib import Path
 
 import pytest
@@ -19,30 +19,10 @@ from sqlalchemy.orm import Session as DbSession
 
 from store import Store, User, open_store
 from store.models import Base, UserRow
-from store.passwords import ScryptParams, hash_password
+from store.passwords import hash_password
+from tests.store.helpers import ACCOUNTS, CHEAP, PASSWORD, ManualClock, open_test_store
 from tests.store.pg_server import find_bin_dir, start_server
-from tests.store.standin import StandInBridge
 from tests.support import skip_or_fail
-
-#: Password of every template account.
-PASSWORD = "saltmarsh-tide-42"
-#: Cheap parameters for test accounts only (production default: N=2**17).
-CHEAP = ScryptParams(n=2**10, r=8, p=1)
-ACCOUNTS = (("ada", "admin"), ("rhea", "reviewer"), ("remy", "reviewer"), ("vic", "viewer"))
-
-
-class ManualClock:
-    """A clock the test moves by hand (timezone-aware UTC)."""
-
-    def __init__(self) -> None:
-        self.now = datetime(2026, 3, 14, 9, 0, tzinfo=UTC)
-
-    def __call__(self) -> datetime:
-        return self.now
-
-    def advance(self, **kwargs: float) -> None:
-        self.now += timedelta(**kwargs)
-
 
 _CHEAP_HASH: list[str] = []
 
@@ -108,13 +88,6 @@ def store_url(request, tmp_path) -> str:
 @pytest.fixture
 def clock() -> ManualClock:
     return ManualClock()
-
-
-def open_test_store(url: str, clock: ManualClock) -> Store:
-    store = open_store(url, clock=clock)
-    store.analysis = StandInBridge()
-    store.password_params = CHEAP
-    return store
 
 
 @pytest.fixture

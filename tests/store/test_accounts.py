@@ -8,7 +8,7 @@ from analysis.errors import InvalidParameter
 from store import LOCAL_OPERATOR, AccountLocked, LoginRefused, PermissionDenied, StoreError, open_store
 from store import accounts
 from store.passwords import DEFAULT_PARAMS, hash_password, needs_rehash, parse_hash, verify_password
-from tests.store.conftest import CHEAP, PASSWORD
+from tests.store.helpers import CHEAP, PASSWORD
 
 
 class TestPasswordHashing:

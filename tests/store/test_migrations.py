@@ -13,7 +13,7 @@ from store import open_store
 from store.config import make_engine, resolve_url
 from store.migrate import current_revision, head_revision, upgrade_to_head
 from store.models import Base, ShareView
-from tests.store.conftest import open_test_store
+from tests.store.helpers import open_test_store
 from tests.store.standin import csv_bytes
 
 

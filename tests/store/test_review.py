@@ -12,7 +12,7 @@ from analysis.errors import InvalidParameter
 from store import EditConflict, NotFound, PermissionDenied, StoreError, User
 from store.models import TestRow
 from store.review import changed_fields
-from tests.store.conftest import open_test_store
+from tests.store.helpers import open_test_store
 from tests.store.standin import csv_bytes
 
 
