@@ -52,7 +52,7 @@ def test_serve_command_line():
     from tidemark.commands import serve
 
     cmd = serve.streamlit_command(port=8630, host="127.0.0.1")
-    assert cmd[1:4] == ["-m", "streamlit", "run"] and cmd[4].endswith("dashboard/app.py")
+    assert cmd[1:4] == ["-m", "tidemark.commands.serve", "run"] and cmd[4].endswith("dashboard/app.py")
     assert cmd[cmd.index("--server.port") + 1] == "8630"
     assert cmd[cmd.index("--server.address") + 1] == "127.0.0.1"
     with pytest.raises(InvalidParameter, match="--port"):

@@ -54,7 +54,7 @@ def streamlit_command(*, port: int, host: str) -> list[str]:
     return [
         sys.executable,
         "-m",
-        "streamlit",
+        "tidemark.commands.serve",
         "run",
         str(app_path()),
         "--server.port",
@@ -80,3 +80,28 @@ def run(args: argparse.Namespace) -> int:
         return subprocess.call(cmd, env=env)
     except KeyboardInterrupt:
         return 0
+
+
+def _boot_streamlit(argv: list[str]) -> int:
+    """Run Streamlit's own command line with the ``pages/`` folder convention switched off.
+
+    ``dashboard/pages/`` holds the page modules that ``dashboard/app.py`` puts into its
+    navigation; Streamlit would otherwise also treat that folder as file-based pages until the
+    first ``st.navigation`` call, so a bookmarked ``/oxygen`` on a fresh server would run the
+    module as a bare script. Telling Streamlit up front that the app builds its own navigation
+    avoids that for every page.
+    """
+    try:
+        from streamlit.runtime.pages_manager import PagesManager
+
+        PagesManager.uses_pages_directory = False
+    except (ImportError, AttributeError):  # a Streamlit without this switch: the page modules hand over themselves
+        pass
+    from streamlit.web.cli import main as streamlit_main
+
+    sys.argv = ["streamlit", *argv]
+    return int(streamlit_main() or 0)
+
+
+if __name__ == "__main__":
+    raise SystemExit(_boot_streamlit(sys.argv[1:]))
