@@ -62,23 +62,24 @@ VE_VCO2_STEEPENING = 1.15
 
 @dataclass(frozen=True)
 class _Ex:
-    """Exercise rows of the averaged frame, sorted by time, as plain arrays."""
+    """Rows of the (merged) averaged frame, sorted by time, as plain arrays."""
 
     row: np.ndarray
     t: np.ndarray
     vo2: np.ndarray
     vco2: np.ndarray
     ve: np.ndarray
-    frame: pd.DataFrame
+    cols: dict[str, np.ndarray]
 
     def take(self, mask: np.ndarray) -> _Ex:
-        return _Ex(self.row[mask], self.t[mask], self.vo2[mask], self.vco2[mask], self.ve[mask], self.frame.loc[mask])
+        return _Ex(
+            self.row[mask], self.t[mask], self.vo2[mask], self.vco2[mask], self.ve[mask],
+            {k: v[mask] for k, v in self.cols.items()},
+        )
 
     def col(self, name: str) -> np.ndarray | None:
-        if name not in self.frame.columns:
-            return None
-        v = self.frame[name].to_numpy(dtype=float)
-        return v if np.isfinite(v).sum() >= MIN_EXERCISE_POINTS else None
+        v = self.cols.get(name)
+        return v if v is not None and np.isfinite(v).sum() >= MIN_EXERCISE_POINTS else None
 
 
 def _phase_labels(avg: pd.DataFrame, phases: pd.Series | None) -> np.ndarray:
@@ -87,64 +88,65 @@ def _phase_labels(avg: pd.DataFrame, phases: pd.Series | None) -> np.ndarray:
             raise InvalidParameter("phases", f"one label per averaged row ({len(avg)})", len(phases))
         return np.asarray(phases).astype(str)
     if C.PHASE in avg.columns:
-        return avg[C.PHASE].fillna("exercise").astype(str).to_numpy()
+        return avg[C.PHASE].fillna("exercise").to_numpy(dtype=object).astype(str)
     return np.full(len(avg), "exercise")
 
 
-def _coarsen(avg: pd.DataFrame, ph: np.ndarray, bin_s: float) -> tuple[pd.DataFrame, np.ndarray]:
+def _coarsen(avg: pd.DataFrame, ph: np.ndarray, bin_s: float) -> tuple[dict[str, np.ndarray], np.ndarray]:
     """Merge averaged rows into ``bin_s`` bins within each phase (weighted by ``n_breaths``).
 
-    Returns the merged frame (with ``_avg_row``: the row of ``avg`` nearest each bin's time)
-    and its phase labels. A frame whose points are already ``0.75 * bin_s`` apart or more is
-    returned unchanged.
+    Returns the numeric columns as arrays (with ``_avg_row``: the row of ``avg`` nearest each
+    bin's time) and their phase labels. Rows already ``0.75 * bin_s`` apart or more are kept
+    as they are.
     """
-    frame = avg.reset_index(drop=True).assign(_avg_row=np.arange(len(avg)))
-    t = frame[C.T_S].to_numpy(dtype=float)
-    if t.size < 2 or float(np.nanmedian(np.diff(t))) >= 0.75 * bin_s:
-        return frame, ph
-    w = frame["n_breaths"].to_numpy(dtype=float) if "n_breaths" in frame.columns else np.ones(t.size)
+    numeric = [c for c in avg.columns if c in C.NUMERIC]
+    vals = avg[numeric].to_numpy(dtype=float)
+    n = vals.shape[0]
+    t = vals[:, numeric.index(C.T_S)]
+    if n < 2 or float(np.nanmedian(np.diff(t))) >= 0.75 * bin_s:
+        cols = {c: vals[:, j] for j, c in enumerate(numeric)}
+        cols["_avg_row"] = np.arange(n)
+        return cols, ph
+    w = avg["n_breaths"].to_numpy(dtype=float) if "n_breaths" in avg.columns else np.ones(n)
     w = np.where(np.isfinite(w) & (w > 0), w, 1.0)
     key_bin = np.floor(t / bin_s).astype(np.int64)
     change = np.flatnonzero((np.diff(key_bin) != 0) | (ph[1:] != ph[:-1])) + 1
     starts = np.concatenate([[0], change])
-    ends = np.concatenate([change, [t.size]])
-    group = np.repeat(np.arange(starts.size), ends - starts)
-    numeric = [c for c in frame.columns if c in C.NUMERIC]
-    vals = frame[numeric].to_numpy(dtype=float)
     ok = np.isfinite(vals)
-    wsum = np.zeros((starts.size, len(numeric)))
-    vsum = np.zeros((starts.size, len(numeric)))
-    np.add.at(wsum, group, np.where(ok, w[:, None], 0.0))
-    np.add.at(vsum, group, np.where(ok, vals * w[:, None], 0.0))
+    wsum = np.add.reduceat(np.where(ok, w[:, None], 0.0), starts, axis=0)
+    vsum = np.add.reduceat(np.where(ok, vals * w[:, None], 0.0), starts, axis=0)
     with np.errstate(invalid="ignore", divide="ignore"):
-        merged = pd.DataFrame(np.where(wsum > 0, vsum / wsum, np.nan), columns=numeric)
-    centre = merged[C.T_S].to_numpy()
-    merged["_avg_row"] = [int(starts[g] + np.argmin(np.abs(t[starts[g] : ends[g]] - centre[g]))) for g in range(starts.size)]
-    merged["n_breaths"] = np.add.reduceat(w, starts)
-    return merged, ph[starts]
+        merged = np.where(wsum > 0, vsum / wsum, np.nan)
+    cols = {c: merged[:, j] for j, c in enumerate(numeric)}
+    # nearest original row to each merged time (rows are sorted by time)
+    centre = cols[C.T_S]
+    right = np.clip(np.searchsorted(t, centre), 1, n - 1)
+    cols["_avg_row"] = np.where(np.abs(t[right - 1] - centre) <= np.abs(t[right] - centre), right - 1, right)
+    return cols, ph[starts]
 
 
-def _rows(frame: pd.DataFrame, keep: np.ndarray) -> _Ex:
-    """Rows of ``frame`` selected by ``keep`` with finite, positive gases, sorted by time."""
-    ok = keep & np.isfinite(frame[[C.T_S, C.VO2_ML_MIN, C.VCO2_ML_MIN, C.VE_L_MIN]].to_numpy(dtype=float)).all(axis=1)
-    ok &= (frame[C.VO2_ML_MIN].to_numpy(dtype=float) > 0) & (frame[C.VCO2_ML_MIN].to_numpy(dtype=float) > 0)
+def _rows(cols: dict[str, np.ndarray], keep: np.ndarray) -> _Ex:
+    """Rows selected by ``keep`` with finite, positive gases, sorted by time."""
+    t, vo2, vco2, ve = (cols[c] for c in (C.T_S, C.VO2_ML_MIN, C.VCO2_ML_MIN, C.VE_L_MIN))
+    ok = keep & np.isfinite(t) & np.isfinite(ve) & (vo2 > 0) & (vco2 > 0)
     rows = np.flatnonzero(ok)
-    sub = frame.iloc[rows]
-    order = np.argsort(sub[C.T_S].to_numpy(dtype=float), kind="stable")
-    rows = rows[order]
-    sub = frame.iloc[rows].reset_index(drop=True)
-    return _Ex(
-        sub["_avg_row"].to_numpy(dtype=int) if "_avg_row" in sub.columns else rows,
-        sub[C.T_S].to_numpy(dtype=float),
-        sub[C.VO2_ML_MIN].to_numpy(dtype=float),
-        sub[C.VCO2_ML_MIN].to_numpy(dtype=float),
-        sub[C.VE_L_MIN].to_numpy(dtype=float),
-        sub,
-    )
+    rows = rows[np.argsort(t[rows], kind="stable")]
+    sub = {k: v[rows] for k, v in cols.items()}
+    return _Ex(sub["_avg_row"].astype(int), sub[C.T_S], sub[C.VO2_ML_MIN], sub[C.VCO2_ML_MIN], sub[C.VE_L_MIN], sub)
 
 
 def _smooth(v: np.ndarray, w: int = 5) -> np.ndarray:
-    return pd.Series(v).rolling(w, center=True, min_periods=1).mean().to_numpy()
+    """Centred running mean over ``w`` points (fewer at the ends; missing values skipped)."""
+    n = v.size
+    ok = np.isfinite(v)
+    cs = np.concatenate([[0.0], np.cumsum(np.where(ok, v, 0.0))])
+    cn = np.concatenate([[0], np.cumsum(ok)])
+    i = np.arange(n)
+    lo = np.clip(i - w // 2, 0, n)
+    hi = np.clip(i + (w - 1 - w // 2) + 1, 0, n)
+    cnt = cn[hi] - cn[lo]
+    with np.errstate(invalid="ignore", divide="ignore"):
+        return np.where(cnt > 0, (cs[hi] - cs[lo]) / np.where(cnt > 0, cnt, 1), np.nan)
 
 
 def vo2_at_time(t: np.ndarray, vo2: np.ndarray, t_s: float, *, half_window_s: float = 45.0) -> float:
@@ -232,7 +234,7 @@ def _vt2_candidates(ex: _Ex, reasons: list[str]) -> dict[str, ThresholdPick | No
 # ---------------------------------------------------------------- VT1 (gas-exchange threshold)
 
 
-def _vt1_window(avg: pd.DataFrame, ph: np.ndarray) -> _Ex:
+def _vt1_window(cols: dict[str, np.ndarray], ph: np.ndarray) -> _Ex:
     """Rows searched for VT1: the warm-up after its first minute, then the exercise phase.
 
     Warm-up rows are below VT1 by design and give the lower line its points (a treadmill test
@@ -240,7 +242,7 @@ def _vt1_window(avg: pd.DataFrame, ph: np.ndarray) -> _Ex:
     a warm-up, the first minute of exercise is left out instead (Beaver et al. 1986 leave out
     the early, kinetic part, where VCO2 lags while CO2 stores fill).
     """
-    t = avg[C.T_S].to_numpy(dtype=float)
+    t = cols[C.T_S]
     warm = ph == "warmup"
     exer = ph == "exercise"
     keep = exer.copy()
@@ -248,8 +250,8 @@ def _vt1_window(avg: pd.DataFrame, ph: np.ndarray) -> _Ex:
         keep |= warm & (t >= t[warm].min() + EARLY_EXCLUDE_S)
     elif exer.any():
         keep &= t >= t[exer].min() + EARLY_EXCLUDE_S
-    win = _rows(avg, keep)
-    return win if win.t.size >= MIN_EXERCISE_POINTS else _rows(avg, exer)
+    win = _rows(cols, keep)
+    return win if win.t.size >= MIN_EXERCISE_POINTS else _rows(cols, exer)
 
 
 def _vslope(ex: _Ex, reasons: list[str]) -> tuple[ThresholdPick | None, VSlopeFit | None]:
