@@ -149,3 +149,20 @@ def test_arbitrary_workbooks_never_crash(rows, with_header):
         assert all(p.file == "fuzz.xlsx" for p in exc.problems)
         return
     assert len(out.session.breaths) > 0
+
+
+PREAMBLE = st.sampled_from(["Saltmarsh Exercise Lab", "", "Name: invented person", "# notes: practice run", "Protocol: ramp"])
+FOOTER = st.sampled_from(["", "Mean", "Max;1;2;3", "Summary: done", "End of test"])
+
+
+@settings(max_examples=30, deadline=None)
+@given(valid_table(), st.lists(PREAMBLE, max_size=4), st.lists(FOOTER, max_size=3))
+def test_junk_around_a_valid_table_changes_no_breath(case, pre, post):
+    data = case[0]
+    clean = import_bytes(data, file_name="gen.csv").session.breaths
+    text = "\n".join(pre) + ("\n" if pre else "") + data.decode() + "\n".join(post) + ("\n" if post else "")
+    out = import_bytes(text.encode(), file_name="gen.csv")
+    got = out.session.breaths
+    cols = ["t_s", "vo2_ml_min", "vco2_ml_min", "ve_l_min"]
+    assert got[cols].equals(clean[cols])
+    assert (got["source_row"] - clean["source_row"]).nunique() == 1  # shifted by the lines above
