@@ -27,6 +27,8 @@ THROTTLE_WINDOW = timedelta(minutes=15)
 #: ... for this long after the last counted failure.
 LOCKOUT = timedelta(minutes=15)
 _FAILURES = ("bad_password", "unknown_user", "disabled")
+#: Outcomes after which earlier failures no longer count.
+_RESETS = ("ok", "unlocked")
 USERNAME_RE = re.compile(r"^[a-z0-9][a-z0-9._@-]{1,119}$")
 AUTH_SOURCES = ("local", "oidc")
 
@@ -175,7 +177,7 @@ class AccountsMixin(StoreCore):
                 .order_by(LoginAttempt.at.desc())
             ).scalars().all()
             last_ok = db.execute(
-                select(func.max(LoginAttempt.at)).where(LoginAttempt.username == name, LoginAttempt.outcome == "ok")
+                select(func.max(LoginAttempt.at)).where(LoginAttempt.username == name, LoginAttempt.outcome.in_(_RESETS))
             ).scalar_one_or_none()
         last_ok = aware(last_ok)
         recent = [aware(t) for t in times if last_ok is None or aware(t) > last_ok]
@@ -221,6 +223,14 @@ class AccountsMixin(StoreCore):
             with self._tx() as db:
                 db.get(UserRow, row.id).password_hash = hash_password(password, params=self.password_params)  # type: ignore[union-attr]
         return user_record(row)  # type: ignore[arg-type]
+
+    def unlock_login(self, username: str, *, actor: Actor) -> None:
+        """Lift a sign-in lock at once (admin or command line); earlier failures stop counting."""
+        name = normalise_username(username)[:120]
+        with self._tx() as db:
+            actor_row = self._check_actor(db, actor, "admin", "unlock sign-in")
+            db.add(LoginAttempt(username=name, at=self.now(), outcome="unlocked"))
+            self._audit(db, actor=actor, actor_row=actor_row, action="user_unlock", field=name)
 
     def _log_attempt(self, name: str, outcome: str) -> None:
         with self._tx() as db:

@@ -74,7 +74,7 @@ class LoginAttempt(Base):
     #: As typed (normalised to lower case); kept even when no such account exists.
     username: Mapped[str] = mapped_column(String(120))
     at: Mapped[datetime] = mapped_column(DateTime(timezone=True))
-    #: ``ok``, ``bad_password``, ``unknown_user``, ``disabled`` or ``locked``.
+    #: ``ok``, ``bad_password``, ``unknown_user``, ``disabled``, ``locked`` or ``unlocked`` (by an admin).
     outcome: Mapped[str] = mapped_column(String(16))
 
 

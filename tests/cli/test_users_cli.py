@@ -73,3 +73,16 @@ def test_unknown_role_is_rejected_by_the_parser(db, monkeypatch):
 def test_empty_store_list_explains_the_first_step(db, monkeypatch, capsys):
     assert run(["users", "list", "--store", db], monkeypatch) == EXIT_OK  # --store after the action too
     assert "tidemark users add NAME --role admin" in capsys.readouterr().out
+
+
+def test_unlock_lifts_a_sign_in_lock(db, monkeypatch, capsys):
+    store = open_store(db)
+    try:
+        for _ in range(5):  # five recorded failures, as authenticate() would log them
+            store._log_attempt("kim", "bad_password")
+        assert store.login_locked_for("kim") > 0
+        assert run(["users", "unlock", "Kim", "--store", db], monkeypatch) == EXIT_OK
+        assert "unlocked" in capsys.readouterr().out
+        assert store.login_locked_for("kim") == 0
+    finally:
+        store.close()

@@ -99,6 +99,18 @@ class TestSignIn:
         clock.advance(minutes=16)
         assert store.authenticate("rhea", PASSWORD).username == "rhea"
 
+    def test_admin_unlock_lifts_the_lock_at_once(self, store, users, clock):
+        for _ in range(accounts.MAX_FAILED_LOGINS):
+            with pytest.raises(LoginRefused):
+                store.authenticate("remy", "guess")
+        assert store.login_locked_for("remy") > 0
+        with pytest.raises(PermissionDenied):
+            store.unlock_login("remy", actor=users["rhea"])
+        store.unlock_login("REMY", actor=users["ada"])
+        assert store.login_locked_for("remy") == 0
+        assert store.authenticate("remy", PASSWORD).username == "remy"
+        assert store.audit_log()[-1].action == "user_unlock"
+
     def test_failures_spread_beyond_the_window_do_not_lock(self, store, clock):
         for _ in range(accounts.MAX_FAILED_LOGINS + 2):
             clock.advance(minutes=4)  # at most four failures in any 15 minutes

@@ -3,7 +3,7 @@
 Sub-commands: ``add NAME --role ROLE`` (password from an interactive prompt, or one line on
 standard input with ``--password-stdin``; ``--oidc`` for an account that signs in through the
 identity provider), ``list``, ``set-role NAME ROLE``, ``disable NAME``, ``enable NAME``,
-``set-password NAME``. There is never a default password. Whoever runs this command acts as
+``set-password NAME``, ``unlock NAME`` (after repeated failed sign-ins). There is never a default password. Whoever runs this command acts as
 the local operator (they already hold the store); every change is written to the audit trail.
 """
 
@@ -48,6 +48,9 @@ def add_parser(subparsers: argparse._SubParsersAction) -> argparse.ArgumentParse
     disable.add_argument("name")
     enable = actions.add_parser("enable", help="enable a disabled account", parents=[common])
     enable.add_argument("name")
+
+    unlock = actions.add_parser("unlock", help="lift a sign-in lock after repeated failures", parents=[common])
+    unlock.add_argument("name")
 
     pw = actions.add_parser("set-password", help="set a local account's password", parents=[common])
     pw.add_argument("name")
@@ -104,6 +107,9 @@ def run(args: argparse.Namespace) -> int:
         elif action == "enable":
             user = store.enable_user(args.name, actor=LOCAL_OPERATOR)
             print(f"'{user.username}' is enabled.")
+        elif action == "unlock":
+            store.unlock_login(args.name, actor=LOCAL_OPERATOR)
+            print(f"Sign-in for '{args.name.strip().lower()}' is unlocked.")
         elif action == "set-password":
             store.set_password(args.name, read_password(from_stdin=args.password_stdin), actor=LOCAL_OPERATOR)
             print(f"The password of '{args.name.strip().lower()}' was changed.")
