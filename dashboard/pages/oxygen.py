@@ -184,6 +184,11 @@ def condition_inputs(start: dict[str, StateConditions], *, test_id: int) -> dict
     return out
 
 
+def _rows_height(n_rows: int) -> int:
+    """Pixel height that shows every row of a table without an inner scroll bar."""
+    return 38 + 35 * max(1, n_rows)
+
+
 def render() -> None:
     st.title("Oxygen path")
     st.caption(
@@ -263,10 +268,12 @@ def render() -> None:
     st.caption("Filled markers: arterial blood. Open markers: venous blood implied by Fick on each state's curve (estimates).")
 
     st.subheader("Fick against the curve")
-    st.dataframe(comparison_table(oxygen), hide_index=True, width="stretch")
+    table = comparison_table(oxygen)
+    st.dataframe(table, hide_index=True, width="stretch", height=_rows_height(len(table)))
     st.subheader("Where the unloaded oxygen comes from")
     st.plotly_chart(unloading_figure(oxygen["states"]), width="stretch", key="oxygen_unloading")
-    st.dataframe(unloading_table(oxygen), hide_index=True, width="stretch")
+    parts = unloading_table(oxygen)
+    st.dataframe(parts, hide_index=True, width="stretch", height=_rows_height(len(parts)))
     st.caption(f"Method: {oxygen.get('decomposition_method', '')}.")
 
     for note in grouped_notes(oxygen):
