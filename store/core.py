@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import json
+import math
 from collections.abc import Callable, Iterator
 from contextlib import contextmanager
 from datetime import UTC, datetime
@@ -33,8 +34,22 @@ def aware(value: datetime | None) -> datetime | None:
     return value if value.tzinfo is not None else value.replace(tzinfo=UTC)
 
 
+def _json_ready(value: Any) -> Any:
+    """Non-finite floats become ``None`` (JSON has no NaN); NumPy scalars become Python numbers."""
+    if isinstance(value, dict):
+        return {str(k): _json_ready(v) for k, v in value.items()}
+    if isinstance(value, (list, tuple)):
+        return [_json_ready(v) for v in value]
+    if hasattr(value, "item") and not isinstance(value, (str, bytes)):
+        value = value.item()
+    if isinstance(value, float) and not math.isfinite(value):
+        return None
+    return value
+
+
 def to_json(value: Any) -> str:
-    return json.dumps(value, sort_keys=True, ensure_ascii=False, allow_nan=False)
+    """Canonical JSON text (sorted keys, UTF-8 kept) of settings, results and audit values."""
+    return json.dumps(_json_ready(value), sort_keys=True, ensure_ascii=False, allow_nan=False)
 
 
 def user_record(row: UserRow) -> User:

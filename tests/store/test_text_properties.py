@@ -77,3 +77,15 @@ def test_settings_diff_is_complete_and_minimal(old, new):
     # Minimal: every reported change really differs; none reported for identical settings.
     assert all(before != after for _, before, after in changes)
     assert changed_fields(new, new) == []
+
+
+def test_json_of_stored_values_has_no_nan_and_plain_numbers():
+    # JSON (RFC 8259) has no NaN or Infinity; results may carry them from NumPy.
+    import json
+
+    import numpy as np
+
+    from store.core import to_json
+
+    text = to_json({"vo2": np.float64(3012.5), "missing": float("nan"), "rows": (np.int64(4), float("inf"))})
+    assert json.loads(text) == {"missing": None, "rows": [4, None], "vo2": 3012.5}
