@@ -165,3 +165,29 @@ class TestAlignedSeries:
             aligned_series({}, overlay="hr_time")
         with pytest.raises(InvalidParameter, match="frames"):
             aligned_series({"A": pd.DataFrame({"t_s": [1.0]})})
+
+
+# --- properties (hypothesis) -----------------------------------------------------------------
+
+from hypothesis import given, settings  # noqa: E402
+from hypothesis import strategies as st  # noqa: E402
+
+_values = st.floats(min_value=100.0, max_value=8000.0, allow_nan=False, allow_infinity=False)
+
+
+@settings(max_examples=60, deadline=None)
+@given(base=_values, others=st.lists(_values, min_size=1, max_size=5))
+def test_property_change_and_band_agree(base, others):
+    tests = [TestRecord(0, "2026-01-01", {"vo2_peak_ml_min": base})] + [
+        TestRecord(i + 1, f"2026-02-{i + 1:02d}", {"vo2_peak_ml_min": v}) for i, v in enumerate(others)
+    ]
+    t = progress_table(tests, metrics=["vo2_peak_ml_min"])
+    half = BAND_Z * math.sqrt(2) * TYPICAL_ERRORS["vo2_peak_ml_min"].pct / 100.0 * base
+    for _, row in t.iterrows():
+        assert row["change"] == pytest.approx(row["value"] - base)
+        assert row["change_pct"] == pytest.approx(100.0 * (row["value"] - base) / base)
+        assert row["band_high"] - base == pytest.approx(half) and base - row["band_low"] == pytest.approx(half)
+        if abs(row["change"]) > half * (1 + 1e-9):
+            assert row["beyond_typical_error"]
+        elif abs(row["change"]) < half * (1 - 1e-9):
+            assert not row["beyond_typical_error"]

@@ -92,6 +92,13 @@ def test_overlay_chart_for_two_tests(rehab_store, page_test):
     at.radio(key="progress_overlay").set_value("vco2_vo2").run()
     assert not at.exception
     assert not at.warning
+    import json
+
+    charts = [json.loads(c.proto.spec) for c in at.get("plotly_chart")]
+    overlay = charts[-1]
+    assert len(overlay["data"]) == 2  # the two chosen tests
+    assert overlay["layout"]["xaxis"]["title"]["text"] == "VO2 (mL/min)"
+    assert overlay["layout"]["yaxis"]["title"]["text"] == "VCO2 (mL/min)"
 
 
 def test_charts_from_progress_table(rehab_store):
