@@ -285,8 +285,18 @@ def _import_panel(store: Any, upload: Any, index: int) -> None:
     if not state.can_edit():
         st.info("Your role can view the library but not import tests.")
         return
-    if sheet is not None and outcome.sheet and sheets and outcome.sheet != sheets[0]:
-        st.caption("The store reads the first sheet with a table; make sure the chosen sheet is that one.")
+    if is_xlsx and outcome.sheet:
+        try:
+            default_sheet = data.preview_import(raw, file_name=name, mapping_json=mapping_json).sheet
+        except (ImportRejected, InvalidParameter):
+            default_sheet = None
+        if default_sheet != outcome.sheet:
+            st.error(
+                f"The library stores the workbook as uploaded and reads its first sheet with a table "
+                f"(‘{default_sheet or sheets[0]}’), not ‘{outcome.sheet}’. Save the sheet ‘{outcome.sheet}’ "
+                "as a CSV file (or move it to the front) and upload that instead."
+            )
+            return
     with st.form(f"{key}_form"):
         f1, f2 = st.columns(2)
         code = f1.text_input("Person code (pseudonymous)", value=str(session.meta.get("subject_id", "")), key=f"{key}_code")

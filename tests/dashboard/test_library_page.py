@@ -122,3 +122,39 @@ def test_pure_helpers():
     flags = pd.DataFrame({"source_row": [3, 4, 9], "column": ["rer", "rer", "hr_bpm"], "reason": ["RER high"] * 2 + ["gap"]})
     s = library.flag_summary(flags)
     assert dict(zip(s["Reason"], s["Rows"])) == {"RER high": 2, "gap": 1}
+
+
+def test_xlsx_sheet_choice_and_first_sheet_import(demo_store, page_test):
+    # A two-sheet workbook built here with openpyxl: a notes sheet without a table, then the data.
+    from openpyxl import Workbook
+
+    session = demo_store.store.load_session(demo_store.test_ids[1])
+    b = session.breaths
+    wb = Workbook()
+    notes = wb.active
+    notes.title = "Notes"
+    notes.append(["Saltmarsh Exercise Lab — fictional workbook"])
+    data_ws = wb.create_sheet("Breaths")
+    data_ws.append(["Time", "VO2", "VCO2", "VE", "HR"])
+    for row in b[["t_s", "vo2_ml_min", "vco2_ml_min", "ve_l_min", "hr_bpm"]].itertuples(index=False):
+        data_ws.append([float(v) for v in row])
+    extra = wb.create_sheet("Copy")
+    for r in data_ws.iter_rows(values_only=True):
+        extra.append(list(r))
+    buf = io.BytesIO()
+    wb.save(buf)
+    raw = buf.getvalue()
+    at = page_test(_library_script, tm_user=demo_store.user).run()
+    at.file_uploader(key="lib_upload").set_value(
+        ("workbook.xlsx", raw, "application/vnd.openxmlformats-officedocument.spreadsheetml.sheet")
+    ).run()
+    assert not at.exception, at.exception
+    sheet_box = next(s for s in at.selectbox if s.label == "Sheet")
+    assert sheet_box.options == ["Notes", "Breaths", "Copy"]
+    sheet_box.set_value("Breaths").run()
+    assert not at.exception, at.exception
+    assert {m.label: m.value for m in at.metric}["Breaths"] == f"{len(b):,}"
+    assert any(b_.label == "Import into the library" for b_ in at.button)
+    next(s for s in at.selectbox if s.label == "Sheet").set_value("Copy").run()
+    assert any("first sheet with a table" in e.value for e in at.error)
+    assert not any(b_.label == "Import into the library" for b_ in at.button)
