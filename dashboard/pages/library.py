@@ -207,6 +207,8 @@ def _import_panel(store: Any, upload: Any, index: int) -> None:
     profiles = data.list_profiles()
     profile = c3.selectbox("Column mapping", [GUESS, *profiles], key=f"{key}_profile")
 
+    # widgets and edits are per profile: choosing another profile starts from that profile
+    key = f"{key}_{hashlib.sha256(str(profile).encode()).hexdigest()[:6]}"
     edits_key = f"{key}_edits"
     columns: dict[str, str] | None = st.session_state.get(edits_key)
     guess_rest = columns is None

@@ -158,3 +158,29 @@ def test_xlsx_sheet_choice_and_first_sheet_import(demo_store, page_test):
     next(s for s in at.selectbox if s.label == "Sheet").set_value("Copy").run()
     assert any("first sheet with a table" in e.value for e in at.error)
     assert not any(b_.label == "Import into the library" for b_ in at.button)
+
+
+def test_mapping_saved_as_profile_is_offered_for_the_next_upload(demo_store, page_test):
+    from analysis.io import load_profile
+    from pathlib import Path
+
+    raw = _generic_export(demo_store, drop_vo2_name=True)
+    at = page_test(_library_script, tm_user=demo_store.user).run()
+    at.file_uploader(key="lib_upload").set_value(("odd-names.csv", raw, "text/csv")).run()
+    next(s for s in at.selectbox if s.label == "‘Oxy uptake L’").set_value("vo2_ml_min").run()
+    name_key = next(t.key for t in at.text_input if t.label.startswith("Save this mapping"))
+    at.text_input(key=name_key).input("Lab cart A")
+    at.button[[b.label for b in at.button].index("Save profile")].click().run()
+    assert not at.exception, at.exception
+    assert any("saved as profile ‘Lab cart A’" in s.value for s in at.success)
+    path = Path(demo_store.url.removeprefix("sqlite:///")).parent / "mapping-profiles" / "Lab cart A.json"
+    assert load_profile(path).mapped()["vo2_ml_min"] == "Oxy uptake L"
+    fresh = page_test(_library_script, tm_user=demo_store.user).run()
+    fresh.file_uploader(key="lib_upload").set_value(("odd-names-2.csv", raw, "text/csv")).run()
+    profile_box = next(s for s in fresh.selectbox if s.label == "Column mapping")
+    assert "Lab cart A" in profile_box.options
+    profile_box.set_value("Lab cart A").run()
+    assert not fresh.exception, fresh.exception
+    assert not any("cannot be imported" in e.value for e in fresh.error), [e.value for e in fresh.error] + [
+        str(d.value) for d in fresh.dataframe]
+    assert "Breaths" in {m.label for m in fresh.metric}
