@@ -67,9 +67,11 @@ def start_server() -> PgServer:
     bin_dir = find_bin_dir()
     if bin_dir is None:
         raise FileNotFoundError("PostgreSQL server binaries (initdb, pg_ctl) were not found")
-    root = Path(tempfile.mkdtemp(prefix="tidemark-pg-"))
+    as_root = os.geteuid() == 0
+    # As root, use /tmp itself: a TMPDIR under /root would not be reachable by "postgres".
+    root = Path(tempfile.mkdtemp(prefix="tidemark-pg-", dir="/tmp" if as_root and os.path.isdir("/tmp") else None))
     as_user: list[str] = []
-    if os.geteuid() == 0:
+    if as_root:
         shutil.chown(root, user="postgres", group="postgres")
         as_user = ["runuser", "-u", "postgres", "--"]
     server = PgServer(bin_dir=bin_dir, root=root, port=_free_port(), as_user=as_user)
