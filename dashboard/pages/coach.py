@@ -149,10 +149,12 @@ def render_scope(store: Any, scope: Any) -> None:
         for title, fig in report_figures(results, session):
             st.plotly_chart(fig, width="stretch", key=f"coach_chart_{title}")
     if _allowed(scope, "report"):
-        html = build_test_report(store, test_id, results, session, version=version, show_name=show_name)
+        def report_bytes() -> bytes:  # built on click, off the page run
+            return build_test_report(store, test_id, results, session, version=version, show_name=show_name).encode("utf-8")
+
         st.download_button(
             "Download the report (HTML)",
-            html.encode("utf-8"),
+            report_bytes,
             file_name=report_file_name(summary),
             mime="text/html",
             key="coach_report",

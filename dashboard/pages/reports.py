@@ -70,10 +70,14 @@ def render() -> None:
     st.dataframe(pd.DataFrame(threshold_display(results_json)).fillna("–"), hide_index=True, width="stretch")
 
     show_name = st.checkbox("Show the display name in the report (otherwise the pseudonymous code)", value=False, key="reports_show_name")
-    html = build_test_report(store, test_id, results, session, version=version if saved else None, show_name=show_name)
+    report_version = version if saved else None
+
+    def report_bytes() -> bytes:  # built on click, off the page run (about 5 MB with plotly.js)
+        return build_test_report(store, test_id, results, session, version=report_version, show_name=show_name).encode("utf-8")
+
     st.download_button(
         "Download the report (HTML)",
-        html.encode("utf-8"),
+        report_bytes,
         file_name=report_file_name(summary),
         mime="text/html",
         type="primary",
