@@ -27,6 +27,7 @@ import math
 import warnings
 from collections.abc import Mapping, Sequence
 from dataclasses import asdict, dataclass, field, replace
+from functools import lru_cache
 from typing import Any
 
 import pandas as pd
@@ -34,8 +35,8 @@ from scipy.optimize import brentq
 
 from analysis.errors import InvalidParameter
 from analysis.oxygen import _checks
-from analysis.oxygen.content import DEFAULT_HUEFNER_ML_G, o2_content_ml_dl
-from analysis.oxygen.curves import saturation
+from analysis.oxygen.content import DEFAULT_HUEFNER_ML_G, O2_SOLUBILITY_ML_DL_MMHG
+from analysis.oxygen.curves import STANDARD, _curve, _Curve, _saturation_at, saturation
 from analysis.oxygen.decomposition import shapley_parts
 from analysis.oxygen.fick import avo2_difference_ml_dl, stringer_cardiac_output_l_min, stroke_volume_ml
 from analysis.oxygen.haldane import haldane_extra_co2_ml_dl
@@ -207,9 +208,32 @@ def _state_json(s: StateOxygen) -> dict[str, Any]:
     return out
 
 
+@lru_cache(maxsize=256)
+def _curve_for(conds: StateConditions, model: str) -> _Curve:
+    """The validated curve of ``conds`` under ``model``, built once per condition set.
+
+    Every curve evaluation of a comparison (root finding, Shapley orders) reuses it, so the
+    conditions are checked once instead of at every evaluation.
+    """
+    return _curve(**{**STANDARD, **conds.curve_kwargs(model)}, model=model, p50_mmhg=None, hill_n=None)
+
+
+@lru_cache(maxsize=1024)
+def _mixed(rest: StateConditions, exercise: StateConditions, on: frozenset[str]) -> StateConditions:
+    changes = {name: getattr(exercise, name) for factor in on for name in SHIFT_FACTORS[factor]}
+    return replace(rest, **changes)
+
+
 def _content_on_curve(po2: float, conds: StateConditions, *, model: str, hb: float, k: float) -> float:
-    sat = saturation(po2, **conds.curve_kwargs(model), model=model)
-    return o2_content_ml_dl(saturation=sat, po2_mmhg=po2, hb_g_dl=hb, huefner_ml_g=k)  # type: ignore[return-value]
+    """O2 content (mL/dL) at ``po2`` on the curve of ``conds``: k Hb S + 0.0031 PO2.
+
+    The same arithmetic as :func:`o2_content_ml_dl` on :func:`saturation`, without re-checking
+    the (already validated) inputs at every call: the root finder calls it many times.
+    """
+    if not (0.0 <= po2 <= _checks.LIMITS["po2_mmhg"].high):
+        raise InvalidParameter("po2_mmhg", _checks.LIMITS["po2_mmhg"].describe(), po2)
+    sat = _saturation_at(float(po2), _curve_for(conds, model))
+    return k * hb * sat + O2_SOLUBILITY_ML_DL_MMHG * po2
 
 
 def _venous_po2(cvo2: float, conds: StateConditions, *, model: str, hb: float, k: float) -> float | None:
@@ -224,11 +248,6 @@ def _venous_po2(cvo2: float, conds: StateConditions, *, model: str, hb: float, k
     if gap(hi) < 0:
         return None
     return float(brentq(gap, 0.0, hi, xtol=1e-6, rtol=1e-10))
-
-
-def _mixed(rest: StateConditions, exercise: StateConditions, on: frozenset[str]) -> StateConditions:
-    changes = {name: getattr(exercise, name) for factor in on for name in SHIFT_FACTORS[factor]}
-    return replace(rest, **changes)
 
 
 def oxygen_comparison(

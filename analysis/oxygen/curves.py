@@ -24,6 +24,7 @@ blood's own temperature, obtained with the Rosenthal factor -0.0147 pH/°C (from
 
 from __future__ import annotations
 
+import math
 from collections.abc import Callable
 from dataclasses import dataclass
 
@@ -213,14 +214,28 @@ def _sa_params(c: _Curve) -> tuple[float, float]:
     return 1.946 + a + b, 3.5 + a
 
 
+def _sa_from_x(x, x0: float, h: float):  # noqa: ANN001, ANN202 - float or array alike
+    """Siggaard-Andersen saturation at x = ln(PO2 / kPa) (works on floats and arrays)."""
+    y = _SA_Y0 + (x - x0) + h * np.tanh(_SA_K * (x - x0))
+    return 0.5 * (1.0 + np.tanh(0.5 * y))  # logistic, without overflow
+
+
 def _sa_saturation(po2: np.ndarray, c: _Curve) -> np.ndarray:
     x0, h = _sa_params(c)
     out = np.zeros_like(po2)
     pos = po2 > 0
-    x = np.log(po2[pos]) - np.log(MMHG_PER_KPA)
-    y = _SA_Y0 + (x - x0) + h * np.tanh(_SA_K * (x - x0))
-    out[pos] = 0.5 * (1.0 + np.tanh(0.5 * y))  # logistic, without overflow
+    out[pos] = _sa_from_x(np.log(po2[pos]) - np.log(MMHG_PER_KPA), x0, h)
     return out
+
+
+def _saturation_at(po2: float, c: _Curve) -> float:
+    """Saturation at one PO2 on an already validated curve (the root finders' fast path)."""
+    if c.model == "siggaard_andersen":
+        if po2 <= 0.0:
+            return 0.0
+        x0, h = _sa_params(c)
+        return float(_sa_from_x(math.log(po2) - math.log(MMHG_PER_KPA), x0, h))
+    return float(_saturation(np.array([float(po2)]), c)[0])
 
 
 def _sa_po2(s: np.ndarray, c: _Curve) -> np.ndarray:
