@@ -11,6 +11,7 @@ from __future__ import annotations
 
 from collections.abc import Callable
 from dataclasses import dataclass
+from functools import lru_cache
 
 import numpy as np
 
@@ -150,6 +151,15 @@ def best_two_lines(
     return table.best(mask)
 
 
+@lru_cache(maxsize=64)
+def _upper_pairs(size: int) -> tuple[np.ndarray, np.ndarray]:
+    """Row and column indices of the upper triangle (diagonal included) of a size x size matrix."""
+    a, b = np.triu_indices(size)
+    a.flags.writeable = False
+    b.flags.writeable = False
+    return a, b
+
+
 @dataclass(frozen=True)
 class TurnUp:
     """Three-line fit in which the last line rises: the break into the rise and its size.
@@ -186,22 +196,29 @@ def best_turn_up(
     p = prefix_sums(t, y)
     i = np.arange(m, n - 2 * m + 1)  # end of first line
     j = np.arange(2 * m, n - m + 1)  # end of second line
-    I, J = np.meshgrid(i, j, indexing="ij")
-    valid = J - I >= m
     s1, _, e1 = run_fit(p, np.zeros_like(i), i)
     s3, b3, e3 = run_fit(p, j, np.full_like(j, n))
-    s2, b2, e2 = run_fit(p, np.where(valid, I, 0), np.where(valid, J, n))
-    total = e1[:, None] + e2 + e3[None, :]
-    admissible = valid & np.isfinite(total) & (s3[None, :] > 0) & (s2 <= flat_fraction * s3[None, :])
+    # Pairs (a, b) with j[b] - i[a] >= m are exactly b >= a (both ranges have the same length);
+    # only last lines that rise can be admissible, so the middle line is fitted just for those.
+    a_idx, b_idx = _upper_pairs(i.size)
+    keep = s3[b_idx] > 0
+    a_idx, b_idx = a_idx[keep], b_idx[keep]
+    if a_idx.size == 0:
+        return None
+    s2, b2, e2 = run_fit(p, i[a_idx], j[b_idx])
+    total = e1[a_idx] + e2 + e3[b_idx]
+    admissible = np.isfinite(total) & (s2 <= flat_fraction * s3[b_idx])
     if not admissible.any():
         return None
-    total = np.where(admissible, total, np.inf)
-    a, b = np.unravel_index(int(np.argmin(total)), total.shape)
+    # first minimum in row-major (a, b) order, as a full-matrix argmin would give
+    best = int(np.argmin(np.where(admissible, total, np.inf)))
+    a, b = int(a_idx[best]), int(b_idx[best])
     jj = int(j[b])
-    sb, bb = float(s2[a, b]), float(b2[a, b])
+    sb, bb = float(s2[best]), float(b2[best])
     sa, ba = float(s3[b]), float(b3[b])
+    total_best = float(total[best])
     t_break = crossing(sb, bb, sa, ba, float(t[jj - 1]), float(t[jj]))
-    resid_sd = float(np.sqrt(total[a, b] / max(n - 6, 1)))
+    resid_sd = float(np.sqrt(total_best / max(n - 6, 1)))
     rise = sa * (float(t[-1]) - t_break)
     tt = t[jj:]
     sxx = float(np.sum((tt - tt.mean()) ** 2))
