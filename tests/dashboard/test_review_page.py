@@ -28,6 +28,10 @@ def _metric(at, label_start: str) -> str:
     raise AssertionError(f"no metric starting with {label_start!r}: {[m.label for m in at.metric]}")
 
 
+def _filled(rows, columns):
+    return [{c: r.get(c, "") for c in columns} for r in rows]
+
+
 def _threshold_table(at):
     for df in at.dataframe:
         frame = df.value
@@ -56,6 +60,10 @@ def test_headline_numbers_equal_analyze_session(demo_store, page_test, reference
     assert vt1["Time"] == f"{reference['vt1']['time_s']:,.0f} s"
     assert "manual" not in vt1["Threshold"]
     assert any("Maximality" in md.value for md in at.markdown)
+    from dashboard.report.html_report import zone_rows
+
+    zones = next(df.value for df in at.dataframe if "Zone" in df.value.columns)
+    assert zones.fillna("").to_dict("records") == _filled(zone_rows(reference), zones.columns)  # zones from analysis
     assert any("not a medical device" in c.value for c in at.caption)
 
 
