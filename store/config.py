@@ -8,11 +8,12 @@ then the ``TIDEMARK_STORE`` environment variable, then the default SQLite file
 from __future__ import annotations
 
 import os
+import sqlite3
+import time
 from pathlib import Path
 
-from sqlalchemy import event
+from sqlalchemy import create_engine, event
 from sqlalchemy.engine import URL, Engine, make_url
-from sqlalchemy import create_engine
 
 from store.errors import StoreError
 
@@ -83,9 +84,28 @@ def _sqlite_on_connect(dbapi_connection, _record) -> None:  # noqa: ANN001 - DB-
     cursor = dbapi_connection.cursor()
     cursor.execute("PRAGMA foreign_keys=ON")
     cursor.execute(f"PRAGMA busy_timeout={SQLITE_BUSY_TIMEOUT_MS}")
-    cursor.execute("PRAGMA journal_mode=WAL")
+    _ensure_wal(cursor)
     cursor.execute("PRAGMA synchronous=NORMAL")
     cursor.close()
+
+
+def _ensure_wal(cursor) -> None:  # noqa: ANN001 - DB-API cursor
+    """Switch the file to WAL once (the mode is kept in the file).
+
+    Changing the journal mode needs a moment without other connections and does not wait on
+    the busy timeout, so a new store opened by two processes at once retries briefly.
+    """
+    if str(cursor.execute("PRAGMA journal_mode").fetchone()[0]).lower() == "wal":
+        return
+    deadline = time.monotonic() + SQLITE_BUSY_TIMEOUT_MS / 1000
+    while True:
+        try:
+            cursor.execute("PRAGMA journal_mode=WAL")
+            return
+        except sqlite3.OperationalError as exc:
+            if "locked" not in str(exc) or time.monotonic() > deadline:
+                raise
+            time.sleep(0.05)
 
 
 #: Execution option marking a read-only transaction (plain BEGIN on SQLite).
