@@ -290,10 +290,10 @@ def _headline(results_json: Mapping[str, Any]) -> None:
 
     st.subheader("Headline results")
     rows = headline_rows(results_json)
-    cols = st.columns(min(4, max(1, len(rows))))
+    cols = st.columns(min(3, max(1, len(rows))))  # three across stays readable on a tablet
     for i, row in enumerate(rows):
         with cols[i % len(cols)]:
-            st.metric(f"{row['label']} ({row['unit']})" if row["unit"] else row["label"], row["value"])
+            st.metric(row["label"], f"{row['value']} {row['unit']}".strip())
             if row["method"]:
                 st.caption(row["method"])
     m = results_json.get("maximality") or {}
