@@ -34,17 +34,23 @@ _MAD_TO_SD = 1.4826
 _SPREAD_WINDOW_FACTOR = 5
 
 
-def _neighbour_mean(values: np.ndarray, half: int) -> np.ndarray:
-    """Trimmed mean of the ``half`` breaths on each side of every breath (itself left out).
+#: Floor of the local SD as a share of the local mean: gas analysers resolve about 1 % of the
+#: reading (common practice), so a breath within a few per cent of its neighbours is never
+#: called an outlier however smooth the series is.
+LEVEL_FLOOR_FRACTION = 0.01
 
-    Of the neighbours the single highest and single lowest are dropped, so one neighbouring
-    artifact does not drag the reference value. Breaths without a full window (the first and
-    last ``half`` breaths: a one-sided window is biased on a ramp) or with fewer than three
-    usable neighbours get NaN.
+
+def _neighbour_stats(values: np.ndarray, half: int) -> tuple[np.ndarray, np.ndarray]:
+    """Trimmed mean and trimmed SD of the ``half`` breaths on each side of every breath.
+
+    The breath itself is left out; of the neighbours the single highest and single lowest are
+    dropped, so one neighbouring artifact does not drag the reference value. Breaths without a
+    full window (the first and last ``half`` breaths: a one-sided window is biased on a ramp)
+    or with fewer than three usable neighbours get NaN.
     """
     n = values.size
     if n < 2 * half + 1:
-        return np.full(n, np.nan)
+        return np.full(n, np.nan), np.full(n, np.nan)
     win = sliding_window_view(values, 2 * half + 1)
     neigh = np.delete(win, half, axis=1)  # drop the breath itself
     srt = np.sort(neigh, axis=1)  # NaN sort to the end
@@ -54,10 +60,20 @@ def _neighbour_mean(values: np.ndarray, half: int) -> np.ndarray:
     k = np.sum(keep, axis=1)
     with np.errstate(invalid="ignore", divide="ignore"):
         inner = np.where(keep, srt, 0.0).sum(axis=1) / np.where(k > 0, k, np.nan)
+        dev = np.where(keep, srt - inner[:, None], 0.0)
+        inner_sd = np.sqrt((dev * dev).sum(axis=1) / np.where(k > 1, k - 1, np.nan))
     inner[k < 3] = np.nan
+    inner_sd[k < 3] = np.nan
     mean = np.full(n, np.nan)
+    sd = np.full(n, np.nan)
     mean[half : n - half] = inner
-    return mean
+    sd[half : n - half] = inner_sd
+    return mean, sd
+
+
+def _neighbour_mean(values: np.ndarray, half: int) -> np.ndarray:
+    """Trimmed mean of the ``half`` breaths on each side of every breath (see :func:`_neighbour_stats`)."""
+    return _neighbour_stats(values, half)[0]
 
 
 def _local_spread(resid: np.ndarray, window: int) -> np.ndarray:
@@ -132,11 +148,13 @@ def find_outlier_breaths(
     zs, means, sds, vals = [], [], [], []
     for col in columns:
         v = breaths[col].to_numpy(dtype=float)
-        m = _neighbour_mean(v, half)
+        m, neighbour_sd = _neighbour_stats(v, half)
         s = _local_spread(v - m, spread_window)
-        # Floor: 0.1 % of the local mean (below the resolution of gas analysers; common
-        # practice), so noise-free or quantised data do not divide by zero.
-        s = np.fmax(s, 1e-3 * np.abs(m))
+        # Floors: the spread of the neighbours themselves (where the signal itself changes
+        # fast, e.g. at a load step, the neighbours' mean is a poor guess of the next breath)
+        # and 1 % of the local mean (analyser resolution), so smooth or noise-free series and
+        # quantised data are not cut up.
+        s = np.fmax(np.fmax(s, neighbour_sd), LEVEL_FLOOR_FRACTION * np.abs(m))
         with np.errstate(invalid="ignore", divide="ignore"):
             z = np.abs(v - m) / s
         z[~np.isfinite(z)] = 0.0
@@ -154,23 +172,34 @@ def find_outlier_breaths(
         else np.arange(1, n + 1)
     )
     t = breaths[C.T_S].to_numpy(dtype=float) if C.T_S in breaths.columns else np.full(n, np.nan)
-    rows = []
-    for i in hit:
-        j = worst[i]
-        col = columns[j]
-        others = [columns[q] for q in range(len(columns)) if q != j and Z[q, i] > k_sd]
-        direction = "above" if vals[j][i] > means[j][i] else "below"
+    V, M, S = np.vstack(vals), np.vstack(means), np.vstack(sds)
+    wj = worst[hit]
+    value, local_mean, local_sd = V[wj, hit], M[wj, hit], S[wj, hit]
+    names = [columns[j] for j in wj]
+    reasons = []
+    for q, i in enumerate(hit):
+        j, col = wj[q], names[q]
+        others = [columns[o] for o in range(len(columns)) if o != j and Z[o, i] > k_sd]
+        direction = "above" if value[q] > local_mean[q] else "below"
         unit = C.COLUMNS[col].unit if col in C.COLUMNS else ""
         label = C.COLUMNS[col].label if col in C.COLUMNS else col
         reason = (
-            f"{label} {vals[j][i]:.4g} {unit} is {zmax[i]:.1f} SD {direction} the neighbouring "
-            f"breaths (mean {means[j][i]:.4g} {unit})"
+            f"{label} {value[q]:.4g} {unit} is {zmax[i]:.1f} SD {direction} the neighbouring "
+            f"breaths (mean {local_mean[q]:.4g} {unit})"
         )
         if others:
             reason += "; also out of line: " + ", ".join(C.COLUMNS[o].label if o in C.COLUMNS else o for o in others)
-        rows.append((int(src[i]), float(t[i]), col, float(vals[j][i]), float(means[j][i]), float(sds[j][i]), reason))
-    return pd.DataFrame(rows, columns=list(OUTLIER_COLUMNS)).astype(
-        {"source_row": int, "t_s": float, "value": float, "local_mean": float, "local_sd": float}
+        reasons.append(reason)
+    return pd.DataFrame(
+        {
+            "source_row": np.asarray(src)[hit].astype(int),
+            "t_s": t[hit].astype(float),
+            "column": names,
+            "value": value,
+            "local_mean": local_mean,
+            "local_sd": local_sd,
+            "reason": reasons,
+        }
     )
 
 

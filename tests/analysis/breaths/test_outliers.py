@@ -147,3 +147,44 @@ def test_reported_numbers_explain_every_exclusion(values, k):
     for r in out.itertuples():
         assert abs(r.value - r.local_mean) > k * r.local_sd
         assert b.loc[r.source_row - 1, r.column] == r.value
+
+
+@pytest.mark.parametrize("demo_index", range(6))
+def test_noise_free_simulated_series_loses_no_breath(demo_index):
+    # Simulator ground truth: noise=0 and artifacts=0 give the model's smooth values, load steps
+    # and recovery included; not one of those breaths is an outlier (before the relative floor
+    # the near-zero local spread flagged up to 10 % of them).
+    sim = pytest.importorskip("analysis.simulation")
+    demo = sim.DEMO_TESTS[demo_index]
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        s = sim.simulate_session(demo.profile, demo.protocol, seed=demo_index, noise=0.0, artifacts=0)
+    assert len(s.breaths) > 200
+    assert len(find_outlier_breaths(s.breaths)) == 0
+
+
+def test_noise_free_series_still_shows_its_artifacts():
+    # Planted coughs/swallows (x1.8-2.6 or x0.3-0.5) in an otherwise noise-free record are all
+    # found, and nothing else is (simulator ground truth).
+    sim = pytest.importorskip("analysis.simulation")
+    for demo in sim.DEMO_TESTS[:3]:
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")
+            s = sim.simulate_session(demo.profile, demo.protocol, seed=11, noise=0.0, artifacts=3)
+        art = {round(float(x), 2) for x in str(s.meta["truth_artifact_t_s"]).split(",")}
+        found = set(np.round(find_outlier_breaths(s.breaths)["t_s"], 2))
+        assert found == art
+
+
+def test_constant_series_has_no_outlier_and_floor_is_relative():
+    # A perfectly flat series: the spread is zero, the floor (1 % of the level) keeps z finite;
+    # a breath 2 % off is kept (2 SD at the floor), one 10 % off is flagged.
+    n = 120
+    b = pd.DataFrame({"t_s": np.arange(n) * 3.0, "vo2_ml_min": np.full(n, 1000.0),
+                      "vco2_ml_min": np.full(n, 900.0), "ve_l_min": np.full(n, 30.0)})
+    assert len(find_outlier_breaths(b)) == 0
+    b.loc[40, "vo2_ml_min"] = 1020.0
+    b.loc[80, "vo2_ml_min"] = 1100.0
+    out = find_outlier_breaths(b)
+    assert list(out["source_row"]) == [81]
+    assert out.iloc[0]["local_sd"] == pytest.approx(10.0)  # 1 % of the local mean 1000
