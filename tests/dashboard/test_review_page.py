@@ -224,3 +224,26 @@ def test_restoring_an_excluded_breath_puts_it_back(demo_store, page_test):
     assert row in stored["restored_rows"]
     after = analyze_session(demo_store.store.load_session(test_id), AnalysisSettings.from_dict(stored))
     assert row not in after.excluded_breaths["source_row"].astype(int).tolist()
+
+
+def test_typing_a_vt2_vo2_places_vt2_at_the_nearest_averaged_row(demo_store, page_test):
+    # override_threshold places a VO2 at the nearest averaged row (analysis.thresholds).
+    test_id = demo_store.test_ids[1]
+    at = page_test(_review_script, tm_user=demo_store.user, tm_test_id=test_id).run()
+    data.wait_for_saves()
+    at.run()
+    at.radio(key=f"thr_kind_{test_id}").set_value("vt2").run()
+    at.radio(key=f"thr_by_{test_id}").set_value("VO2").run()
+    settings, _ = demo_store.store.get_settings(test_id)
+    peak = analyze_session(demo_store.store.load_session(test_id), AnalysisSettings.from_dict(settings)).vo2_peak_ml_min
+    target = round(0.85 * peak)
+    at.number_input(key=f"thr_v_{test_id}").set_value(float(target))
+    at.button[[b.label for b in at.button].index("Set VT2")].click().run()
+    assert not at.exception, at.exception
+    line = next(md.value for md in at.markdown if md.value.startswith("**VT2:**"))
+    assert "manual" in line
+    data.wait_for_saves()
+    stored, _ = demo_store.store.get_settings(test_id)
+    assert stored["vt2_override"]["vo2_ml_min"] == float(target)
+    expected = analyze_session(demo_store.store.load_session(test_id), AnalysisSettings.from_dict(stored)).to_json_dict()
+    assert f"{expected['vt2']['vo2_ml_min']:,.0f} mL/min" in line
