@@ -102,19 +102,29 @@ def _fast_column_re(decimal: str) -> re.Pattern[str]:
 
 
 _FAST_COLUMN = {".": _fast_column_re("."), ",": _fast_column_re(",")}
+_PLAIN_CHARS = {d: frozenset("0123456789+-eE\n" + d) for d in (".", ",")}
 
 
 def _parse_plain_column(values: Sequence[object], decimal: str) -> tuple[np.ndarray, np.ndarray, np.ndarray] | None:
     """Fast path: every cell is text that is a plain number or empty (the usual case)."""
     if not values or set(map(type, values)) != {str}:
         return None
-    if not _FAST_COLUMN[decimal].fullmatch("\n".join(values)):  # type: ignore[arg-type]
+    joined = "\n".join(values)  # type: ignore[arg-type]
+    # Cells made only of digits, signs, exponents and this decimal mark: float() reads exactly
+    # the ones the number pattern accepts and fails on the rest (then the pattern decides).
+    plain = set(joined) <= _PLAIN_CHARS[decimal]
+    if not plain and not _FAST_COLUMN[decimal].fullmatch(joined):
         return None
     missing = np.fromiter((v == "" for v in values), dtype=bool, count=len(values))
     cells = [v or "nan" for v in values]  # type: ignore[misc]
     if decimal == ",":
         cells = [v.replace(",", ".") for v in cells]
-    out = np.array(cells, dtype=float)
+    try:
+        out = np.array(cells, dtype=float)
+    except ValueError:
+        if not _FAST_COLUMN[decimal].fullmatch(joined):
+            return None
+        raise
     bad = ~np.isfinite(out) & ~missing  # e.g. 1e999
     out[bad] = np.nan
     return out, missing, bad
@@ -262,6 +272,12 @@ def parse_times(
 
 def text_values(values: Sequence[object]) -> list[str | None]:
     """Cells of a text column (phase, marker): trimmed text, ``None`` when missing."""
+    if all(type(v) is str for v in values):  # the usual case: CSV text, read without is_missing
+        out_text: list[str | None] = []
+        for v in values:
+            t = v.strip()  # type: ignore[union-attr]
+            out_text.append(None if t.replace("\u2212", "-").lower() in MISSING_TOKENS else t)
+        return out_text
     out: list[str | None] = []
     for v in values:
         if is_missing(v):

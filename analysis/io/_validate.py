@@ -307,12 +307,14 @@ def finish_session(
         frame[C.PHASE] = normalise_phase(frame[C.PHASE])
     flags = check_and_flag(frame, problems=problems, headers=headers, unit_notes=unit_notes)
     problems.raise_if_any()
+    # convert only the columns not yet in their final type (each assignment copies a column)
     for name in C.NUMERIC:
-        if name in frame.columns:
+        if name in frame.columns and frame[name].dtype != np.float64:
             frame[name] = frame[name].astype(float)
     for name in (C.PHASE, C.MARKER):
-        if name in frame.columns:
+        if name in frame.columns and frame[name].dtype != object:
             frame[name] = frame[name].astype(object)
-    frame["source_row"] = frame["source_row"].astype("int64")
+    if frame["source_row"].dtype != np.int64:
+        frame["source_row"] = frame["source_row"].astype("int64")
     frame = frame.reset_index(drop=True)
     return Session(meta=meta, breaths=frame, flags=flags, source_name=file_name)

@@ -195,7 +195,7 @@ def read_session(source: str | Path | bytes, *, file_name: str | None = None, ma
             )
     problems.raise_if_any()
     line_numbers = np.array([n for n, _ in body], dtype=np.int64)
-    frame = pd.DataFrame({"source_row": line_numbers})
+    data: dict[str, object] = {"source_row": line_numbers}
     shown = {c: headers[k] for c, k in columns.items()}
     by_column = list(zip(*(row for _, row in body))) if body else [()] * len(headers)
     for canonical, k in columns.items():
@@ -211,9 +211,10 @@ def read_session(source: str | Path | bytes, *, file_name: str | None = None, ma
                 line_numbers=line_numbers,
                 cell_at=lambda j, k=k: body[j][1][k],
             )
-            frame[canonical] = values * factors[canonical]
+            data[canonical] = values * factors[canonical]
         else:
-            frame[canonical] = pd.Series(text_values(cells), dtype=object)
+            data[canonical] = np.array(text_values(cells), dtype=object)
     problems.raise_if_any()
+    frame = pd.DataFrame(data)  # built once: adding columns one by one costs more than the parse
     meta = checked_meta(meta_entries, problems)
     return finish_session(frame, meta=meta, file_name=name, problems=problems, headers=shown)
