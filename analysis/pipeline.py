@@ -57,6 +57,10 @@ EXCLUDED_COLUMNS: tuple[str, ...] = ("source_row", "t_s", "column", "value", "re
 
 _WARNINGS_LOCK = threading.Lock()
 
+#: Values of ``indices["ve_vco2_slope_span"]``: which span the headline VE/VCO2 slope covers.
+VE_VCO2_TO_VT2 = "to_vt2"
+VE_VCO2_WHOLE_EXERCISE = "whole_exercise"
+
 #: Share of breaths excluded above which a warning is raised (common practice: a clean
 #: recording loses a few per cent to swallows, coughs and talking).
 EXCLUDED_WARN_FRACTION = 0.10
@@ -65,8 +69,8 @@ _BASE_METHODS: dict[str, str] = {
     "outliers": "breaths beyond the local mean ± k SD of their neighbours are excluded (Lamarra et al. 1987)",
     "phases": "phase column when present, else from the load signal (common practice)",
     "hr_peak_bpm": "highest averaged heart rate during exercise",
-    "ve_vco2_slope": "least-squares slope of VE on VCO2 over the whole exercise phase (Arena et al. 2007)",
     "ve_vco2_slope_to_vt2": "least-squares slope of VE on VCO2 from exercise start to VT2 (Arena et al. 2007)",
+    "ve_vco2_slope_whole_exercise": "least-squares slope of VE on VCO2 over the whole exercise phase (Arena et al. 2007)",
     "ve_vco2_nadir": "lowest averaged VE/VCO2 during exercise (Sun et al. 2002)",
     "oues": "slope of VO2 (mL/min) on log10 VE (L/min) over the whole exercise phase (Baba et al. 1996)",
     "o2_pulse": "VO2/HR, highest averaged value during exercise (Wasserman et al.)",
@@ -83,7 +87,8 @@ _BASE_METHODS: dict[str, str] = {
     "predicted_vo2max": "FRIEND registry equation (de Souza e Silva et al. 2018)",
     "hr_max_predicted": "208 - 0.7 × age (Tanaka et al. 2001)",
     "weber_class": "classes A-D by VO2peak per kg (Weber & Janicki 1985)",
-    "ventilatory_class": "classes I-IV by VE/VCO2 slope (Arena et al. 2007)",
+    "ventilatory_class": "classes I-IV by the whole-exercise VE/VCO2 slope (Arena et al. 2007; the paper's slope "
+    "spans all exercise data, from memory)",
     "zones": "three zones bounded by VT1 and VT2, values read from the averaged data (common practice)",
 }
 
@@ -208,16 +213,20 @@ def _indices(
     vo2, vco2, ve = (ex[c].to_numpy(dtype=float) for c in (C.VO2_ML_MIN, C.VCO2_ML_MIN, C.VE_L_MIN))
     t = ex[C.T_S].to_numpy(dtype=float)
 
-    fit = _safe(ve_vco2_slope, vco2, ve)
+    whole = _safe(ve_vco2_slope, vco2, ve)
+    to_vt2 = None
+    if vt2 is not None:
+        below = t <= vt2.t_s
+        to_vt2 = _safe(ve_vco2_slope, vco2[below], ve[below])
+    # Headline slope: to VT2 when a VT2 was found (the span below respiratory compensation,
+    # where VE follows VCO2 alone), else the whole exercise phase (docs/results.md).
+    fit, span = (to_vt2, VE_VCO2_TO_VT2) if to_vt2 is not None else (whole, VE_VCO2_WHOLE_EXERCISE)
     out["ve_vco2_slope"] = fit.slope if fit else None
     out["ve_vco2_intercept_l_min"] = fit.intercept if fit else None
     out["ve_vco2_slope_r2"] = fit.r2 if fit else None
-    if vt2 is not None:
-        below = t <= vt2.t_s
-        fit2 = _safe(ve_vco2_slope, vco2[below], ve[below])
-        out["ve_vco2_slope_to_vt2"] = fit2.slope if fit2 else None
-    else:
-        out["ve_vco2_slope_to_vt2"] = None
+    out["ve_vco2_slope_span"] = span if fit else None
+    out["ve_vco2_slope_to_vt2"] = to_vt2.slope if to_vt2 else None
+    out["ve_vco2_slope_whole_exercise"] = whole.slope if whole else None
     out["ve_vco2_nadir"] = _safe(ve_vco2_nadir, vco2, ve)
     ou = _safe(oues, vo2, ve)
     out["oues"] = ou.slope if ou else None
@@ -281,6 +290,8 @@ def _indices(
         out["fat_max"] = None
     if out["ve_vco2_slope"] is None:
         warns.append("The VE/VCO2 slope could not be computed from the exercise data.")
+    elif vt2 is not None and to_vt2 is None:
+        warns.append("The VE/VCO2 slope to VT2 could not be computed (too few points below VT2): the whole-exercise slope is given.")
     return json_safe(out)
 
 
@@ -465,7 +476,10 @@ def analyze_session(
             avg=avg, ex=ex, phases_avg=phases_avg, meta=meta, mode=mode, peak=peak, vt1=vt1, vt2=vt2,
             hr_peak=maximality.hr_peak_bpm, warns=warns,
         )
-        predicted, classes = _reference(meta, mode, peak, indices["ve_vco2_slope"], maximality.hr_peak_bpm, warns)
+        # Arena et al. 2007 classed patients by the slope over all exercise data (from memory).
+        predicted, classes = _reference(
+            meta, mode, peak, indices["ve_vco2_slope_whole_exercise"], maximality.hr_peak_bpm, warns
+        )
         try:
             zones = training_zones(vt1=vt1, vt2=vt2, peak=_ceiling(ex, peak, maximality.hr_peak_bpm))
         except TidemarkError as exc:
@@ -493,6 +507,13 @@ def analyze_session(
         warns.append(zones.note)
 
     methods = dict(_BASE_METHODS)
+    span = indices.get("ve_vco2_slope_span")
+    methods["ve_vco2_slope"] = (
+        "least-squares slope of VE on VCO2 from exercise start to VT2 (VT2 found; Arena et al. 2007)"
+        if span == VE_VCO2_TO_VT2
+        else "least-squares slope of VE on VCO2 over the whole exercise phase "
+        f"({'no VT2 found' if report.vt2 is None else 'too few points below VT2'}; Arena et al. 2007)"
+    )
     methods["averaging"] = settings.averaging.label
     window = f"centred {settings.peak_window_s:g}-s mean of the" if settings.peak_window_s else "value of the"
     methods["vo2_peak"] = f"highest {window} averaged exercise VO2 (common practice: 30-s peak values)"

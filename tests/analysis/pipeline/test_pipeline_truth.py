@@ -26,7 +26,7 @@ def test_cyclist_peak_and_efficiency_match_truth(seed, noise):
     if r["indices"]["ve_vco2_slope_to_vt2"] is not None:
         assert r["indices"]["ve_vco2_slope_to_vt2"] == pytest.approx(truth["truth_ve_vco2_slope"], abs=2.5)
     # whole-exercise slope is steeper than the below-VT2 slope (respiratory compensation)
-    assert r["ve_vco2_slope"] > truth["truth_ve_vco2_slope"] - 1.0
+    assert r["ve_vco2_slope_whole_exercise"] > truth["truth_ve_vco2_slope"] - 1.0
 
 
 @pytest.mark.parametrize("seed", [21, 22])
