@@ -57,6 +57,9 @@ EXCLUDED_COLUMNS: tuple[str, ...] = ("source_row", "t_s", "column", "value", "re
 
 _WARNINGS_LOCK = threading.Lock()
 
+#: Half-width (s) of the window of averaged rows whose SpO2 is averaged at VT1, VT2 and peak.
+SPO2_HALF_WINDOW_S = 15.0
+
 #: Values of ``indices["ve_vco2_slope_span"]``: which span the headline VE/VCO2 slope covers.
 VE_VCO2_TO_VT2 = "to_vt2"
 VE_VCO2_WHOLE_EXERCISE = "whole_exercise"
@@ -337,6 +340,48 @@ def _safe_cls(fn, value: float) -> str | None:  # noqa: ANN001
         return None
 
 
+def spo2_by_state(
+    avg: pd.DataFrame, phases_avg: np.ndarray, times_s: dict[str, float], *, warns: list[str] | None = None
+) -> dict[str, float]:
+    """Mean SpO2 (%) of the session's ``spo2_pct`` column around each oxygen state.
+
+    Parameters
+    ----------
+    avg : pandas.DataFrame
+        Averaged breaths (``t_s``, ``spo2_pct``).
+    phases_avg : numpy.ndarray
+        Phase label of every averaged row.
+    times_s : dict of str to float
+        State name -> time (s) of the state (VT1, VT2, peak).
+    warns : list of str, optional
+        Receives a note for each state whose mean lies outside 50-100 % (then left out).
+
+    Returns
+    -------
+    dict of str to float
+        ``"rest"``: mean over the rest phase; every state in ``times_s``: mean of the averaged
+        rows within ±15 s of its time (a 30-s window, as for peak values; common practice).
+        States without finite SpO2 values are left out; an empty dict without the column.
+    """
+    if C.SPO2_PCT not in avg.columns:
+        return {}
+    spo2 = avg[C.SPO2_PCT].to_numpy(dtype=float)
+    t = avg[C.T_S].to_numpy(dtype=float)
+    masks = {"rest": phases_avg == "rest"}
+    masks.update({name: np.abs(t - t_s) <= SPO2_HALF_WINDOW_S for name, t_s in times_s.items()})
+    out: dict[str, float] = {}
+    for name, mask in masks.items():
+        values = spo2[mask & np.isfinite(spo2)]
+        if values.size == 0:
+            continue
+        mean = float(values.mean())
+        if 50.0 <= mean <= 100.0:
+            out[name] = mean
+        elif warns is not None:
+            warns.append(f"Oxygen: SpO2 around {name} averages {mean:.0f} %, outside 50-100 %: not used.")
+    return out
+
+
 def _oxygen(
     meta: dict[str, Any],
     settings: AnalysisSettings,
@@ -362,6 +407,7 @@ def _oxygen(
         opts["conditions"] = {k: StateConditions(**v) for k, v in conditions.items()}
     if opts.get("arterial_conditions") is not None:
         opts["arterial_conditions"] = StateConditions(**opts["arterial_conditions"])
+    column_spo2 = {} if opts.get("spo2_pct") is not None else None  # a set SpO2 overrides the column
     states = []
     rest = avg.loc[phases_avg == "rest"]
     if len(rest) and rest[C.VO2_ML_MIN].notna().any():
@@ -371,9 +417,15 @@ def _oxygen(
     for name, p in (("vt1", vt1), ("vt2", vt2), ("peak", peak)):
         if p is not None:
             states.append((name, p.vo2_ml_min, p.hr_bpm, p.pct_vo2_peak))
+    if column_spo2 is None:
+        times = {name: p.t_s for name, p in (("vt1", vt1), ("vt2", vt2), ("peak", peak)) if p is not None}
+        column_spo2 = spo2_by_state(avg, phases_avg, times, warns=warns)
     try:
         points = [
-            StatePoint(name, vo2, hr_bpm=hr, pct_vo2_peak=pct, q_l_min=measured_q.get(name), spo2_pct=state_spo2.get(name))
+            StatePoint(
+                name, vo2, hr_bpm=hr, pct_vo2_peak=pct, q_l_min=measured_q.get(name),
+                spo2_pct=state_spo2.get(name, column_spo2.get(name)),
+            )
             for name, vo2, hr, pct in states
         ]
         with warnings.catch_warnings(record=True) as caught:
@@ -528,6 +580,13 @@ def analyze_session(
             methods[kind] = f"{pick.method} of the automatic methods — {pick.note}" if pick.note else pick.method
     if oxygen is not None:
         methods["oxygen"] = "Fick a-vO2 difference against the dissociation curve (analysis.oxygen.oxygen_comparison)"
+        sources = {st.get("name"): st.get("sao2_source") for st in oxygen.get("states", [])}
+        if "spo2" in sources.values():
+            methods["oxygen_spo2"] = (
+                "arterial saturation from SpO2: the settings' value where set, else the mean of the session's "
+                "SpO2 column over the rest phase or within ±15 s of VT1, VT2 and peak; "
+                "states without either use PaO2 on the curve"
+            )
 
     return TestResults(
         source_name=session.source_name,

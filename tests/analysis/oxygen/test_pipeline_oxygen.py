@@ -48,3 +48,82 @@ def test_no_haemoglobin_no_comparison(session):
     meta = {k: v for k, v in session.meta.items() if k != "hb_g_dl"}
     bare = type(session)(meta=meta, breaths=session.breaths, flags=session.flags, source_name=session.source_name)
     assert analyze_session(bare).to_json_dict()["oxygen"] is None
+
+
+# --- SpO2 per state from the session's own column -------------------------------------------
+
+
+@pytest.fixture(scope="module")
+def desaturating():
+    # Simulator profile whose SpO2 falls by 3 % x (fraction of VO2 reserve)^2 (ground truth).
+    import analysis.simulation as sim
+
+    return sim.simulate_session(sim.HEART_FAILURE, sim.CYCLE_RAMP_8, seed=5)
+
+
+def _states(data):
+    return {s["name"]: s for s in data["oxygen"]["states"]}
+
+
+def test_spo2_column_gives_each_states_saturation(desaturating):
+    import numpy as np
+
+    from analysis.pipeline import SPO2_HALF_WINDOW_S
+    from analysis.simulation import HEART_FAILURE
+    from analysis.simulation._model import spo2_pct as model_spo2
+
+    res = analyze_session(desaturating)
+    data = res.to_json_dict()
+    states = _states(data)
+    avg = res.averaged
+    t, spo2 = avg["t_s"].to_numpy(float), avg["spo2_pct"].to_numpy(float)
+    assert states["rest"]["sao2_source"] == "spo2"
+    rest_mean = np.nanmean(spo2[avg["phase"].to_numpy() == "rest"])
+    assert states["rest"]["sao2"] == pytest.approx(rest_mean / 100.0)
+    peak_t = data["peak"]["time_s"]
+    peak_mean = np.nanmean(spo2[np.abs(t - peak_t) <= SPO2_HALF_WINDOW_S])
+    assert states["peak"]["sao2"] == pytest.approx(peak_mean / 100.0)
+    # Ground truth: the model's SpO2 at the state's VO2, within 0.5 % (averaging and VO2 lag).
+    for name in ("rest", "peak"):
+        truth = float(model_spo2(HEART_FAILURE, np.array([states[name]["vo2_ml_min"]]))[0])
+        assert 100.0 * states[name]["sao2"] == pytest.approx(truth, abs=0.5)
+    assert states["peak"]["sao2"] < states["rest"]["sao2"]  # the modelled exercise desaturation
+    # CaO2 = 1.34 Hb SaO2 + 0.0031 PaO2 (content equation, common practice; PaO2 default 95)
+    hb = desaturating.meta["hb_g_dl"]
+    assert states["peak"]["cao2_ml_dl"] == pytest.approx(1.34 * hb * states["peak"]["sao2"] + 0.0031 * 95.0)
+    assert "SpO2 column" in data["methods"]["oxygen_spo2"]
+
+
+def test_settings_spo2_override_the_column(desaturating):
+    one = analyze_session(desaturating, AnalysisSettings(oxygen={"spo2_pct": 95.0})).to_json_dict()
+    assert [s["sao2"] for s in one["oxygen"]["states"]] == pytest.approx([0.95] * len(one["oxygen"]["states"]))
+    per_state = AnalysisSettings(oxygen={"spo2_pct_by_state": {"peak": 92.0}})
+    data = analyze_session(desaturating, per_state).to_json_dict()
+    states = _states(data)
+    assert states["peak"]["sao2"] == pytest.approx(0.92)
+    assert states["rest"]["sao2"] == pytest.approx(analyze_session(desaturating).to_json_dict()["oxygen"]["states"][0]["sao2"])
+
+
+def test_without_spo2_column_the_curve_is_used(session):
+    bare = type(session)(
+        meta=session.meta, breaths=session.breaths.drop(columns="spo2_pct"), flags=session.flags,
+        source_name=session.source_name,
+    )
+    data = analyze_session(bare).to_json_dict()
+    assert {s["sao2_source"] for s in data["oxygen"]["states"]} == {"curve"}
+    assert "oxygen_spo2" not in data["methods"]
+
+
+def test_spo2_by_state_skips_implausible_means():
+    import numpy as np
+    import pandas as pd
+
+    from analysis.pipeline import spo2_by_state
+
+    avg = pd.DataFrame({"t_s": np.arange(10) * 10.0, "spo2_pct": [97.0] * 5 + [30.0] * 5})
+    phases = np.array(["rest"] * 5 + ["exercise"] * 5)
+    warns: list[str] = []
+    out = spo2_by_state(avg, phases, {"peak": 80.0}, warns=warns)
+    assert out == {"rest": 97.0}
+    assert warns and "outside 50-100 %" in warns[0]
+    assert spo2_by_state(avg.drop(columns="spo2_pct"), phases, {"peak": 80.0}) == {}
