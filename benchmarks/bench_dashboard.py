@@ -48,7 +48,7 @@ def long_session():
 
 
 def _review_script() -> None:
-    from dashboard.pages.review import render
+    from dashboard.views.review import render
 
     render()
 

@@ -1,6 +1,6 @@
 """Entry script of the dashboard: ``streamlit run dashboard/app.py`` (or ``tidemark serve``).
 
-:func:`run` builds the navigation once per run from the page modules in ``dashboard/pages``.
+:func:`run` builds the navigation once per run from the page modules in ``dashboard/views``.
 Three modes:
 
 - **Coach link** — the URL carries ``?link=TOKEN``: only the read-only coach view is shown (no
@@ -25,7 +25,7 @@ from dashboard.errors import show_error, user_errors
 
 log = logging.getLogger("tidemark.dashboard")
 
-#: (module under dashboard/pages, title, icon) in the reviewer's order of work.
+#: (module under dashboard/views, title, icon) in the reviewer's order of work.
 PAGES: tuple[tuple[str, str, str], ...] = (
     ("library", "Library", ":material/folder_open:"),
     ("review", "Review", ":material/monitoring:"),
@@ -45,11 +45,11 @@ CAUTION = (
 
 
 def load_page_module(name: str) -> ModuleType | None:
-    """Import ``dashboard.pages.<name>``; ``None`` (logged) when that page does not exist yet."""
+    """Import ``dashboard.views.<name>``; ``None`` (logged) when that page does not exist yet."""
     try:
-        module = importlib.import_module(f"dashboard.pages.{name}")
+        module = importlib.import_module(f"dashboard.views.{name}")
     except ModuleNotFoundError as exc:
-        if exc.name not in (f"dashboard.pages.{name}", "dashboard.pages"):
+        if exc.name not in (f"dashboard.views.{name}", "dashboard.views"):
             log.exception("page %s could not be imported", name)
         else:
             log.warning("page %s is not available (module missing)", name)

@@ -154,7 +154,7 @@ def pop_flashes() -> list[tuple[str, str]]:
 
 # --- navigation ----------------------------------------------------------------------------
 
-#: Page name (module name under dashboard/pages) -> the st.Page object of this run.
+#: Page name (module name under dashboard/views) -> the st.Page object of this run.
 _PAGES: dict[str, Any] = {}
 
 

@@ -52,13 +52,44 @@ def test_serve_command_line():
     from tidemark.commands import serve
 
     cmd = serve.streamlit_command(port=8630, host="127.0.0.1")
-    assert cmd[1:4] == ["-m", "tidemark.commands.serve", "run"] and cmd[4].endswith("dashboard/app.py")
+    assert cmd[1:4] == ["-m", "streamlit", "run"] and cmd[4].endswith("dashboard/app.py")
+    assert cmd[cmd.index("--client.toolbarMode") + 1] == "viewer"  # no "Deploy" button
     assert cmd[cmd.index("--server.port") + 1] == "8630"
     assert cmd[cmd.index("--server.address") + 1] == "127.0.0.1"
     with pytest.raises(InvalidParameter, match="--port"):
         serve.streamlit_command(port=70000, host="127.0.0.1")
     assert main(["serve", "--port", "0"]) == 2  # bad input, message on stderr
     assert serve.DEFAULT_PORT == 8630
+
+
+def test_no_streamlit_folder_pages_beside_the_entry_script():
+    """Streamlit serves every module of a ``pages/`` folder beside the entry script as a page of
+    its own; the page modules live in ``dashboard/views`` so no start shows raw module pages."""
+    from tidemark.commands.serve import app_path
+
+    here = app_path().parent
+    assert not (here / "pages").exists()
+    assert (here / "views" / "review.py").is_file()
+    assert app.load_page_module("review").__name__ == "dashboard.views.review"
+
+
+def test_plain_streamlit_run_reads_the_viewer_toolbar_setting(tmp_path):
+    """``streamlit run dashboard/app.py`` from any folder reads ``dashboard/.streamlit/config.toml``
+    (Streamlit's script-level config file), so the "Deploy" button is hidden there too."""
+    import subprocess
+    import sys
+
+    from tidemark.commands.serve import app_path
+
+    code = (
+        "import sys; from streamlit import config; config._main_script_path = sys.argv[1]; "
+        "config.get_config_options(force_reparse=True); "
+        "print(config.get_option('client.toolbarMode'), config.get_option('server.maxUploadSize'))"
+    )
+    out = subprocess.run(
+        [sys.executable, "-c", code, str(app_path())], cwd=tmp_path, capture_output=True, text=True, check=True
+    )
+    assert out.stdout.split() == ["viewer", "50"]
 
 
 def test_staff_store_needs_sign_in(tmp_path, monkeypatch):

@@ -12,11 +12,11 @@ import pandas as pd
 import pytest
 
 from analysis.io import import_bytes
-from dashboard.pages import library
+from dashboard.views import library
 
 
 def _library_script() -> None:
-    from dashboard.pages.library import render
+    from dashboard.views.library import render
 
     render()
 

@@ -8,12 +8,12 @@ import pytest
 from analysis.oxygen import CAUTION, DEFAULT_CONDITIONS, StateConditions
 from dashboard import state
 from dashboard.charts.oxygen_curves import dissociation_figure, unloading_figure
-from dashboard.pages.oxygen import oxygen_settings, points_frame, widget_key, with_oxygen
+from dashboard.views.oxygen import oxygen_settings, points_frame, widget_key, with_oxygen
 from tests.dashboard.pages_helpers import analysis_json, parse_number, signed_in
 
 
 def _oxygen():
-    from dashboard.pages import oxygen
+    from dashboard.views import oxygen
 
     oxygen.render()
 
@@ -87,7 +87,10 @@ def test_charts_from_comparison_json(demo_store, test_id):
     ox = analysis_json(demo_store.store, test_id, with_oxygen(settings, _default_oxygen_settings(), hb_g_dl=None))["oxygen"]
     pts = points_frame(ox)
     assert set(pts["site"]) == {"arterial", "venous"}
-    assert (pts["site"] == "arterial").sum() == 1  # one arterial point shared by the states
+    # one arterial point per distinct arterial saturation (states share it when SaO2 is the same;
+    # the analysis reads SaO2 per state from the session's SpO2 column when it has one)
+    distinct = {(round(float(ox["pao2_mmhg"]), 3), round(float(s["sao2"]), 5)) for s in ox["states"]}
+    assert (pts["site"] == "arterial").sum() == len(distinct)
     curves = {"rest": StateConditions(**ox["resting_conditions"])} | {
         s["name"]: StateConditions(**s["conditions"]) for s in ox["states"] if s["name"] != "rest"
     }

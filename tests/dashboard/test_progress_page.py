@@ -44,7 +44,7 @@ def rehab_store(tmp_path_factory) -> Iterator[tuple]:
 
 
 def _progress():
-    from dashboard.pages import progress
+    from dashboard.views import progress
 
     progress.render()
 

@@ -9,13 +9,13 @@ import pytest
 
 from analysis.io.result_exports import export_files
 from dashboard import state
-from dashboard.pages.review import with_override
+from dashboard.views.review import with_override
 from dashboard.report.assemble import build_test_report
 from tests.dashboard.pages_helpers import analysis_json, parse_number, signed_in
 
 
 def _reports():
-    from dashboard.pages import reports
+    from dashboard.views import reports
 
     reports.render()
 

@@ -11,12 +11,12 @@ import pytest
 from analysis.pipeline import analyze_session
 from analysis.settings import AnalysisSettings
 from dashboard import data
-from dashboard.pages import review
+from dashboard.views import review
 from dashboard.report.html_report import format_number
 
 
 def _review_script() -> None:
-    from dashboard.pages.review import render
+    from dashboard.views.review import render
 
     render()
 

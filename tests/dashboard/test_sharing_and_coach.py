@@ -16,21 +16,21 @@ import pytest
 from streamlit.testing.v1 import AppTest
 
 from dashboard import state
-from dashboard.pages.coach import INVALID_TEXT
-from dashboard.pages.sharing import share_state, share_url
+from dashboard.views.coach import INVALID_TEXT
+from dashboard.views.sharing import share_state, share_url
 from tests.dashboard.conftest import APPTEST_TIMEOUT_S, make_user
 from tests.dashboard.pages_helpers import analysis_json, page_text, parse_number, signed_in
 from tests.support import ROOT
 
 
 def _sharing():
-    from dashboard.pages import sharing
+    from dashboard.views import sharing
 
     sharing.render()
 
 
 def _coach():
-    from dashboard.pages import coach
+    from dashboard.views import coach
 
     coach.render()
 

@@ -1,7 +1,9 @@
 """``tidemark serve``: start the dashboard on this computer.
 
 Runs Streamlit on ``dashboard/app.py`` with the store URL passed through the ``TIDEMARK_STORE``
-environment variable. Default address ``http://127.0.0.1:8630``.
+environment variable. Default address ``http://127.0.0.1:8630``. The options given here repeat
+``dashboard/.streamlit/config.toml`` (which a plain ``streamlit run dashboard/app.py`` reads too),
+so the command behaves the same whatever the working folder.
 """
 
 from __future__ import annotations
@@ -54,7 +56,7 @@ def streamlit_command(*, port: int, host: str) -> list[str]:
     return [
         sys.executable,
         "-m",
-        "tidemark.commands.serve",
+        "streamlit",
         "run",
         str(app_path()),
         "--server.port",
@@ -67,6 +69,8 @@ def streamlit_command(*, port: int, host: str) -> list[str]:
         "false",
         "--server.maxUploadSize",
         "50",
+        "--client.toolbarMode",
+        "viewer",
     ]
 
 
@@ -80,28 +84,3 @@ def run(args: argparse.Namespace) -> int:
         return subprocess.call(cmd, env=env)
     except KeyboardInterrupt:
         return 0
-
-
-def _boot_streamlit(argv: list[str]) -> int:
-    """Run Streamlit's own command line with the ``pages/`` folder convention switched off.
-
-    ``dashboard/pages/`` holds the page modules that ``dashboard/app.py`` puts into its
-    navigation; Streamlit would otherwise also treat that folder as file-based pages until the
-    first ``st.navigation`` call, so a bookmarked ``/oxygen`` on a fresh server would run the
-    module as a bare script. Telling Streamlit up front that the app builds its own navigation
-    avoids that for every page.
-    """
-    try:
-        from streamlit.runtime.pages_manager import PagesManager
-
-        PagesManager.uses_pages_directory = False
-    except (ImportError, AttributeError):  # a Streamlit without this switch: the page modules hand over themselves
-        pass
-    from streamlit.web.cli import main as streamlit_main
-
-    sys.argv = ["streamlit", *argv]
-    return int(streamlit_main() or 0)
-
-
-if __name__ == "__main__":
-    raise SystemExit(_boot_streamlit(sys.argv[1:]))

@@ -73,7 +73,7 @@ def _fold_finished_saves(test_id: int) -> None:
     """Let the Review page's background saves that have finished update the working settings
     (so a change saved from Review shows here with its new version, not as unsaved)."""
     try:
-        from dashboard.pages.review import sync_saves
+        from dashboard.views.review import sync_saves
     except ImportError:
         return
     try:

@@ -19,7 +19,7 @@ import pandas as pd
 import streamlit as st
 
 from dashboard import data, state
-from dashboard.pages._test_choice import test_settings
+from dashboard.views._test_choice import test_settings
 from dashboard.report import CAUTIONS, headline_rows, zone_rows
 from dashboard.report.assemble import build_test_report, report_figures, report_file_name
 from dashboard.report.html_report import threshold_display

@@ -15,7 +15,7 @@ import pandas as pd
 import streamlit as st
 
 from dashboard import data, state
-from dashboard.pages._test_choice import person_label, test_label
+from dashboard.views._test_choice import person_label, test_label
 
 log = logging.getLogger("tidemark.dashboard")
 

@@ -16,7 +16,7 @@ import streamlit as st
 from analysis.progress import BAND_METHOD, METRICS, OVERLAYS, TYPICAL_ERRORS, TestRecord, aligned_series, progress_table
 from dashboard import data, state
 from dashboard.charts.progress import overlay_figure, progress_figure
-from dashboard.pages._test_choice import person_label, settings_json, test_settings
+from dashboard.views._test_choice import person_label, settings_json, test_settings
 from dashboard.report.html_report import format_number
 
 log = logging.getLogger("tidemark.dashboard")

@@ -367,9 +367,3 @@ def render() -> None:
     _test_list(store)
     st.divider()
     _add_tests(store)
-
-
-if __name__ == "__main__":  # opened as a folder page by a fresh server: hand over to the app
-    from dashboard.app import run
-
-    run()

@@ -21,7 +21,7 @@ from analysis.oxygen import CAUTION, DEFAULT_CONDITIONS, STATE_NAMES, StateCondi
 from analysis.oxygen.comparison import COMPARISON_MODELS
 from dashboard import data, state
 from dashboard.charts.oxygen_curves import STATE_LABEL, dissociation_figure, unloading_figure
-from dashboard.pages._test_choice import choose_test, settings_json, test_settings
+from dashboard.views._test_choice import choose_test, settings_json, test_settings
 from dashboard.report.html_report import format_number
 
 log = logging.getLogger("tidemark.dashboard")

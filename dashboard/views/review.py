@@ -585,9 +585,3 @@ def render() -> None:
     _exclusions(store, test_id, working, results)
     _history_and_sign_off(store, test_id, working, record)
     flush_saves(store)
-
-
-if __name__ == "__main__":  # opened as a folder page by a fresh server: hand over to the app
-    from dashboard.app import run
-
-    run()

@@ -14,7 +14,7 @@ import streamlit as st
 
 from analysis.io.result_exports import export_files
 from dashboard import data, state
-from dashboard.pages._test_choice import choose_test, settings_json, test_settings
+from dashboard.views._test_choice import choose_test, settings_json, test_settings
 from dashboard.report import CAUTIONS, headline_rows
 from dashboard.report.assemble import build_test_report, report_file_name
 from dashboard.report.html_report import threshold_display
