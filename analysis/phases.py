@@ -70,12 +70,18 @@ def detect_phases(breaths: pd.DataFrame) -> pd.Series:
     """
     n = len(breaths)
     if C.PHASE in breaths.columns and breaths[C.PHASE].notna().any():
-        ph = breaths[C.PHASE].astype(object).where(breaths[C.PHASE].notna())
-        ph = ph.ffill().bfill().astype(str).str.strip().str.lower()
-        bad = sorted(set(ph) - set(C.PHASES))
+        # Each distinct label is normalised once; missing labels take the label before them,
+        # then (at the start) the first label after them.
+        codes, uniques = pd.factorize(breaths[C.PHASE])
+        if (codes < 0).any():
+            pos = np.maximum.accumulate(np.where(codes >= 0, np.arange(n), -1))
+            pos[pos < 0] = int(np.argmax(codes >= 0))
+            codes = codes[pos]
+        names = [str(u).strip().lower() for u in uniques]
+        bad = sorted(set(names[c] for c in np.unique(codes)) - set(C.PHASES))
         if bad:
             raise InvalidParameter("phase", f"labels from {list(C.PHASES)}", bad)
-        return pd.Series(ph.to_numpy(), index=breaths.index, name=C.PHASE)
+        return pd.Series(np.array(names, dtype=object)[codes], index=breaths.index, name=C.PHASE)
     load = _load_signal(breaths) if n else None
     if load is None:
         if n:
