@@ -126,9 +126,25 @@ def _excluded_table(breaths: pd.DataFrame, settings: AnalysisSettings) -> pd.Dat
         breaths, window_breaths=settings.outlier_window_breaths, k_sd=settings.outlier_k_sd
     )
     restored = set(settings.restored_rows)
-    auto = auto[~auto["source_row"].isin(restored)]
+    if restored:
+        auto = auto[~auto["source_row"].isin(restored)]
+    manual_rows = settings.excluded_rows
+    auto_rows = set(auto["source_row"].tolist()) if manual_rows else set()
+    manual = [r for r in manual_rows if r not in auto_rows]
+    if not manual and len(auto):
+        rows = auto["source_row"].to_numpy()
+        order = np.argsort(rows, kind="stable") if np.any(np.diff(rows) < 0) else np.arange(len(rows))
+        return pd.DataFrame(
+            {
+                "source_row": rows[order],
+                "t_s": auto["t_s"].to_numpy()[order],
+                "column": [auto["column"].tolist()[i] for i in order],
+                "value": auto["value"].to_numpy()[order],
+                "reason": [auto["reason"].tolist()[i] for i in order],
+                "by": ["auto"] * len(rows),
+            }
+        )
     parts = [auto.assign(by="auto")[list(EXCLUDED_COLUMNS)]] if len(auto) else []
-    manual = [r for r in settings.excluded_rows if r not in set(auto["source_row"])]
     if manual:
         src = breaths["source_row"] if "source_row" in breaths else pd.Series(np.arange(1, len(breaths) + 1))
         pos = {int(s): i for i, s in enumerate(src.to_numpy())}

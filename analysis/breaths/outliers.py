@@ -78,10 +78,10 @@ def _neighbour_mean(values: np.ndarray, half: int) -> np.ndarray:
 
 def _local_spread(resid: np.ndarray, window: int) -> np.ndarray:
     """Robust SD (1.4826 x median absolute deviation) of the residuals around each breath."""
-    r = pd.Series(resid)
-    med = r.rolling(window, center=True, min_periods=max(5, window // 3)).median()
-    mad = (r - med).abs().rolling(window, center=True, min_periods=max(5, window // 3)).median()
-    return (_MAD_TO_SD * mad).to_numpy()
+    min_periods = max(5, window // 3)
+    med = pd.Series(resid).rolling(window, center=True, min_periods=min_periods).median().to_numpy()
+    mad = pd.Series(np.abs(resid - med)).rolling(window, center=True, min_periods=min_periods).median().to_numpy()
+    return _MAD_TO_SD * mad
 
 
 def find_outlier_breaths(
