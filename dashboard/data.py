@@ -105,6 +105,7 @@ def preview_import(
     mapping_json: str | None = None,
     sheet: str | None = None,
     gas_unit: str = "auto",
+    time_format: str = "auto",
 ) -> Any:
     """The import check of an uploaded file (:func:`analysis.io.import_bytes`, cached).
 
@@ -113,7 +114,9 @@ def preview_import(
     from analysis.io import ColumnMapping, import_bytes
 
     mapping = ColumnMapping.from_dict(json.loads(mapping_json)) if mapping_json else None
-    return import_bytes(data, file_name=file_name, mapping=mapping, sheet=sheet, gas_unit=gas_unit)
+    return import_bytes(
+        data, file_name=file_name, mapping=mapping, sheet=sheet, gas_unit=gas_unit, time_format=time_format
+    )
 
 
 
@@ -136,24 +139,16 @@ def clear_test_caches() -> None:
 def source_headers(data: bytes, *, file_name: str, sheet: str | None = None) -> list[str] | None:
     """Every column header of an uploaded table (for the mapping editor), or ``None``.
 
-    Uses the importer's own table finder so the headers are exactly what the import sees.
-    ``None`` when the file has no recognisable header row (the import check says why).
+    The importer's public :func:`analysis.io.read_headers`, so the headers are exactly what the
+    import sees (same sheet choice for a workbook). ``None`` when the file has no recognisable
+    header row (the import check says why).
     """
     from analysis.errors import TidemarkError
+    from analysis.io import read_headers
 
     try:
-        from analysis.io._decode import container_kind, decode_text, split_lines
-        from analysis.io._table import choose_delimiter, locate_table, split_rows
-        from analysis.io._xlsx import list_sheets, sheet_rows
-
-        if container_kind(data) == "xlsx":
-            name = sheet if sheet is not None else list_sheets(data, file_name=file_name)[0]
-            _, rows = sheet_rows(data, name, file_name=file_name)
-        else:
-            lines = split_lines(decode_text(data, file_name=file_name).text)
-            rows = split_rows(lines, delimiter=choose_delimiter(lines, file_name=file_name), file_name=file_name)
-        return list(locate_table(rows, file_name=file_name).headers)
-    except (TidemarkError, ImportError, IndexError):
+        return read_headers(data, file_name=file_name, sheet=sheet)
+    except TidemarkError:
         return None
 
 

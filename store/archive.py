@@ -402,8 +402,14 @@ class ArchiveMixin(StoreCore):
             return self._live_test(db, test_id).session_text
 
     def load_session(self, test_id: int) -> Session:
-        """The stored session of a test, ready for :mod:`analysis`."""
+        """The stored session of a test, ready for :mod:`analysis` (the caller's own copy).
+
+        The parsed session is cached per (test, hash of the stored text) in a small LRU
+        (:class:`store.session_cache.SessionCache`), so repeated saves do not re-read the text.
+        """
         with self._read() as db:
             test = self._live_test(db, test_id)
             text, name = test.session_text, test.original_file_name
-        return self.analysis.read_session_text(text, source_name=name)
+        return self._session_cache.get(
+            test_id, text, lambda t: self.analysis.read_session_text(t, source_name=name)
+        )

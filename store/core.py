@@ -19,6 +19,7 @@ from store.config import READ_ONLY_OPTION
 from store.errors import PermissionDenied
 from store.models import AuditEvent, StoreInfo, UserRow
 from store.records import ROLE_ORDER, Operator, User
+from store.session_cache import SessionCache
 
 Clock = Callable[[], datetime]
 
@@ -74,6 +75,7 @@ class StoreCore:
         self.url = url
         self.clock: Clock = clock or utc_now
         self.analysis = AnalysisBridge()
+        self._session_cache = SessionCache()
         self._sessions = sessionmaker(engine, expire_on_commit=False)
         self._read_sessions = sessionmaker(
             engine.execution_options(**{READ_ONLY_OPTION: True}), expire_on_commit=False

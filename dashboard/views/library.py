@@ -28,6 +28,15 @@ IGNORE = "ignore"
 #: Choices of the gas-unit selector: code -> label (codes as the importer's mapping units).
 GAS_UNITS: dict[str, str] = {"auto": "Detect from the values", "ml_min": "mL/min", "l_min": "L/min"}
 GUESS = "(guess from the column headers)"
+#: Choices of the time-format selector: importer code -> label.
+TIME_FORMAT_LABELS: dict[str, str] = {
+    "auto": "Detect from the values",
+    "s": "seconds",
+    "min": "minutes (decimal)",
+    "ms": "milliseconds",
+    "mm:ss": "m:ss",
+    "h:mm:ss": "h:mm:ss",
+}
 
 
 # --- pure helpers -------------------------------------------------------------------------
@@ -54,6 +63,18 @@ def mapping_dict(columns: Mapping[str, str], *, gas_unit: str = "auto", guess_re
         targets = set(columns.values())
         units = {n: gas_unit for n in (C.VO2_ML_MIN, C.VCO2_ML_MIN) if n in targets or guess_rest}
     return ColumnMapping(dict(columns), units, guess_rest).to_dict()
+
+
+def import_options(*, sheet: str | None, gas_unit: str, time_format: str) -> dict[str, Any]:
+    """The ``import_test`` options the reviewer chose (defaults left out), stored with the test."""
+    options: dict[str, Any] = {}
+    if sheet is not None:
+        options["sheet"] = sheet
+    if gas_unit != "auto":
+        options["gas_unit"] = gas_unit
+    if time_format != "auto":
+        options["time_format"] = time_format
+    return options
 
 
 def problem_rows(exc: ImportRejected) -> list[dict[str, Any]]:
@@ -194,7 +215,7 @@ def _import_panel(store: Any, upload: Any, index: int) -> None:
     name: str = upload.name
     key = "imp_" + hashlib.sha256(raw).hexdigest()[:12] + f"_{index}"
     is_xlsx = name.lower().endswith(".xlsx")
-    c1, c2, c3 = st.columns(3) if is_xlsx else (None, *st.columns(2))
+    c1, c2, c_time, c3 = st.columns(4) if is_xlsx else (None, *st.columns(3))
     sheet = None
     if is_xlsx:
         try:
@@ -204,6 +225,9 @@ def _import_panel(store: Any, upload: Any, index: int) -> None:
             return
         sheet = c1.selectbox("Sheet", sheets, key=f"{key}_sheet")
     gas_unit = c2.selectbox("VO2/VCO2 unit", list(GAS_UNITS), format_func=GAS_UNITS.get, key=f"{key}_gas")
+    time_format = c_time.selectbox(
+        "Time column written as", list(TIME_FORMAT_LABELS), format_func=TIME_FORMAT_LABELS.get, key=f"{key}_time"
+    )
     profiles = data.list_profiles()
     profile = c3.selectbox("Column mapping", [GUESS, *profiles], key=f"{key}_profile")
 
@@ -224,7 +248,9 @@ def _import_panel(store: Any, upload: Any, index: int) -> None:
 
     outcome = None
     try:
-        outcome = data.preview_import(raw, file_name=name, mapping_json=mapping_json, sheet=sheet)
+        outcome = data.preview_import(
+            raw, file_name=name, mapping_json=mapping_json, sheet=sheet, gas_unit=gas_unit, time_format=time_format
+        )
     except ImportRejected as exc:
         st.error(f"**{name}** cannot be imported as set up. Nothing was stored.")
         st.dataframe(pd.DataFrame(problem_rows(exc)), hide_index=True)
@@ -287,18 +313,6 @@ def _import_panel(store: Any, upload: Any, index: int) -> None:
     if not state.can_edit():
         st.info("Your role can view the library but not import tests.")
         return
-    if is_xlsx and outcome.sheet:
-        try:
-            default_sheet = data.preview_import(raw, file_name=name, mapping_json=mapping_json).sheet
-        except (ImportRejected, InvalidParameter):
-            default_sheet = None
-        if default_sheet != outcome.sheet:
-            st.error(
-                f"The library stores the workbook as uploaded and reads its first sheet with a table "
-                f"(‘{default_sheet or sheets[0]}’), not ‘{outcome.sheet}’. Save the sheet ‘{outcome.sheet}’ "
-                "as a CSV file (or move it to the front) and upload that instead."
-            )
-            return
     with st.form(f"{key}_form"):
         f1, f2 = st.columns(2)
         code = f1.text_input("Person code (pseudonymous)", value=str(session.meta.get("subject_id", "")), key=f"{key}_code")
@@ -313,6 +327,7 @@ def _import_panel(store: Any, upload: Any, index: int) -> None:
                 person_code=code.strip() or None,
                 display_name=display.strip() or None,
                 mapping=outcome.mapping.to_dict(),
+                options=import_options(sheet=outcome.sheet, gas_unit=gas_unit, time_format=time_format),
             )
         except Exception as exc:  # noqa: BLE001 - refusals shown plainly, nothing written
             show_error(exc, context=f"Import of {name}")

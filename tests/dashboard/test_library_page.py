@@ -155,9 +155,30 @@ def test_xlsx_sheet_choice_and_first_sheet_import(demo_store, page_test):
     assert not at.exception, at.exception
     assert {m.label: m.value for m in at.metric}["Breaths"] == f"{len(b):,}"
     assert any(b_.label == "Import into the library" for b_ in at.button)
+    # Any sheet can be imported: the choice goes to the store with the test (import options).
     next(s for s in at.selectbox if s.label == "Sheet").set_value("Copy").run()
-    assert any("first sheet with a table" in e.value for e in at.error)
-    assert not any(b_.label == "Import into the library" for b_ in at.button)
+    next(s for s in at.selectbox if s.label == "Time column written as").set_value("s").run()
+    assert not at.error, [e.value for e in at.error]
+    at.button[[b_.label for b_ in at.button].index("Import into the library")].click().run()
+    assert not at.exception, at.exception
+    assert any("stored as test" in s_.value for s_ in at.success), [s_.value for s_ in at.success]
+    tid = at.session_state["lib_last_import"]
+    assert demo_store.store.get_test(tid).import_options == {"sheet": "Copy", "time_format": "s"}
+    assert len(demo_store.store.load_session(tid).breaths) == len(b)
+
+
+def test_source_headers_are_the_importers_own():
+    from analysis.io import read_headers
+    from dashboard import data
+
+    raw = b"Saltmarsh Exercise Lab export\n\nTime,VO2 (L/min),VCO2 (L/min),VE,,VE\n0,0.3,0.25,10,1,11\n5,0.32,0.27,11,1,12\n"
+    headers = data.source_headers(raw, file_name="odd.csv")
+    assert headers == read_headers(raw, file_name="odd.csv")
+    assert headers[:4] == ["Time", "VO2 (L/min)", "VCO2 (L/min)", "VE"] and len(headers) == 6
+    assert data.source_headers(b"\x00\x01 not a table", file_name="junk.csv") is None
+    assert library.import_options(sheet=None, gas_unit="auto", time_format="auto") == {}
+    assert library.import_options(sheet="Breaths", gas_unit="l_min", time_format="mm:ss") == {
+        "sheet": "Breaths", "gas_unit": "l_min", "time_format": "mm:ss"}
 
 
 def test_mapping_saved_as_profile_is_offered_for_the_next_upload(demo_store, page_test):
