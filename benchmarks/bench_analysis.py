@@ -19,6 +19,8 @@ import pandas as pd
 from benchmarks.table import BenchRow, best_of
 
 N_BREATHS = 2000
+#: Batch target of the folder analysis (issue): sessions per second on 2 cores.
+TARGET_SESSIONS_PER_S = 20.0
 
 
 def best_cpu(fn, *, repeats: int = 5) -> float:
@@ -61,16 +63,25 @@ def measure() -> list[BenchRow]:
         read_csv = best_of(lambda: pd.read_csv(path, comment="#"), repeats=10)
         read_sess = best_of(lambda: read_session(path), repeats=5)
         read_csv_cpu = best_cpu(lambda: pd.read_csv(path, comment="#"), repeats=10)
-    analyze = best_of(lambda: P.analyze_session(session, settings), repeats=5)
-    analyze_cpu = best_cpu(lambda: P.analyze_session(session, settings), repeats=5)
+        P.analyze_session(session, settings)  # warm-up: imports and caches are not part of a run
+        read_and_analyze = best_of(lambda: P.analyze_session(read_session(path), settings), repeats=5)
+    analyze = best_of(lambda: P.analyze_session(session, settings), repeats=7)
+    analyze_cpu = best_cpu(lambda: P.analyze_session(session, settings), repeats=7)
     extra = f"{len(session.breaths)} breaths"
     rows.append(
         BenchRow(
-            "analyze_session, 2,000 breaths", analyze, "pd.read_csv", read_csv, "≤ 3x",
-            f"{extra}; CPU time {analyze_cpu * 1000:.0f} ms vs {read_csv_cpu * 1000:.1f} ms = {analyze_cpu / read_csv_cpu:.0f}x",
+            "TARGET 1: analyze_session, 2,000 breaths", analyze, "pd.read_csv of the same file", read_csv,
+            "≤ 3x read_csv",
+            f"{extra}, Hb known (oxygen comparison included); CPU {analyze_cpu * 1000:.1f} ms vs "
+            f"{read_csv_cpu * 1000:.1f} ms = {analyze_cpu / read_csv_cpu:.1f}x",
         )
     )
-    rows.append(BenchRow("read_session (strict reader), same file", read_sess, "pd.read_csv", read_csv, "", extra))
+    rows.append(
+        BenchRow("read_session + analyze_session, same file", read_and_analyze, "pd.read_csv of the same file",
+                 read_csv, "", "file to results, as one folder-batch job does (with oxygen)")
+    )
+    rows.append(BenchRow("read_session (strict reader), same file", read_sess, "pd.read_csv of the same file",
+                         read_csv, "", extra))
 
     # stages, to show where the time goes (same baseline)
     breaths = session.breaths
@@ -118,15 +129,17 @@ def measure() -> list[BenchRow]:
     child_cpu = (cpu1.ru_utime + cpu1.ru_stime) - (cpu0.ru_utime + cpu0.ru_stime)
     failed = sum(r["status"] != "ok" for r in out)
     rate = n / batch
+    allowed = n / TARGET_SESSIONS_PER_S
     rows.append(
         BenchRow(
-            f"batch: {n} sessions, {workers} workers",
+            f"TARGET 2: batch, {n} sessions, {workers} workers: {rate:.1f} sessions/s",
             batch,
-            "",
-            None,
-            "≥ 20 sessions/s",
-            f"{rate:.1f} sessions/s; {failed} failed; worker CPU {1000 * child_cpu / n:.0f} ms/session "
-            f"(= {workers * n / child_cpu:.1f} sessions/s on {workers} idle cores); demo files, 250-550 breaths",
+            f"time allowed at {TARGET_SESSIONS_PER_S:g}/s",
+            allowed,
+            f"≥ {TARGET_SESSIONS_PER_S:g} sessions/s (ratio ≤ 1)",
+            f"{failed} failed; worker CPU {1000 * child_cpu / n:.0f} ms/session "
+            f"(= {workers * n / child_cpu:.1f} sessions/s on {workers} idle cores); demo files, 250-550 breaths, "
+            "pool start-up included",
         )
     )
     return rows
