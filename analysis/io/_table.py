@@ -55,7 +55,7 @@ class _Split:
         previous = 0
         try:
             for cells in reader:
-                out.append((first_line + previous, list(cells)))
+                out.append((first_line + previous, cells))  # the reader gives a new list per row
                 previous = reader.line_num
         except csv.Error as exc:
             raise ImportRejected(

@@ -17,6 +17,7 @@ from analysis import columns as C
 from analysis.errors import ImportRejected, Problem, require
 from analysis.io._cells import TIME_FORMATS, detect_decimal, parse_numbers, parse_times, text_values
 from analysis.io._decode import DEFAULT_MAX_BYTES, check_size, container_kind, decode_text, split_lines
+from analysis.io._gc import gc_paused
 from analysis.io._table import LocatedTable, Row, choose_delimiter, classify, locate_table, split_rows
 from analysis.io._units import CANONICAL_UNIT, UNIT_LABELS, factor
 from analysis.io._validate import ProblemLog, checked_meta, finish_session, report_cells
@@ -241,6 +242,7 @@ def read_headers(
     return list(_find_table(bytes(data), file_name=file_name, sheet=sheet, notes=[]).located.headers)
 
 
+@gc_paused
 def import_bytes(
     data: bytes,
     *,

@@ -14,6 +14,7 @@ from typing import Any
 import pandas as pd
 
 from analysis import columns as C
+from analysis.io._gc import gc_paused
 from analysis.session import META_FLOAT_KEYS, Session
 
 #: Order in which canonical columns are written.
@@ -102,6 +103,7 @@ def _session_bytes(source: str | Path | bytes, file_name: str | None, max_bytes:
         raise ImportRejected(Problem(f"the file cannot be read ({exc.strerror})", "check its permissions", name)) from None
 
 
+@gc_paused
 def read_session(source: str | Path | bytes, *, file_name: str | None = None, max_bytes: int | None = None) -> Session:
     """Read a Tidemark session file strictly (format in ``docs/session-format.md``).
 
