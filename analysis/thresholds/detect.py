@@ -100,7 +100,7 @@ def _coarsen(avg: pd.DataFrame, ph: np.ndarray, bin_s: float) -> tuple[dict[str,
     as they are.
     """
     numeric = [c for c in avg.columns if c in C.NUMERIC]
-    vals = avg[numeric].to_numpy(dtype=float)
+    vals = np.column_stack([avg[c].to_numpy(dtype=float) for c in numeric]) if numeric else np.zeros((len(avg), 0))
     n = vals.shape[0]
     t = vals[:, numeric.index(C.T_S)]
     if n < 2 or float(np.nanmedian(np.diff(t))) >= 0.75 * bin_s:
