@@ -134,13 +134,14 @@ def _excluded_table(breaths: pd.DataFrame, settings: AnalysisSettings) -> pd.Dat
     if not manual and len(auto):
         rows = auto["source_row"].to_numpy()
         order = np.argsort(rows, kind="stable") if np.any(np.diff(rows) < 0) else np.arange(len(rows))
+        column, reason = auto["column"].tolist(), auto["reason"].tolist()
         return pd.DataFrame(
             {
                 "source_row": rows[order],
                 "t_s": auto["t_s"].to_numpy()[order],
-                "column": [auto["column"].tolist()[i] for i in order],
+                "column": [column[i] for i in order],
                 "value": auto["value"].to_numpy()[order],
-                "reason": [auto["reason"].tolist()[i] for i in order],
+                "reason": [reason[i] for i in order],
                 "by": ["auto"] * len(rows),
             }
         )
