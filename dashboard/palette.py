@@ -54,6 +54,13 @@ PHASE_FILL: dict[str, str] = {
     "exercise": "rgba(0, 0, 0, 0.0)",
     "recovery": "rgba(0, 158, 115, 0.10)",
 }
+#: The same phase colours, stronger, for the legend swatches naming the shaded bands.
+PHASE_LEGEND: dict[str, str] = {
+    "rest": "rgba(86, 180, 233, 0.35)",
+    "warmup": "rgba(240, 228, 66, 0.55)",
+    "exercise": "rgba(0, 0, 0, 0.0)",
+    "recovery": "rgba(0, 158, 115, 0.35)",
+}
 
 #: Breaths left out of the analysis.
 EXCLUDED = VERMILLION

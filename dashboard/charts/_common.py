@@ -71,30 +71,47 @@ def phase_runs(t_s: np.ndarray, phases: np.ndarray) -> list[tuple[str, float, fl
     return runs
 
 
+#: Names of the test phases as the reader sees them (codes from ``analysis.columns.PHASES``).
+PHASE_NAMES: dict[str, str] = {"rest": "Rest", "warmup": "Warm-up", "exercise": "Exercise", "recovery": "Recovery"}
+
+
+def _shaded_runs(frame: pd.DataFrame) -> list[tuple[str, float, float]]:
+    if "phase" not in frame.columns or "t_s" not in frame.columns:
+        return []
+    sub = frame[["t_s", "phase"]].dropna()
+    runs = phase_runs(sub["t_s"].to_numpy(), sub["phase"].astype(str).to_numpy())
+    return [(p, a, b) for p, a, b in runs if palette.PHASE_FILL.get(p) and not palette.PHASE_FILL[p].endswith("0.0)") and b > a]
+
+
 def phase_shapes(frame: pd.DataFrame) -> tuple[list[dict], list[dict]]:
-    """Shapes and labels shading rest, warm-up and recovery through every panel.
+    """Shapes shading rest, warm-up and recovery through every panel (no text on the plot).
 
     Built as plain layout dicts spanning the whole plot height (``yref="paper"``): one shape per
-    phase run instead of one per panel, which keeps figure building fast.
+    phase run instead of one per panel, which keeps figure building fast. The phases are named
+    in the legend (:func:`phase_legend`), where no label can sit on top of a data line.
     """
-    shapes: list[dict] = []
-    labels: list[dict] = []
-    if "phase" not in frame.columns or "t_s" not in frame.columns:
-        return shapes, labels
-    sub = frame[["t_s", "phase"]].dropna()
-    for phase, start, end in phase_runs(sub["t_s"].to_numpy(), sub["phase"].astype(str).to_numpy()):
-        fill = palette.PHASE_FILL.get(phase)
-        if not fill or fill.endswith("0.0)") or end <= start:
-            continue
-        shapes.append(
-            {"type": "rect", "xref": "x", "yref": "paper", "x0": start, "x1": end, "y0": 0, "y1": 1,
-             "fillcolor": fill, "line": {"width": 0}, "layer": "below"}
-        )
-        labels.append(
-            {"x": start, "y": 0, "xref": "x", "yref": "paper", "text": phase, "showarrow": False,
-             "xanchor": "left", "yanchor": "bottom", "font": {"size": 11, "color": palette.GREY}}
-        )
-    return shapes, labels
+    shapes = [
+        {"type": "rect", "xref": "x", "yref": "paper", "x0": start, "x1": end, "y0": 0, "y1": 1,
+         "fillcolor": palette.PHASE_FILL[phase], "line": {"width": 0}, "layer": "below"}
+        for phase, start, end in _shaded_runs(frame)
+    ]
+    return shapes, []
+
+
+def phase_legend(frame: pd.DataFrame | None) -> list[dict]:
+    """Legend-only entries naming each shaded phase ("Rest", "Warm-up", "Recovery") in its colour."""
+    if frame is None:
+        return []
+    seen: list[str] = []
+    for phase, _, _ in _shaded_runs(frame):
+        if phase not in seen:
+            seen.append(phase)
+    return [
+        {"type": "scatter", "x": [None], "y": [None], "mode": "markers", "name": PHASE_NAMES.get(p, p.capitalize()),
+         "marker": {"symbol": "square", "size": 14, "color": palette.PHASE_LEGEND[p], "line": {"width": 0}},
+         "hoverinfo": "skip", "xaxis": "x", "yaxis": "y"}
+        for p in seen
+    ]
 
 
 def threshold_shapes(thresholds: Mapping[str, Any] | None, *, key: str = "t_s") -> tuple[list[dict], list[dict]]:
@@ -144,6 +161,23 @@ def build_figure(traces: list[dict], layout: dict[str, Any]) -> go.Figure:
     full = dict(BASE_LAYOUT)
     full.update(layout)
     return go.Figure(data=traces, layout=full, _validate=False)
+
+
+def nice_step(span: float, *, max_ticks: int = 6) -> float:
+    """A round tick spacing (1, 2, 2.5 or 5 times a power of ten) giving at most ``max_ticks`` intervals.
+
+    Used where plotly would otherwise place a second axis's ticks to line up with the first
+    axis's grid (odd values such as 16.8 / 58.4 / 100.1 W).
+    """
+    span = float(span)
+    if not np.isfinite(span) or span <= 0:
+        return 1.0
+    power = 10.0 ** np.floor(np.log10(span / max_ticks))
+    for factor in (1.0, 2.0, 2.5, 5.0, 10.0):
+        step = factor * power
+        if span / step <= max_ticks:
+            return float(step)
+    return float(10.0 * power)
 
 
 def axis_title(text: str) -> dict[str, Any]:

@@ -10,7 +10,7 @@ import plotly.graph_objects as go
 
 from analysis import columns as C
 from dashboard import palette
-from dashboard.charts._common import BOTTOM_LEGEND, axis_title, build_figure, column, decorations, figure_title, has
+from dashboard.charts._common import BOTTOM_LEGEND, axis_title, build_figure, column, decorations, figure_title, has, phase_legend
 
 #: Columns of the equivalents frame (computed in analysis, not here).
 VE_VO2 = "ve_vo2"
@@ -78,6 +78,7 @@ def equivalents_figure(
                 }
             )
     shapes, annotations = decorations(avg, thresholds)
+    traces.extend(phase_legend(avg))
     if not (has(avg, C.PETO2_MMHG) or has(avg, C.PETCO2_MMHG)):
         annotations.append(
             {"text": "No end-tidal pressures in this recording", "xref": "paper", "yref": "paper",

@@ -11,7 +11,7 @@ import plotly.graph_objects as go
 
 from analysis import columns as C
 from dashboard import palette
-from dashboard.charts._common import axis_title, build_figure, column, decorations, figure_title, has
+from dashboard.charts._common import axis_title, build_figure, column, decorations, figure_title, has, phase_legend, nice_step
 
 #: The clickable trace (averaged VO2) is named so the page can find it in a selection.
 VO2_TRACE = "VO2 (averaged)"
@@ -104,6 +104,7 @@ def time_course_figure(
         )
 
     shapes, annotations = decorations(avg, thresholds)
+    traces.extend(phase_legend(avg))
     right = 0.93 if load_col is not None else 1.0
     layout: dict[str, Any] = {
         "title": figure_title("Time course" + (f" — {averaging_label}" if averaging_label else "")),
@@ -117,8 +118,11 @@ def time_course_figure(
         "annotations": annotations,
     }
     if load_col is not None:
+        top = float(np.nanmax(avg[load_col].to_numpy(dtype=float)))
+        # Round ticks from 0 (an overlaying axis would otherwise copy the heart-rate grid's spacing).
         layout["yaxis4"] = {
             "overlaying": "y3", "side": "right", "anchor": "x", "showgrid": False, "rangemode": "tozero",
+            "tickmode": "linear", "tick0": 0, "dtick": nice_step(top, max_ticks=5),
             "title": axis_title("Work rate (W)" if load_col == C.WORK_W else "Speed (km/h)"),
         }
     return build_figure(traces, layout)

@@ -45,6 +45,13 @@ AVERAGING_SIZES: dict[str, tuple[float, ...]] = {
     "breaths": (5, 7, 9, 11, 15, 21),
     "middle_of_n": (5, 7, 9, 11),
 }
+#: Label of the window selector per method (the unit of the size).
+WINDOW_LABELS: dict[str, str] = {
+    "time_bin": "Window (s)",
+    "rolling_time": "Window (s)",
+    "breaths": "Window (breaths)",
+    "middle_of_n": "Window (breaths)",
+}
 THRESHOLD_NAMES = {"vt1": "VT1", "vt2": "VT2"}
 #: Session-state key of the saves waiting for the end of the page run.
 SAVE_QUEUE = "tm_review_save_queue"
@@ -257,6 +264,53 @@ def threshold_lines(results_json: Mapping[str, Any]) -> list[str]:
     return lines
 
 
+#: Longest unit written beside a headline number; longer ones go into the label (a metric
+#: cuts its value off with "…" when it does not fit a third of the page).
+SHORT_UNIT_CHARS = 10
+#: Who left a breath out, as the reader sees it (codes from the analysis' excluded table).
+EXCLUDED_BY = {"auto": "automatic", "reviewer": "reviewer"}
+
+
+def metric_text(row: Mapping[str, str]) -> tuple[str, str]:
+    """``(label, value)`` of a headline metric: ``("VO2peak", "1 055 mL/min")`` or, for a long
+    unit, ``("OUES (mL/min per log10 L/min)", "1 236")``."""
+    unit = row.get("unit") or ""
+    if len(unit) > SHORT_UNIT_CHARS:
+        return f"{row['label']} ({unit})", str(row["value"])
+    return str(row["label"]), f"{row['value']} {unit}".strip()
+
+
+def signal_label(column: str) -> str:
+    """``"vo2_ml_min"`` -> ``"VO2"``: the trade name of a canonical column (code kept if unknown)."""
+    from analysis import columns as C
+
+    spec = C.COLUMNS.get(column) if column else None
+    return spec.label if spec is not None else (column or "")
+
+
+def excluded_rows_view(table: pd.DataFrame) -> pd.DataFrame:
+    """The excluded-breaths table as the reviewer reads it: trade names, values with units."""
+    from analysis import columns as C
+
+    def value(col: str, v: Any) -> str:
+        spec = C.COLUMNS.get(col) if col else None
+        if spec is None:
+            return _fmt(v, 2)
+        digits = 0 if spec.unit in ("mL/min", "W") else 1 if spec.unit in ("beats/min", "mmHg", "L/min") else 2
+        return _fmt(v, digits, spec.unit)
+
+    return pd.DataFrame(
+        {
+            "Line in file": table["source_row"].astype(int).to_numpy(),
+            "Time (s)": [_fmt(t, 0) for t in table["t_s"]],
+            "Signal": [signal_label(c) for c in table["column"]],
+            "Value": [value(c, v) for c, v in zip(table["column"], table["value"])],
+            "Reason": table["reason"].astype(str).to_numpy(),
+            "Excluded by": [EXCLUDED_BY.get(str(b), str(b)) for b in table["by"]],
+        }
+    )
+
+
 @st.fragment(run_every=1.0)
 def _save_status(test_id: int) -> None:
     """A "saving" note that polls the background save and refreshes the page when it is done."""
@@ -293,7 +347,8 @@ def _headline(results_json: Mapping[str, Any]) -> None:
     cols = st.columns(min(3, max(1, len(rows))))  # three across stays readable on a tablet
     for i, row in enumerate(rows):
         with cols[i % len(cols)]:
-            st.metric(row["label"], f"{row['value']} {row['unit']}".strip())
+            label, shown = metric_text(row)
+            st.metric(label, shown)
             if row["method"]:
                 st.caption(row["method"])
     m = results_json.get("maximality") or {}
@@ -347,8 +402,8 @@ def _averaging_selector(store: Any, test_id: int, working: state.WorkingSettings
     size_key = f"avg_size_{test_id}_{method}"
     if size in sizes:
         st.session_state[size_key] = size
-    c2.selectbox("Window", sizes, key=size_key, on_change=_guard(_on_averaging), args=(store, test_id),
-                 kwargs={"method_changed": False})
+    c2.selectbox(WINDOW_LABELS.get(method, "Window"), sizes, key=size_key, on_change=_guard(_on_averaging),
+                 args=(store, test_id), kwargs={"method_changed": False}, format_func=lambda v: f"{v:g}")
 
 
 def _on_threshold(store: Any, test_id: int, *, clear: bool) -> None:
@@ -444,9 +499,10 @@ def _exclusions(store: Any, test_id: int, working: state.WorkingSettings, result
         st.caption("No breath is excluded.")
         return
     if len(table):
-        view = table.rename(columns={"source_row": "Line in file", "t_s": "Time (s)", "column": "Signal",
-                                     "value": "Value", "reason": "Reason", "by": "Excluded by"})
-        st.dataframe(view, hide_index=True)
+        st.dataframe(
+            excluded_rows_view(table), hide_index=True,
+            column_config={"Reason": st.column_config.TextColumn("Reason", width="large")},
+        )
     candidates = sorted(set(table["source_row"].astype(int).tolist() if len(table) else []) | set(restored))
     st.session_state[f"restore_{test_id}"] = [r for r in restored if r in candidates]
     st.multiselect(
@@ -506,7 +562,7 @@ def _history_and_sign_off(store: Any, test_id: int, working: state.WorkingSettin
         versions = store.list_versions(test_id)
         st.dataframe(
             pd.DataFrame(
-                [{"Version": v["version"], "Saved": f"{v['created_at']:%Y-%m-%d %H:%M}" if v["created_at"] else "",
+                [{"Version": v["version"], "Saved (UTC)": f"{v['created_at']:%Y-%m-%d %H:%M}" if v["created_at"] else "",
                   "By": v["created_by"] or "import", "Reason": v["reason"], "Signed off": "yes" if v["signed"] else ""}
                  for v in versions]
             ),
@@ -514,16 +570,52 @@ def _history_and_sign_off(store: Any, test_id: int, working: state.WorkingSettin
         )
         entries = store.audit_log(test_id)
         if entries:
-            with st.expander(f"Audit trail ({len(entries)} entries)"):
+            with st.expander(f"Audit trail ({len(entries)} {'entry' if len(entries) == 1 else 'entries'})"):
                 st.dataframe(
                     pd.DataFrame(
-                        [{"When": f"{e.at:%Y-%m-%d %H:%M}", "Who": e.actor, "Action": e.action, "Field": e.field or "",
+                        [{"When (UTC)": f"{e.at:%Y-%m-%d %H:%M}", "Who": e.actor, "Action": audit_action(e.action),
+                          "Field": audit_field(e.field),
                           "Old": "" if e.old_value is None else str(e.old_value),
                           "New": "" if e.new_value is None else str(e.new_value), "Reason": e.reason}
                          for e in entries]
                     ),
                     hide_index=True,
                 )
+
+
+#: Audit actions and setting names as the reviewer reads them (codes from the store).
+AUDIT_ACTIONS = {
+    "import": "imported", "settings_change": "setting changed", "sign_off": "signed off",
+    "person_edit": "person edited", "soft_delete": "deleted", "restore": "restored",
+    "share_create": "share link created", "share_revoke": "share link revoked",
+}
+AUDIT_FIELDS = {
+    "vt1_override": "VT1 placed by a reviewer", "vt2_override": "VT2 placed by a reviewer",
+    "excluded_rows": "breaths excluded by a reviewer", "restored_rows": "breaths put back",
+    "averaging": "averaging", "averaging.method": "averaging method", "averaging.size": "averaging window",
+    "peak_window_s": "peak window (s)", "plateau_threshold_ml_min": "plateau limit (mL/min)",
+}
+
+
+def audit_action(action: str) -> str:
+    return AUDIT_ACTIONS.get(action, action.replace("_", " "))
+
+
+AUDIT_SUBFIELDS = {"t_s": "time (s)", "vo2_ml_min": "VO2 (mL/min)", "reason": "reason", "method": "method",
+                   "size": "window"}
+
+
+def audit_field(field: str | None) -> str:
+    """A stored setting path (``vt1_override.t_s``) in words (``VT1 placed by a reviewer: time (s)``)."""
+    if not field:
+        return ""
+    if field in AUDIT_FIELDS:
+        return AUDIT_FIELDS[field]
+    head, _, tail = field.partition(".")
+    words = AUDIT_FIELDS.get(head, head.replace("_", " "))
+    if not tail:
+        return words
+    return f"{words}: {AUDIT_SUBFIELDS.get(tail, tail.replace('_', ' ').replace('.', ': '))}"
 
 
 def _choose_test(store: Any) -> int | None:

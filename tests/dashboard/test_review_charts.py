@@ -12,7 +12,7 @@ import pytest
 
 from dashboard import palette
 from dashboard.charts import equivalents_figure, time_course_figure, vslope_figure
-from dashboard.charts._common import phase_runs
+from dashboard.charts._common import nice_step, phase_runs
 from dashboard.charts.time_course import VO2_TRACE
 from dashboard.charts.vslope import DATA_TRACE
 
@@ -60,7 +60,12 @@ def test_time_course_has_units_on_every_axis_and_marks_thresholds(avg):
     assert sorted({s["x0"] for s in vlines}) == [300.0, 450.0]  # one line per threshold, through every panel
     texts = [a["text"] for a in fig.to_plotly_json()["layout"]["annotations"]]
     assert "VT1 (manual)" in texts and "VT2" in texts
-    assert "rest" in texts and "recovery" in texts  # shaded phases are labelled
+    names = [t.name for t in fig.data]
+    assert "Rest" in names and "Recovery" in names  # shaded phases are named in the legend
+    assert not {"rest", "recovery", "warmup"} & set(texts)  # no phase codes written over the data
+    load_axis = fig.to_plotly_json()["layout"]["yaxis4"]
+    # work rate up to 240 W: round 50 W ticks from 0 (not the heart-rate grid's odd values)
+    assert (load_axis["tickmode"], load_axis["tick0"], load_axis["dtick"]) == ("linear", 0, 50.0)
     excluded = next(t for t in fig.data if t.name == "Excluded breath")
     assert list(excluded.customdata) == [5, 6]
     vo2 = next(t for t in fig.data if t.name == VO2_TRACE)
@@ -104,11 +109,22 @@ def test_vslope_without_a_fit_still_plots_the_data(avg):
 
 def test_equivalents_panels_and_missing_end_tidal_note(avg):
     fig = equivalents_figure(avg, thresholds={"vt1": {"t_s": 300.0}})
-    assert {t.name for t in fig.data} == {"VE/VO2", "VE/VCO2", "PETO2", "PETCO2"}
+    assert {t.name for t in fig.data} == {"VE/VO2", "VE/VCO2", "PETO2", "PETCO2", "Rest", "Recovery"}
     assert "End-tidal pressure (mmHg)" in _axis_titles(fig)
     bare = equivalents_figure(avg.drop(columns=["peto2_mmhg", "petco2_mmhg"]))
     notes = [a["text"] for a in bare.to_plotly_json()["layout"]["annotations"]]
     assert "No end-tidal pressures in this recording" in notes
+
+
+@pytest.mark.parametrize(
+    ("span", "max_ticks", "step"),
+    [(107.0, 5, 25.0), (240.0, 5, 50.0), (14.0, 5, 5.0), (14.0, 7, 2.0), (3.2, 5, 1.0), (1000.0, 6, 200.0), (0.0, 5, 1.0)],
+)
+def test_nice_step_is_a_round_spacing(span, max_ticks, step):
+    # 1-2-2.5-5 x 10^k spacings (common practice for chart axes)
+    assert nice_step(span, max_ticks=max_ticks) == step
+    if span > 0:
+        assert span / step <= max_ticks
 
 
 def test_phase_runs_splits_contiguous_labels():

@@ -247,3 +247,39 @@ def test_typing_a_vt2_vo2_places_vt2_at_the_nearest_averaged_row(demo_store, pag
     assert stored["vt2_override"]["vo2_ml_min"] == float(target)
     expected = analyze_session(demo_store.store.load_session(test_id), AnalysisSettings.from_dict(stored)).to_json_dict()
     assert f"{expected['vt2']['vo2_ml_min']:,.0f} mL/min" in line
+
+
+def test_display_text_uses_trade_names_and_units_not_codes():
+    import pandas as pd
+
+    # a long unit moves into the label so the number is never cut off; short ones stay beside it
+    assert review.metric_text({"label": "OUES", "value": "1 236", "unit": "mL/min per log10 L/min"}) == (
+        "OUES (mL/min per log10 L/min)", "1 236")
+    assert review.metric_text({"label": "VO2peak", "value": "1 055", "unit": "mL/min"}) == ("VO2peak", "1 055 mL/min")
+    table = pd.DataFrame({"source_row": [46, 72, 90], "t_s": [56.72, 145.28, 170.0],
+                          "column": ["vo2_ml_min", "ve_l_min", ""], "value": [230.906, 26.2605, float("nan")],
+                          "reason": ["VO2 230.9 mL/min is 3.0 SD below", "VE high", "excluded by the reviewer"],
+                          "by": ["auto", "auto", "reviewer"]})
+    view = review.excluded_rows_view(table)
+    assert view["Signal"].tolist() == ["VO2", "VE", ""]
+    assert view["Value"].tolist() == ["231 mL/min", "26.3 L/min", "–"]
+    assert view["Time (s)"].tolist() == ["57", "145", "170"]
+    assert view["Excluded by"].tolist() == ["automatic", "automatic", "reviewer"]
+    assert review.audit_field("vt1_override") == "VT1 placed by a reviewer"
+    assert review.audit_field("vt1_override.t_s") == "VT1 placed by a reviewer: time (s)"
+    assert review.audit_field("averaging.size") == "averaging window"
+    assert review.audit_action("settings_change") == "setting changed"
+
+
+def test_page_shows_no_column_codes(demo_store, page_test):
+    test_id = demo_store.test_ids[0]
+    at = page_test(_review_script, tm_user=demo_store.user, tm_test_id=test_id).run()
+    assert not at.exception, at.exception
+    codes = {"vo2_ml_min", "vco2_ml_min", "ve_l_min", "hr_bpm", "work_w", "auto"}
+    for df in at.dataframe:
+        cells = {str(v) for v in df.value.to_numpy().ravel()}
+        assert not codes & cells, (list(df.value.columns), codes & cells)
+    method = at.selectbox(key=f"avg_method_{test_id}").value
+    labels = {s.label for s in at.selectbox}
+    assert review.WINDOW_LABELS[method] in labels  # the averaging window carries its unit
+    assert review.WINDOW_LABELS["time_bin"] == "Window (s)" and review.WINDOW_LABELS["breaths"] == "Window (breaths)"
