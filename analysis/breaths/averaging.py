@@ -103,8 +103,14 @@ def _numeric_columns(breaths: pd.DataFrame) -> list[str]:
 
 def _phase_mode(phase: np.ndarray, starts: np.ndarray, ends: np.ndarray) -> np.ndarray:
     """Most common phase label in each ``[start, end)`` range of rows (ties -> first label)."""
-    codes, labels = pd.factorize(pd.Series(phase, dtype=object).astype(str), sort=True)
-    labels = np.asarray(labels, dtype=object)
+    codes, uniques = pd.factorize(phase)  # each distinct label handled once; missing -> -1
+    names = [str(u) for u in uniques]
+    if (codes < 0).any():
+        names.append("nan")  # str() of a missing label, as before
+        codes = np.where(codes < 0, len(names) - 1, codes)
+    order = sorted(set(names))
+    labels = np.array(order, dtype=object)
+    codes = np.array([order.index(name) for name in names], dtype=np.int64)[codes]
     onehot = np.zeros((phase.size + 1, labels.size))
     onehot[np.arange(phase.size) + 1, codes] = 1.0
     csum = np.cumsum(onehot, axis=0)
@@ -134,7 +140,7 @@ def _assemble(
     """One frame: ``t_s``, the column means (``means`` when given, else window means), phase, n."""
     out: dict[str, Any] = {C.T_S: t_centre}
     if means is None:
-        values = breaths[cols].to_numpy(dtype=float) if cols else np.zeros((t.size, 0))
+        values = np.column_stack([breaths[c].to_numpy(dtype=float) for c in cols]) if cols else np.zeros((t.size, 0))
         for j, c in enumerate(cols):
             out[c] = _window_means(values[:, j], starts, ends)
     else:
