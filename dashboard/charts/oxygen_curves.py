@@ -38,6 +38,21 @@ def curve_conditions(conditions: Any, *, model: str) -> dict[str, float]:
     return {k: float(v) for k, v in conditions.items() if k in MODEL_CONDITIONS.get(model, ())}
 
 
+#: How each curve condition reads in the legend (name, value and unit).
+CONDITION_TEXT: dict[str, str] = {
+    "ph": "pH {:g}",
+    "temperature_c": "{:g} °C",
+    "pco2_mmhg": "PCO2 {:g} mmHg",
+    "dpg_mmol_l": "2,3-BPG {:g} mmol/L",
+    "base_excess_mmol_l": "BE {:g} mmol/L",
+}
+
+
+def condition_text(conditions: Mapping[str, float]) -> str:
+    """``"pH 7.37, 37 °C, 2,3-BPG 5 mmol/L, BE 0 mmol/L"`` for a curve's legend entry."""
+    return ", ".join(CONDITION_TEXT.get(k, k + " {:g}").format(float(v)) for k, v in conditions.items())
+
+
 def dissociation_figure(
     curves: Mapping[str, Any],
     *,
@@ -67,9 +82,7 @@ def dissociation_figure(
     for state, conds in curves.items():
         style = STATE_STYLE.get(state, {"color": palette.GREY, "dash": "solid", "symbol": "circle"})
         s = saturation(PO2_GRID_MMHG, model=model, **curve_conditions(conds, model=model), **extra)
-        cond_text = ", ".join(
-            f"{k.split('_')[0] if k != 'temperature_c' else 'T'} {v:g}" for k, v in curve_conditions(conds, model=model).items()
-        )
+        cond_text = condition_text(curve_conditions(conds, model=model))
         fig.add_trace(
             go.Scatter(
                 x=PO2_GRID_MMHG,

@@ -123,6 +123,13 @@ def _round(value: float | None, digits: int = 0) -> float | None:
     return round(float(value)) if digits == 0 else round(float(value), digits)
 
 
+def sign_off_text(signed_version: int | None, version: int) -> str:
+    """``"yes"`` when the current version is signed off, ``"version 2 only"`` when an earlier one is."""
+    if signed_version is None:
+        return "no"
+    return "yes" if signed_version == version else f"version {signed_version} only"
+
+
 def test_rows(tests: Sequence[Any], headlines: Mapping[int, Mapping[str, float | None]] | None = None) -> pd.DataFrame:
     """The test list as a table (numbers are the store's stored results)."""
     rows = []
@@ -135,12 +142,12 @@ def test_rows(tests: Sequence[Any], headlines: Mapping[int, Mapping[str, float |
                 "Test": t.id,
                 "Person": t.person_code + (f" ({t.display_name})" if t.display_name else ""),
                 "Date": t.test_date or "",
+                "Protocol": t.protocol or "",
                 "VO2peak (mL/min)": _round(h["vo2_peak_ml_min"]),
                 "VT1 VO2 (mL/min)": _round(h["vt1_vo2_ml_min"]),
                 "VE/VCO2 slope": _round(h["ve_vco2_slope"], 1),
                 "Version": t.version,
-                "Signed off": "yes" if t.signed_version == t.version else "",
-                "Protocol": t.protocol or "",
+                "Signed off": sign_off_text(t.signed_version, t.version),
                 "File": t.file_name,
             }
         )
@@ -164,7 +171,11 @@ def _test_list(store: Any) -> None:
         st.caption("No tests for this person.")
         return
     headlines = {t.id: stored_headline(store, t) for t in tests}
-    st.dataframe(test_rows(tests, headlines), hide_index=True)
+    st.dataframe(
+        test_rows(tests, headlines), hide_index=True,
+        column_config={"Protocol": st.column_config.TextColumn("Protocol", width="medium"),
+                       "File": st.column_config.TextColumn("File", width="medium")},
+    )
     st.caption("Headline numbers are from each test's current stored version.")
     by_id = {t.id: t for t in tests}
     current = state.current_test_id()
@@ -288,7 +299,7 @@ def _import_panel(store: Any, upload: Any, index: int) -> None:
     m1.metric("Breaths", f"{len(b):,}")
     m2.metric("Time span (s)", f"{b[C.T_S].min():.0f} – {b[C.T_S].max():.0f}")
     m3.metric("Gas unit found", GAS_UNITS.get(outcome.gas_unit_detected, outcome.gas_unit_detected))
-    m4.metric("Time format", outcome.time_format_detected)
+    m4.metric("Time format", TIME_FORMAT_LABELS.get(outcome.time_format_detected, outcome.time_format_detected))
     details = [f"delimiter {outcome.delimiter!r}" if outcome.delimiter else "Excel workbook",
                f"decimal mark {outcome.decimal!r}"]
     if outcome.sheet:

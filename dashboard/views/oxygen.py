@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import copy
 import logging
+import re
 from dataclasses import asdict
 from typing import Any
 
@@ -132,25 +133,47 @@ def unloading_table(oxygen: dict[str, Any]) -> pd.DataFrame:
             {
                 "State": STATE_LABEL.get(s["name"], s["name"]),
                 "Total (mL/dL)": format_number(parts.get("total"), 2),
-                "Fall in PO2": format_number(parts.get("po2_fall"), 2),
-                "Temperature": format_number(parts.get("temperature"), 2),
-                "pH / CO2": format_number(parts.get("acid_base"), 2),
-                "2,3-BPG": format_number(parts.get("dpg"), 2),
+                "Fall in PO2 (mL/dL)": format_number(parts.get("po2_fall"), 2),
+                "Temperature shift (mL/dL)": format_number(parts.get("temperature"), 2),
+                "pH / CO2 shift (mL/dL)": format_number(parts.get("acid_base"), 2),
+                "2,3-BPG shift (mL/dL)": format_number(parts.get("dpg"), 2),
                 "Extra CO2 carried (Haldane, mL/dL)": format_number(s.get("haldane_extra_co2_ml_dl"), 2),
             }
         )
     return by_state(rows)
 
 
+#: Code words that the analysis' notes may contain, as the reader knows them.
+PLAIN_WORDS: dict[str, str] = {
+    "siggaard_andersen": "Siggaard-Andersen",
+    "severinghaus": "Severinghaus",
+    "pco2_mmhg": "PCO2",
+    "ph": "pH",
+    "temperature_c": "temperature",
+    "dpg_mmol_l": "2,3-BPG",
+    "base_excess_mmol_l": "base excess",
+    "acid_base": "pH / CO2",
+    "dpg": "2,3-BPG",
+    "vt1": "VT1",
+    "vt2": "VT2",
+}
+_CODE_WORD = re.compile(r"\b(" + "|".join(sorted(map(re.escape, PLAIN_WORDS), key=len, reverse=True)) + r")\b")
+
+
+def plain_words(text: str) -> str:
+    """Replace code words (``pco2_mmhg``, ``siggaard_andersen``, ``vt1``) with the trade's words."""
+    return _CODE_WORD.sub(lambda m: PLAIN_WORDS[m.group(1)], text)
+
+
 def grouped_notes(oxygen: dict[str, Any]) -> list[str]:
-    """The comparison's notes, each said once with the states it applies to."""
+    """The comparison's notes, each said once with the states it applies to (in plain words)."""
     notes = [str(n) for n in oxygen.get("notes") or []]
     per_note: dict[str, list[str]] = {}
     for s in oxygen.get("states") or []:
         for n in s.get("notes") or []:
             per_note.setdefault(str(n), []).append(STATE_LABEL.get(s["name"], s["name"]))
     notes += [f"{', '.join(states)}: {n}" for n, states in per_note.items()]
-    return notes
+    return [plain_words(n) for n in notes]
 
 
 def _start_conditions(settings: dict[str, Any]) -> dict[str, StateConditions]:
@@ -232,7 +255,10 @@ def render() -> None:
                 "SpO2 (%)", min_value=50.0, max_value=100.0,
                 value=float(stored_ox.get("spo2_pct") or DEFAULT_SPO2_PCT), step=0.5, key="ox_spo2",
             )
-        st.markdown("Venous blood conditions per state (defaults: `docs/oxygen.md`; edit when blood gases were measured)")
+        st.markdown(
+            "Venous blood conditions per state (defaults are typical values for healthy adults at each "
+            "exercise intensity; replace them with measured blood gases when you have them)"
+        )
         conditions = condition_inputs(_start_conditions(settings), test_id=test_id)
         st.markdown("Measured cardiac output (L/min; leave 0 to use the Stringer 1997 estimate)")
         q_cols = st.columns(len(STATE_NAMES))
@@ -274,7 +300,7 @@ def render() -> None:
     st.plotly_chart(unloading_figure(oxygen["states"]), width="stretch", key="oxygen_unloading")
     parts = unloading_table(oxygen)
     st.dataframe(parts, hide_index=True, width="stretch", height=_rows_height(len(parts)))
-    st.caption(f"Method: {oxygen.get('decomposition_method', '')}.")
+    st.caption(f"Method: {plain_words(str(oxygen.get('decomposition_method', '')))}.")
 
     for note in grouped_notes(oxygen):
         st.info(note)

@@ -122,6 +122,9 @@ def test_pure_helpers():
     flags = pd.DataFrame({"source_row": [3, 4, 9], "column": ["rer", "rer", "hr_bpm"], "reason": ["RER high"] * 2 + ["gap"]})
     s = library.flag_summary(flags)
     assert dict(zip(s["Reason"], s["Rows"])) == {"RER high": 2, "gap": 1}
+    assert [library.sign_off_text(None, 1), library.sign_off_text(2, 2), library.sign_off_text(1, 3)] == [
+        "no", "yes", "version 1 only"]
+    assert library.TIME_FORMAT_LABELS["s"] == "seconds" and library.TIME_FORMAT_LABELS["mm:ss"] == "m:ss"
 
 
 def test_xlsx_sheet_choice_and_first_sheet_import(demo_store, page_test):

@@ -140,3 +140,22 @@ def test_keep_conditions_saves_a_new_version(demo_store, page_test):
     assert changes and "Oxygen path" in changes[0].reason
     # the page now shows the kept conditions as the stored ones: nothing left to keep
     assert not [b for b in at.button if b.key == "ox_keep"]
+
+
+def test_notes_and_legends_use_the_trades_words_not_codes(demo_store, test_id):
+    from dashboard.charts.oxygen_curves import condition_text
+    from dashboard.views.oxygen import grouped_notes, plain_words, unloading_table
+
+    assert plain_words("pco2_mmhg not applied to the siggaard_andersen curve for rest, vt1, peak") == (
+        "PCO2 not applied to the Siggaard-Andersen curve for rest, VT1, peak")
+    assert plain_words("shift split into temperature, acid_base, dpg") == "shift split into temperature, pH / CO2, 2,3-BPG"
+    assert plain_words("pH 7.4 and graphs") == "pH 7.4 and graphs"  # words containing a code are left alone
+    assert condition_text({"ph": 7.37, "temperature_c": 37.0, "dpg_mmol_l": 5.0, "base_excess_mmol_l": -10.0}) == (
+        "pH 7.37, 37 °C, 2,3-BPG 5 mmol/L, BE -10 mmol/L")
+    settings, _ = demo_store.store.get_settings(test_id)
+    ox = analysis_json(demo_store.store, test_id, with_oxygen(settings, _default_oxygen_settings(), hb_g_dl=None))["oxygen"]
+    codes = ("pco2_mmhg", "siggaard_andersen", "acid_base", "dpg_mmol_l", "base_excess_mmol_l")
+    for note in grouped_notes(ox):
+        assert not any(c in note for c in codes), note
+    quantities = unloading_table(ox)["Quantity"].tolist()
+    assert all(q.endswith("mL/dL)") for q in quantities), quantities  # every row carries its unit
