@@ -26,7 +26,7 @@ from __future__ import annotations
 import math
 import warnings
 from collections.abc import Mapping, Sequence
-from dataclasses import asdict, dataclass, field, replace
+from dataclasses import asdict, dataclass, field, fields, replace
 from functools import lru_cache
 from typing import Any
 
@@ -199,7 +199,12 @@ def _json_safe(obj: Any) -> Any:
 
 
 def _state_json(s: StateOxygen) -> dict[str, Any]:
-    out = {k: v for k, v in asdict(s).items() if k not in ("unloading", "conditions")}
+    # field by field (asdict would deep-copy the two nested dataclasses only to drop them)
+    out = {
+        f.name: list(v) if isinstance(v := getattr(s, f.name), list) else v
+        for f in fields(s)
+        if f.name not in ("unloading", "conditions")
+    }
     out["estimate"] = s.estimate
     out["avo2_estimated"] = s.q_estimated
     out["venous_values_estimated"] = True
