@@ -49,11 +49,26 @@ def progress_figure(table: pd.DataFrame, metric: str) -> go.Figure:
     dates = rows["test_date"].astype(str).tolist()
     if len(rows):
         low, high = rows["band_low"].iloc[0], rows["band_high"].iloc[0]
-        if pd.notna(low) and pd.notna(high) and dates:
+        if pd.notna(low) and pd.notna(high) and len(set(dates)) == 1:
+            # one test date: an area would have no width, so the band is an error bar there
+            fig.add_trace(
+                go.Scatter(
+                    x=[dates[0]],
+                    y=[(low + high) / 2.0],
+                    mode="markers",
+                    marker={"size": 1, "color": "rgba(86, 180, 233, 0.0)"},
+                    error_y={"type": "data", "symmetric": True, "array": [(high - low) / 2.0],
+                             "color": "rgba(86, 180, 233, 0.6)", "thickness": 6, "width": 18},
+                    hoverinfo="skip",
+                    name="Typical-error band",
+                )
+            )
+        elif pd.notna(low) and pd.notna(high) and dates:
             fig.add_trace(
                 go.Scatter(
                     x=[dates[0], dates[-1], dates[-1], dates[0], dates[0]],
                     y=[low, low, high, high, low],
+                    mode="lines",
                     fill="toself",
                     fillcolor="rgba(86, 180, 233, 0.18)",
                     line={"width": 0},

@@ -57,7 +57,7 @@ def change_display(table: pd.DataFrame) -> pd.DataFrame:
                 if r["is_baseline"]
                 else (format_number(r["change"], digits) if pd.isna(r["change"]) else f"{r['change']:+,.{digits}f}".replace(",", "\u2009") + unit),
                 "Change (%)": "–" if r["is_baseline"] or pd.isna(r["change_pct"]) else f"{r['change_pct']:+.1f} %",
-                "Beyond typical error": "yes" if r["beyond_typical_error"] else "no",
+                "Beyond typical error": "–" if r["is_baseline"] else ("yes" if r["beyond_typical_error"] else "no"),
             }
         )
     return pd.DataFrame(rows)

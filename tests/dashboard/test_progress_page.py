@@ -62,6 +62,8 @@ def test_change_from_baseline_equals_analysis(rehab_store, page_test):
     base, follow = (analysis_json(store, i) for i in ids)
     rows = _rows(at)
     assert rows[("2025-11-12", "VO2peak")]["Change from baseline"] == "baseline"
+    assert rows[("2025-11-12", "VO2peak")]["Beyond typical error"] == "–"  # not compared with itself
+    assert rows[("2026-02-04", "VO2peak")]["Beyond typical error"] in {"yes", "no"}
     shown = parse_number(rows[("2026-02-04", "VO2peak")]["Value"])
     assert shown == pytest.approx(follow["vo2_peak_ml_min"], abs=0.5)
     change = parse_number(rows[("2026-02-04", "VO2peak")]["Change from baseline"])
@@ -110,6 +112,15 @@ def test_charts_from_progress_table(rehab_store):
     assert names[:3] == ["Typical-error band", "VO2peak", "Baseline"]
     assert fig.layout.yaxis.title.text == "VO2peak (mL/min)"
     assert list(fig.data[1].y) == pytest.approx([r["vo2_peak_ml_min"] for r in (x.results for x in records)])
+    assert fig.data[0].mode == "lines" and fig.data[0].fill == "toself"  # an area, no corner dots
+    # One test only: the band is an error bar around the baseline value (half-width = (high - low) / 2).
+    single = progress_table(records[:1])
+    one = progress_figure(single, "vo2_peak_ml_min")
+    row = single[single["metric"] == "vo2_peak_ml_min"].iloc[0]
+    band = one.data[0]
+    assert band.name == "Typical-error band" and band.mode == "markers"
+    assert band.y[0] == pytest.approx((row["band_low"] + row["band_high"]) / 2)
+    assert band.error_y.array[0] == pytest.approx((row["band_high"] - row["band_low"]) / 2)
     import pandas as pd
 
     aligned = pd.DataFrame({"test": ["a", "a", "b"], "x": [0.0, 10.0, 0.0], "y": [1.0, 2.0, 3.0]})
