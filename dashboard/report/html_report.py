@@ -162,6 +162,13 @@ def headline_rows(results: Mapping[str, Any]) -> list[dict[str, str]]:
     return rows
 
 
+def column_title(label: str, unit: str) -> str:
+    """``"VO2 (mL/min)"``; a label that already names its unit (``"% of VO2peak"``) stays as it is."""
+    if not unit or (unit == "%" and label.startswith("%")):
+        return label
+    return f"{label} ({unit})"
+
+
 def threshold_source(threshold: Mapping[str, Any] | None) -> str:
     """"manual" when the reviewer set the threshold, else "automatic" (or "" when absent)."""
     if not threshold:
@@ -184,7 +191,7 @@ def threshold_display(results: Mapping[str, Any]) -> list[dict[str, str]]:
             continue
         for label, key, unit, digits in THRESHOLD_ROWS:
             if _number(t.get(key)) is not None:
-                row[f"{label} ({unit})"] = format_number(t.get(key), digits)
+                row[column_title(label, unit)] = format_number(t.get(key), digits)
         row["Method"] = str(t.get("method") or "")
         row["Set"] = threshold_source(t)
         rows.append(row)
@@ -252,7 +259,7 @@ def zone_rows(results: Mapping[str, Any]) -> list[dict[str, str]]:
         for label, stem, unit, digits in _ZONE_RANGES:
             text = _zone_range(zone, stem, digits)
             if text is not None:
-                row[f"{label} ({unit})"] = text
+                row[column_title(label, unit)] = text
         rows.append(row)
     return rows
 
@@ -283,7 +290,7 @@ def _threshold_table(results: Mapping[str, Any], ctx: ReportContext) -> str:
         values = [format_number(_get(results, (k, key)), digits) for k, _ in names]
         if all(v == "–" for v in values):
             continue
-        rows.append([f"{label} ({unit})", *values])
+        rows.append([column_title(label, unit), *values])
     method_row = ["Method"]
     set_row = ["Set by"]
     for k, _ in names:

@@ -273,7 +273,7 @@ EXCLUDED_BY = {"auto": "automatic", "reviewer": "reviewer"}
 
 def metric_text(row: Mapping[str, str]) -> tuple[str, str]:
     """``(label, value)`` of a headline metric: ``("VO2peak", "1 055 mL/min")`` or, for a long
-    unit, ``("OUES (mL/min per log10 L/min)", "1 236")``."""
+    unit, ``("OUES (mL/min per log10(L/min))", "1 236")``."""
     unit = row.get("unit") or ""
     if len(unit) > SHORT_UNIT_CHARS:
         return f"{row['label']} ({unit})", str(row["value"])

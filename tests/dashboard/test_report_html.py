@@ -131,3 +131,13 @@ def test_helpers():
     assert threshold_source(None) == ""
     rows = headline_rows({"vo2_peak_ml_min": 3000.0, "rer_peak": None})
     assert [r["label"] for r in rows] == ["VO2peak"]
+
+
+def test_column_titles_name_each_unit_once():
+    from dashboard.report.html_report import column_title, threshold_display
+
+    assert column_title("VO2", "mL/min") == "VO2 (mL/min)"
+    assert column_title("% of VO2peak", "%") == "% of VO2peak"
+    assert column_title("VE/VCO2 slope", "") == "VE/VCO2 slope"
+    (vt1, _) = threshold_display({"vt1": {"time_s": 600.0, "pct_vo2_peak": 55.0, "source": "auto"}})
+    assert vt1["% of VO2peak"] == "55" and vt1["Time (s)"] == "600"
