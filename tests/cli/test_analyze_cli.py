@@ -30,8 +30,12 @@ def test_json_is_one_object_with_stable_keys(session_dir, capsys):
     out = capsys.readouterr().out
     data = json.loads(out)  # exactly one JSON object on stdout
     assert list(data) == list(TOP_LEVEL_KEYS)
-    for key in ("vo2_peak_ml_min", "vo2_peak_ml_kg_min", "rer_peak", "hr_peak_bpm", "ve_vco2_slope", "oues"):
+    for key in ("vo2_peak_ml_min", "vo2_peak_ml_kg_min", "rer_peak", "hr_peak_bpm", "ve_vco2_slope", "oues",
+                "ve_vco2_slope_to_vt2", "ve_vco2_slope_whole_exercise"):
         assert isinstance(data[key], float), key
+    # both spans of the VE/VCO2 slope; the headline is the one to VT2 when VT2 was found
+    assert data["vt2"] is not None and data["ve_vco2_slope"] == data["ve_vco2_slope_to_vt2"]
+    assert data["indices"]["ve_vco2_slope_span"] == "to_vt2"
     assert {"vo2_ml_min", "time_s", "hr_bpm", "work_w", "method"} <= set(data["vt1"])
     assert data["subject"]["source_name"] == f.name
 
