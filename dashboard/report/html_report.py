@@ -312,16 +312,29 @@ def _threshold_table(results: Mapping[str, Any], ctx: ReportContext) -> str:
     return _table(header, rows, numeric=(1, 2))
 
 
+def report_chart_height(layout: Mapping[str, Any]) -> int:
+    """Height (px) of a chart in the report: room for each stacked panel (an axis that only
+    overlays another, such as work rate beside heart rate, adds none) and the legend above."""
+    stacked = sum(
+        1 for key, axis in layout.items()
+        if key.startswith("yaxis") and not (isinstance(axis, Mapping) and axis.get("overlaying"))
+    )
+    if stacked <= 1:
+        return CHART_HEIGHT_PX + 140  # one panel (V-slope): close to square, legend above
+    return CHART_HEIGHT_PX + 150 * (stacked - 1)
+
+
 def _figure_html(title: str, fig: Any, *, first: bool) -> str:
     fig = fig.__class__(fig)  # a copy: the caller's figure keeps its own size and title
-    panels = sum(1 for key in fig.layout.to_plotly_json() if key.startswith("yaxis"))
-    height = CHART_HEIGHT_PX + 90 * max(0, panels - 2)  # stacked panels get room to read
     fig.update_layout(
         width=CHART_WIDTH_PX,
-        height=height,
+        height=report_chart_height(fig.layout.to_plotly_json()),
         autosize=False,
         title=None,
-        margin=dict(l=70, r=60, t=80, b=50),
+        font={"size": 11},
+        # legend above the plot on paper: it never covers an axis title or the data
+        legend={"orientation": "h", "yanchor": "bottom", "y": 1.02, "xanchor": "left", "x": 0, "font": {"size": 10}},
+        margin=dict(l=70, r=60, t=110, b=50),
     )
     div = fig.to_html(
         include_plotlyjs=True if first else False,
@@ -335,13 +348,42 @@ def _css() -> str:
     return resources.files("dashboard.report").joinpath("report.css").read_text(encoding="utf-8")
 
 
+#: Names of the results' method entries as the reader knows them (keys from the analysis).
+METHOD_NAMES: dict[str, str] = {
+    "outliers": "Outlier breaths", "phases": "Test phases", "averaging": "Averaging",
+    "vo2_peak": "VO2peak", "rer_peak": "RER peak", "hr_peak_bpm": "Heart rate peak",
+    "ve_vco2_slope": "VE/VCO2 slope", "ve_vco2_slope_to_vt2": "VE/VCO2 slope to VT2",
+    "ve_vco2_nadir": "VE/VCO2 nadir", "oues": "OUES", "o2_pulse": "O2 pulse",
+    "vo2_work_rate_slope": "VO2 / work-rate slope", "mets": "METs", "hr_reserve": "Heart-rate reserve",
+    "hr_recovery_1min": "Heart-rate recovery (1 min)", "breathing_reserve": "Breathing reserve",
+    "energy_expenditure": "Energy expenditure", "substrate_oxidation": "Substrate oxidation",
+    "fat_max": "Peak fat oxidation", "maximality": "Maximality", "predicted_vo2max": "Predicted VO2max",
+    "hr_max_predicted": "Predicted maximal heart rate", "weber_class": "Weber class",
+    "ventilatory_class": "Ventilatory class", "zones": "Training zones", "vt1": "VT1", "vt2": "VT2 / RCP",
+    "oxygen": "Oxygen path", "oxygen_spo2": "Arterial saturation",
+}
+#: Internal references in method texts and what the reader sees instead.
+_CODE_REFERENCE = re.compile(r"\s*\((?:analysis|dashboard|store)\.[\w.]+\)")
+_SEE_REASONS = re.compile(r"see thresholds\.reasons")
+
+
+def method_name(key: str) -> str:
+    """``"hr_peak_bpm"`` -> ``"Heart rate peak"`` (unknown keys with spaces for underscores)."""
+    return METHOD_NAMES.get(key, key.replace("_", " "))
+
+
+def method_text(text: str) -> str:
+    """A method description without references to program code (module paths, field names)."""
+    return _SEE_REASONS.sub("see the threshold notes", _CODE_REFERENCE.sub("", text))
+
+
 def _methods_list(results: Mapping[str, Any]) -> list[str]:
     methods = results.get("methods") or {}
     items: list[str] = []
     if isinstance(methods, Mapping):
         for key, value in methods.items():
             text = "; ".join(f"{k}: {v}" for k, v in value.items()) if isinstance(value, Mapping) else str(value)
-            items.append(f"{key.replace('_', ' ')}: {text}")
+            items.append(f"{method_name(str(key))}: {method_text(text)}")
     averaging = results.get("averaging")
     if averaging and not any(str(k).startswith("averaging") for k in (methods or {})):
         text = (
@@ -349,7 +391,7 @@ def _methods_list(results: Mapping[str, Any]) -> list[str]:
             if isinstance(averaging, Mapping)
             else str(averaging)
         )
-        items.append(f"averaging: {text}")
+        items.append(f"Averaging: {text}")
     return items
 
 

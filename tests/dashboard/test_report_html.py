@@ -141,3 +141,24 @@ def test_column_titles_name_each_unit_once():
     assert column_title("VE/VCO2 slope", "") == "VE/VCO2 slope"
     (vt1, _) = threshold_display({"vt1": {"time_s": 600.0, "pct_vo2_peak": 55.0, "source": "auto"}})
     assert vt1["% of VO2peak"] == "55" and vt1["Time (s)"] == "600"
+
+
+def test_methods_named_in_words_without_program_references():
+    from dashboard.report.html_report import _methods_list, report_chart_height
+
+    items = _methods_list({"methods": {
+        "hr_peak_bpm": "highest averaged heart rate during exercise",
+        "oxygen": "Fick a-vO2 difference against the dissociation curve (analysis.oxygen.oxygen_comparison)",
+        "vt2": "not found (see thresholds.reasons)",
+        "some_new_entry": "text",
+    }})
+    assert items == [
+        "Heart rate peak: highest averaged heart rate during exercise",
+        "Oxygen path: Fick a-vO2 difference against the dissociation curve",
+        "VT2 / RCP: not found (see the threshold notes)",
+        "some new entry: text",
+    ]
+    # three stacked panels plus an overlaying work-rate axis: room for three panels, not four
+    three = {"yaxis": {}, "yaxis2": {}, "yaxis3": {}, "yaxis4": {"overlaying": "y3"}}
+    assert report_chart_height(three) == report_chart_height({"yaxis": {}, "yaxis2": {}, "yaxis3": {}}) > 500
+    assert report_chart_height({"yaxis": {}}) >= 400  # V-slope near square with its legend above
