@@ -115,7 +115,6 @@ def _parse_plain_column(values: Sequence[object], decimal: str) -> tuple[np.ndar
     plain = set(joined) <= _PLAIN_CHARS[decimal]
     if not plain and not _FAST_COLUMN[decimal].fullmatch(joined):
         return None
-    missing = np.fromiter((v == "" for v in values), dtype=bool, count=len(values))
     cells = [v or "nan" for v in values]  # type: ignore[misc]
     if decimal == ",":
         cells = [v.replace(",", ".") for v in cells]
@@ -125,6 +124,7 @@ def _parse_plain_column(values: Sequence[object], decimal: str) -> tuple[np.ndar
         if not _FAST_COLUMN[decimal].fullmatch(joined):
             return None
         raise
+    missing = np.isnan(out)  # only empty cells read as NaN: no cell here spells "nan"
     bad = ~np.isfinite(out) & ~missing  # e.g. 1e999
     out[bad] = np.nan
     return out, missing, bad
