@@ -130,7 +130,7 @@ def render_scope(store: Any, scope: Any) -> None:
 
     if _allowed(scope, "headline"):
         rows = headline_rows(results_json)
-        cols = st.columns(min(4, max(1, len(rows))))
+        cols = st.columns(min(3, max(1, len(rows))))  # three across: labels with units fit on a tablet
         for i, row in enumerate(rows):
             cols[i % len(cols)].metric(
                 f"{row['label']} ({row['unit']})" if row["unit"] else row["label"], row["value"], help=row["method"] or None
@@ -172,5 +172,8 @@ def stored_settings(store: Any, test_id: int) -> tuple[dict[str, Any], int | Non
 
 
 def threshold_frame(results_json: dict[str, Any]) -> pd.DataFrame:
-    """VT1/VT2 rows for display (see :func:`dashboard.report.html_report.threshold_display`)."""
-    return pd.DataFrame(threshold_display(results_json)).fillna("–")
+    """VT1 and VT2 as columns, quantities as rows (reads on a tablet without sideways scrolling;
+    values from :func:`dashboard.report.html_report.threshold_display`)."""
+    frame = pd.DataFrame(threshold_display(results_json)).fillna("–").set_index("Threshold").T
+    frame.index.name = ""
+    return frame.reset_index()

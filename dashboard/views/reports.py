@@ -61,7 +61,7 @@ def render() -> None:
     st.info(review_state_text(record, version, saved=saved))
     rows = headline_rows(results_json)
     if rows:
-        cols = st.columns(min(4, len(rows)))
+        cols = st.columns(min(3, len(rows)))  # three across: labels with their units are not cut off
         for i, row in enumerate(rows):
             label = f"{row['label']} ({row['unit']})" if row["unit"] else row["label"]
             cols[i % len(cols)].metric(label, row["value"], help=row["method"] or None)

@@ -202,3 +202,13 @@ def test_one_view_counted_per_session_and_revocation_is_immediate(demo_store):
     at.run()  # the same browser session, after revocation
     assert page_text(at) == ["Tidemark", INVALID_TEXT]
     assert len(at.metric) == 0
+
+
+def test_coach_threshold_table_has_one_column_per_threshold():
+    from dashboard.views.coach import threshold_frame
+
+    frame = threshold_frame({"vt1": {"time_s": 725.0, "vo2_ml_min": 2972.0, "source": "auto", "method": "consensus"}})
+    assert list(frame.columns) == ["", "VT1", "VT2 / RCP"]
+    rows = dict(zip(frame[""], frame["VT1"]))
+    assert rows["Time (s)"] == "725" and rows["VO2 (mL/min)"] == "2\u2009972" and rows["Set"] == "automatic"
+    assert dict(zip(frame[""], frame["VT2 / RCP"]))["Set"] == "not found"
