@@ -215,7 +215,7 @@ def read_session(source: str | Path | bytes, *, file_name: str | None = None, ma
             )
             data[canonical] = values * factors[canonical]
         else:
-            data[canonical] = np.array(text_values(cells), dtype=object)
+            data[canonical] = pd.Series(text_values(cells), dtype=object)  # None stays None
     problems.raise_if_any()
     frame = pd.DataFrame(data)  # built once: adding columns one by one costs more than the parse
     meta = checked_meta(meta_entries, problems)

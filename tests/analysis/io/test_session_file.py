@@ -114,3 +114,15 @@ class TestStrictReader:
             read_session(b"t_s,vo2_ml_min,vco2_ml_min,ve_l_min\n" + rows)
         assert len(info.value.problems) == 11
         assert "15 more" in info.value.problems[-1].message
+
+
+def test_missing_text_cells_are_none():
+    # Text columns (phase, marker) hold None for an empty cell, never NaN, and keep object dtype.
+    from analysis.io import read_session
+
+    s = read_session(
+        b"t_s,vo2_ml_min,vco2_ml_min,ve_l_min,phase,marker\n0,300,250,10,rest,\n3,310,255,10.5,,ramp start\n",
+        file_name="m.session.csv",
+    )
+    assert s.breaths["marker"].tolist() == [None, "ramp start"]
+    assert s.breaths["marker"].dtype == object and s.breaths["phase"].dtype == object
