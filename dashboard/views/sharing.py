@@ -33,6 +33,11 @@ SECTION_LABELS: dict[str, str] = {
 }
 
 
+#: The sections in the list of links (short words).
+SECTION_SHORT: dict[str, str] = {"headline": "headline and thresholds", "zones": "zones", "charts": "charts",
+                                 "report": "report"}
+
+
 def share_url(token: str, *, host: str | None = None) -> str:
     """``http://<host>/?link=<token>`` — the address a coach opens."""
     return f"http://{host or 'localhost:8630'}/?link={token}"
@@ -70,18 +75,18 @@ def shares_frame(shares: list[Any], *, tests: dict[int, Any], people: dict[int, 
             scope = "person: " + person_label(people[s.person_id])
         else:
             scope = f"{len(s.test_ids)} test(s)"
-        rows.append(
+        rows.append(  # what a reviewer checks first comes first (the table may scroll sideways)
             {
                 "Link": s.id,
-                "Covers": scope,
-                "Name shown": "yes" if s.show_name else "code only",
-                "Shows": ", ".join(SECTION_LABELS.get(x, x).split(" ")[0].lower() for x in s.sections),
-                "Created by": s.created_by,
-                "Created": s.created_at.strftime("%Y-%m-%d %H:%M"),
-                "Expires": s.expires_at.strftime("%Y-%m-%d %H:%M"),
                 "State": share_state(s),
+                "Covers": scope,
+                "Expires (UTC)": s.expires_at.strftime("%Y-%m-%d %H:%M"),
+                "Shows": ", ".join(SECTION_SHORT.get(x, x) for x in s.sections),
                 "Views": int(s.n_views),
-                "Last viewed": s.last_viewed_at.strftime("%Y-%m-%d %H:%M") if s.last_viewed_at else "never",
+                "Last viewed (UTC)": s.last_viewed_at.strftime("%Y-%m-%d %H:%M") if s.last_viewed_at else "never",
+                "Name shown": "yes" if s.show_name else "code only",
+                "Created by": s.created_by,
+                "Created (UTC)": s.created_at.strftime("%Y-%m-%d %H:%M"),
             }
         )
     return pd.DataFrame(rows)

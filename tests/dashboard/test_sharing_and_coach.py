@@ -56,6 +56,8 @@ def test_reviewer_creates_link_shown_once_and_listed(demo_store, page_test):
     listed = at.dataframe[0].value
     assert listed.iloc[0]["State"] == "active" and listed.iloc[0]["Views"] == 0
     assert listed.iloc[0]["Name shown"] == "code only"
+    assert listed.iloc[0]["Shows"] == "headline and thresholds, zones, charts, report"
+    assert list(listed.columns[:4]) == ["Link", "State", "Covers", "Expires (UTC)"]
     # Shown once: the next run of the page no longer carries the address.
     at.run()
     assert len(at.code) == 0
