@@ -228,11 +228,11 @@ def find_outlier_breaths(
         {
             "source_row": np.asarray(src)[hit].astype(int),
             "t_s": t[hit].astype(float),
-            "column": names,
+            "column": names if names else pd.Series([], dtype=object),  # empty: object, as before
             "value": value,
             "local_mean": local_mean,
             "local_sd": local_sd,
-            "reason": reasons,
+            "reason": reasons if reasons else pd.Series([], dtype=object),
         }
     )
 
