@@ -211,9 +211,10 @@ def _safe(fn, *args, **kwargs):  # noqa: ANN001, ANN202 - small internal adapter
 
 
 def _col(frame: pd.DataFrame, name: str) -> np.ndarray | None:
-    if name not in frame or not frame[name].notna().any():
+    if name not in frame:
         return None
-    return frame[name].to_numpy(dtype=float)
+    values = frame[name].to_numpy(dtype=float)
+    return values if (~np.isnan(values)).any() else None
 
 
 def _indices(

@@ -261,4 +261,4 @@ def exclude_breaths(breaths: pd.DataFrame, source_rows: Iterable[int]) -> pd.Dat
     else:
         keys = np.arange(1, len(breaths) + 1)
     mask = ~np.isin(keys, np.fromiter(drop, dtype=np.int64, count=len(drop)))
-    return breaths.loc[mask].reset_index(drop=True).copy()
+    return breaths.loc[mask].reset_index(drop=True)  # a new frame (copy-on-write: never a view)
