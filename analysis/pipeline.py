@@ -578,12 +578,13 @@ def analyze_session(
 
     methods = dict(_BASE_METHODS)
     span = indices.get("ve_vco2_slope_span")
-    methods["ve_vco2_slope"] = (
-        "least-squares slope of VE on VCO2 from exercise start to VT2 (VT2 found; Arena et al. 2007)"
-        if span == VE_VCO2_TO_VT2
-        else "least-squares slope of VE on VCO2 over the whole exercise phase "
-        f"({'no VT2 found' if report.vt2 is None else 'too few points below VT2'}; Arena et al. 2007)"
-    )
+    if span == VE_VCO2_TO_VT2:
+        methods["ve_vco2_slope"] = "least-squares slope of VE on VCO2 from exercise start to VT2 (VT2 found; Arena et al. 2007)"
+    elif span == VE_VCO2_WHOLE_EXERCISE:
+        why = "no VT2 found" if report.vt2 is None else "too few points below VT2"
+        methods["ve_vco2_slope"] = f"least-squares slope of VE on VCO2 over the whole exercise phase ({why}; Arena et al. 2007)"
+    else:
+        methods["ve_vco2_slope"] = "least-squares slope of VE on VCO2 (Arena et al. 2007); not computable here, see warnings"
     methods["averaging"] = settings.averaging.label
     window = f"centred {settings.peak_window_s:g}-s mean of the" if settings.peak_window_s else "value of the"
     methods["vo2_peak"] = f"highest {window} averaged exercise VO2 (common practice: 30-s peak values)"
