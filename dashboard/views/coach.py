@@ -27,7 +27,9 @@ from dashboard.report.html_report import threshold_display
 log = logging.getLogger("tidemark.dashboard")
 
 #: The only text shown for a link that does not open (any reason).
-INVALID_TEXT = "This link is not valid."
+INVALID_TEXT = (
+    "This link is not valid. It may have expired or been withdrawn; ask the lab that sent it for a new one."
+)
 
 #: Token shape accepted before asking the store (URL-safe base64, as ``secrets.token_urlsafe``).
 _TOKEN_SHAPE = re.compile(r"^[A-Za-z0-9_-]{16,128}$")

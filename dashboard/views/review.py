@@ -289,24 +289,18 @@ def signal_label(column: str) -> str:
 
 
 def excluded_rows_view(table: pd.DataFrame) -> pd.DataFrame:
-    """The excluded-breaths table as the reviewer reads it: trade names, values with units."""
-    from analysis import columns as C
+    """The excluded-breaths table as the reviewer reads it: trade names, no codes.
 
-    def value(col: str, v: Any) -> str:
-        spec = C.COLUMNS.get(col) if col else None
-        if spec is None:
-            return _fmt(v, 2)
-        digits = 0 if spec.unit in ("mL/min", "W") else 1 if spec.unit in ("beats/min", "mmHg", "L/min") else 2
-        return _fmt(v, digits, spec.unit)
-
+    The value itself is not repeated in a column of its own: the reason already states it with
+    its unit ("VO2 230.9 mL/min is 3.0 SD below ..."), and the reason needs the width.
+    """
     return pd.DataFrame(
         {
             "Line in file": table["source_row"].astype(int).to_numpy(),
-            "Time (s)": [_fmt(t, 0) for t in table["t_s"]],
+            "Time (s)": ["–" if pd.isna(t) else f"{float(t):.0f}" for t in table["t_s"]],
             "Signal": [signal_label(c) for c in table["column"]],
-            "Value": [value(c, v) for c, v in zip(table["column"], table["value"])],
-            "Reason": table["reason"].astype(str).to_numpy(),
             "Excluded by": [EXCLUDED_BY.get(str(b), str(b)) for b in table["by"]],
+            "Reason": table["reason"].astype(str).to_numpy(),
         }
     )
 
@@ -563,7 +557,7 @@ def _history_and_sign_off(store: Any, test_id: int, working: state.WorkingSettin
         st.dataframe(
             pd.DataFrame(
                 [{"Version": v["version"], "Saved (UTC)": f"{v['created_at']:%Y-%m-%d %H:%M}" if v["created_at"] else "",
-                  "By": v["created_by"] or "import", "Reason": v["reason"], "Signed off": "yes" if v["signed"] else ""}
+                  "By": v["created_by"] or "import", "Reason": v["reason"], "Signed off": "yes" if v["signed"] else "no"}
                  for v in versions]
             ),
             hide_index=True,

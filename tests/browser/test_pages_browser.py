@@ -11,6 +11,7 @@ import re
 import secrets
 from html.parser import HTMLParser
 
+from dashboard.views.coach import INVALID_TEXT
 from tests.browser.conftest import wait_for_app
 from tests.support import ARTIFACTS
 
@@ -108,11 +109,11 @@ def test_share_link_opens_coach_view_only(app_server, browser, page, screenshot)
         screenshot(coach, "coach-view")
 
         coach.goto(f"{app_server}/?link={secrets.token_urlsafe(32)}")
-        coach.get_by_text("This link is not valid.").wait_for(timeout=60_000)
+        coach.get_by_text(INVALID_TEXT).wait_for(timeout=60_000)
         wait_for_app(coach)
         assert coach.locator("[data-testid='stSidebarNav']").count() == 0
         body = coach.locator("[data-testid='stMain']").inner_text()
-        assert body.split() == "Tidemark This link is not valid.".split()
+        assert body.split() == f"Tidemark {INVALID_TEXT}".split()
         screenshot(coach, "coach-invalid-link")
     finally:
         coach.context.close()

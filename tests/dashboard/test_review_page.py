@@ -262,8 +262,8 @@ def test_display_text_uses_trade_names_and_units_not_codes():
                           "by": ["auto", "auto", "reviewer"]})
     view = review.excluded_rows_view(table)
     assert view["Signal"].tolist() == ["VO2", "VE", ""]
-    assert view["Value"].tolist() == ["231 mL/min", "26.3 L/min", "–"]
     assert view["Time (s)"].tolist() == ["57", "145", "170"]
+    assert view["Reason"].tolist()[0].startswith("VO2 230.9 mL/min")  # value and unit stated in the reason
     assert view["Excluded by"].tolist() == ["automatic", "automatic", "reviewer"]
     assert review.audit_field("vt1_override") == "VT1 placed by a reviewer"
     assert review.audit_field("vt1_override.t_s") == "VT1 placed by a reviewer: time (s)"
