@@ -353,6 +353,7 @@ METHOD_NAMES: dict[str, str] = {
     "outliers": "Outlier breaths", "phases": "Test phases", "averaging": "Averaging",
     "vo2_peak": "VO2peak", "rer_peak": "RER peak", "hr_peak_bpm": "Heart rate peak",
     "ve_vco2_slope": "VE/VCO2 slope", "ve_vco2_slope_to_vt2": "VE/VCO2 slope to VT2",
+    "ve_vco2_slope_whole_exercise": "VE/VCO2 slope over the whole exercise",
     "ve_vco2_nadir": "VE/VCO2 nadir", "oues": "OUES", "o2_pulse": "O2 pulse",
     "vo2_work_rate_slope": "VO2 / work-rate slope", "mets": "METs", "hr_reserve": "Heart-rate reserve",
     "hr_recovery_1min": "Heart-rate recovery (1 min)", "breathing_reserve": "Breathing reserve",

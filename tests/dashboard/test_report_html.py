@@ -162,3 +162,11 @@ def test_methods_named_in_words_without_program_references():
     three = {"yaxis": {}, "yaxis2": {}, "yaxis3": {}, "yaxis4": {"overlaying": "y3"}}
     assert report_chart_height(three) == report_chart_height({"yaxis": {}, "yaxis2": {}, "yaxis3": {}}) > 500
     assert report_chart_height({"yaxis": {}}) >= 400  # V-slope near square with its legend above
+
+
+def test_every_method_the_analysis_names_has_a_readable_name(demo_store):
+    from dashboard.report.html_report import METHOD_NAMES
+    from tests.dashboard.pages_helpers import analysis_json
+
+    methods = analysis_json(demo_store.store, demo_store.test_ids[0])["methods"]
+    assert set(methods) <= set(METHOD_NAMES), sorted(set(methods) - set(METHOD_NAMES))
