@@ -27,9 +27,15 @@ from dashboard.report.html_report import format_number
 
 log = logging.getLogger("tidemark.dashboard")
 
+#: Short names in the selector (a long name is cut off in a third of the page) ...
 MODEL_LABELS: dict[str, str] = {
-    "siggaard_andersen": "Siggaard-Andersen 1984 (pH, base excess, 2,3-BPG, temperature)",
-    "severinghaus": "Severinghaus 1979 (pH, PCO2, temperature)",
+    "siggaard_andersen": "Siggaard-Andersen 1984",
+    "severinghaus": "Severinghaus 1979",
+}
+#: ... and what each curve takes into account, shown under it.
+MODEL_INPUTS: dict[str, str] = {
+    "siggaard_andersen": "Shifts with pH, base excess, 2,3-BPG and temperature.",
+    "severinghaus": "Shifts with pH, PCO2 and temperature.",
 }
 
 #: Editable conditions: field, label, step, min, max.
@@ -236,6 +242,7 @@ def render() -> None:
             if stored_ox.get("model") in COMPARISON_MODELS else 0,
             format_func=lambda m: MODEL_LABELS.get(m, m), key="ox_model",
         )
+        left.caption(MODEL_INPUTS.get(model, ""))
         hb_meta = (settings.get("metadata") or {}).get("hb_g_dl") or session.meta.get("hb_g_dl")
         hb = mid.number_input(
             "Haemoglobin (g/dL)", min_value=5.0, max_value=25.0,

@@ -159,3 +159,15 @@ def test_notes_and_legends_use_the_trades_words_not_codes(demo_store, test_id):
         assert not any(c in note for c in codes), note
     quantities = unloading_table(ox)["Quantity"].tolist()
     assert all(q.endswith("mL/dL)") for q in quantities), quantities  # every row carries its unit
+
+
+def test_every_curve_model_has_a_short_name_and_its_inputs(demo_store, page_test, test_id):
+    from analysis.oxygen.comparison import COMPARISON_MODELS
+    from dashboard.views.oxygen import MODEL_INPUTS, MODEL_LABELS
+
+    assert set(COMPARISON_MODELS) <= set(MODEL_LABELS) and set(COMPARISON_MODELS) <= set(MODEL_INPUTS)
+    assert all(len(label) <= 24 for label in MODEL_LABELS.values())  # fits the selector uncut
+    at = page_test(_oxygen, **signed_in(demo_store.user), **{state.TEST_ID: test_id})
+    at.run()
+    model = at.selectbox(key="ox_model").value
+    assert any(c.value == MODEL_INPUTS[model] for c in at.caption)
