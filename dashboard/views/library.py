@@ -173,7 +173,7 @@ def _test_list(store: Any) -> None:
     headlines = {t.id: stored_headline(store, t) for t in tests}
     st.dataframe(
         test_rows(tests, headlines), hide_index=True,
-        column_config={"Protocol": st.column_config.TextColumn("Protocol", width="medium"),
+        column_config={"Protocol": st.column_config.TextColumn("Protocol", width="large"),
                        "File": st.column_config.TextColumn("File", width="medium")},
     )
     st.caption("Headline numbers are from each test's current stored version.")
