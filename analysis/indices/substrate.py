@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass
 
 import numpy as np
@@ -12,6 +13,16 @@ from analysis.indices._arrays import as_float_array, finite_columns, need_points
 #: Above this RER the Frayn equations no longer describe substrate use, because buffering of
 #: lactic acid adds non-metabolic CO2 (common practice).
 FRAYN_MAX_RER = 1.0
+
+
+def _in_litres(
+    vo2_ml_min: ArrayLike, vco2_ml_min: ArrayLike, equation: Callable[[np.ndarray, np.ndarray], np.ndarray]
+) -> float | np.ndarray:
+    """``equation(VO2, VCO2)`` with both gases in L/min; a float for scalar input, else an array."""
+    vo2 = np.asarray(vo2_ml_min, dtype=float) / 1000.0
+    vco2 = np.asarray(vco2_ml_min, dtype=float) / 1000.0
+    out = np.asarray(equation(vo2, vco2))
+    return float(out) if out.ndim == 0 else out
 
 
 def energy_expenditure_kcal_min(vo2_ml_min: ArrayLike, vco2_ml_min: ArrayLike) -> float | np.ndarray:
@@ -43,10 +54,7 @@ def energy_expenditure_kcal_min(vo2_ml_min: ArrayLike, vco2_ml_min: ArrayLike) -
     >>> round(energy_expenditure_kcal_min(1000.0, 800.0), 4)
     4.8258
     """
-    vo2 = np.asarray(vo2_ml_min, dtype=float) / 1000.0
-    vco2 = np.asarray(vco2_ml_min, dtype=float) / 1000.0
-    out = 3.941 * vo2 + 1.106 * vco2
-    return float(out) if out.ndim == 0 else out
+    return _in_litres(vo2_ml_min, vco2_ml_min, lambda vo2, vco2: 3.941 * vo2 + 1.106 * vco2)
 
 
 def carbohydrate_oxidation_g_min(vo2_ml_min: ArrayLike, vco2_ml_min: ArrayLike) -> float | np.ndarray:
@@ -72,10 +80,7 @@ def carbohydrate_oxidation_g_min(vo2_ml_min: ArrayLike, vco2_ml_min: ArrayLike) 
     >>> round(carbohydrate_oxidation_g_min(1000.0, 1000.0), 2)
     1.34
     """
-    vo2 = np.asarray(vo2_ml_min, dtype=float) / 1000.0
-    vco2 = np.asarray(vco2_ml_min, dtype=float) / 1000.0
-    out = 4.55 * vco2 - 3.21 * vo2
-    return float(out) if out.ndim == 0 else out
+    return _in_litres(vo2_ml_min, vco2_ml_min, lambda vo2, vco2: 4.55 * vco2 - 3.21 * vo2)
 
 
 def fat_oxidation_g_min(vo2_ml_min: ArrayLike, vco2_ml_min: ArrayLike) -> float | np.ndarray:
@@ -100,10 +105,7 @@ def fat_oxidation_g_min(vo2_ml_min: ArrayLike, vco2_ml_min: ArrayLike) -> float 
     >>> round(fat_oxidation_g_min(1000.0, 700.0), 3)
     0.501
     """
-    vo2 = np.asarray(vo2_ml_min, dtype=float) / 1000.0
-    vco2 = np.asarray(vco2_ml_min, dtype=float) / 1000.0
-    out = 1.67 * (vo2 - vco2)
-    return float(out) if out.ndim == 0 else out
+    return _in_litres(vo2_ml_min, vco2_ml_min, lambda vo2, vco2: 1.67 * (vo2 - vco2))
 
 
 @dataclass(frozen=True)

@@ -141,6 +141,17 @@ def _curve(
     return _Curve(model, **given, p50_mmhg=p50, hill_n=n)
 
 
+#: Arguments of the public curve functions that describe the blood and the model.
+_CURVE_ARGS: tuple[str, ...] = (
+    "ph", "temperature_c", "pco2_mmhg", "dpg_mmol_l", "base_excess_mmol_l", "model", "p50_mmhg", "hill_n",
+)
+
+
+def _curve_of(arguments: dict[str, object]) -> _Curve:
+    """:func:`_curve` from a public function's arguments (its ``locals()`` on entry)."""
+    return _curve(**{name: arguments[name] for name in _CURVE_ARGS})  # type: ignore[arg-type]
+
+
 # --- Severinghaus 1979 -------------------------------------------------------------------
 
 _RK4_STEPS = 24
@@ -334,16 +345,7 @@ def saturation(
     >>> round(saturation(40.0), 3)
     0.749
     """
-    curve = _curve(
-        ph=ph,
-        temperature_c=temperature_c,
-        pco2_mmhg=pco2_mmhg,
-        dpg_mmol_l=dpg_mmol_l,
-        base_excess_mmol_l=base_excess_mmol_l,
-        model=model,
-        p50_mmhg=p50_mmhg,
-        hill_n=hill_n,
-    )
+    curve = _curve_of(locals())
     po2 = np.atleast_1d(_checks.array("po2_mmhg", po2_mmhg)).astype(float)
     out = _saturation(po2, curve)
     return _checks.as_output(out.reshape(np.shape(po2_mmhg)), po2_mmhg)
@@ -411,16 +413,7 @@ def po2_at_saturation(
     >>> round(po2_at_saturation(0.5), 1)
     26.8
     """
-    curve = _curve(
-        ph=ph,
-        temperature_c=temperature_c,
-        pco2_mmhg=pco2_mmhg,
-        dpg_mmol_l=dpg_mmol_l,
-        base_excess_mmol_l=base_excess_mmol_l,
-        model=model,
-        p50_mmhg=p50_mmhg,
-        hill_n=hill_n,
-    )
+    curve = _curve_of(locals())
     sat = np.atleast_1d(_checks.fraction_open("s", s)).astype(float)
     out = _po2(sat, curve)
     return _checks.as_output(out.reshape(np.shape(s)), s)
@@ -458,16 +451,4 @@ def p50(
     >>> round(p50(model="siggaard_andersen"), 1)
     26.8
     """
-    return float(
-        po2_at_saturation(
-            0.5,
-            ph=ph,
-            temperature_c=temperature_c,
-            pco2_mmhg=pco2_mmhg,
-            dpg_mmol_l=dpg_mmol_l,
-            base_excess_mmol_l=base_excess_mmol_l,
-            model=model,
-            p50_mmhg=p50_mmhg,
-            hill_n=hill_n,
-        )
-    )
+    return float(_po2(np.array([0.5]), _curve_of(locals()))[0])

@@ -175,14 +175,14 @@ def haldane_extra_co2_ml_dl(
     >>> round(haldane_extra_co2_ml_dl(pco2_mmhg=46.0, so2_arterial=0.97, so2_venous=0.75, hb_g_dl=15.0), 1)
     1.3
     """
-    common = dict(
-        pco2_mmhg=pco2_mmhg,
-        hb_g_dl=hb_g_dl,
-        base_excess_oxygenated_mmol_l=base_excess_oxygenated_mmol_l,
-        temperature_c=temperature_c,
-    )
-    venous = blood_co2_content_at_base_excess_ml_dl(so2=so2_venous, **common)
-    arterial = blood_co2_content_at_base_excess_ml_dl(so2=so2_arterial, **common)
+    return _extra_co2(pco2_mmhg, so2_arterial, so2_venous, hb_g_dl, base_excess_oxygenated_mmol_l, temperature_c)
+
+
+def _extra_co2(pco2_mmhg: float, sa: float, sv: float, hb_g_dl: float, be_mmol_l: float, temperature_c: float) -> float:
+    """Cb(SvO2) - Cb(SaO2) at one PCO2 (the body of :func:`haldane_extra_co2_ml_dl`)."""
+    common = dict(pco2_mmhg=pco2_mmhg, hb_g_dl=hb_g_dl, base_excess_oxygenated_mmol_l=be_mmol_l, temperature_c=temperature_c)
+    venous = blood_co2_content_at_base_excess_ml_dl(so2=sv, **common)
+    arterial = blood_co2_content_at_base_excess_ml_dl(so2=sa, **common)
     return venous - arterial
 
 
@@ -208,14 +208,7 @@ def haldane_factor(
         raise InvalidParameter("so2_venous", f"below the arterial saturation {sa:g}", so2_venous)
     k = _checks.scalar("huefner_ml_g", huefner_ml_g)
     hb = _checks.scalar("hb_g_dl", hb_g_dl)
-    extra = haldane_extra_co2_ml_dl(
-        pco2_mmhg=pco2_mmhg,
-        so2_arterial=sa,
-        so2_venous=sv,
-        hb_g_dl=hb,
-        base_excess_oxygenated_mmol_l=base_excess_oxygenated_mmol_l,
-        temperature_c=temperature_c,
-    )
+    extra = _extra_co2(pco2_mmhg, sa, sv, hb, base_excess_oxygenated_mmol_l, temperature_c)
     return float(extra / (k * hb * (sa - sv)))
 
 
