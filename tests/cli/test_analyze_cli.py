@@ -144,3 +144,32 @@ def test_unwritable_out_is_exit_2(session_dir, tmp_path, capsys):
     target = tmp_path / "no_such_folder" / "results.csv"
     assert main(["analyze", str(session_dir), "--out", str(target), "--workers", "1", "--no-progress"]) == EXIT_BAD_INPUT
     assert "--out" in capsys.readouterr().err
+
+
+def _slope_line(text: str) -> str:
+    return next(line for line in text.splitlines() if line.strip().startswith("VE/VCO2 slope"))
+
+
+def test_summary_names_both_slope_spans(session_dir, capsys):
+    # VT2 found: the headline is the slope to VT2, and the whole-exercise slope is printed by name beside it
+    f = session_dir / "SEL-0107_cycle.session.csv"
+    assert main(["analyze", str(f), "--json"]) == EXIT_OK
+    data = json.loads(capsys.readouterr().out)
+    assert main(["analyze", str(f)]) == EXIT_OK
+    line = _slope_line(capsys.readouterr().out)
+    to_vt2, whole = data["ve_vco2_slope_to_vt2"], data["ve_vco2_slope_whole_exercise"]
+    assert f"to VT2 {to_vt2:,.1f}" in line and f"whole exercise {whole:,.1f}" in line
+    assert "(headline: to VT2)" in line
+
+
+def test_summary_headline_whole_exercise_without_vt2(session_dir, capsys):
+    # submaximal test: when no VT2 is found the headline is the whole-exercise slope and "to VT2" shows a dash
+    f = session_dir / "SEL-0531_submax.session.csv"
+    assert main(["analyze", str(f), "--json"]) == EXIT_OK
+    data = json.loads(capsys.readouterr().out)
+    assert main(["analyze", str(f)]) == EXIT_OK
+    line = _slope_line(capsys.readouterr().out)
+    assert data["vt2"] is None and data["indices"]["ve_vco2_slope_span"] == "whole_exercise"
+    whole = data["ve_vco2_slope_whole_exercise"]
+    assert f"whole exercise {whole:,.1f}" in line
+    assert "to VT2 –" in line and "(headline: whole exercise)" in line

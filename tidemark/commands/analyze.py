@@ -221,6 +221,10 @@ def _n(value: Any, digits: int = 0, unit: str = "") -> str:
 
 def format_summary(r: dict[str, Any]) -> str:
     """Readable text of a results JSON dict (numbers with their methods)."""
+    from analysis.pipeline import VE_VCO2_TO_VT2, VE_VCO2_WHOLE_EXERCISE  # kept out of the CLI start-up
+
+    # which span the headline VE/VCO2 slope covers, in words
+    spans = {VE_VCO2_TO_VT2: "to VT2", VE_VCO2_WHOLE_EXERCISE: "whole exercise"}
     m = r.get("methods", {})
     sub = r.get("subject", {})
     lines = [
@@ -251,7 +255,9 @@ def format_summary(r: dict[str, Any]) -> str:
     lines += [
         "",
         "Indices",
-        f"  VE/VCO2 slope    {_n(r['ve_vco2_slope'], 1)} (to VT2 {_n(ind.get('ve_vco2_slope_to_vt2'), 1)}), nadir {_n(ind.get('ve_vco2_nadir'), 1)}  — {m.get('ve_vco2_slope', '')}",
+        f"  VE/VCO2 slope    to VT2 {_n(ind.get('ve_vco2_slope_to_vt2'), 1)}, whole exercise "
+        f"{_n(ind.get('ve_vco2_slope_whole_exercise'), 1)} (headline: {spans.get(ind.get('ve_vco2_slope_span'), 'none')}), "
+        f"nadir {_n(ind.get('ve_vco2_nadir'), 1)}  — {m.get('ve_vco2_slope', '')}",
         f"  OUES             {_n(r['oues'], 0)}  — {m.get('oues', '')}",
         f"  O2 pulse peak    {_n(r['o2_pulse_peak_ml_beat'], 1, 'mL/beat')}  — {m.get('o2_pulse', '')}",
         f"  ΔVO2/ΔWR         {_n(ind.get('vo2_work_rate_slope_ml_min_w'), 1, 'mL/min/W')}  — {m.get('vo2_work_rate_slope', '')}",
