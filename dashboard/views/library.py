@@ -142,12 +142,12 @@ def test_rows(tests: Sequence[Any], headlines: Mapping[int, Mapping[str, float |
                 "Test": t.id,
                 "Person": t.person_code + (f" ({t.display_name})" if t.display_name else ""),
                 "Date": t.test_date or "",
-                "Protocol": t.protocol or "",
                 "VO2peak (mL/min)": _round(h["vo2_peak_ml_min"]),
                 "VT1 VO2 (mL/min)": _round(h["vt1_vo2_ml_min"]),
                 "VE/VCO2 slope": _round(h["ve_vco2_slope"], 1),
                 "Version": t.version,
                 "Signed off": sign_off_text(t.signed_version, t.version),
+                "Protocol": t.protocol or "",
                 "File": t.file_name,
             }
         )

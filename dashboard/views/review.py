@@ -495,7 +495,13 @@ def _exclusions(store: Any, test_id: int, working: state.WorkingSettings, result
     if len(table):
         st.dataframe(
             excluded_rows_view(table), hide_index=True,
-            column_config={"Reason": st.column_config.TextColumn("Reason", width="large")},
+            column_config={
+                "Line in file": st.column_config.NumberColumn("Line in file", width=80),
+                "Time (s)": st.column_config.TextColumn("Time (s)", width=70),
+                "Signal": st.column_config.TextColumn("Signal", width=70),
+                "Excluded by": st.column_config.TextColumn("Excluded by", width=100),
+                "Reason": st.column_config.TextColumn("Reason", width="large"),
+            },
         )
     candidates = sorted(set(table["source_row"].astype(int).tolist() if len(table) else []) | set(restored))
     st.session_state[f"restore_{test_id}"] = [r for r in restored if r in candidates]
