@@ -47,28 +47,29 @@ def _neighbour_stats(values: np.ndarray, half: int) -> tuple[np.ndarray, np.ndar
     The breath itself is left out; of the neighbours the single highest and single lowest are
     dropped, so one neighbouring artifact does not drag the reference value. Breaths without a
     full window (the first and last ``half`` breaths: a one-sided window is biased on a ramp)
-    or with fewer than three usable neighbours get NaN.
+    or with fewer than three usable neighbours get NaN. ``values`` may be one series or a
+    stack of equally long series (one per row); the statistics run along the last axis.
     """
-    n = values.size
+    n = values.shape[-1]
     if n < 2 * half + 1:
-        return np.full(n, np.nan), np.full(n, np.nan)
-    win = sliding_window_view(values, 2 * half + 1)
-    neigh = np.delete(win, half, axis=1)  # drop the breath itself
-    srt = np.sort(neigh, axis=1)  # NaN sort to the end
-    count = np.sum(~np.isnan(neigh), axis=1)
-    cols = np.arange(neigh.shape[1])[None, :]
-    keep = (cols >= 1) & (cols < (count - 1)[:, None])
-    k = np.sum(keep, axis=1)
+        return np.full(values.shape, np.nan), np.full(values.shape, np.nan)
+    win = sliding_window_view(values, 2 * half + 1, axis=-1)
+    neigh = np.delete(win, half, axis=-1)  # drop the breath itself
+    srt = np.sort(neigh, axis=-1)  # NaN sort to the end
+    count = np.sum(~np.isnan(neigh), axis=-1)
+    cols = np.arange(neigh.shape[-1])
+    keep = (cols >= 1) & (cols < (count - 1)[..., None])
+    k = np.sum(keep, axis=-1)
     with np.errstate(invalid="ignore", divide="ignore"):
-        inner = np.where(keep, srt, 0.0).sum(axis=1) / np.where(k > 0, k, np.nan)
-        dev = np.where(keep, srt - inner[:, None], 0.0)
-        inner_sd = np.sqrt((dev * dev).sum(axis=1) / np.where(k > 1, k - 1, np.nan))
+        inner = np.where(keep, srt, 0.0).sum(axis=-1) / np.where(k > 0, k, np.nan)
+        dev = np.where(keep, srt - inner[..., None], 0.0)
+        inner_sd = np.sqrt((dev * dev).sum(axis=-1) / np.where(k > 1, k - 1, np.nan))
     inner[k < 3] = np.nan
     inner_sd[k < 3] = np.nan
-    mean = np.full(n, np.nan)
-    sd = np.full(n, np.nan)
-    mean[half : n - half] = inner
-    sd[half : n - half] = inner_sd
+    mean = np.full(values.shape, np.nan)
+    sd = np.full(values.shape, np.nan)
+    mean[..., half : n - half] = inner
+    sd[..., half : n - half] = inner_sd
     return mean, sd
 
 
@@ -78,11 +79,25 @@ def _neighbour_mean(values: np.ndarray, half: int) -> np.ndarray:
 
 
 def _local_spread(resid: np.ndarray, window: int) -> np.ndarray:
-    """Robust SD (1.4826 x median absolute deviation) of the residuals around each breath."""
+    """Robust SD (1.4826 x median absolute deviation) of the residuals around each breath.
+
+    ``resid`` may be one series or a stack of equally long series (one per row). A stack is
+    read in one pass: the series are laid end to end with ``window // 2`` missing values
+    between them, which every window then treats exactly as the end of its own series.
+    """
     min_periods = max(5, window // 3)
-    med = _rolling_median(resid, window, min_periods)
-    mad = _rolling_median(np.abs(resid - med), window, min_periods)
-    return _MAD_TO_SD * mad
+    if resid.ndim == 1:
+        med = _rolling_median(resid, window, min_periods)
+        return _MAD_TO_SD * _rolling_median(np.abs(resid - med), window, min_periods)
+    rows, n = resid.shape
+    gap = window // 2
+    line = np.full(rows * n + (rows - 1) * gap, np.nan)
+    starts = np.arange(rows) * (n + gap)
+    take = starts[:, None] + np.arange(n)
+    line[take] = resid
+    med = _rolling_median(line, window, min_periods)
+    mad = _rolling_median(np.abs(line - med), window, min_periods)
+    return _MAD_TO_SD * mad[take]
 
 
 def _rolling_median(x: np.ndarray, window: int, min_periods: int) -> np.ndarray:
@@ -179,24 +194,17 @@ def find_outlier_breaths(
         return pd.DataFrame({c: pd.Series(dtype=object if c in ("column", "reason") else float) for c in OUTLIER_COLUMNS})
     half = window_breaths // 2
     spread_window = max(31, _SPREAD_WINDOW_FACTOR * window_breaths)
-    zs, means, sds, vals = [], [], [], []
-    for col in columns:
-        v = breaths[col].to_numpy(dtype=float)
-        m, neighbour_sd = _neighbour_stats(v, half)
-        s = _local_spread(v - m, spread_window)
-        # Floors: the spread of the neighbours themselves (where the signal itself changes
-        # fast, e.g. at a load step, the neighbours' mean is a poor guess of the next breath)
-        # and 1 % of the local mean (analyser resolution), so smooth or noise-free series and
-        # quantised data are not cut up.
-        s = np.fmax(np.fmax(s, neighbour_sd), LEVEL_FLOOR_FRACTION * np.abs(m))
-        with np.errstate(invalid="ignore", divide="ignore"):
-            z = np.abs(v - m) / s
-        z[~np.isfinite(z)] = 0.0
-        zs.append(z)
-        means.append(m)
-        sds.append(s)
-        vals.append(v)
-    Z = np.vstack(zs)
+    V = np.vstack([breaths[col].to_numpy(dtype=float) for col in columns])
+    M, neighbour_sd = _neighbour_stats(V, half)
+    S = _local_spread(V - M, spread_window)
+    # Floors: the spread of the neighbours themselves (where the signal itself changes
+    # fast, e.g. at a load step, the neighbours' mean is a poor guess of the next breath)
+    # and 1 % of the local mean (analyser resolution), so smooth or noise-free series and
+    # quantised data are not cut up.
+    S = np.fmax(np.fmax(S, neighbour_sd), LEVEL_FLOOR_FRACTION * np.abs(M))
+    with np.errstate(invalid="ignore", divide="ignore"):
+        Z = np.abs(V - M) / S
+    Z[~np.isfinite(Z)] = 0.0
     worst = np.argmax(Z, axis=0)
     zmax = Z[worst, np.arange(n)]
     hit = np.flatnonzero(zmax > k_sd)
@@ -206,7 +214,6 @@ def find_outlier_breaths(
         else np.arange(1, n + 1)
     )
     t = breaths[C.T_S].to_numpy(dtype=float) if C.T_S in breaths.columns else np.full(n, np.nan)
-    V, M, S = np.vstack(vals), np.vstack(means), np.vstack(sds)
     wj = worst[hit]
     value, local_mean, local_sd = V[wj, hit], M[wj, hit], S[wj, hit]
     names = [columns[j] for j in wj]

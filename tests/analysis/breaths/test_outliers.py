@@ -204,3 +204,33 @@ def test_rolling_median_equals_pandas(values, window):
     mp = max(5, window // 3)
     ref = pd.Series(x, dtype=float).rolling(window, center=True, min_periods=mp).median().to_numpy()
     np.testing.assert_array_equal(_rolling_median(x, window, mp), ref)
+
+
+@settings(max_examples=60, deadline=None)
+@given(
+    st.lists(st.one_of(st.floats(-1e4, 1e4, allow_nan=False), st.just(float("nan"))), min_size=1, max_size=120),
+    st.lists(st.one_of(st.floats(-1e4, 1e4, allow_nan=False), st.just(float("nan"))), min_size=1, max_size=120),
+    st.sampled_from([31, 45, 75]),
+)
+def test_spread_of_a_stack_equals_each_series_alone(a, b, window):
+    # the one-pass spread of several series must give each series' own numbers exactly
+    from analysis.breaths.outliers import _local_spread
+
+    n = min(len(a), len(b))
+    stack = np.array([a[:n], b[:n]], dtype=float)
+    together = _local_spread(stack, window)
+    for row in range(2):
+        np.testing.assert_array_equal(together[row], _local_spread(stack[row], window))
+
+
+def test_neighbour_stats_of_a_stack_equal_each_series_alone():
+    from analysis.breaths.outliers import _neighbour_stats
+
+    rng = np.random.default_rng(7)
+    stack = rng.normal(1500.0, 80.0, (3, 200))
+    stack[1, rng.random(200) < 0.1] = np.nan
+    mean, sd = _neighbour_stats(stack, 4)
+    for row in range(3):
+        m1, s1 = _neighbour_stats(stack[row], 4)
+        np.testing.assert_array_equal(mean[row], m1)
+        np.testing.assert_array_equal(sd[row], s1)
