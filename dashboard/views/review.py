@@ -267,6 +267,8 @@ def threshold_lines(results_json: Mapping[str, Any]) -> list[str]:
 #: Longest unit written beside a headline number; longer ones go into the label (a metric
 #: cuts its value off with "…" when it does not fit a third of the page).
 SHORT_UNIT_CHARS = 10
+#: Up to this many excluded breaths are listed as a plain table (reasons wrap); more scroll.
+WRAPPED_TABLE_ROWS = 30
 #: Who left a breath out, as the reader sees it (codes from the analysis' excluded table).
 EXCLUDED_BY = {"auto": "automatic", "reviewer": "reviewer"}
 
@@ -493,16 +495,12 @@ def _exclusions(store: Any, test_id: int, working: state.WorkingSettings, result
         st.caption("No breath is excluded.")
         return
     if len(table):
-        st.dataframe(
-            excluded_rows_view(table), hide_index=True,
-            column_config={
-                "Line in file": st.column_config.NumberColumn("Line in file", width=80),
-                "Time (s)": st.column_config.TextColumn("Time (s)", width=70),
-                "Signal": st.column_config.TextColumn("Signal", width=70),
-                "Excluded by": st.column_config.TextColumn("Excluded by", width=100),
-                "Reason": st.column_config.TextColumn("Reason", width="large"),
-            },
-        )
+        view = excluded_rows_view(table)
+        if len(view) <= WRAPPED_TABLE_ROWS:  # a plain table wraps the reasons instead of cutting them off
+            st.table(view.set_index("Line in file"))
+        else:
+            st.dataframe(view, hide_index=True,
+                         column_config={"Reason": st.column_config.TextColumn("Reason", width="large")})
     candidates = sorted(set(table["source_row"].astype(int).tolist() if len(table) else []) | set(restored))
     st.session_state[f"restore_{test_id}"] = [r for r in restored if r in candidates]
     st.multiselect(

@@ -276,9 +276,12 @@ def test_page_shows_no_column_codes(demo_store, page_test):
     at = page_test(_review_script, tm_user=demo_store.user, tm_test_id=test_id).run()
     assert not at.exception, at.exception
     codes = {"vo2_ml_min", "vco2_ml_min", "ve_l_min", "hr_bpm", "work_w", "auto"}
-    for df in at.dataframe:
-        cells = {str(v) for v in df.value.to_numpy().ravel()}
-        assert not codes & cells, (list(df.value.columns), codes & cells)
+    frames = [df.value for df in at.dataframe] + [t.value for t in at.table]
+    for frame in frames:
+        cells = {str(v) for v in frame.to_numpy().ravel()}
+        assert not codes & cells, (list(frame.columns), codes & cells)
+    excluded = [f for f in frames if "Reason" in f.columns and "Excluded by" in f.columns]
+    assert excluded and set(excluded[0]["Excluded by"]) <= {"automatic", "reviewer"}
     method = at.selectbox(key=f"avg_method_{test_id}").value
     labels = {s.label for s in at.selectbox}
     assert review.WINDOW_LABELS[method] in labels  # the averaging window carries its unit
