@@ -16,7 +16,8 @@ import numpy as np
 import pandas as pd
 
 from analysis import columns as C
-from analysis.breaths import average_breaths, exclude_breaths, find_outlier_breaths
+from analysis.breaths import average_breaths, exclude_breaths
+from analysis.breaths.outliers import outlier_columns, outlier_frame
 from analysis.errors import AnalysisError, DataQualityWarning, TidemarkError
 from analysis.indices import (
     breathing_reserve,
@@ -122,29 +123,32 @@ def _mode(meta: dict[str, Any], avg: pd.DataFrame) -> str | None:
 
 
 def _excluded_table(breaths: pd.DataFrame, settings: AnalysisSettings) -> pd.DataFrame:
-    auto = find_outlier_breaths(
-        breaths, window_breaths=settings.outlier_window_breaths, k_sd=settings.outlier_k_sd
-    )
+    found = outlier_columns(breaths, window_breaths=settings.outlier_window_breaths, k_sd=settings.outlier_k_sd)
     restored = set(settings.restored_rows)
-    if restored:
-        auto = auto[~auto["source_row"].isin(restored)]
+    if found is not None and restored:
+        back = np.isin(found["source_row"], np.fromiter(restored, dtype=np.int64, count=len(restored)))
+        if back.any():
+            keep = np.flatnonzero(~back)
+            found = {k: v[keep] if isinstance(v, np.ndarray) else [v[i] for i in keep] for k, v in found.items()}
+    n_auto = 0 if found is None else len(found["column"])
     manual_rows = settings.excluded_rows
-    auto_rows = set(auto["source_row"].tolist()) if manual_rows else set()
+    auto_rows = set(found["source_row"].tolist()) if manual_rows and n_auto else set()
     manual = [r for r in manual_rows if r not in auto_rows]
-    if not manual and len(auto):
-        rows = auto["source_row"].to_numpy()
+    if not manual and n_auto:
+        rows = found["source_row"]
         order = np.argsort(rows, kind="stable") if np.any(np.diff(rows) < 0) else np.arange(len(rows))
-        column, reason = auto["column"].tolist(), auto["reason"].tolist()
+        column, reason = found["column"], found["reason"]
         return pd.DataFrame(
             {
                 "source_row": rows[order],
-                "t_s": auto["t_s"].to_numpy()[order],
+                "t_s": found["t_s"][order],
                 "column": [column[i] for i in order],
-                "value": auto["value"].to_numpy()[order],
+                "value": found["value"][order],
                 "reason": [reason[i] for i in order],
                 "by": ["auto"] * len(rows),
             }
         )
+    auto = outlier_frame(found)
     parts = [auto.assign(by="auto")[list(EXCLUDED_COLUMNS)]] if len(auto) else []
     if manual:
         src = breaths["source_row"] if "source_row" in breaths else pd.Series(np.arange(1, len(breaths) + 1))

@@ -8,6 +8,7 @@ itself), so a genuine steady change over a ramp is not mistaken for an outlier.
 from __future__ import annotations
 
 from collections.abc import Iterable, Sequence
+from typing import Any
 
 import numpy as np
 import pandas as pd
@@ -179,6 +180,28 @@ def find_outlier_breaths(
     characterizing exercise gas exchange kinetics. J Appl Physiol 62:2003-2012 (outliers
     outside the local mean +/- 3-4 SD; from memory).
     """
+    return outlier_frame(
+        outlier_columns(breaths, window_breaths=window_breaths, k_sd=k_sd, columns=columns)
+    )
+
+
+def outlier_columns(
+    breaths: pd.DataFrame,
+    *,
+    window_breaths: int = 9,
+    k_sd: float = 3.0,
+    columns: Sequence[str] = (C.VO2_ML_MIN, C.VCO2_ML_MIN, C.VE_L_MIN),
+) -> dict[str, Any] | None:
+    """:func:`find_outlier_breaths` as plain columns, for callers that take the table apart.
+
+    Returns
+    -------
+    dict or None
+        :data:`OUTLIER_COLUMNS` -> numpy array (``source_row``, ``t_s``, ``value``,
+        ``local_mean``, ``local_sd``) or list of str (``column``, ``reason``), one entry per
+        excluded breath; ``None`` for an empty table or no columns. Same checks and errors as
+        :func:`find_outlier_breaths`.
+    """
     require(
         isinstance(window_breaths, (int, np.integer)) and window_breaths >= 5 and window_breaths % 2 == 1,
         "window_breaths",
@@ -191,7 +214,7 @@ def find_outlier_breaths(
         raise InvalidParameter("columns", f"columns present in the breath table {list(breaths.columns)}", missing)
     n = len(breaths)
     if n == 0 or not columns:
-        return pd.DataFrame({c: pd.Series(dtype=object if c in ("column", "reason") else float) for c in OUTLIER_COLUMNS})
+        return None
     half = window_breaths // 2
     spread_window = max(31, _SPREAD_WINDOW_FACTOR * window_breaths)
     V = np.vstack([breaths[col].to_numpy(dtype=float) for col in columns])
@@ -231,17 +254,24 @@ def find_outlier_breaths(
         if others:
             reason += "; also out of line: " + ", ".join(C.COLUMNS[o].label if o in C.COLUMNS else o for o in others)
         reasons.append(reason)
-    return pd.DataFrame(
-        {
-            "source_row": np.asarray(src)[hit].astype(int),
-            "t_s": t[hit].astype(float),
-            "column": names if names else pd.Series([], dtype=object),  # empty: object, as before
-            "value": value,
-            "local_mean": local_mean,
-            "local_sd": local_sd,
-            "reason": reasons if reasons else pd.Series([], dtype=object),
-        }
-    )
+    return {
+        "source_row": np.asarray(src)[hit].astype(int),
+        "t_s": t[hit].astype(float),
+        "column": names,
+        "value": value,
+        "local_mean": local_mean,
+        "local_sd": local_sd,
+        "reason": reasons,
+    }
+
+
+def outlier_frame(found: dict[str, Any] | None) -> pd.DataFrame:
+    """The :func:`find_outlier_breaths` frame of :func:`outlier_columns` output."""
+    if found is None:
+        return pd.DataFrame({c: pd.Series(dtype=object if c in ("column", "reason") else float) for c in OUTLIER_COLUMNS})
+    if not found["column"]:  # empty: text columns of dtype object, as before
+        found = {**found, "column": pd.Series([], dtype=object), "reason": pd.Series([], dtype=object)}
+    return pd.DataFrame(found)
 
 
 def exclude_breaths(breaths: pd.DataFrame, source_rows: Iterable[int]) -> pd.DataFrame:
