@@ -508,7 +508,7 @@ def analyze_session(
         raise AnalysisError(f"{name} holds only {len(breaths)} breaths; at least 20 are needed for an analysis.")
     if "source_row" not in breaths.columns:
         breaths = breaths.assign(source_row=np.arange(1, len(breaths) + 1))
-    if breaths[C.T_S].diff().lt(0).any():
+    if np.any(np.diff(breaths[C.T_S].to_numpy(dtype=float)) < 0):  # NaN times compare False, as diff().lt(0)
         breaths = breaths.sort_values(C.T_S, kind="stable").reset_index(drop=True)
 
     warns: list[str] = []
@@ -528,7 +528,7 @@ def analyze_session(
             raise AnalysisError(
                 f"{name}: no exercise phase was found — label the phases in the file or include a work-rate or speed column."
             )
-        report = _apply_overrides(detect_thresholds(avg), avg, settings)
+        report = _apply_overrides(detect_thresholds(avg, phases=phases_avg), avg, settings)
         mode = _mode(meta, avg)
         body_mass = meta.get("body_mass_kg")
         peak = peak_values(ex, body_mass_kg=body_mass, window_s=settings.peak_window_s)

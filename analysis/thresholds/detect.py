@@ -82,7 +82,7 @@ class _Ex:
         return v if v is not None and np.isfinite(v).sum() >= MIN_EXERCISE_POINTS else None
 
 
-def _phase_labels(avg: pd.DataFrame, phases: pd.Series | None) -> np.ndarray:
+def _phase_labels(avg: pd.DataFrame, phases: pd.Series | np.ndarray | None) -> np.ndarray:
     if phases is not None:
         if len(phases) != len(avg):
             raise InvalidParameter("phases", f"one label per averaged row ({len(avg)})", len(phases))
@@ -334,7 +334,7 @@ def _consensus(kind: str, cands: dict[str, ThresholdPick | None], ex: _Ex) -> tu
     return pick, agree
 
 
-def detect_thresholds(avg: pd.DataFrame, *, phases: pd.Series | None = None) -> ThresholdReport:
+def detect_thresholds(avg: pd.DataFrame, *, phases: pd.Series | np.ndarray | None = None) -> ThresholdReport:
     """Find VT1 and VT2 (RCP) on averaged data by several methods and agree on one value each.
 
     Parameters
@@ -343,7 +343,7 @@ def detect_thresholds(avg: pd.DataFrame, *, phases: pd.Series | None = None) -> 
         Averaged frame from :func:`analysis.breaths.average_breaths` with ``t_s``,
         ``vo2_ml_min``, ``vco2_ml_min``, ``ve_l_min`` and, when available, ``peto2_mmhg``,
         ``petco2_mmhg`` and ``phase``.
-    phases : pandas.Series, optional
+    phases : pandas.Series or numpy.ndarray, optional
         One phase label per row of ``avg`` (e.g. ``detect_phases(avg)``). When omitted, the
         ``phase`` column is used, else every row counts as exercise.
 

@@ -5,7 +5,7 @@ from __future__ import annotations
 import math
 
 import numpy as np
-from scipy import stats
+from scipy.special import fdtrc
 
 from analysis.errors import InvalidParameter, require
 from analysis.thresholds.results import VSlopeFit
@@ -33,7 +33,11 @@ def f_test_p(sse_one_line: float, sse_two_lines: float, n: int) -> float:
     if sse_two_lines <= 0.0:
         return 0.0 if sse_one_line > 0 else 1.0
     f_stat = ((sse_one_line - sse_two_lines) / 2.0) / (sse_two_lines / dof)
-    return float(stats.f.sf(f_stat, 2, dof))
+    if f_stat < 0.0:  # below the support of F: sf = 1, as scipy.stats.f.sf gives
+        return 1.0
+    # the survival function of F(2, dof) itself (what scipy.stats.f.sf evaluates, without
+    # the distribution object's argument handling)
+    return float(fdtrc(2, dof, f_stat))
 
 
 def vslope_fit(
