@@ -479,12 +479,17 @@ def _charts(store: Any, test_id: int, working: state.WorkingSettings, results: A
     with right:
         st.plotly_chart(equivalents_figure(results.averaged, thresholds=picks),
                         key=f"chart_eq_{test_id}")
-    for kind in ("vt1", "vt2"):
-        note = (report.agreement or {}).get(kind)
-        if note:
-            st.caption(f"{THRESHOLD_NAMES[kind]}: {note}")
-    for reason in report.reasons or []:
-        st.caption(f"Note: {reason}")
+    for line in threshold_notes(report.agreement or {}, report.reasons or []):
+        st.caption(line)
+
+
+def threshold_notes(agreement: Mapping[str, str], reasons: Sequence[str]) -> list[str]:
+    """The threshold captions under the charts: each method agreement, then each note that does
+    not merely repeat one of them (e.g. "VT2 not found: none of 3 methods found a VT2")."""
+    lines = [f"{THRESHOLD_NAMES[k]}: {agreement[k]}" for k in ("vt1", "vt2") if agreement.get(k)]
+    said = [str(v) for v in agreement.values() if v]
+    lines += [f"Note: {r}" for r in reasons if not any(s in str(r) for s in said)]
+    return lines
 
 
 def _exclusions(store: Any, test_id: int, working: state.WorkingSettings, results: Any) -> None:

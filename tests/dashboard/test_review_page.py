@@ -286,3 +286,13 @@ def test_page_shows_no_column_codes(demo_store, page_test):
     labels = {s.label for s in at.selectbox}
     assert review.WINDOW_LABELS[method] in labels  # the averaging window carries its unit
     assert review.WINDOW_LABELS["time_bin"] == "Window (s)" and review.WINDOW_LABELS["breaths"] == "Window (breaths)"
+
+
+def test_threshold_notes_are_not_repeated():
+    agreement = {"vt1": "4 of 4 methods within 150 mL/min", "vt2": "none of 3 methods found a VT2"}
+    reasons = ["VE vs VCO2 breakpoint: two lines fit no better than one", "VT2 not found: none of 3 methods found a VT2"]
+    assert review.threshold_notes(agreement, reasons) == [
+        "VT1: 4 of 4 methods within 150 mL/min",
+        "VT2: none of 3 methods found a VT2",
+        "Note: VE vs VCO2 breakpoint: two lines fit no better than one",
+    ]
