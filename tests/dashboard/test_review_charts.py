@@ -111,6 +111,9 @@ def test_equivalents_panels_and_missing_end_tidal_note(avg):
     fig = equivalents_figure(avg, thresholds={"vt1": {"t_s": 300.0}})
     assert {t.name for t in fig.data} == {"VE/VO2", "VE/VCO2", "PETO2", "PETCO2", "Rest", "Recovery"}
     assert "End-tidal pressure (mmHg)" in _axis_titles(fig)
+    # short enough for a half-height panel of a half-width chart (a longer title was cut off)
+    assert "VE/VO2, VE/VCO2 (no unit)" in _axis_titles(fig)
+    assert all(len(t) <= 28 for t in _axis_titles(fig))
     bare = equivalents_figure(avg.drop(columns=["peto2_mmhg", "petco2_mmhg"]))
     notes = [a["text"] for a in bare.to_plotly_json()["layout"]["annotations"]]
     assert "No end-tidal pressures in this recording" in notes
