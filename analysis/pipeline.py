@@ -221,6 +221,14 @@ def _col(frame: pd.DataFrame, name: str) -> np.ndarray | None:
     return values if (~np.isnan(values)).any() else None
 
 
+def _mean_where(frame: pd.DataFrame, name: str, mask: np.ndarray) -> float | None:
+    """Mean of column ``name`` over the rows in ``mask``, missing values skipped (``None`` when none)."""
+    if name not in frame:
+        return None
+    values = frame[name].to_numpy(dtype=float)[mask]
+    return float(np.nanmean(values)) if (~np.isnan(values)).any() else None
+
+
 def _indices(
     *,
     avg: pd.DataFrame,
@@ -271,8 +279,7 @@ def _indices(
         out["work_peak_w"] = None
     out["mets_peak"] = mets(peak.vo2_ml_kg_min) if peak.vo2_ml_kg_min else None
 
-    rest_hr = avg.loc[phases_avg == "rest", C.HR_BPM] if C.HR_BPM in avg else pd.Series(dtype=float)
-    hr_rest = float(rest_hr.mean()) if rest_hr.notna().any() else None
+    hr_rest = _mean_where(avg, C.HR_BPM, phases_avg == "rest")
     out["hr_rest_bpm"] = hr_rest
     if hr_rest is not None and hr_peak is not None and hr_peak > hr_rest:
         out["hr_reserve_bpm"] = hr_reserve_bpm(hr_max_bpm=hr_peak, hr_rest_bpm=hr_rest)
@@ -431,11 +438,10 @@ def _oxygen(
         opts["arterial_conditions"] = StateConditions(**opts["arterial_conditions"])
     column_spo2 = {} if opts.get("spo2_pct") is not None else None  # a set SpO2 overrides the column
     states = []
-    rest = avg.loc[phases_avg == "rest"]
-    if len(rest) and rest[C.VO2_ML_MIN].notna().any():
-        vo2_rest = float(rest[C.VO2_ML_MIN].mean())
-        hr_rest = float(rest[C.HR_BPM].mean()) if C.HR_BPM in rest and rest[C.HR_BPM].notna().any() else None
-        states.append(("rest", vo2_rest, hr_rest, 100.0 * vo2_rest / peak.vo2_ml_min))
+    at_rest = phases_avg == "rest"
+    vo2_rest = _mean_where(avg, C.VO2_ML_MIN, at_rest)
+    if vo2_rest is not None:
+        states.append(("rest", vo2_rest, _mean_where(avg, C.HR_BPM, at_rest), 100.0 * vo2_rest / peak.vo2_ml_min))
     for name, p in (("vt1", vt1), ("vt2", vt2), ("peak", peak)):
         if p is not None:
             states.append((name, p.vo2_ml_min, p.hr_bpm, p.pct_vo2_peak))
@@ -454,7 +460,7 @@ def _oxygen(
             warnings.simplefilter("always")
             comparison = oxygen_comparison(points, hb_g_dl=hb, **opts)
         warns.extend(f"Oxygen: {w.message}" for w in caught if issubclass(w.category, DataQualityWarning))
-        return json_safe(comparison.to_json_dict())
+        return comparison.to_json_dict()  # already plain JSON types (NaN/inf as None)
     except (TidemarkError, TypeError) as exc:
         warns.append(f"Oxygen comparison not made: {exc}")
         return None
