@@ -167,9 +167,9 @@ def _excluded_table(breaths: pd.DataFrame, settings: AnalysisSettings) -> pd.Dat
     return out.sort_values("source_row", kind="stable").reset_index(drop=True)
 
 
-def _phase_times(breaths: pd.DataFrame, phases: pd.Series) -> dict[str, dict[str, float]]:
+def _phase_times(breaths: pd.DataFrame, phases: np.ndarray) -> dict[str, dict[str, float]]:
     t = breaths[C.T_S].to_numpy(dtype=float)
-    ph = phases.to_numpy()
+    ph = np.asarray(phases)
     out: dict[str, dict[str, float]] = {}
     for name in C.PHASES:
         m = ph == name
@@ -526,8 +526,8 @@ def analyze_session(
         excluded = _excluded_table(breaths, settings)
         clean = exclude_breaths(breaths, excluded["source_row"].tolist())
         phases = detect_phases(clean)
-        clean = clean.assign(**{C.PHASE: phases.to_numpy()})
-        avg = average_breaths(clean, settings.averaging).reset_index(drop=True)
+        labels = phases.to_numpy()
+        avg = average_breaths(clean, settings.averaging, phase_labels=labels).reset_index(drop=True)
         phases_avg = avg[C.PHASE].fillna("exercise").astype(str).to_numpy() if C.PHASE in avg else np.full(len(avg), "exercise")
         ex = avg.loc[phases_avg == "exercise"]
         if len(ex) == 0:
@@ -624,7 +624,7 @@ def analyze_session(
         settings=settings,
         averaged=avg,
         phases=phases,
-        phase_times=_phase_times(clean, phases),
+        phase_times=_phase_times(clean, labels),
         thresholds=report,
         excluded_breaths=excluded,
         breaths_total=len(breaths),

@@ -136,8 +136,12 @@ def _assemble(
     ends: np.ndarray,
     t_centre: np.ndarray,
     means: np.ndarray | None = None,
+    phase_labels: np.ndarray | None = None,
 ) -> pd.DataFrame:
-    """One frame: ``t_s``, the column means (``means`` when given, else window means), phase, n."""
+    """One frame: ``t_s``, the column means (``means`` when given, else window means), phase, n.
+
+    ``phase_labels`` (one per breath) stand in for the ``phase`` column when given.
+    """
     out: dict[str, Any] = {C.T_S: t_centre}
     if means is None:
         values = np.column_stack([breaths[c].to_numpy(dtype=float) for c in cols]) if cols else np.zeros((t.size, 0))
@@ -146,13 +150,17 @@ def _assemble(
     else:
         for j, c in enumerate(cols):
             out[c] = means[:, j]
-    if C.PHASE in breaths.columns and len(starts):
+    if phase_labels is not None and len(starts):
+        out[C.PHASE] = _phase_mode(np.asarray(phase_labels, dtype=object), starts, ends)
+    elif C.PHASE in breaths.columns and len(starts):
         out[C.PHASE] = _phase_mode(breaths[C.PHASE].fillna("").to_numpy(), starts, ends)
     out["n_breaths"] = (ends - starts).astype(int)
     return pd.DataFrame(out)
 
 
-def average_breaths(breaths: pd.DataFrame, spec: AveragingSpec = DEFAULT_AVERAGING) -> pd.DataFrame:
+def average_breaths(
+    breaths: pd.DataFrame, spec: AveragingSpec = DEFAULT_AVERAGING, *, phase_labels: np.ndarray | None = None
+) -> pd.DataFrame:
     """Average a breath table as described by ``spec``.
 
     Parameters
@@ -160,6 +168,9 @@ def average_breaths(breaths: pd.DataFrame, spec: AveragingSpec = DEFAULT_AVERAGI
     breaths : pandas.DataFrame
         Breath table in canonical columns, sorted by ``t_s``.
     spec : AveragingSpec, default DEFAULT_AVERAGING
+    phase_labels : numpy.ndarray, optional, keyword-only
+        Phase label of every breath (e.g. ``detect_phases(breaths).to_numpy()``), used instead
+        of a ``phase`` column; saves adding the column only to have it read here.
 
     Returns
     -------
@@ -186,34 +197,36 @@ def average_breaths(breaths: pd.DataFrame, spec: AveragingSpec = DEFAULT_AVERAGI
     n = t.size
     if n and np.any(np.diff(t) < 0):
         raise InvalidParameter("breaths", "breaths sorted by time (t_s increasing)", "times out of order")
+    if phase_labels is not None and len(phase_labels) != n:
+        raise InvalidParameter("phase_labels", f"one label per breath ({n})", len(phase_labels))
     empty = np.zeros(0, dtype=int)
     if spec.method == "time_bin":
         if n == 0:
-            return _assemble(breaths, cols, t, empty, empty, np.zeros(0))
+            return _assemble(breaths, cols, t, empty, empty, np.zeros(0), phase_labels=phase_labels)
         size = float(spec.size)
         b = np.floor(t / size).astype(np.int64)
         change = np.flatnonzero(np.diff(b)) + 1
         starts = np.concatenate([[0], change])
         ends = np.concatenate([change, [n]])
         centre = (b[starts] + 0.5) * size
-        return _assemble(breaths, cols, t, starts, ends, centre)
+        return _assemble(breaths, cols, t, starts, ends, centre, phase_labels=phase_labels)
     if spec.method == "rolling_time":
         half = float(spec.size) / 2.0
         if n == 0:
-            return _assemble(breaths, cols, t, empty, empty, np.zeros(0))
+            return _assemble(breaths, cols, t, empty, empty, np.zeros(0), phase_labels=phase_labels)
         full = (t - half >= t[0]) & (t + half <= t[-1])
         idx = np.flatnonzero(full)
         starts = np.searchsorted(t, t[idx] - half, side="left")
         ends = np.searchsorted(t, t[idx] + half, side="right")
-        return _assemble(breaths, cols, t, starts, ends, t[idx])
+        return _assemble(breaths, cols, t, starts, ends, t[idx], phase_labels=phase_labels)
     w = int(spec.size)
     if n < w:
-        return _assemble(breaths, cols, t, empty, empty, np.zeros(0))
+        return _assemble(breaths, cols, t, empty, empty, np.zeros(0), phase_labels=phase_labels)
     starts = np.arange(0, n - w + 1)
     ends = starts + w
     centre = _window_means(t, starts, ends)
     if spec.method == "breaths":
-        return _assemble(breaths, cols, t, starts, ends, centre)
+        return _assemble(breaths, cols, t, starts, ends, centre, phase_labels=phase_labels)
     # middle_of_n: per column drop the highest and lowest of each window, mean of the rest.
     values = breaths[cols].to_numpy(dtype=float) if cols else np.zeros((n, 0))
     win = np.sort(sliding_window_view(values, w, axis=0), axis=2)  # (windows, columns, w), NaN last
@@ -223,4 +236,4 @@ def average_breaths(breaths: pd.DataFrame, spec: AveragingSpec = DEFAULT_AVERAGI
     k = keep.sum(axis=2)
     with np.errstate(invalid="ignore", divide="ignore"):
         means = np.where(k > 0, np.where(keep, win, 0.0).sum(axis=2) / np.where(k > 0, k, 1), np.nan)
-    return _assemble(breaths, cols, t, starts, ends, centre, means)
+    return _assemble(breaths, cols, t, starts, ends, centre, means, phase_labels=phase_labels)

@@ -166,3 +166,32 @@ def test_means_stay_within_the_data_and_breaths_are_counted(gaps, values, spec):
         assert t.min() - spec.size <= out["t_s"].min() and out["t_s"].max() <= t.max() + spec.size
     if spec.method == "time_bin":
         assert int(out["n_breaths"].sum()) == t.size  # every breath in exactly one bin
+
+
+@pytest.mark.parametrize(
+    "spec",
+    [AveragingSpec("time_bin", 10), AveragingSpec("rolling_time", 30), AveragingSpec("breaths", 7), AveragingSpec("middle_of_n", 5)],
+)
+def test_phase_labels_stand_in_for_the_phase_column(spec):
+    # handing the labels in gives the very frame that a phase column of the same labels gives
+    rng = np.random.default_rng(11)
+    n = 180
+    b = pd.DataFrame(
+        {
+            "t_s": np.cumsum(rng.uniform(1.5, 3.5, n)),
+            "vo2_ml_min": rng.normal(1500.0, 60.0, n),
+            "vco2_ml_min": rng.normal(1400.0, 60.0, n),
+            "ve_l_min": rng.normal(45.0, 3.0, n),
+        }
+    )
+    labels = np.array(["rest"] * 40 + ["exercise"] * 110 + ["recovery"] * 30, dtype=object)
+    expected = average_breaths(b.assign(phase=labels), spec)
+    got = average_breaths(b, spec, phase_labels=labels)
+    pd.testing.assert_frame_equal(got, expected, check_exact=True)
+    assert set(got["phase"]) == {"rest", "exercise", "recovery"}
+
+
+def test_phase_labels_of_the_wrong_length_are_refused():
+    b = pd.DataFrame({"t_s": [1.0, 2.0, 3.0], "vo2_ml_min": [1.0, 2.0, 3.0]})
+    with pytest.raises(InvalidParameter, match="phase_labels"):
+        average_breaths(b, AveragingSpec("breaths", 2), phase_labels=np.array(["rest", "rest"], dtype=object))
