@@ -92,8 +92,11 @@ def equivalents_figure(
             "legend": BOTTOM_LEGEND,
             "margin": {"l": 60, "r": 20, "t": 50, "b": 110},
             "xaxis": {"anchor": "y2", "title": axis_title("Time (s)")},
-            "yaxis": {"domain": [0.54, 1.0], "anchor": "x", "title": axis_title("VE/VO2, VE/VCO2 (no unit)")},
-            "yaxis2": {"domain": [0.0, 0.46], "anchor": "x", "title": axis_title("End-tidal pressure (mmHg)")},
+            # titles at 12 pt: each must fit the height of its half of the chart
+            "yaxis": {"domain": [0.5, 1.0], "anchor": "x",
+                      "title": {**axis_title("VE/VO2, VE/VCO2 (no unit)"), "font": {"size": 12}}},
+            "yaxis2": {"domain": [0.0, 0.43], "anchor": "x",
+                       "title": {**axis_title("End-tidal pressure (mmHg)"), "font": {"size": 12}}},
             "shapes": shapes,
             "annotations": annotations,
         },
