@@ -264,14 +264,16 @@ def plateau_test(
         rise < 0.5 * expected and (noise_margin is None or rise < expected - noise_margin)
     )
     small = rise < threshold_ml_min and below_expected
-    limit = f"{threshold_ml_min:.0f}" + (
-        f" and clearly below the expected {expected:.0f}" if expected is not None else ""
+    limit = f"a plateau needs a rise below {threshold_ml_min:.0f} mL/min" + (
+        f" and well below the {expected:.0f} mL/min the earlier ramp predicts for that minute"
+        if expected is not None
+        else ""
     )
     if load_col is None:
         plateau = small
         note = (
-            f"VO2 rose {rise:.0f} mL/min over the last minute ({'below' if small else 'not below'} "
-            f"{limit}); no load was recorded, so 'despite more work' could not be checked."
+            f"VO2 rose {rise:.0f} mL/min over the last minute ({limit}: "
+            f"{'met' if small else 'not met'}); no load was recorded, so 'despite more work' could not be checked."
         )
     else:
         plateau = small and more_work
@@ -280,7 +282,7 @@ def plateau_test(
         elif small:
             note = f"VO2 rose {rise:.0f} mL/min over the last minute, but the load did not rise, so this is not a plateau."
         else:
-            note = f"VO2 was still rising at the end ({rise:.0f} mL/min over the last minute, limit {limit}): no plateau."
+            note = f"VO2 was still rising at the end ({rise:.0f} mL/min over the last minute; {limit}): no plateau."
     return PlateauTest(plateau, rise, threshold_ml_min, load_col, load_rise, grade_rise, expected, note)
 
 
@@ -379,9 +381,9 @@ def assess_maximality(
     if rer is None:
         reasons.append("RER could not be read.")
     elif rer_ok:
-        reasons.append(f"Peak RER {rer:.2f} reached {rer_min:.2f}.")
+        reasons.append(f"Peak RER {rer:.2f} meets the secondary criterion (at least {rer_min:.2f}).")
     else:
-        reasons.append(f"Peak RER {rer:.2f} is below {rer_min:.2f}.")
+        reasons.append(f"Peak RER {rer:.2f} is below {rer_min:.2f}, the secondary criterion.")
 
     hr = peak_hr_bpm(exercise_avg)
     hr_pred = tanaka_hr_max_bpm(age_y=age_y) if age_y is not None else None
