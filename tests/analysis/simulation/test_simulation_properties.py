@@ -85,8 +85,12 @@ def test_any_valid_case_gives_a_well_formed_session(case):
     times = [m[k] for k in ("truth_vt1_t_s", "truth_vt2_t_s") if k in m] + [m["truth_exercise_end_t_s"]]
     assert times == sorted(times)
     assert len([x for x in m["truth_artifact_t_s"].split(",") if x]) == 3
-    if protocol.stop == "max":  # RER reaches rer_peak at VO2max (a plateau ends just below it)
-        assert m["truth_rer_peak"] == pytest.approx(profile.rer_peak, abs=0.01 if profile.plateau else 1e-6)
+    if protocol.stop == "max":
+        # RER reaches rer_peak at VO2max on a continuous ramp. A plateau, or a stepped protocol whose last
+        # step ends while VO2 is still closing in on its lagged target, stops just below it.
+        stepped = protocol.stage_s > 0
+        tol = 0.03 if stepped else (0.01 if profile.plateau else 1e-6)
+        assert profile.rer_peak - tol <= m["truth_rer_peak"] <= profile.rer_peak + 1e-6
     if noise == 0:
         ex = b[(b[C.PHASE] != "recovery") & (b[C.VO2_ML_MIN] < profile.vo2_vt1_ml_min - 1)]
         ex = ex[~ex[C.T_S].round(2).isin([float(x) for x in m["truth_artifact_t_s"].split(",")])]
