@@ -87,17 +87,16 @@ def measure() -> list[BenchRow]:
     breaths = session.breaths
     excluded = P._excluded_table(breaths, settings)
     clean = P.exclude_breaths(breaths, excluded["source_row"].tolist())
-    phases = P.detect_phases(clean)
-    clean = clean.assign(phase=phases.to_numpy())
-    avg = P.average_breaths(clean, settings.averaging).reset_index(drop=True)
+    labels = P.detect_phases(clean).to_numpy()
+    avg = P.average_breaths(clean, settings.averaging, phase_labels=labels).reset_index(drop=True)
     res = P.analyze_session(session, settings)
     phases_avg = res.averaged["phase"].astype(str).to_numpy()
     warns: list[str] = []
     stages = [
         ("stage: outlier breaths", lambda: P._excluded_table(breaths, settings)),
         ("stage: phases", lambda: P.detect_phases(clean)),
-        ("stage: averaging", lambda: P.average_breaths(clean, settings.averaging)),
-        ("stage: thresholds", lambda: P.detect_thresholds(avg)),
+        ("stage: averaging", lambda: P.average_breaths(clean, settings.averaging, phase_labels=labels)),
+        ("stage: thresholds", lambda: P.detect_thresholds(avg, phases=phases_avg)),
         (
             "stage: oxygen comparison (4 states)",
             lambda: P._oxygen(res.meta, settings, avg=res.averaged, phases_avg=phases_avg, peak=res.peak,
