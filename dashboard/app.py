@@ -97,10 +97,51 @@ def _demo_user(store: Any) -> Any | None:
     return getter() if callable(getter) else None
 
 
+def oidc_configured() -> bool:
+    """True when an identity provider is set up for ``st.login`` (an ``[auth]`` section in secrets)."""
+    try:
+        return "auth" in st.secrets
+    except Exception:  # noqa: BLE001 - no secrets file at all is the common, local-accounts case
+        return False
+
+
+def identity_user(store: Any, *, is_logged_in: bool, email: str | None) -> Any | None:
+    """The Tidemark account for a provider sign-in, or ``None``.
+
+    A provider sign-in alone grants nothing: the e-mail must match an active ``oidc`` account that
+    an administrator created (``tidemark users add EMAIL --role ... --oidc``); the role is Tidemark's.
+    """
+    if not is_logged_in or not email:
+        return None
+    return store.user_for_identity(email)
+
+
+def _provider_sign_in(store: Any) -> None:
+    """Offer the identity provider's sign-in and map a signed-in provider user to a store account."""
+    user_info = st.user
+    logged_in = bool(getattr(user_info, "is_logged_in", False))
+    user = identity_user(store, is_logged_in=logged_in, email=getattr(user_info, "email", None))
+    if user is not None:
+        state.set_current_user(user)
+        st.rerun()
+    if logged_in:
+        st.warning(
+            "You are signed in with your organisation, but there is no Tidemark account for this "
+            "address. Ask an administrator to create one."
+        )
+        if st.button("Sign out of the organisation account"):
+            st.logout()
+    elif st.button("Sign in with the organisation's account", type="primary"):
+        st.login()
+
+
 def sign_in_form(store: Any) -> None:
     """Render the staff sign-in form; on success store the user and rerun."""
     st.title("Tidemark")
     st.caption("Breath-by-breath exercise test review — Saltmarsh Exercise Lab workspace")
+    if oidc_configured():
+        _provider_sign_in(store)
+        st.caption("Or sign in with a local Tidemark account:")
     with st.form("sign_in"):
         username = st.text_input("User name")
         password = st.text_input("Password", type="password")

@@ -117,3 +117,43 @@ def test_staff_store_needs_sign_in(tmp_path, monkeypatch):
     assert at.session_state["tm_user"].username == "ana.reviewer"
     assert any(t.value == "Library" for t in at.title)
     assert any("Signed in as" in c.value for c in at.sidebar.caption)
+
+
+class _IdentityStore:
+    """Stands in for the store's ``user_for_identity`` (the store's own tests cover the lookup)."""
+
+    def __init__(self, accounts: dict[str, str]):
+        self.accounts = accounts
+        self.asked: list[str] = []
+
+    def user_for_identity(self, email: str):
+        self.asked.append(email)
+        return self.accounts.get(email)
+
+
+def test_provider_sign_in_grants_nothing_without_a_tidemark_account():
+    store = _IdentityStore({"coach.lead@saltmarsh.example": "account"})
+    assert app.identity_user(store, is_logged_in=False, email="coach.lead@saltmarsh.example") is None
+    assert app.identity_user(store, is_logged_in=True, email=None) is None
+    assert store.asked == []  # nothing is looked up before the provider has signed the person in
+    assert app.identity_user(store, is_logged_in=True, email="stranger@elsewhere.example") is None
+    assert app.identity_user(store, is_logged_in=True, email="coach.lead@saltmarsh.example") == "account"
+
+
+def test_provider_button_appears_only_when_an_identity_provider_is_configured(tmp_path, monkeypatch):
+    from store import open_store
+
+    url = f"sqlite:///{tmp_path / 'staff.sqlite'}"
+    open_store(url).close()
+    monkeypatch.setenv("TIDEMARK_STORE", url)
+    at = _app_test()
+    at.secrets["auth"] = {
+        "redirect_uri": "http://127.0.0.1:8630/oauth2callback",
+        "cookie_secret": "test-only-cookie-secret",
+        "client_id": "tidemark-test",
+        "client_secret": "test-only-secret",
+        "server_metadata_url": "http://127.0.0.1:9/.well-known/openid-configuration",
+    }
+    at.run()
+    assert not at.exception, at.exception
+    assert [b.label for b in at.button] == ["Sign in with the organisation's account", "Sign in"]
