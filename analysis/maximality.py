@@ -15,6 +15,7 @@ import pandas as pd
 
 from analysis import columns as C
 from analysis.errors import AnalysisError, require
+from analysis.indices._arrays import present_values
 from analysis.indices.point_values import PointValues, point_values
 
 #: Plateau threshold: VO2 rising less than this over the last minute despite more work
@@ -41,7 +42,7 @@ VERDICT_LABELS: dict[str, str] = {
 
 
 def _need_exercise(exercise_avg: pd.DataFrame) -> None:
-    if len(exercise_avg) == 0 or C.VO2_ML_MIN not in exercise_avg or not exercise_avg[C.VO2_ML_MIN].notna().any():
+    if len(exercise_avg) == 0 or present_values(exercise_avg, C.VO2_ML_MIN) is None:
         raise AnalysisError(
             "No exercise data with VO2 were found, so peak values cannot be read — check the "
             "phase labels or the work-rate / speed column of the file."
@@ -130,14 +131,14 @@ def peak_rer(exercise_avg: pd.DataFrame, *, window_s: float = DEFAULT_PEAK_WINDO
 
 def peak_hr_bpm(exercise_avg: pd.DataFrame) -> float | None:
     """Highest averaged heart rate during exercise, beats/min, or ``None`` when not recorded."""
-    if C.HR_BPM not in exercise_avg or not exercise_avg[C.HR_BPM].notna().any():
-        return None
-    return float(exercise_avg[C.HR_BPM].max())
+    hr = present_values(exercise_avg, C.HR_BPM)
+    return None if hr is None else float(np.nanmax(hr))
 
 
 def _load_column(exercise_avg: pd.DataFrame) -> str | None:
     for col in (C.WORK_W, C.SPEED_KMH):
-        if col in exercise_avg and exercise_avg[col].notna().any() and float(exercise_avg[col].max()) > 0:
+        values = present_values(exercise_avg, col)
+        if values is not None and float(np.nanmax(values)) > 0:
             return col
     return None
 

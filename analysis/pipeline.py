@@ -34,6 +34,7 @@ from analysis.indices import (
     ve_vco2_slope,
     vo2_work_rate_slope,
 )
+from analysis.indices._arrays import present_values
 from analysis.indices.point_values import PointValues
 from analysis.maximality import assess_maximality, peak_values
 from analysis.phases import detect_phases
@@ -117,7 +118,8 @@ def _mode(meta: dict[str, Any], avg: pd.DataFrame) -> str | None:
         except TidemarkError:
             pass
     for col, mode in ((C.WORK_W, "cycle"), (C.SPEED_KMH, "treadmill")):
-        if col in avg and avg[col].notna().any() and float(avg[col].max()) > 0:
+        values = present_values(avg, col)
+        if values is not None and float(np.nanmax(values)) > 0:
             return mode
     return None
 
@@ -195,7 +197,8 @@ def _ceiling(ex: pd.DataFrame, peak: PointValues, hr_peak: float | None) -> Poin
     breaths of recovery (lower load), so the load maxima are used instead.
     """
     def top(col: str, fallback: float | None) -> float | None:
-        return float(ex[col].max()) if col in ex and ex[col].notna().any() else fallback
+        values = present_values(ex, col)
+        return float(np.nanmax(values)) if values is not None else fallback
 
     return dataclasses.replace(
         peak,
@@ -212,13 +215,6 @@ def _safe(fn, *args, **kwargs):  # noqa: ANN001, ANN202 - small internal adapter
         return fn(*args, **kwargs)
     except AnalysisError:
         return None
-
-
-def _col(frame: pd.DataFrame, name: str) -> np.ndarray | None:
-    if name not in frame:
-        return None
-    values = frame[name].to_numpy(dtype=float)
-    return values if (~np.isnan(values)).any() else None
 
 
 def _mean_where(frame: pd.DataFrame, name: str, mask: np.ndarray) -> float | None:
@@ -265,11 +261,11 @@ def _indices(
     out["oues"] = ou.slope if ou else None
     out["oues_per_kg"] = ou.slope / meta["body_mass_kg"] if ou and meta.get("body_mass_kg") else None
 
-    hr = _col(ex, C.HR_BPM)
+    hr = present_values(ex, C.HR_BPM)
     out["o2_pulse_peak_ml_beat"] = _safe(o2_pulse_peak_ml_beat, vo2, hr) if hr is not None else None
     out["o2_pulse_at_peak_ml_beat"] = peak.vo2_ml_min / peak.hr_bpm if peak.hr_bpm else None
 
-    work = _col(ex, C.WORK_W)
+    work = present_values(ex, C.WORK_W)
     if mode == "cycle" and work is not None:
         wr = _safe(vo2_work_rate_slope, t, vo2, work)
         out["vo2_work_rate_slope_ml_min_w"] = wr.slope if wr else None
@@ -289,7 +285,7 @@ def _indices(
             )
     else:
         out["hr_reserve_bpm"] = out["pct_hr_reserve_vt1"] = out["pct_hr_reserve_vt2"] = None
-    hr_all = _col(avg, C.HR_BPM)
+    hr_all = present_values(avg, C.HR_BPM)
     out["hr_recovery_1min_bpm"] = (
         hr_recovery_1min_bpm(avg[C.T_S].to_numpy(dtype=float), hr_all, t_end_exercise_s=float(t.max()))
         if hr_all is not None and (phases_avg == "recovery").any()

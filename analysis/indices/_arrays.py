@@ -5,9 +5,18 @@ from __future__ import annotations
 from collections.abc import Sequence
 
 import numpy as np
+import pandas as pd
 from numpy.typing import ArrayLike, NDArray
 
 from analysis.errors import AnalysisError, InvalidParameter
+
+
+def present_values(frame: pd.DataFrame, name: str) -> NDArray[np.float64] | None:
+    """Column ``name`` of ``frame`` as floats, or ``None`` when it is absent or holds no value."""
+    if name not in frame:
+        return None
+    values = frame[name].to_numpy(dtype=float)
+    return values if (~np.isnan(values)).any() else None
 
 
 def as_float_array(name: str, values: ArrayLike) -> NDArray[np.float64]:
