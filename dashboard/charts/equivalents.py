@@ -11,6 +11,7 @@ import plotly.graph_objects as go
 from analysis import columns as C
 from dashboard import palette
 from dashboard.charts._common import BOTTOM_LEGEND, axis_title, build_figure, column, decorations, figure_title, has, phase_legend
+from dashboard.charts.linking import TimeSpan, span_legend, span_shapes, window_range
 
 #: Columns of the equivalents frame (computed in analysis, not here).
 VE_VO2 = "ve_vo2"
@@ -37,6 +38,8 @@ def equivalents_figure(
     *,
     equivalents: pd.DataFrame | None = None,
     thresholds: Mapping[str, Any] | None = None,
+    time_window: TimeSpan | None = None,
+    highlight: TimeSpan | None = None,
 ) -> go.Figure:
     """Two panels sharing the time axis.
 
@@ -50,6 +53,10 @@ def equivalents_figure(
         this is not given.
     thresholds : mapping, optional
         ``{"vt1": pick, "vt2": pick}`` drawn as vertical lines.
+    time_window : tuple of float, optional
+        ``(start_s, end_s)`` shown on the time axis (the same window as the time course).
+    highlight : tuple of float, optional
+        ``(start_s, end_s)`` of breaths selected on another chart, drawn as a grey band.
 
     Returns
     -------
@@ -78,7 +85,9 @@ def equivalents_figure(
                 }
             )
     shapes, annotations = decorations(avg, thresholds)
+    shapes = span_shapes(highlight) + shapes
     traces.extend(phase_legend(avg))
+    traces.extend(span_legend(highlight))
     if not (has(avg, C.PETO2_MMHG) or has(avg, C.PETCO2_MMHG)):
         annotations.append(
             {"text": "No end-tidal pressures in this recording", "xref": "paper", "yref": "paper",
@@ -91,7 +100,8 @@ def equivalents_figure(
             "height": 600,
             "legend": BOTTOM_LEGEND,
             "margin": {"l": 60, "r": 20, "t": 50, "b": 110},
-            "xaxis": {"anchor": "y2", "title": axis_title("Time (s)")},
+            "xaxis": {"anchor": "y2", "title": axis_title("Time (s)"),
+                      **({"range": rng} if (rng := window_range(time_window)) else {})},
             # titles at 12 pt: each must fit the height of its half of the chart
             "yaxis": {"domain": [0.5, 1.0], "anchor": "x",
                       "title": {**axis_title("VE/VO2, VE/VCO2 (no unit)"), "font": {"size": 12}}},

@@ -12,6 +12,7 @@ import plotly.graph_objects as go
 from analysis import columns as C
 from dashboard import palette
 from dashboard.charts._common import axis_title, build_figure, column, decorations, figure_title, has, phase_legend, nice_step
+from dashboard.charts.linking import TimeSpan, span_legend, span_shapes, window_range
 
 #: The clickable trace (averaged VO2) is named so the page can find it in a selection.
 VO2_TRACE = "VO2 (averaged)"
@@ -24,6 +25,8 @@ def time_course_figure(
     excluded_rows: Iterable[int] = (),
     thresholds: Mapping[str, Any] | None = None,
     averaging_label: str = "",
+    time_window: TimeSpan | None = None,
+    highlight: TimeSpan | None = None,
 ) -> go.Figure:
     """Three stacked panels sharing the time axis.
 
@@ -40,6 +43,11 @@ def time_course_figure(
         vertical lines labelled "(manual)" when set by a reviewer.
     averaging_label : str
         Shown in the title so the reader knows what the lines are.
+    time_window : tuple of float, optional
+        ``(start_s, end_s)`` shown on the time axis (the same window as the equivalents chart);
+        the whole recording when ``None``.
+    highlight : tuple of float, optional
+        ``(start_s, end_s)`` of breaths selected on another chart, drawn as a grey band.
 
     Returns
     -------
@@ -104,13 +112,16 @@ def time_course_figure(
         )
 
     shapes, annotations = decorations(avg, thresholds)
+    shapes = span_shapes(highlight) + shapes
     traces.extend(phase_legend(avg))
+    traces.extend(span_legend(highlight))
     right = 0.93 if load_col is not None else 1.0
     layout: dict[str, Any] = {
         "title": figure_title("Time course" + (f" — {averaging_label}" if averaging_label else "")),
         "height": 720,
         "clickmode": "event+select",
-        "xaxis": {"domain": [0, right], "anchor": "y3", "title": axis_title("Time (s)")},
+        "xaxis": {"domain": [0, right], "anchor": "y3", "title": axis_title("Time (s)"),
+                  **({"range": rng} if (rng := window_range(time_window)) else {})},
         "yaxis": {"domain": [0.57, 1.0], "anchor": "x", "title": axis_title("VO2, VCO2 (mL/min)")},
         "yaxis2": {"domain": [0.30, 0.53], "anchor": "x", "title": axis_title("VE (L/min)")},
         "yaxis3": {"domain": [0.0, 0.26], "anchor": "x", "title": axis_title("Heart rate (beats/min)")},

@@ -12,6 +12,7 @@ import plotly.graph_objects as go
 from analysis import columns as C
 from dashboard import palette
 from dashboard.charts._common import BOTTOM_LEGEND, axis_title, build_figure, column, decorations, figure_title, pick_value
+from dashboard.charts.linking import TimeSpan, span_ring_trace
 
 #: Name of the clickable data trace.
 DATA_TRACE = "Averaged breaths"
@@ -30,6 +31,7 @@ def vslope_figure(
     candidates: Mapping[str, Any] | None = None,
     vt1: Any = None,
     vt2: Any = None,
+    highlight: TimeSpan | None = None,
 ) -> go.Figure:
     """VCO2 (mL/min) against VO2 (mL/min) for the V-slope method (Beaver et al. 1986).
 
@@ -45,6 +47,9 @@ def vslope_figure(
         Method name -> VT1 pick (or ``None``) of each method, drawn as distinct markers.
     vt1, vt2 : pick, optional
         The VT1 in use (consensus or manual) as a vertical line; VT2 as a second line.
+    highlight : tuple of float, optional
+        ``(start_s, end_s)``: breaths at those times are ringed (the span highlighted on the
+        time charts).
 
     Returns
     -------
@@ -69,6 +74,7 @@ def vslope_figure(
             "hovertemplate": "VO2 %{x:.0f} mL/min<br>VCO2 %{y:.0f} mL/min<br>t %{customdata[0]:.0f} s<extra></extra>",
         }
     ]
+    traces.extend(span_ring_trace(x, y, t, highlight))
     brk = _fit_value(fit, "vo2_break_ml_min")
     if brk is not None and np.isfinite(brk) and len(x):
         top = pick_value(vt2, "vo2_ml_min")

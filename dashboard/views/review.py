@@ -25,6 +25,7 @@ from analysis.settings import AnalysisSettings, ThresholdOverride
 from analysis.thresholds import pick_from_chart_point
 from dashboard import data, state
 from dashboard.charts import equivalents_figure, time_course_figure, vslope_figure
+from dashboard.charts.linking import clamp_window, is_area_selection, selected_time_span, span_text, window_bounds
 from dashboard.charts.time_course import VO2_TRACE
 from dashboard.charts.vslope import DATA_TRACE, exercise_rows
 from dashboard.errors import show_error
@@ -55,6 +56,18 @@ WINDOW_LABELS: dict[str, str] = {
 THRESHOLD_NAMES = {"vt1": "VT1", "vt2": "VT2"}
 #: Session-state key of the saves waiting for the end of the page run.
 SAVE_QUEUE = "tm_review_save_queue"
+#: Step of the time-window slider (s).
+WINDOW_STEP_S = 10.0
+
+
+def span_key(test_id: int) -> str:
+    """Session-state key of the span highlighted on the charts (``(start_s, end_s)`` or absent)."""
+    return f"tm_span_{test_id}"
+
+
+def window_key(test_id: int) -> str:
+    """Session-state key (and widget key) of the time window shared by the two time charts."""
+    return f"time_window_{test_id}"
 
 
 # --- pure helpers: user input -> settings --------------------------------------------------
@@ -422,7 +435,8 @@ def _on_threshold(store: Any, test_id: int, *, clear: bool) -> None:
 
 def _threshold_controls(store: Any, test_id: int, working: state.WorkingSettings, results: Any) -> None:
     st.subheader("Set a threshold")
-    st.caption("Type a time or a VO2, or pick the threshold below and click a point on the V-slope or time-course chart.")
+    st.caption("Type a time or a VO2, or pick the threshold below and click a point on the V-slope or time-course "
+               "chart (a click moves the threshold; a box or lasso only highlights breaths).")
     c1, c2, c3 = st.columns([1, 1, 2])
     kind = c1.radio("Threshold", ["vt1", "vt2"], format_func=THRESHOLD_NAMES.get, horizontal=True, key=f"thr_kind_{test_id}")
     by = c2.radio("Place by", ["time", "VO2"], horizontal=True, key=f"thr_by_{test_id}")
@@ -442,6 +456,11 @@ def _threshold_controls(store: Any, test_id: int, working: state.WorkingSettings
 def _on_chart_select(store: Any, test_id: int, *, chart: str) -> None:
     working = ensure_working(store, test_id)
     event = st.session_state.get(f"chart_{chart}_{test_id}")
+    if is_area_selection(event):  # box / lasso: highlight those breaths on every chart, move nothing
+        span = selected_time_span(event)
+        if span is not None:
+            st.session_state[span_key(test_id)] = span
+        return
     avg = data.analyze(test_id, working.key).averaged
     pick = chart_pick(event, chart=chart, avg=avg)
     if pick is None:
@@ -459,25 +478,52 @@ def _select_callback(store: Any, test_id: int, chart: str) -> Any:
     return functools.partial(guarded, store, test_id, chart=chart)
 
 
+def _time_window(test_id: int, avg: pd.DataFrame) -> tuple[float, float]:
+    """The "Time window (s)" slider shared by the time course and the equivalents chart."""
+    bounds = window_bounds(avg["t_s"].to_numpy(dtype=float), step_s=WINDOW_STEP_S)
+    key = window_key(test_id)
+    st.session_state[key] = clamp_window(st.session_state.get(key, bounds), bounds)
+    window = st.slider("Time window (s)", min_value=bounds[0], max_value=bounds[1], step=WINDOW_STEP_S, key=key,
+                       help="Zooms the time course and the ventilatory-equivalents chart together.")
+    return (float(window[0]), float(window[1]))
+
+
+def _span_note(test_id: int) -> tuple[float, float] | None:
+    span = st.session_state.get(span_key(test_id))
+    if span is None:
+        st.caption("To see where breaths sit in time, pick the box or lasso tool (top right of the V-slope or "
+                   "time-course chart) and draw round them: their span is shaded on the time charts.")
+        return None
+    a, b = st.columns([3, 1])
+    a.caption(f"Highlighted on all charts: breaths selected at {span_text(span)}.")
+    if b.button("Clear the highlight", key=f"clear_span_{test_id}"):
+        st.session_state.pop(span_key(test_id), None)
+        st.rerun()
+    return (float(span[0]), float(span[1]))
+
+
 def _charts(store: Any, test_id: int, working: state.WorkingSettings, results: Any, session: Any) -> None:
     report = results.thresholds
     picks = {"vt1": report.vt1, "vt2": report.vt2}
     excluded = results.excluded_breaths
     rows = excluded["source_row"].tolist() if len(excluded) and "source_row" in excluded.columns else []
+    window = _time_window(test_id, results.averaged)
+    span = _span_note(test_id)
     fig_t = time_course_figure(results.averaged, breaths=session.breaths, excluded_rows=rows, thresholds=picks,
-                               averaging_label=results.settings.averaging.label)
-    st.plotly_chart(fig_t, on_select=_select_callback(store, test_id, "time"), selection_mode="points",
+                               averaging_label=results.settings.averaging.label, time_window=window, highlight=span)
+    st.plotly_chart(fig_t, on_select=_select_callback(store, test_id, "time"), selection_mode=("points", "box", "lasso"),
                     key=f"chart_time_{test_id}")
     left, right = st.columns(2)
     with left:
         ex = exercise_rows(results.averaged)
-        fig_v = vslope_figure(ex, fit=report.vslope, candidates=report.vt1_candidates, vt1=report.vt1, vt2=report.vt2)
-        st.plotly_chart(fig_v, on_select=_select_callback(store, test_id, "vslope"), selection_mode="points",
-                        key=f"chart_vslope_{test_id}")
+        fig_v = vslope_figure(ex, fit=report.vslope, candidates=report.vt1_candidates, vt1=report.vt1, vt2=report.vt2,
+                              highlight=span)
+        st.plotly_chart(fig_v, on_select=_select_callback(store, test_id, "vslope"),
+                        selection_mode=("points", "box", "lasso"), key=f"chart_vslope_{test_id}")
         if report.vslope is not None and not report.vslope.valid:
             st.caption(f"V-slope fit not accepted: {report.vslope.reason}")
     with right:
-        st.plotly_chart(equivalents_figure(results.averaged, thresholds=picks),
+        st.plotly_chart(equivalents_figure(results.averaged, thresholds=picks, time_window=window, highlight=span),
                         key=f"chart_eq_{test_id}")
     for line in threshold_notes(report.agreement or {}, report.reasons or []):
         st.caption(line)
