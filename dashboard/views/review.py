@@ -25,7 +25,7 @@ from analysis.settings import AnalysisSettings, ThresholdOverride
 from analysis.thresholds import pick_from_chart_point
 from dashboard import data, state
 from dashboard.charts import equivalents_figure, time_course_figure, vslope_figure
-from dashboard.charts.linking import clamp_window, is_area_selection, selected_time_span, span_text, window_bounds
+from dashboard.charts.linking import clamp_window, is_area_selection, selected_time_span, span_text, window_bounds, window_range
 from dashboard.charts.time_course import VO2_TRACE
 from dashboard.charts.vslope import DATA_TRACE, exercise_rows
 from dashboard.errors import show_error
@@ -478,14 +478,16 @@ def _select_callback(store: Any, test_id: int, chart: str) -> Any:
     return functools.partial(guarded, store, test_id, chart=chart)
 
 
-def _time_window(test_id: int, avg: pd.DataFrame) -> tuple[float, float]:
-    """The "Time window (s)" slider shared by the time course and the equivalents chart."""
+def _time_window(test_id: int, avg: pd.DataFrame) -> tuple[float, float] | None:
+    """The "Time window (s)" slider shared by the time course and the equivalents chart
+    (``None`` when it spans the whole test: each chart then fits its own data)."""
     bounds = window_bounds(avg["t_s"].to_numpy(dtype=float), step_s=WINDOW_STEP_S)
     key = window_key(test_id)
     st.session_state[key] = clamp_window(st.session_state.get(key, bounds), bounds)
     window = st.slider("Time window (s)", min_value=bounds[0], max_value=bounds[1], step=WINDOW_STEP_S, key=key,
                        help="Zooms the time course and the ventilatory-equivalents chart together.")
-    return (float(window[0]), float(window[1]))
+    rng = window_range((float(window[0]), float(window[1])), bounds=bounds)
+    return (rng[0], rng[1]) if rng else None
 
 
 def _span_note(test_id: int) -> tuple[float, float] | None:

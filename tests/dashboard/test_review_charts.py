@@ -141,3 +141,89 @@ def test_palette_is_okabe_ito():
     assert len(palette.OKABE_ITO) == 8 and palette.OKABE_ITO[0] == "#000000"
     assert palette.VERMILLION == "#D55E00" and palette.BLUE == "#0072B2"
     assert palette.THRESHOLD["vt1"]["dash"] != palette.THRESHOLD["vt2"]["dash"]
+
+
+# --- linking: one time window, one highlighted span ------------------------------------------
+
+from dashboard.charts.linking import (  # noqa: E402
+    SPAN_FILL,
+    SPAN_TRACE,
+    clamp_window,
+    in_span,
+    is_area_selection,
+    selected_time_span,
+    span_text,
+    window_bounds,
+    window_range,
+)
+
+
+def _box_event(points, *, tool="box"):
+    # The shape of what st.plotly_chart(on_select=...) returns for a box / lasso selection
+    # (Streamlit's PlotlyState: points, point_indices, box, lasso).
+    area = [{"xref": "x", "yref": "y", "x": [1000, 1500], "y": [900, 1400]}]
+    return {"selection": {"points": points, "point_indices": [p.get("point_index", 0) for p in points],
+                          "box": area if tool == "box" else [], "lasso": area if tool == "lasso" else []}}
+
+
+def test_a_box_selection_becomes_the_span_of_the_selected_breaths():
+    points = [
+        {"curve_number": 0, "point_index": 4, "x": 1160.0, "y": 1102.0, "customdata": [190.0, 1160.0, 4]},
+        {"curve_number": 0, "point_index": 9, "x": 1360.0, "y": 1292.0, "customdata": [240.0, 1360.0, 9]},
+        {"curve_number": 0, "point_index": 6, "x": 1240.0, "y": 1178.0, "customdata": [210.0, 1240.0, 6]},
+        # a method marker and an excluded-breath cross: no [t_s, ...] customdata, not part of the span
+        {"curve_number": 3, "point_index": 0, "x": 1500.0, "y": 1425.0},
+        {"curve_number": 5, "point_index": 0, "x": 900.0, "y": 870.0, "customdata": 17},
+    ]
+    assert selected_time_span(_box_event(points)) == (190.0, 240.0)
+    assert selected_time_span(_box_event(points, tool="lasso")) == (190.0, 240.0)
+    assert span_text((190.0, 240.4)) == "190–240 s"
+
+
+def test_a_click_or_an_empty_selection_is_not_a_span():
+    click = {"selection": {"points": [{"x": 1.0, "y": 1.0, "customdata": [110.0, 1100.0, 1]}], "box": [], "lasso": []}}
+    assert not is_area_selection(click)
+    assert selected_time_span(click) is None  # a click still moves the threshold instead
+    assert selected_time_span(_box_event([])) is None
+    one = [{"x": 1.0, "y": 1.0, "customdata": [110.0, 1100.0, 1]}]
+    assert selected_time_span(_box_event(one)) is None  # one breath is not a span
+    assert selected_time_span(_box_event(one), min_points=1) == (110.0, 110.0)
+    assert selected_time_span(None) is None and selected_time_span({"selection": None}) is None
+
+
+def test_window_bounds_range_and_clamp():
+    t = np.array([3.0, 250.0, 1234.5])
+    assert window_bounds(t, step_s=10.0) == (0.0, 1240.0)
+    assert window_bounds(np.array([]), step_s=10.0) == (0.0, 10.0)
+    bounds = (0.0, 1240.0)
+    assert window_range(bounds, bounds=bounds) is None  # whole recording: plotly's own autorange
+    assert window_range((300.0, 600.0), bounds=bounds) == [300.0, 600.0]
+    assert window_range(None) is None and window_range((600.0, 600.0)) is None
+    assert clamp_window((300.0, 2000.0), bounds) == (300.0, 1240.0)
+    assert clamp_window((1500.0, 2000.0), bounds) == bounds
+    assert clamp_window(None, bounds) == bounds
+    assert list(in_span(np.array([100.0, 190.0, 240.0, 250.0]), (190.0, 240.0))) == [False, True, True, False]
+
+
+def test_both_time_charts_show_the_same_window_and_the_same_band(avg):
+    window, span = (120.0, 400.0), (200.0, 260.0)
+    t_fig = time_course_figure(avg, time_window=window, highlight=span)
+    e_fig = equivalents_figure(avg, time_window=window, highlight=span)
+    for fig in (t_fig, e_fig):
+        layout = fig.to_plotly_json()["layout"]
+        assert list(layout["xaxis"]["range"]) == [120.0, 400.0]
+        bands = [s for s in layout["shapes"] if s.get("fillcolor") == SPAN_FILL]
+        assert [(b["x0"], b["x1"], b["yref"]) for b in bands] == [(200.0, 260.0, "paper")]
+        assert any(t.name == f"{SPAN_TRACE} 200–260 s" for t in fig.data)
+    plain = time_course_figure(avg).to_plotly_json()["layout"]
+    assert "range" not in plain["xaxis"] and not [s for s in plain["shapes"] if s.get("fillcolor") == SPAN_FILL]
+
+
+def test_vslope_rings_the_breaths_of_the_highlighted_span(avg):
+    fig = vslope_figure(avg, highlight=(200.0, 260.0))
+    assert fig.data[0].name == DATA_TRACE  # still first: the browser and the click handler read trace 0
+    ring = next(t for t in fig.data if t.name.startswith(SPAN_TRACE))
+    inside = avg[(avg["t_s"] >= 200) & (avg["t_s"] <= 260)]
+    assert list(ring.x) == list(inside["vo2_ml_min"]) and list(ring.y) == list(inside["vco2_ml_min"])
+    assert len(ring.x) == 7  # 200, 210, ..., 260 s
+    assert [t.name for t in vslope_figure(avg, highlight=(5000.0, 6000.0)).data] == [DATA_TRACE]

@@ -296,3 +296,79 @@ def test_threshold_notes_are_not_repeated():
         "VT2: none of 3 methods found a VT2",
         "Note: VE vs VCO2 breakpoint: two lines fit no better than one",
     ]
+
+
+# --- linked charts: one time window, one highlighted span ---------------------------------------
+
+
+def _charts(at) -> dict[str, dict]:
+    import json
+
+    specs = [json.loads(c.proto.spec) for c in at.get("plotly_chart")]
+    by_title = {s["layout"]["title"]["text"].split(" — ")[0]: s for s in specs}
+    assert {"Time course", "V-slope: VCO2 against VO2", "Ventilatory equivalents and end-tidal pressures"} <= set(by_title)
+    return by_title
+
+
+def test_time_window_zooms_both_time_charts_together(demo_store, page_test):
+    test_id = demo_store.test_ids[0]
+    at = page_test(_review_script, tm_user=demo_store.user, tm_test_id=test_id).run()
+    assert not at.exception, at.exception
+    slider = at.slider(key=review.window_key(test_id))
+    assert slider.label == "Time window (s)"
+    lo, hi = slider.value
+    charts = _charts(at)
+    assert "range" not in charts["Time course"]["layout"]["xaxis"]  # whole test: autorange
+    slider.set_value((lo + 300.0, lo + 600.0)).run()
+    assert not at.exception, at.exception
+    charts = _charts(at)
+    for title in ("Time course", "Ventilatory equivalents and end-tidal pressures"):
+        assert charts[title]["layout"]["xaxis"]["range"] == [lo + 300.0, lo + 600.0]
+    assert "range" not in charts["V-slope: VCO2 against VO2"]["layout"]["xaxis"]  # VO2 axis, not time
+
+
+def _box_select_script() -> None:
+    import streamlit as st
+
+    from dashboard import data
+    from dashboard.views import review
+
+    test_id = st.session_state["tm_test_id"]
+    st.session_state[f"chart_vslope_{test_id}"] = st.session_state["tm_event"]
+    review._on_chart_select(data.get_store(), test_id, chart="vslope")
+
+
+def test_box_selection_on_vslope_highlights_without_moving_a_threshold(demo_store, page_test):
+    test_id = demo_store.test_ids[0]
+    points = [{"curve_number": 0, "point_index": i, "x": 1000.0 + i, "y": 900.0 + i, "customdata": [t, 1000.0 + i, i]}
+              for i, t in enumerate((400.0, 430.0, 460.0))]
+    event = {"selection": {"points": points, "point_indices": [0, 1, 2], "box": [{"x": [0, 1], "y": [0, 1]}], "lasso": []}}
+    _, version_before = demo_store.store.get_settings(test_id)
+    at = page_test(_box_select_script, tm_user=demo_store.user, tm_test_id=test_id, tm_event=event).run()
+    assert not at.exception, at.exception
+    assert at.session_state[review.span_key(test_id)] == (400.0, 460.0)
+    assert review.SAVE_QUEUE not in at.session_state or not at.session_state[review.SAVE_QUEUE]  # nothing saved
+    data.wait_for_saves()
+    assert demo_store.store.get_settings(test_id)[1] == version_before
+
+
+def test_highlighted_span_is_drawn_on_all_three_charts_and_can_be_cleared(demo_store, page_test):
+    from dashboard.charts.linking import SPAN_FILL, SPAN_TRACE
+
+    test_id = demo_store.test_ids[1]
+    at = page_test(_review_script, tm_user=demo_store.user, tm_test_id=test_id,
+                   **{review.span_key(test_id): (400.0, 460.0)}).run()
+    assert not at.exception, at.exception
+    assert any("Highlighted on all charts: breaths selected at 400–460 s" in c.value for c in at.caption)
+    charts = _charts(at)
+    for title in ("Time course", "Ventilatory equivalents and end-tidal pressures"):
+        bands = [s for s in charts[title]["layout"]["shapes"] if s.get("fillcolor") == SPAN_FILL]
+        assert [(b["x0"], b["x1"]) for b in bands] == [(400.0, 460.0)]
+    vslope = charts["V-slope: VCO2 against VO2"]
+    assert vslope["data"][0]["name"] == "Averaged breaths"
+    assert any(t.get("name", "").startswith(SPAN_TRACE) for t in vslope["data"])
+    at.button(key=f"clear_span_{test_id}").click().run()
+    assert not at.exception, at.exception
+    assert review.span_key(test_id) not in at.session_state
+    charts = _charts(at)
+    assert not [s for s in charts["Time course"]["layout"]["shapes"] if s.get("fillcolor") == SPAN_FILL]
