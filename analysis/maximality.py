@@ -282,8 +282,15 @@ def plateau_test(
             note = f"VO2 rose only {rise:.0f} mL/min over the last minute although the load kept rising: plateau."
         elif small:
             note = f"VO2 rose {rise:.0f} mL/min over the last minute, but the load did not rise, so this is not a plateau."
-        else:
+        elif rise >= threshold_ml_min or expected is None:
             note = f"VO2 was still rising at the end ({rise:.0f} mL/min over the last minute; {limit}): no plateau."
+        else:
+            moved = f"rose {rise:.0f}" if rise >= 0 else f"fell {-rise:.0f}"
+            note = (
+                f"VO2 {moved} mL/min over the last minute, not clearly less than the {expected:.0f} mL/min the "
+                "earlier ramp predicts for that minute (a plateau needs under half of it, beyond the "
+                "breath-to-breath noise): no plateau."
+            )
     return PlateauTest(plateau, rise, threshold_ml_min, load_col, load_rise, grade_rise, expected, note)
 
 
@@ -384,7 +391,8 @@ def assess_maximality(
     elif rer_ok:
         reasons.append(f"Peak RER {rer:.2f} meets the secondary criterion (at least {rer_min:.2f}).")
     else:
-        reasons.append(f"Peak RER {rer:.2f} is below {rer_min:.2f}, the secondary criterion.")
+        shown = f"{rer:.2f}" if round(rer, 2) < rer_min else f"{rer:.3f}"  # 1.097 is not "1.10"
+        reasons.append(f"Peak RER {shown} is below {rer_min:.2f}, the secondary criterion.")
 
     hr = peak_hr_bpm(exercise_avg)
     hr_pred = tanaka_hr_max_bpm(age_y=age_y) if age_y is not None else None
@@ -397,8 +405,9 @@ def assess_maximality(
     elif hr_ok:
         reasons.append(f"Peak HR {hr:.0f} beats/min is {hr_pct:.0f} % of predicted {hr_pred:.0f} (≥ {hr_pct_min:.0f} %).")
     else:
+        pct = f"{hr_pct:.0f}" if round(hr_pct) < hr_pct_min else f"{hr_pct:.1f}"  # 89.7 % is not "90 %"
         reasons.append(
-            f"Peak HR {hr:.0f} beats/min is only {hr_pct:.0f} % of predicted {hr_pred:.0f} (< {hr_pct_min:.0f} %); "
+            f"Peak HR {hr:.0f} beats/min is only {pct} % of predicted {hr_pred:.0f} (< {hr_pct_min:.0f} %); "
             "this criterion does not apply under beta-blockade or chronotropic incompetence (staff judgement)."
         )
 

@@ -72,7 +72,7 @@ EXCLUDED_WARN_FRACTION = 0.10
 
 _BASE_METHODS: dict[str, str] = {
     "outliers": "breaths beyond the local mean ± k SD of their neighbours are excluded (Lamarra et al. 1987)",
-    "phases": "phase column when present, else from the load signal (common practice)",
+    "phases": "the file's phase column when present, else found from the work-rate signal (common practice)",
     "hr_peak_bpm": "highest averaged heart rate during exercise",
     "ve_vco2_slope_to_vt2": "least-squares slope of VE on VCO2 from exercise start to VT2 (Arena et al. 2007)",
     "ve_vco2_slope_whole_exercise": "least-squares slope of VE on VCO2 over the whole exercise phase (Arena et al. 2007)",
@@ -556,10 +556,17 @@ def analyze_session(
         predicted, classes = _reference(
             meta, mode, peak, indices["ve_vco2_slope_whole_exercise"], maximality.hr_peak_bpm, warns
         )
-        try:
-            zones = training_zones(vt1=vt1, vt2=vt2, peak=_ceiling(ex, peak, maximality.hr_peak_bpm))
-        except TidemarkError as exc:
-            zones = ZoneSet([], f"Zones not given: {exc}")
+        if vt1 is not None and vt2 is not None and vt2.vo2_ml_min < vt1.vo2_ml_min:
+            zones = ZoneSet(
+                [],
+                f"Zones not given: VT2 ({vt2.vo2_ml_min:.0f} mL/min) is below VT1 ({vt1.vo2_ml_min:.0f} mL/min); "
+                "check both thresholds on the charts.",
+            )
+        else:
+            try:
+                zones = training_zones(vt1=vt1, vt2=vt2, peak=_ceiling(ex, peak, maximality.hr_peak_bpm))
+            except TidemarkError as exc:
+                zones = ZoneSet([], f"Zones not given: {exc}")
         oxygen = (
             _oxygen(meta, settings, avg=avg, phases_avg=phases_avg, peak=peak, vt1=vt1, vt2=vt2, warns=warns)
             if with_oxygen
@@ -590,7 +597,7 @@ def analyze_session(
         why = "no VT2 found" if report.vt2 is None else "too few points below VT2"
         methods["ve_vco2_slope"] = f"least-squares slope of VE on VCO2 over the whole exercise phase ({why}; Arena et al. 2007)"
     else:
-        methods["ve_vco2_slope"] = "least-squares slope of VE on VCO2 (Arena et al. 2007); not computable here, see warnings"
+        methods["ve_vco2_slope"] = "least-squares slope of VE on VCO2 (Arena et al. 2007); could not be computed here, see the warnings"
     methods["averaging"] = settings.averaging.label
     window = f"centred {settings.peak_window_s:g}-s mean of the" if settings.peak_window_s else "value of the"
     methods["vo2_peak"] = f"highest {window} averaged exercise VO2 (common practice: 30-s peak values)"
@@ -598,13 +605,19 @@ def analyze_session(
     for kind in ("vt1", "vt2"):
         pick = getattr(report, kind)
         if pick is None:
-            methods[kind] = "not found (see thresholds.reasons)"
+            methods[kind] = "not found (see the threshold notes for why)"
         elif pick.source == "manual":
             methods[kind] = f"set by the reviewer — {pick.note}"
         else:
             methods[kind] = f"{pick.method} of the automatic methods — {pick.note}" if pick.note else pick.method
     if oxygen is not None:
-        methods["oxygen"] = "Fick a-vO2 difference against the dissociation curve (analysis.oxygen.oxygen_comparison)"
+        from analysis.oxygen.comparison import MODEL_LABELS
+
+        curve = MODEL_LABELS.get(str(oxygen.get("model")), "published curve model")
+        methods["oxygen"] = (
+            "Fick a-vO2 difference (from VO2 and cardiac output) compared with what the haemoglobin "
+            f"dissociation curve allows ({curve})"
+        )
         sources = {st.get("name"): st.get("sao2_source") for st in oxygen.get("states", [])}
         if "spo2" in sources.values():
             methods["oxygen_spo2"] = (

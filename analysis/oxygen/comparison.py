@@ -56,6 +56,17 @@ SHIFT_FACTORS: dict[str, tuple[str, ...]] = {
     "dpg": ("dpg_mmol_l",),
 }
 
+#: Words the reader sees for the curve models, conditions and states named in notes.
+MODEL_LABELS: dict[str, str] = {"siggaard_andersen": "Siggaard-Andersen 1984", "severinghaus": "Severinghaus 1979", "hill": "Hill"}
+_CONDITION_WORDS = {
+    "ph": "pH",
+    "temperature_c": "temperature",
+    "pco2_mmhg": "PCO2",
+    "base_excess_mmol_l": "base excess",
+    "dpg_mmol_l": "2,3-BPG",
+}
+_STATE_WORDS = {"arterial": "arterial blood", "rest": "rest", "vt1": "VT1", "vt2": "VT2", "peak": "peak"}
+
 CAUTION = (
     "Model estimates, not measurements: venous values come from a published dissociation-curve "
     "model and assumed blood conditions, and cardiac output marked as estimated comes from a "
@@ -144,7 +155,8 @@ class OxygenComparison:
                 "pvo2_floor_mmhg": PVO2_FLOOR_MMHG,
                 "decomposition_method": (
                     "fall in PO2 along the resting curve plus curve shift at the exercise-curve venous PO2; "
-                    "shift split into temperature, acid_base, dpg by averaging over all orders (Shapley)"
+                    "shift split into temperature, pH/CO2 and 2,3-BPG parts by averaging over every order of "
+                    "applying them (Shapley values)"
                 ),
                 "estimate": True,
                 "caution": self.caution,
@@ -336,11 +348,13 @@ def oxygen_comparison(
     notes: list[str] = []
     for skipped, names in skipped_by.items():
         why = (
-            "its CO2 effect enters through base excess at the given pH; PCO2 is still used for the Haldane figure"
+            "this curve takes the CO2 effect through base excess at the given pH; PCO2 is still used for the Haldane figure"
             if skipped == ("pco2_mmhg",)
-            else "choose the other model to apply it"
+            else "choose the " + " or ".join(MODEL_LABELS[m] for m in COMPARISON_MODELS if m != model) + " curve to apply it"
         )
-        notes.append(f"{', '.join(skipped)} not applied to the {model} curve for {', '.join(names)} ({why}).")
+        words = ", ".join(_CONDITION_WORDS.get(c, c) for c in skipped)
+        where = ", ".join(_STATE_WORDS.get(n, n) for n in names)
+        notes.append(f"{words} not applied to the {MODEL_LABELS.get(model, model)} curve for {where} ({why}).")
 
     results = [
         _one_state(point, table, rest_conds, arterial_conditions, hb=hb, pao2=pao2, spo2_pct=spo2_pct, model=model, k=k)

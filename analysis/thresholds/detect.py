@@ -177,24 +177,48 @@ def _pick(kind: str, method: str, ex: _Ex, t_s: float, note: str, *, vo2: float 
     return ThresholdPick(kind, float(t_s), float(v), method, "auto", "moderate", note, int(ex.row[i]))  # type: ignore[arg-type]
 
 
+#: How each turn's size is written for the reader: unit and number format.
+_RISE_UNIT = {"ve_vo2": ("", ".2f"), "ve_vco2": ("", ".2f"), "peto2_mmhg": (" mmHg", ".1f"),
+              "petco2_mmhg": (" mmHg", ".1f"), "excess_co2": (" mL/min", ".0f")}
+
+
+def _size(key: str, value: float) -> str:
+    unit, fmt = _RISE_UNIT[key]
+    return f"{value:{fmt}}{unit}"
+
+
 def _turn(
-    kind: str, method: str, ex: _Ex, y: np.ndarray, key: str, what: str, reasons: list[str]
+    kind: str, method: str, ex: _Ex, y: np.ndarray, key: str, what: str, reasons: list[str], *, falling: bool = False
 ) -> ThresholdPick | None:
+    """A turn up in ``y`` (``falling``: ``y`` is the negated series, and the words say "falls")."""
+    rose, low, change = ("fell", "highest", "fall") if falling else ("rose", "lowest", "rise")
     ok = np.isfinite(y)
     if ok.sum() < MIN_EXERCISE_POINTS:
-        reasons.append(f"{method}: too few points with {what}")
+        reasons.append(
+            f"{method}: only {int(ok.sum())} averaged exercise points have {what} "
+            f"(at least {MIN_EXERCISE_POINTS} needed)"
+        )
         return None
     fit = best_turn_up(ex.t[ok], y[ok], min_segment=4)
     if fit is None:
-        reasons.append(f"{method}: {what} never turns upward")
+        reasons.append(f"{method}: {what} never {'starts to fall' if falling else 'turns upward'} after a level stretch")
         return None
     if fit.rise < MIN_RISE[key] or fit.t_stat_after < TURN_MIN_T:
-        reasons.append(
-            f"{method}: {what} turn too small or too uncertain (rise {fit.rise:.3g}, needs "
-            f"{MIN_RISE[key]:g}; slope {fit.t_stat_after:.1f} standard errors, needs {TURN_MIN_T:g})"
-        )
+        why = []
+        if fit.rise < MIN_RISE[key]:
+            why.append(
+                f"{what} {rose} by only {_size(key, fit.rise)} after its {low} point at {fit.t_break:.0f} s "
+                f"(at least {_size(key, MIN_RISE[key])} needed)"
+            )
+        if fit.t_stat_after < TURN_MIN_T:
+            why.append(
+                f"the {change} after {fit.t_break:.0f} s is not clear of the noise (its slope is "
+                f"{fit.t_stat_after:.1f} standard errors; at least {TURN_MIN_T:g} needed)"
+            )
+        reasons.append(f"{method}: " + "; ".join(why))
         return None
-    return _pick(kind, method, ex, fit.t_break, f"{what} turns at {fit.t_break:.0f} s (rise {fit.rise:.3g})")
+    note = f"{what} {'starts to fall' if falling else 'turns upward'} at {fit.t_break:.0f} s ({'falls' if falling else 'rises'} {_size(key, fit.rise)} by the end)"
+    return _pick(kind, method, ex, fit.t_break, note)
 
 
 # ---------------------------------------------------------------- VT2 (respiratory compensation)
@@ -206,17 +230,23 @@ def _ve_vco2_break(ex: _Ex, reasons: list[str]) -> ThresholdPick | None:
     order = np.argsort(sub.vco2, kind="stable")
     xs, ys = sub.vco2[order], sub.ve[order]
     if xs.size < 8:
-        reasons.append(f"{VE_VCO2_BREAK}: too few points")
+        reasons.append(f"{VE_VCO2_BREAK}: only {xs.size} averaged points with VE and VCO2 (at least 8 needed)")
         return None
     fit = best_two_lines(
         xs, ys, min_segment=4, admissible=lambda s1, s2: (s1 > 0) & (s2 >= VE_VCO2_STEEPENING * s1)
     )
     if fit is None:
-        reasons.append(f"{VE_VCO2_BREAK}: VE never steepens against VCO2 by {VE_VCO2_STEEPENING - 1:.0%}")
+        reasons.append(
+            f"{VE_VCO2_BREAK}: VE never becomes at least {VE_VCO2_STEEPENING - 1:.0%} steeper against VCO2 "
+            "(no sign of respiratory compensation)"
+        )
         return None
     p_value = _f_test_p(fit.sse_one_line, fit.sse, xs.size)
     if p_value >= F_TEST_ALPHA:
-        reasons.append(f"{VE_VCO2_BREAK}: two lines fit VE against VCO2 no better than one (F test p = {p_value:.3g})")
+        reasons.append(
+            f"{VE_VCO2_BREAK}: VE against VCO2 is as well described by one straight line as by two, "
+            f"so no break was accepted (F test p = {p_value:.3g}; below {F_TEST_ALPHA:g} needed)"
+        )
         return None
     t_s = time_at_level(sub.t, sub.vco2, fit.x_cross)
     return _pick("vt2", VE_VCO2_BREAK, ex, t_s, f"VE steepens against VCO2 at VCO2 {fit.x_cross:.0f} mL/min")
@@ -227,7 +257,7 @@ def _vt2_candidates(ex: _Ex, reasons: list[str]) -> dict[str, ThresholdPick | No
     out[VE_VCO2_RISE] = _turn("vt2", VE_VCO2_RISE, ex, 1000.0 * ex.ve / ex.vco2, "ve_vco2", "VE/VCO2", reasons)
     petco2 = ex.col(C.PETCO2_MMHG)
     if petco2 is not None:
-        out[PETCO2_FALL] = _turn("vt2", PETCO2_FALL, ex, -petco2, "petco2_mmhg", "PETCO2 (falling)", reasons)
+        out[PETCO2_FALL] = _turn("vt2", PETCO2_FALL, ex, -petco2, "petco2_mmhg", "PETCO2", reasons, falling=True)
     return out
 
 
@@ -260,7 +290,10 @@ def _vslope(ex: _Ex, reasons: list[str]) -> tuple[ThresholdPick | None, VSlopeFi
         reasons.append(f"{VSLOPE}: {fit.reason}")
         return None, fit
     t_s = time_at_level(ex.t, ex.vo2, fit.vo2_break_ml_min)
-    note = f"VCO2-VO2 slope {fit.slope_below:.2f} -> {fit.slope_above:.2f} at VO2 {fit.vo2_break_ml_min:.0f} mL/min"
+    note = (
+        f"VCO2 against VO2 steepens from a slope of {fit.slope_below:.2f} to {fit.slope_above:.2f} "
+        f"at VO2 {fit.vo2_break_ml_min:.0f} mL/min"
+    )
     return _pick("vt1", VSLOPE, ex, t_s, note, vo2=fit.vo2_break_ml_min), fit
 
 
@@ -276,7 +309,10 @@ def _equivalents(ex: _Ex, reasons: list[str]) -> ThresholdPick | None:
         s_co2 = np.polyfit(ex.t[after], ve_vco2[after], 1)[0]
         s_o2 = np.polyfit(ex.t[after], ve_vo2[after], 1)[0]
         if s_o2 <= 0 or s_co2 > 0.5 * s_o2:
-            reasons.append(f"{EQUIVALENTS}: VE/VCO2 rose with VE/VO2 after {pick.t_s:.0f} s (not a VT1 pattern)")
+            reasons.append(
+                f"{EQUIVALENTS}: VE/VO2 rose after {pick.t_s:.0f} s, but VE/VCO2 rose with it "
+                "(at VT1 VE/VCO2 stays level), so it was not taken as VT1"
+            )
             return None
     return pick
 
@@ -304,7 +340,7 @@ def _consensus(kind: str, cands: dict[str, ThresholdPick | None], ex: _Ex) -> tu
     tried = len(cands)
     valid = [p for p in cands.values() if p is not None]
     if not valid:
-        return None, f"none of {tried} methods found a {kind.upper()}"
+        return None, f"none of the {tried} methods found a {kind.upper()}"
     vo2 = np.array([p.vo2_ml_min for p in valid])
     support = [
         [q for q in range(len(valid)) if abs(vo2[q] - vo2[p]) <= agreement_tolerance_ml_min(vo2[p])]
@@ -320,15 +356,24 @@ def _consensus(kind: str, cands: dict[str, ThresholdPick | None], ex: _Ex) -> tu
     confidence = "high" if size >= 3 else ("moderate" if size == 2 else "low")
     names = ", ".join(p.method for p in cluster)
     left = [p.method for p in valid if p not in cluster]
-    agree = f"{size} of {tried} methods within {tol:.0f} mL/min ({names})"
+    if size > 1:
+        agree = f"{size} of {tried} methods agree within {tol:.0f} mL/min ({names})"
+    elif len(valid) == 1:
+        agree = f"only 1 of {tried} methods found a {kind.upper()} ({names})"
+    else:
+        agree = f"no two of the {len(valid)} picks agree within {tol:.0f} mL/min; {names} was used (ranked most accurate on simulated tests)"
     if left:
-        agree += f"; set aside: {', '.join(left)}"
+        agree += f"; not in agreement, set aside: {', '.join(left)}"
     missing = [m for m, p in cands.items() if p is None]
     if missing:
-        agree += f"; nothing found by: {', '.join(missing)}"
-    note = f"median of {size} agreeing method{'s' if size > 1 else ''}: {names}"
+        agree += f"; found nothing: {', '.join(missing)}"
+    note = (
+        f"middle value (median) of {size} agreeing methods: {names}"
+        if size > 1
+        else (f"found by one method only: {names}" if len(valid) == 1 else f"one method, no other agreeing: {names}")
+    )
     if confidence == "low":
-        note += " (single method: read the charts before relying on it)"
+        note += " (check the charts before relying on it)"
     i = int(np.argmin(np.abs(ex.t - t_s)))
     pick = ThresholdPick(kind, t_s, v, CONSENSUS, "auto", confidence, note, int(ex.row[i]))  # type: ignore[arg-type]
     return pick, agree
@@ -401,7 +446,7 @@ def detect_thresholds(avg: pd.DataFrame, *, phases: pd.Series | np.ndarray | Non
     report = ThresholdReport()
     if ex.t.size < MIN_EXERCISE_POINTS:
         report.reasons.append(
-            f"only {ex.t.size} averaged exercise points with VO2, VCO2 and VE "
+            f"only {ex.t.size} averaged exercise points have VO2, VCO2 and VE "
             f"(at least {MIN_EXERCISE_POINTS} needed): no threshold was sought"
         )
         report.agreement = {"vt1": "not assessed", "vt2": "not assessed"}
@@ -417,7 +462,9 @@ def detect_thresholds(avg: pd.DataFrame, *, phases: pd.Series | np.ndarray | Non
     if vt2 is not None and vt2.confidence != "low":
         below = win.t < vt2.t_s
         if below.sum() < MIN_EXERCISE_POINTS:
-            reasons.append(f"VT1: fewer than {MIN_EXERCISE_POINTS} points before VT2, searched the whole exercise phase")
+            reasons.append(
+                f"VT1: fewer than {MIN_EXERCISE_POINTS} averaged points before VT2, so VT1 was sought over the whole exercise phase"
+            )
             below = everything
     r1: list[str] = []
     vt1_c, fit = _vt1_candidates(win.take(below), r1)
@@ -434,14 +481,14 @@ def detect_thresholds(avg: pd.DataFrame, *, phases: pd.Series | np.ndarray | Non
             c_cut, f_cut = _vt1_candidates(win.take(cut), r_cut)
             v_cut, a_cut = _consensus("vt1", c_cut, ex)
             if v_cut is not None:
-                r1 = r_cut + [f"VT1: the first reading ({vt1.vo2_ml_min:.0f} mL/min) fell on the VT2 rise; read again below VT2"]
+                r1 = r_cut + [f"VT1: the first reading ({vt1.vo2_ml_min:.0f} mL/min) fell on the rise at VT2; read again below VT2"]
                 vt1_c, fit, vt1, agree1 = c_cut, f_cut, v_cut, a_cut
     reasons.extend(r1)
     if vt1 is not None:  # a VT2 pick at or below VT1 is not an RCP: set it aside
         late = {}
         for m, p in vt2_c.items():
             if p is not None and p.vo2_ml_min <= vt1.vo2_ml_min:
-                reasons.append(f"{m}: its pick ({p.vo2_ml_min:.0f} mL/min) is at or below VT1, set aside")
+                reasons.append(f"{m}: its VT2 ({p.vo2_ml_min:.0f} mL/min) is at or below VT1, so it was set aside")
                 p = None
             late[m] = p
         if late != vt2_c:
@@ -452,7 +499,7 @@ def detect_thresholds(avg: pd.DataFrame, *, phases: pd.Series | np.ndarray | Non
     if vt2 is None:
         reasons.append("VT2 not found: " + agree2)
     if vt1 is not None and vt2 is not None and vt1.vo2_ml_min >= vt2.vo2_ml_min:
-        reasons.append("VT1 came out at or above VT2: both set to low confidence, review the charts")
+        reasons.append("VT1 came out at or above VT2: both marked low confidence; check the charts")
         vt1 = _with_confidence(vt1, "low")
         vt2 = _with_confidence(vt2, "low")
     report.vt1, report.vt2 = vt1, vt2

@@ -108,20 +108,29 @@ def vslope_fit(
     if free is None:
         return VSlopeFit(
             -1, math.nan, math.nan, math.nan, math.nan, math.nan, math.nan, math.nan, False,
-            f"too few points: {n} usable VO2/VCO2 pairs, at least {2 * min_segment} with distinct VO2 needed",
+            f"too few points: {n} averaged points with VO2 and VCO2, at least {2 * min_segment} with different VO2 needed",
             0, n, lo, hi,
         )
     reason = ""
     if fit is None:  # no split meets the slope rules: report the best free split and why
         fit = free
         if fit.slope_above - fit.slope_below <= MIN_SLOPE_INCREASE:
-            reason = f"slope increase < {MIN_SLOPE_INCREASE:g} (lower {fit.slope_below:.2f}, upper {fit.slope_above:.2f})"
+            reason = (
+                f"VCO2 against VO2 never steepens clearly: slope increase < {MIN_SLOPE_INCREASE:g} "
+                f"(from {fit.slope_below:.2f} below the best break to {fit.slope_above:.2f} above it)"
+            )
         else:
-            reason = f"lower slope far from 1 ({fit.slope_below:.2f}; expected {lo_s:g}-{hi_s:g})"
+            reason = (
+                f"lower slope far from 1: VCO2 against VO2 rises with a slope of {fit.slope_below:.2f} "
+                f"below the break ({lo_s:g}-{hi_s:g} expected before VT1)"
+            )
     else:
         p_value = f_test_p(fit.sse_one_line, fit.sse, n)
         if p_value >= F_TEST_ALPHA:
-            reason = f"two lines fit no better than one (F test p = {p_value:.3g})"
+            reason = (
+                "two lines describe VCO2 against VO2 no better than one straight line, so no break "
+                f"was accepted (F test p = {p_value:.3g}; below {F_TEST_ALPHA:g} needed)"
+            )
     xb = fit.x_cross
     yb = fit.slope_below * xb + fit.intercept_below
     return VSlopeFit(

@@ -135,9 +135,13 @@ def test_edited_conditions_and_dpg_part():
 
 def test_model_notes_say_what_is_not_applied():
     r = oxygen_comparison(POINTS, hb_g_dl=15.0, model="siggaard_andersen")
-    assert any("pco2_mmhg not applied" in n for n in r.notes)
+    # Notes name conditions, curves and states in the trade's words, never in code names.
+    assert any(n.startswith("PCO2 not applied to the Siggaard-Andersen 1984 curve for") for n in r.notes)
     r2 = oxygen_comparison(POINTS, hb_g_dl=15.0, model="severinghaus")
-    assert any("base_excess_mmol_l not applied" in n for n in r2.notes)
+    assert any(n.startswith("base excess not applied to the Severinghaus 1979 curve for") for n in r2.notes)
+    assert not any("_" in n for n in r.notes + r2.notes)
+    method = r.to_json_dict()["decomposition_method"]
+    assert "pH/CO2" in method and "2,3-BPG" in method and "_" not in method
 
 
 def test_json_and_frame(result):

@@ -26,7 +26,7 @@ def test_noise_free_all_methods_agree():
     assert set(r.vt1_candidates) == set(VT1_METHODS)
     assert set(r.vt2_candidates) == set(VT2_METHODS)
     assert all(p is not None for p in r.vt1_candidates.values())
-    assert r.agreement["vt1"].startswith("4 of 4 methods within")
+    assert r.agreement["vt1"].startswith("4 of 4 methods agree within")
     assert r.vslope is not None and r.vslope.valid
     # the V-slope chart's lines: lower slope 0.95 and upper 1.35 were planted
     assert r.vslope.slope_below == pytest.approx(0.95, abs=0.05)
