@@ -485,7 +485,7 @@ def _time_window(test_id: int, avg: pd.DataFrame) -> tuple[float, float] | None:
     key = window_key(test_id)
     st.session_state[key] = clamp_window(st.session_state.get(key, bounds), bounds)
     window = st.slider("Time window (s)", min_value=bounds[0], max_value=bounds[1], step=WINDOW_STEP_S, key=key,
-                       help="Zooms the time course and the ventilatory-equivalents chart together.")
+                       format="%.0f", help="Zooms the time course and the ventilatory-equivalents chart together.")
     rng = window_range((float(window[0]), float(window[1])), bounds=bounds)
     return (rng[0], rng[1]) if rng else None
 

@@ -94,6 +94,50 @@ def test_upload_review_override_and_report(app_server, page, screenshot, tmp_pat
     assert abs(clicked[1] - float(t_clicked)) <= 1
     screenshot(page, "review-clicked-vt1")
 
+    # --- box-select breaths on the V-slope chart: their span is shaded on both time charts
+    chart = page.locator(".js-plotly-plot").nth(1)
+    chart.scroll_into_view_if_needed()
+    chart.hover()
+    chart.locator(".modebar-btn[data-title='Box Select']").click()
+    points = chart.locator(".scatterlayer .trace").first.locator("path.point")
+    n = points.count()
+    a, b = points.nth(n // 4).bounding_box(), points.nth(n // 2).bounding_box()
+    t_lo, t_hi = chart.evaluate(f"el => [el.data[0].customdata[{n // 4}][0], el.data[0].customdata[{n // 2}][0]]")
+    x0, x1 = min(a["x"], b["x"]) - 4, max(a["x"], b["x"]) + b["width"] + 4
+    y0, y1 = min(a["y"], b["y"]) - 30, max(a["y"], b["y"]) + b["height"] + 30
+    page.mouse.move(x0, y1)
+    page.mouse.down()
+    page.mouse.move((x0 + x1) / 2, (y0 + y1) / 2, steps=5)
+    page.mouse.move(x1, y0, steps=5)
+    page.mouse.up()
+    note = page.get_by_text(re.compile(r"Highlighted on all charts: breaths selected at \d+–\d+ s"))
+    note.wait_for(timeout=60_000)
+    wait_for_app(page)
+    lo, hi = (int(v) for v in re.findall(r"(\d+)–(\d+) s", note.inner_text())[0])
+    assert lo <= round(float(t_lo)) and hi >= round(float(t_hi))  # the box took in at least those breaths
+    assert _vt1(page) == clicked  # a box selection moves no threshold
+    for i in (0, 2):  # time course and equivalents: one band at the selected span
+        bands = page.locator(".js-plotly-plot").nth(i).evaluate(
+            "el => (el.layout.shapes || []).filter(s => s.fillcolor === 'rgba(127, 127, 127, 0.20)').map(s => [s.x0, s.x1])"
+        )
+        assert len(bands) == 1 and round(bands[0][0]) == lo and round(bands[0][1]) == hi
+    screenshot(page, "review-highlighted-span")
+
+    # --- narrow the time window: both time charts follow
+    thumb = page.get_by_role("slider").first
+    thumb.focus()
+    for _ in range(30):
+        thumb.press("ArrowRight")
+    page.wait_for_function(
+        """() => { const p = document.querySelectorAll('.js-plotly-plot');
+                   return p.length > 2 && [p[0], p[2]].every(el => el.layout.xaxis.range && el.layout.xaxis.range[0] >= 200); }""",
+        timeout=60_000,
+    )
+    wait_for_app(page)
+    r0, r2 = (page.locator(".js-plotly-plot").nth(i).evaluate("el => el.layout.xaxis.range") for i in (0, 2))
+    assert r0 == r2
+    screenshot(page, "review-time-window")
+
     # --- the other pages, then the report
     for title, slug in (("Oxygen path", "oxygen"), ("Progress", "progress"), ("Share links", "sharing"), ("Reports", "reports")):
         link = page.locator("[data-testid='stSidebarNav'] a", has_text=title)
