@@ -5,7 +5,9 @@ No Streamlit here, so every chart can be tested on its own. Colours come from
 
 Review charts (Dashboard-core): :func:`time_course_figure`, :func:`vslope_figure`,
 :func:`equivalents_figure`, each with a ``*_from_results(results, session=None)`` form that
-takes an :class:`analysis.results.TestResults` directly (used by the report). Oxygen and progress charts live in their own modules.
+takes an :class:`analysis.results.TestResults` directly (used by the report). The two time
+charts take ``time_window=`` and ``highlight=`` and the V-slope chart ``highlight=``; the page
+links them through :mod:`dashboard.charts.linking`. Oxygen and progress charts live in their own modules.
 """
 
 from dashboard.charts.equivalents import equivalents_figure, equivalents_from_results
