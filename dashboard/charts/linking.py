@@ -167,3 +167,11 @@ def clamp_window(window: Any, bounds: TimeSpan) -> TimeSpan:
         return bounds
     lo, hi = max(lo, bounds[0]), min(hi, bounds[1])
     return (lo, hi) if hi > lo else bounds
+
+
+def window_around(span: TimeSpan, bounds: TimeSpan, *, step_s: float = 10.0) -> TimeSpan:
+    """A slider window showing ``span`` with one ``step_s`` of margin each side, on the slider's
+    steps and inside ``bounds`` ("Zoom the time charts to the highlight")."""
+    lo = math.floor(float(span[0]) / step_s) * step_s - step_s
+    hi = math.ceil(float(span[1]) / step_s) * step_s + step_s
+    return clamp_window((lo, hi), bounds)

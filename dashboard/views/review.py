@@ -25,7 +25,7 @@ from analysis.settings import AnalysisSettings, ThresholdOverride
 from analysis.thresholds import pick_from_chart_point
 from dashboard import data, state
 from dashboard.charts import equivalents_figure, time_course_figure, vslope_figure
-from dashboard.charts.linking import clamp_window, is_area_selection, selected_time_span, span_text, window_bounds, window_range
+from dashboard.charts.linking import clamp_window, is_area_selection, selected_time_span, span_text, window_around, window_bounds, window_range
 from dashboard.charts.time_course import VO2_TRACE
 from dashboard.charts.vslope import DATA_TRACE, exercise_rows
 from dashboard.errors import show_error
@@ -478,10 +478,9 @@ def _select_callback(store: Any, test_id: int, chart: str) -> Any:
     return functools.partial(guarded, store, test_id, chart=chart)
 
 
-def _time_window(test_id: int, avg: pd.DataFrame) -> tuple[float, float] | None:
+def _time_window(test_id: int, bounds: tuple[float, float]) -> tuple[float, float] | None:
     """The "Time window (s)" slider shared by the time course and the equivalents chart
     (``None`` when it spans the whole test: each chart then fits its own data)."""
-    bounds = window_bounds(avg["t_s"].to_numpy(dtype=float), step_s=WINDOW_STEP_S)
     key = window_key(test_id)
     st.session_state[key] = clamp_window(st.session_state.get(key, bounds), bounds)
     window = st.slider("Time window (s)", min_value=bounds[0], max_value=bounds[1], step=WINDOW_STEP_S, key=key,
@@ -490,18 +489,25 @@ def _time_window(test_id: int, avg: pd.DataFrame) -> tuple[float, float] | None:
     return (rng[0], rng[1]) if rng else None
 
 
-def _span_note(test_id: int) -> tuple[float, float] | None:
+def _span_note(test_id: int, bounds: tuple[float, float]) -> tuple[float, float] | None:
     span = st.session_state.get(span_key(test_id))
     if span is None:
         st.caption("To see where breaths sit in time, pick the box or lasso tool (top right of the V-slope or "
                    "time-course chart) and draw round them: their span is shaded on the time charts.")
         return None
-    a, b = st.columns([3, 1])
+    a, b, c = st.columns([2, 1, 1])
     a.caption(f"Highlighted on all charts: breaths selected at {span_text(span)}.")
-    if b.button("Clear the highlight", key=f"clear_span_{test_id}"):
+    b.button("Zoom the time charts to it", key=f"zoom_span_{test_id}", on_click=_zoom_to_span, args=(test_id, bounds))
+    if c.button("Clear the highlight", key=f"clear_span_{test_id}"):
         st.session_state.pop(span_key(test_id), None)
         st.rerun()
     return (float(span[0]), float(span[1]))
+
+
+def _zoom_to_span(test_id: int, bounds: tuple[float, float]) -> None:
+    span = st.session_state.get(span_key(test_id))
+    if span is not None:
+        st.session_state[window_key(test_id)] = window_around(span, bounds, step_s=WINDOW_STEP_S)
 
 
 def _charts(store: Any, test_id: int, working: state.WorkingSettings, results: Any, session: Any) -> None:
@@ -509,8 +515,9 @@ def _charts(store: Any, test_id: int, working: state.WorkingSettings, results: A
     picks = {"vt1": report.vt1, "vt2": report.vt2}
     excluded = results.excluded_breaths
     rows = excluded["source_row"].tolist() if len(excluded) and "source_row" in excluded.columns else []
-    window = _time_window(test_id, results.averaged)
-    span = _span_note(test_id)
+    bounds = window_bounds(results.averaged["t_s"].to_numpy(dtype=float), step_s=WINDOW_STEP_S)
+    window = _time_window(test_id, bounds)
+    span = _span_note(test_id, bounds)
     fig_t = time_course_figure(results.averaged, breaths=session.breaths, excluded_rows=rows, thresholds=picks,
                                averaging_label=results.settings.averaging.label, time_window=window, highlight=span)
     st.plotly_chart(fig_t, on_select=_select_callback(store, test_id, "time"), selection_mode=("points", "box", "lasso"),

@@ -153,6 +153,7 @@ from dashboard.charts.linking import (  # noqa: E402
     is_area_selection,
     selected_time_span,
     span_text,
+    window_around,
     window_bounds,
     window_range,
 )
@@ -227,3 +228,10 @@ def test_vslope_rings_the_breaths_of_the_highlighted_span(avg):
     assert list(ring.x) == list(inside["vo2_ml_min"]) and list(ring.y) == list(inside["vco2_ml_min"])
     assert len(ring.x) == 7  # 200, 210, ..., 260 s
     assert [t.name for t in vslope_figure(avg, highlight=(5000.0, 6000.0)).data] == [DATA_TRACE]
+
+
+def test_window_around_a_span_has_a_step_of_margin_and_stays_inside_the_test():
+    bounds = (0.0, 1240.0)
+    assert window_around((575.3, 894.9), bounds, step_s=10.0) == (560.0, 910.0)
+    assert window_around((3.0, 40.0), bounds, step_s=10.0) == (0.0, 50.0)
+    assert window_around((1200.0, 1238.0), bounds, step_s=10.0) == (1190.0, 1240.0)

@@ -367,6 +367,12 @@ def test_highlighted_span_is_drawn_on_all_three_charts_and_can_be_cleared(demo_s
     vslope = charts["V-slope: VCO2 against VO2"]
     assert vslope["data"][0]["name"] == "Averaged breaths"
     assert any(t.get("name", "").startswith(SPAN_TRACE) for t in vslope["data"])
+    at.button(key=f"zoom_span_{test_id}").click().run()  # the shared window moves to the span
+    assert not at.exception, at.exception
+    assert at.slider(key=review.window_key(test_id)).value == (390.0, 470.0)
+    charts = _charts(at)
+    for title in ("Time course", "Ventilatory equivalents and end-tidal pressures"):
+        assert charts[title]["layout"]["xaxis"]["range"] == [390.0, 470.0]
     at.button(key=f"clear_span_{test_id}").click().run()
     assert not at.exception, at.exception
     assert review.span_key(test_id) not in at.session_state
