@@ -71,7 +71,7 @@ VE_VCO2_WHOLE_EXERCISE = "whole_exercise"
 EXCLUDED_WARN_FRACTION = 0.10
 
 _BASE_METHODS: dict[str, str] = {
-    "outliers": "breaths beyond the local mean ± k SD of their neighbours are excluded (Lamarra et al. 1987)",
+    "outliers": "breaths far from the local mean of their neighbours are excluded (Lamarra et al. 1987)",
     "phases": "the file's phase column when present, else found from the work-rate signal (common practice)",
     "hr_peak_bpm": "highest averaged heart rate during exercise",
     "ve_vco2_slope_to_vt2": "least-squares slope of VE on VCO2 from exercise start to VT2 (Arena et al. 2007)",
@@ -505,7 +505,10 @@ def analyze_session(
     name = session.source_name or "the session"
     missing = [c for c in C.REQUIRED if c not in breaths.columns]
     if missing:
-        raise AnalysisError(f"{name} has no column(s) {', '.join(missing)}; a test needs t_s, VO2, VCO2 and VE.")
+        raise AnalysisError(
+            f"{name} has no column(s) {', '.join(f'{C.COLUMNS[c].label} ({c})' for c in missing)}; "
+            "a test needs time, VO2, VCO2 and VE."
+        )
     if len(breaths) < 20:
         raise AnalysisError(f"{name} holds only {len(breaths)} breaths; at least 20 are needed for an analysis.")
     if "source_row" not in breaths.columns:
@@ -590,6 +593,10 @@ def analyze_session(
         warns.append(zones.note)
 
     methods = dict(_BASE_METHODS)
+    methods["outliers"] = (
+        f"breaths more than {settings.outlier_k_sd:g} SD from the mean of the {settings.outlier_window_breaths} "
+        "breaths around them are excluded (Lamarra et al. 1987)"
+    )
     span = indices.get("ve_vco2_slope_span")
     if span == VE_VCO2_TO_VT2:
         methods["ve_vco2_slope"] = "least-squares slope of VE on VCO2 from exercise start to VT2 (VT2 found; Arena et al. 2007)"
