@@ -138,6 +138,20 @@ def test_upload_review_override_and_report(app_server, page, screenshot, tmp_pat
     assert r0 == r2
     screenshot(page, "review-time-window")
 
+    # --- zoom both time charts to the highlighted span (one 10 s step of margin each side)
+    page.get_by_role("button", name="Zoom the time charts to it").click()
+    page.wait_for_function(
+        """(lo) => { const p = document.querySelectorAll('.js-plotly-plot');
+                     return p.length > 2 && [p[0], p[2]].every(el => el.layout.xaxis.range && el.layout.xaxis.range[0] < lo); }""",
+        arg=lo, timeout=60_000,
+    )
+    wait_for_app(page)
+    for i in (0, 2):
+        r = page.locator(".js-plotly-plot").nth(i).evaluate("el => el.layout.xaxis.range")
+        assert lo - 20 <= r[0] < lo and hi < r[1] <= hi + 20
+    page.locator(".js-plotly-plot").nth(0).scroll_into_view_if_needed()
+    screenshot(page, "review-zoomed-to-span")
+
     # --- the other pages, then the report
     for title, slug in (("Oxygen path", "oxygen"), ("Progress", "progress"), ("Share links", "sharing"), ("Reports", "reports")):
         link = page.locator("[data-testid='stSidebarNav'] a", has_text=title)
