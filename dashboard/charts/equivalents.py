@@ -11,7 +11,7 @@ import plotly.graph_objects as go
 from analysis import columns as C
 from dashboard import palette
 from dashboard.charts._common import BOTTOM_LEGEND, axis_title, build_figure, column, decorations, figure_title, has, phase_legend
-from dashboard.charts.linking import TimeSpan, span_legend, span_shapes, window_range
+from dashboard.charts.linking import TimeSpan, span_legend, span_shapes, window_range, y_range_in_window
 
 #: Columns of the equivalents frame (computed in analysis, not here).
 VE_VO2 = "ve_vo2"
@@ -93,6 +93,8 @@ def equivalents_figure(
             {"text": "No end-tidal pressures in this recording", "xref": "paper", "yref": "paper",
              "x": 0.5, "y": 0.22, "showarrow": False, "font": {"color": palette.GREY}}
         )
+    x_rng = window_range(time_window)
+    y_rngs = {axis: y_range_in_window(traces, x_rng, axis=axis) for axis in ("y", "y2")}
     return build_figure(
         traces,
         {
@@ -100,13 +102,14 @@ def equivalents_figure(
             "height": 600,
             "legend": BOTTOM_LEGEND,
             "margin": {"l": 60, "r": 20, "t": 50, "b": 110},
-            "xaxis": {"anchor": "y2", "title": axis_title("Time (s)"),
-                      **({"range": rng} if (rng := window_range(time_window)) else {})},
+            "xaxis": {"anchor": "y2", "title": axis_title("Time (s)"), **({"range": x_rng} if x_rng else {})},
             # titles at 12 pt: each must fit the height of its half of the chart
             "yaxis": {"domain": [0.5, 1.0], "anchor": "x",
-                      "title": {**axis_title("VE/VO2, VE/VCO2 (no unit)"), "font": {"size": 12}}},
+                      "title": {**axis_title("VE/VO2, VE/VCO2 (no unit)"), "font": {"size": 12}},
+                      **({"range": y_rngs["y"]} if y_rngs["y"] else {})},
             "yaxis2": {"domain": [0.0, 0.43], "anchor": "x",
-                       "title": {**axis_title("End-tidal pressure (mmHg)"), "font": {"size": 12}}},
+                       "title": {**axis_title("End-tidal pressure (mmHg)"), "font": {"size": 12}},
+                       **({"range": y_rngs["y2"]} if y_rngs["y2"] else {})},
             "shapes": shapes,
             "annotations": annotations,
         },

@@ -175,3 +175,34 @@ def window_around(span: TimeSpan, bounds: TimeSpan, *, step_s: float = 10.0) -> 
     lo = math.floor(float(span[0]) / step_s) * step_s - step_s
     hi = math.ceil(float(span[1]) / step_s) * step_s + step_s
     return clamp_window((lo, hi), bounds)
+
+
+def y_range_in_window(traces: Sequence[Mapping[str, Any]], window: TimeSpan | None, *, axis: str,
+                      pad: float = 0.06) -> list[float] | None:
+    """A y range fitting the points of the traces on ``axis`` (``"y"``, ``"y2"``, ...) inside the
+    time window, with ``pad`` of the span as margin; ``None`` (autorange) without a window or data.
+
+    Plotly's autorange fits the whole recording even when the time axis shows a part of it,
+    which leaves a narrow window's lines flat at the bottom of the panel.
+    """
+    if window is None:
+        return None
+    lo_t, hi_t = float(window[0]), float(window[1])
+    lows: list[float] = []
+    highs: list[float] = []
+    for trace in traces:
+        if trace.get("yaxis", "y") != axis or trace.get("x") is None or trace.get("y") is None:
+            continue
+        x = np.asarray(trace["x"], dtype=float)
+        y = np.asarray(trace["y"], dtype=float)
+        if x.shape != y.shape:
+            continue
+        inside = y[(x >= lo_t) & (x <= hi_t) & np.isfinite(y)]
+        if inside.size:
+            lows.append(float(inside.min()))
+            highs.append(float(inside.max()))
+    if not lows:
+        return None
+    lo, hi = min(lows), max(highs)
+    margin = (hi - lo) * pad if hi > lo else max(abs(hi) * pad, 1.0)
+    return [lo - margin, hi + margin]

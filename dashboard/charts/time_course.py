@@ -12,7 +12,7 @@ import plotly.graph_objects as go
 from analysis import columns as C
 from dashboard import palette
 from dashboard.charts._common import axis_title, build_figure, column, decorations, figure_title, has, phase_legend, nice_step
-from dashboard.charts.linking import TimeSpan, span_legend, span_shapes, window_range
+from dashboard.charts.linking import TimeSpan, span_legend, span_shapes, window_range, y_range_in_window
 
 #: The clickable trace (averaged VO2) is named so the page can find it in a selection.
 VO2_TRACE = "VO2 (averaged)"
@@ -128,6 +128,9 @@ def time_course_figure(
         "shapes": shapes,
         "annotations": annotations,
     }
+    for name, axis in (("yaxis", "y"), ("yaxis2", "y2"), ("yaxis3", "y3")):
+        if (y_rng := y_range_in_window(traces, layout["xaxis"].get("range"), axis=axis)) is not None:
+            layout[name]["range"] = y_rng
     if load_col is not None:
         top = float(np.nanmax(avg[load_col].to_numpy(dtype=float)))
         # Round ticks from 0 (an overlaying axis would otherwise copy the heart-rate grid's spacing).

@@ -156,6 +156,7 @@ from dashboard.charts.linking import (  # noqa: E402
     window_around,
     window_bounds,
     window_range,
+    y_range_in_window,
 )
 
 
@@ -235,3 +236,21 @@ def test_window_around_a_span_has_a_step_of_margin_and_stays_inside_the_test():
     assert window_around((575.3, 894.9), bounds, step_s=10.0) == (560.0, 910.0)
     assert window_around((3.0, 40.0), bounds, step_s=10.0) == (0.0, 50.0)
     assert window_around((1200.0, 1238.0), bounds, step_s=10.0) == (1190.0, 1240.0)
+
+
+def test_y_axes_fit_the_data_inside_the_time_window(avg):
+    # hand-solvable: vo2 = 400 + 4 t, so 120..400 s spans 880..2000 mL/min; vco2 = 0.95 vo2 below
+    # 1600 and 1.4 vo2 - 720 above, i.e. 836..2080 mL/min; 6 % of the span as margin each side.
+    fig = time_course_figure(avg, time_window=(120.0, 400.0)).to_plotly_json()["layout"]
+    lo, hi = 836.0, 2080.0
+    assert fig["yaxis"]["range"] == pytest.approx([lo - 0.06 * (hi - lo), hi + 0.06 * (hi - lo)])
+    ve_lo, ve_hi = 10 + 0.03 * 880, 10 + 0.03 * 2000
+    assert fig["yaxis2"]["range"] == pytest.approx([ve_lo - 0.06 * (ve_hi - ve_lo), ve_hi + 0.06 * (ve_hi - ve_lo)])
+    assert "range" not in time_course_figure(avg).to_plotly_json()["layout"]["yaxis"]
+    eq = equivalents_figure(avg, time_window=(120.0, 400.0)).to_plotly_json()["layout"]
+    r_lo, r_hi = 25 + 0.01 * 120, 28 + 0.005 * 400  # VE/VO2 low end, VE/VCO2 high end
+    assert eq["yaxis"]["range"] == pytest.approx([r_lo - 0.06 * (r_hi - r_lo), r_hi + 0.06 * (r_hi - r_lo)])
+    flat = [{"x": np.array([0.0, 10.0]), "y": np.array([5.0, 5.0]), "yaxis": "y"}]
+    assert y_range_in_window(flat, (0.0, 10.0), axis="y") == pytest.approx([4.0, 6.0])  # flat: 1 unit each side
+    assert y_range_in_window(flat, (20.0, 30.0), axis="y") is None
+    assert y_range_in_window(flat, None, axis="y") is None
