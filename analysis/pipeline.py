@@ -85,8 +85,8 @@ _BASE_METHODS: dict[str, str] = {
     "hr_recovery_1min": "HR at end of exercise - HR 60 s later (Cole et al. 1999)",
     "breathing_reserve": "MVV - peak VE; MVV measured or FEV1 × 40 (ATS/ACCP 2003)",
     "energy_expenditure": "abbreviated Weir equation (Weir 1949)",
-    "substrate_oxidation": "Frayn 1983 equations without protein (rows with RER < 1.0)",
-    "fat_max": "row of highest Frayn fat oxidation in averaged exercise data (Achten et al. 2002)",
+    "substrate_oxidation": "Frayn 1983 equations without protein (averaged points with RER below 1.0)",
+    "fat_max": "averaged exercise point with the highest fat oxidation by the Frayn 1983 equations (Achten et al. 2002)",
     "maximality": "VO2 plateau below the set rise over the last minute despite more work (Taylor et al. 1955); "
     "secondary criteria RER ≥ 1.10 and HR ≥ 90 % of Tanaka-predicted (common practice)",
     "predicted_vo2max": "FRIEND registry equation (de Souza e Silva et al. 2018)",
@@ -614,7 +614,7 @@ def analyze_session(
         if pick is None:
             methods[kind] = "not found (see the threshold notes for why)"
         elif pick.source == "manual":
-            methods[kind] = f"set by the reviewer — {pick.note}"
+            methods[kind] = pick.note  # "set by the reviewer at ... s (...)", with the reviewer's reason
         else:
             methods[kind] = f"{pick.method} of the automatic methods — {pick.note}" if pick.note else pick.method
     if oxygen is not None:

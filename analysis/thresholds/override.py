@@ -93,13 +93,13 @@ def override_threshold(
     row = avg.iloc[i]
     t_row = float(row[C.T_S])
     vo2_row = float(row[C.VO2_ML_MIN])
-    how = f"set at {t_val:.0f} s" if t_val is not None else f"set at VO2 {v_val:.0f} mL/min"
-    note = f"set by reviewer ({how}; nearest averaged point {t_row:.0f} s, VO2 {vo2_row:.0f} mL/min)"
+    how = f"at {t_val:.0f} s" if t_val is not None else f"at VO2 {v_val:.0f} mL/min"
+    note = f"set by the reviewer {how} (nearest averaged point: {t_row:.0f} s, VO2 {vo2_row:.0f} mL/min)"
     if reason.strip():
         note += f": {reason.strip()}"
     other = report.vt2 if kind == "vt1" else report.vt1
     if other is not None and ((kind == "vt1" and vo2_row >= other.vo2_ml_min) or (kind == "vt2" and vo2_row <= other.vo2_ml_min)):
-        note += f" [check: {'at or above VT2' if kind == 'vt1' else 'at or below VT1'}]"
+        note += f" — check: this is {'at or above VT2' if kind == 'vt1' else 'at or below VT1'}"
     pick = ThresholdPick(kind, t_row, vo2_row, "manual", "manual", "high", note, i)
     return replace(report, **{kind: pick}, agreement=dict(report.agreement), reasons=list(report.reasons))
 

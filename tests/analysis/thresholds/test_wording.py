@@ -119,3 +119,16 @@ def test_ramp_notes_are_plain_words(seed):
     vs = r.vt1_candidates[D.VSLOPE]
     if vs is not None:  # the V-slope note reads as a sentence with both slopes
         assert vs.note.startswith("VCO2 against VO2 steepens from a slope of ")
+
+
+def test_reviewer_note_says_who_where_and_why(avg, report):
+    # a reviewer's VT1 at 450 s on the fixture ramp; the note names the nearest averaged point
+    from analysis.thresholds import override_threshold
+
+    new = override_threshold(report, avg, kind="vt1", t_s=450.0, reason="clear PETO2 nadir")
+    row = avg.iloc[new.vt1.index]
+    assert new.vt1.note == (
+        f"set by the reviewer at 450 s (nearest averaged point: {row['t_s']:.0f} s, "
+        f"VO2 {row['vo2_ml_min']:.0f} mL/min): clear PETO2 nadir"
+    )
+    assert not CODE_WORD.search(new.vt1.note)
