@@ -145,13 +145,13 @@ def in_span(t_s: np.ndarray, span: TimeSpan | None) -> np.ndarray:
 def span_ring_trace(x: np.ndarray, y: np.ndarray, t_s: np.ndarray, span: TimeSpan | None) -> list[dict[str, Any]]:
     """Open rings around the V-slope points whose time lies in the span (none when empty)."""
     mask = in_span(t_s, span)
-    if not mask.any():
+    if span is None or not mask.any():
         return []
     return [
         {"type": "scatter", "x": np.ascontiguousarray(np.asarray(x, dtype=float)[mask]),
          "y": np.ascontiguousarray(np.asarray(y, dtype=float)[mask]), "mode": "markers",
          "marker": {"symbol": "circle-open", "size": 12, "color": SPAN_EDGE, "line": {"width": 2}},
-         "name": f"{SPAN_TRACE} {span_text(span)}", "hoverinfo": "skip"}  # type: ignore[arg-type]
+         "name": f"{SPAN_TRACE} {span_text(span)}", "hoverinfo": "skip"}
     ]
 
 
