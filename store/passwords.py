@@ -48,19 +48,24 @@ def _b64(raw: bytes) -> str:
     return base64.b64encode(raw).decode("ascii")
 
 
-def hash_password(password: str, *, params: ScryptParams = DEFAULT_PARAMS) -> str:
-    """Hash ``password`` with a fresh random salt; returns the encoded string to store."""
-    require(isinstance(password, str) and password != "", "password", "a non-empty text", "(empty)")
-    salt = secrets.token_bytes(params.salt_bytes)
-    key = hashlib.scrypt(
+def _derive(password: str, salt: bytes, params: ScryptParams, *, key_bytes: int) -> bytes:
+    """The scrypt key of ``password`` with ``salt`` under ``params`` (memory limit raised to fit)."""
+    return hashlib.scrypt(
         password.encode("utf-8"),
         salt=salt,
         n=params.n,
         r=params.r,
         p=params.p,
         maxmem=params.maxmem_bytes,
-        dklen=params.key_bytes,
+        dklen=key_bytes,
     )
+
+
+def hash_password(password: str, *, params: ScryptParams = DEFAULT_PARAMS) -> str:
+    """Hash ``password`` with a fresh random salt; returns the encoded string to store."""
+    require(isinstance(password, str) and password != "", "password", "a non-empty text", "(empty)")
+    salt = secrets.token_bytes(params.salt_bytes)
+    key = _derive(password, salt, params, key_bytes=params.key_bytes)
     return f"{_PREFIX}${params.n}${params.r}${params.p}${_b64(salt)}${_b64(key)}"
 
 
@@ -86,16 +91,7 @@ def verify_password(password: str, encoded: str | None) -> bool:
     if parsed is None or not isinstance(password, str):
         return False
     params, salt, key = parsed
-    candidate = hashlib.scrypt(
-        password.encode("utf-8"),
-        salt=salt,
-        n=params.n,
-        r=params.r,
-        p=params.p,
-        maxmem=params.maxmem_bytes,
-        dklen=len(key),
-    )
-    return hmac.compare_digest(candidate, key)
+    return hmac.compare_digest(_derive(password, salt, params, key_bytes=len(key)), key)
 
 
 def needs_rehash(encoded: str, *, params: ScryptParams = DEFAULT_PARAMS) -> bool:
