@@ -6,7 +6,6 @@ import warnings
 
 import numpy as np
 import pandas as pd
-from scipy import stats
 
 from analysis import columns as C
 from analysis.errors import DataQualityWarning, InvalidParameter
@@ -154,5 +153,40 @@ def ramp_rate_w_per_min(breaths: pd.DataFrame, phases: pd.Series | None = None) 
     if t.size > 400:  # Theil-Sen is O(n^2) in pairs; an even subsample keeps it fast
         pick = np.linspace(0, t.size - 1, 400).round().astype(int)
         t, w = t[pick], w[pick]
-    slope = stats.theilslopes(w, t).slope
-    return float(slope * 60.0)
+    slope = theil_sen_slope(t, w)
+    return None if slope is None else slope * 60.0
+
+
+def theil_sen_slope(x: np.ndarray, y: np.ndarray) -> float | None:
+    """Theil-Sen slope: the median of the slopes between every pair of points with distinct x.
+
+    Parameters
+    ----------
+    x, y : numpy.ndarray
+        Points (same length). Cost O(n^2) in memory and time; callers subsample long series.
+
+    Returns
+    -------
+    float or None
+        The median pairwise slope in units of y per unit of x; ``None`` when no two points
+        have distinct x.
+
+    Notes
+    -----
+    slope = median{(y_j - y_i) / (x_j - x_i) : x_j > x_i}. The same pairs and the same median
+    as ``scipy.stats.theilslopes`` (a test compares the two); written out here because that
+    function's module costs about half a second of start-up for one call.
+
+    References
+    ----------
+    Sen PK (1968). Estimates of the regression coefficient based on Kendall's tau. J Am Stat
+    Assoc 63:1379-1389.
+    """
+    x = np.asarray(x, dtype=float)
+    y = np.asarray(y, dtype=float)
+    dx = x[:, np.newaxis] - x
+    rising = dx > 0
+    if not rising.any():
+        return None
+    slopes = (y[:, np.newaxis] - y)[rising] / dx[rising]
+    return float(np.median(slopes))

@@ -9,7 +9,7 @@ import pandas as pd
 import pytest
 
 from analysis.errors import DataQualityWarning, InvalidParameter
-from analysis.phases import detect_phases, ramp_rate_w_per_min
+from analysis.phases import detect_phases, ramp_rate_w_per_min, theil_sen_slope
 
 
 def cycle_test(*, warmup_s: float = 180.0, ramp_w_per_min: float = 25.0, steps_s: float = 0.0) -> pd.DataFrame:
@@ -111,6 +111,26 @@ class TestRampRate:
         b = cycle_test()
         b["work_w"] = 100.0
         assert ramp_rate_w_per_min(b, pd.Series(["exercise"] * len(b))) is None
+
+    @pytest.mark.parametrize("seed", range(20))
+    def test_theil_sen_equals_the_reference_library(self, seed):
+        # scipy.stats.theilslopes (independent implementation of Sen 1968): same median slope,
+        # including tied x values and integer loads
+        from scipy import stats
+
+        rng = np.random.default_rng(seed)
+        n = int(rng.integers(2, 120))
+        x = np.round(rng.uniform(0, 600, n), int(rng.integers(0, 2)))
+        y = np.round(3.0 * x + rng.normal(0, 40, n))
+        if np.ptp(x) == 0:
+            assert theil_sen_slope(x, y) is None
+        else:
+            assert theil_sen_slope(x, y) == stats.theilslopes(y, x).slope
+
+    def test_theil_sen_hand_solved(self):
+        # pairs (0,0)-(1,1): 1, (0,0)-(2,4): 2, (1,1)-(2,4): 3 -> median 2
+        assert theil_sen_slope(np.array([0.0, 1.0, 2.0]), np.array([0.0, 1.0, 4.0])) == 2.0
+        assert theil_sen_slope(np.array([5.0, 5.0]), np.array([0.0, 1.0])) is None
 
     def test_phase_length_checked(self):
         with pytest.raises(InvalidParameter, match="phases"):

@@ -36,7 +36,6 @@ BATCH_SUFFIXES: tuple[str, ...] = (".csv", ".tsv", ".txt", ".xlsx")
 def add_parser(subparsers: argparse._SubParsersAction) -> argparse.ArgumentParser:
     p = subparsers.add_parser(
         "analyze",
-        help="results of one test (summary or --json), or of every test in a folder (--out CSV)",
         description=(
             "Analyse a Tidemark session file (or another breath-by-breath export) and print the "
             "results with the method behind each number. Given a folder, analyse every file in it "

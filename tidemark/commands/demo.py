@@ -18,7 +18,6 @@ class StoreUnavailable(TidemarkError):
 def add_parser(subparsers: argparse._SubParsersAction) -> argparse.ArgumentParser:
     p = subparsers.add_parser(
         "demo",
-        help="write the simulated demo tests of the Saltmarsh Exercise Lab (and optionally load them)",
         description=(
             "Regenerate the simulated demo sessions (fictional people; same bytes every time) "
             "and print the files written. With --load, also load them into the store."

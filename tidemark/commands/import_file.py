@@ -29,7 +29,6 @@ from analysis.io.saving import save_import
 def add_parser(subparsers: argparse._SubParsersAction) -> argparse.ArgumentParser:
     p = subparsers.add_parser(
         "import",
-        help="import a breath-by-breath export (CSV, TSV, semicolon text or .xlsx) as a session file",
         description=(
             "Read one breath-by-breath export, check it, and write OUT/<name>.session.csv plus an "
             "unchanged copy in OUT/originals/. Nothing is written when the file is rejected."

@@ -29,7 +29,6 @@ ASSUMED_HB_G_DL = 15.0
 def add_parser(subparsers: argparse._SubParsersAction) -> argparse.ArgumentParser:
     p = subparsers.add_parser(
         "oxygen",
-        help="saturation, O2 content and P50 on a dissociation curve",
         description=(
             "Haemoglobin O2 saturation and blood O2 content at one or more PO2 values, and the P50, "
             "under the given blood conditions. Model estimates, not measurements."

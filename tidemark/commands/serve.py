@@ -31,7 +31,6 @@ def app_path() -> Path:
 def add_parser(subparsers: argparse._SubParsersAction) -> argparse.ArgumentParser:
     p = subparsers.add_parser(
         "serve",
-        help="start the dashboard in the browser",
         description=(
             "Start the Tidemark dashboard. Open the printed address in a browser. "
             f"Default http://{DEFAULT_HOST}:{DEFAULT_PORT}. Stop with Ctrl+C."

@@ -20,7 +20,6 @@ from store.config import STORE_ENV, describe_url
 def add_parser(subparsers: argparse._SubParsersAction) -> argparse.ArgumentParser:
     p = subparsers.add_parser(
         "users",
-        help="manage staff accounts (add, list, set-role, disable)",
         description="Manage staff accounts. Roles: viewer (reads), reviewer (imports, edits, signs off, "
         "shares), admin (also manages accounts and deletes).",
     )

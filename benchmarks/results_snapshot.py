@@ -1,0 +1,88 @@
+"""Save and compare the full results of many analyses: the identical-results check of speed work.
+
+Usage::
+
+    .venv/bin/python benchmarks/results_snapshot.py save /tmp/before.json
+    ... change the code ...
+    .venv/bin/python benchmarks/results_snapshot.py compare /tmp/before.json
+
+Covers the six demo profiles x seeds (2) x noise (0.5, 1, 2) x settings (default; 15-breath
+averaging; reviewer exclusions/restorations with a VT1 override), each analysed from the
+session file text read back by the strict reader (so the reader is covered too), plus the
+demo files in ``demo_sessions/`` as they are. ``compare`` prints every analysis whose results
+JSON differs and exits 1 when any does.
+"""
+
+from __future__ import annotations
+
+import json
+import sys
+from pathlib import Path
+from typing import Any
+
+ROOT = Path(__file__).resolve().parents[1]
+if str(ROOT) not in sys.path:
+    sys.path.insert(0, str(ROOT))
+
+SEEDS = (11, 12)
+NOISES = (0.5, 1.0, 2.0)
+
+
+def _settings() -> dict[str, Any]:
+    from analysis.breaths import AveragingSpec
+    from analysis.settings import AnalysisSettings, ThresholdOverride
+
+    return {
+        "default": AnalysisSettings(),
+        "breaths15": AnalysisSettings(averaging=AveragingSpec("breaths", 15)),
+        "reviewer": AnalysisSettings(
+            excluded_rows=(5, 40, 41, 200),
+            restored_rows=(),
+            vt1_override=ThresholdOverride(t_s=700.0, vo2_ml_min=None, reason="snapshot"),
+        ),
+    }
+
+
+def snapshot() -> dict[str, Any]:
+    """Results JSON of every analysis, keyed by a readable name."""
+    from analysis.io import read_session
+    from analysis.io.session_file import session_to_text
+    from analysis.pipeline import analyze_session
+    from analysis.simulation import DEMO_TESTS, simulate_session
+
+    out: dict[str, Any] = {}
+    settings = _settings()
+    for demo in DEMO_TESTS:
+        for seed in SEEDS:
+            for noise in NOISES:
+                sim = simulate_session(demo.profile, demo.protocol, seed=seed, noise=noise, artifacts=3)
+                text = session_to_text(sim).encode()
+                session = read_session(text, file_name=f"{demo.stem}.session.csv")
+                for name, s in settings.items():
+                    key = f"{demo.stem}/seed{seed}/noise{noise}/{name}"
+                    out[key] = analyze_session(session, s).to_json_dict()
+    for path in sorted((ROOT / "demo_sessions").glob("*.session.csv")):
+        out[f"file/{path.name}"] = analyze_session(read_session(path)).to_json_dict()
+    return json.loads(json.dumps(out, sort_keys=True, allow_nan=True))
+
+
+def main(argv: list[str]) -> int:
+    if len(argv) != 2 or argv[0] not in ("save", "compare"):
+        print(__doc__)
+        return 2
+    action, target = argv
+    current = snapshot()
+    if action == "save":
+        Path(target).write_text(json.dumps(current, sort_keys=True, allow_nan=True), encoding="utf-8")
+        print(f"saved {len(current)} analyses to {target}")
+        return 0
+    saved = json.loads(Path(target).read_text(encoding="utf-8"))
+    differ = sorted(k for k in set(saved) | set(current) if saved.get(k) != current.get(k))
+    for key in differ:
+        print(f"DIFFERS {key}")
+    print(f"{len(current)} analyses, {len(differ)} differ")
+    return 1 if differ else 0
+
+
+if __name__ == "__main__":
+    raise SystemExit(main(sys.argv[1:]))
