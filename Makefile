@@ -22,7 +22,15 @@ run: install
 	$(BIN)/tidemark demo --load
 	$(BIN)/tidemark serve --port $(PORT)
 
-test: install
+# ruff (style and likely bugs) and mypy (types) over the four packages; mypy keeps an incremental
+# cache in .mypy_cache/, so a second run takes a few seconds.
+LINTED := analysis store dashboard tidemark
+
+lint: install
+	$(BIN)/ruff check $(LINTED)
+	$(BIN)/mypy $(LINTED)
+
+test: install lint
 	$(BIN)/python -m pytest $(PYTEST_ARGS)
 
 demo: install
@@ -32,4 +40,4 @@ bench: install
 	$(BIN)/python benchmarks/run_all.py
 
 clean:
-	rm -rf $(VENV) .pytest_cache test-artifacts
+	rm -rf $(VENV) .pytest_cache .mypy_cache .ruff_cache test-artifacts

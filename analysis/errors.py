@@ -48,7 +48,7 @@ class ImportRejected(TidemarkError):
     Carries one or more :class:`Problem` records; ``str()`` gives a readable message.
     """
 
-    def __init__(self, problems: list[Problem] | Problem):
+    def __init__(self, problems: list[Problem] | Problem) -> None:
         if isinstance(problems, Problem):
             problems = [problems]
         self.problems: list[Problem] = list(problems)
@@ -58,7 +58,7 @@ class ImportRejected(TidemarkError):
 class InvalidParameter(TidemarkError, ValueError):
     """A function argument is outside what it accepts (name, expected, received)."""
 
-    def __init__(self, name: str, expected: str, received: object):
+    def __init__(self, name: str, expected: str, received: object) -> None:
         self.name = name
         self.expected = expected
         self.received = received

@@ -136,6 +136,6 @@ def summary_row(results_json: Mapping[str, Any], *, file: str) -> dict[str, Any]
 
 def error_row(*, file: str, error: str) -> dict[str, Any]:
     """A summary row for a file that could not be analysed (every result empty)."""
-    row: dict[str, Any] = {k: None for k in SUMMARY_COLUMNS}
+    row: dict[str, Any] = dict.fromkeys(SUMMARY_COLUMNS)
     row.update(file=file, status="error", error=error)
     return row

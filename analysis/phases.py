@@ -77,7 +77,7 @@ def detect_phases(breaths: pd.DataFrame) -> pd.Series:
             pos[pos < 0] = int(np.argmax(codes >= 0))
             codes = codes[pos]
         names = [str(u).strip().lower() for u in uniques]
-        bad = sorted(set(names[c] for c in np.unique(codes)) - set(C.PHASES))
+        bad = sorted({names[c] for c in np.unique(codes)} - set(C.PHASES))
         if bad:
             raise InvalidParameter("phase", f"labels from {list(C.PHASES)}", bad)
         return pd.Series(np.array(names, dtype=object)[codes], index=breaths.index, name=C.PHASE)

@@ -10,7 +10,8 @@ import dataclasses
 import math
 import threading
 import warnings
-from typing import Any
+from collections.abc import Callable
+from typing import Any, ParamSpec, TypeVar
 
 import numpy as np
 import pandas as pd
@@ -51,7 +52,7 @@ from analysis.results import TestResults, json_safe
 from analysis.session import Session
 from analysis.settings import AnalysisSettings
 from analysis.thresholds import detect_thresholds, override_threshold
-from analysis.thresholds.results import ThresholdReport
+from analysis.thresholds.results import ThresholdPick, ThresholdReport
 from analysis.zones import ZoneSet, training_zones
 
 #: Columns of :attr:`TestResults.excluded_breaths`.
@@ -209,7 +210,11 @@ def _ceiling(ex: pd.DataFrame, peak: PointValues, hr_peak: float | None) -> Poin
     )
 
 
-def _safe(fn, *args, **kwargs):  # noqa: ANN001, ANN202 - small internal adapter
+_P = ParamSpec("_P")
+_T = TypeVar("_T")
+
+
+def _safe(fn: Callable[_P, _T], *args: _P.args, **kwargs: _P.kwargs) -> _T | None:
     """``fn(...)``, or ``None`` when the data do not allow the index (AnalysisError)."""
     try:
         return fn(*args, **kwargs)
@@ -358,7 +363,7 @@ def _reference(meta: dict[str, Any], mode: str | None, peak: PointValues, ve_vco
     return json_safe(predicted), classes
 
 
-def _safe_cls(fn, value: float) -> str | None:  # noqa: ANN001
+def _safe_cls(fn: Callable[[float], str], value: float) -> str | None:
     try:
         return fn(value)
     except TidemarkError:
@@ -539,7 +544,7 @@ def analyze_session(
         peak = peak_values(ex, body_mass_kg=body_mass, window_s=settings.peak_window_s)
         vo2_peak = peak.vo2_ml_min
 
-        def at(pick) -> PointValues | None:  # noqa: ANN001
+        def at(pick: ThresholdPick | None) -> PointValues | None:
             if pick is None:
                 return None
             return point_values(avg, avg.index[int(pick.index)], vo2_peak_ml_min=vo2_peak, body_mass_kg=body_mass)

@@ -99,7 +99,7 @@ def _records(frame: pd.DataFrame) -> list[dict[str, Any]]:
     """``frame.to_dict(orient="records")`` with Python values, built column-wise (quicker)."""
     names = [str(c) for c in frame.columns]
     columns = [frame[c].tolist() for c in frame.columns]
-    return [dict(zip(names, row)) for row in zip(*columns)]
+    return [dict(zip(names, row, strict=True)) for row in zip(*columns, strict=True)]
 
 
 def threshold_json(pick: ThresholdPick | None, point: PointValues | None) -> dict[str, Any] | None:
@@ -249,7 +249,7 @@ class TestResults:
             "breaths": {
                 "total": self.breaths_total,
                 "used": self.breaths_used,
-                "excluded": int(len(excluded)),
+                "excluded": len(excluded),
             },
             "excluded_breaths": _records(excluded),
             "oxygen": self.oxygen,

@@ -54,7 +54,7 @@ def load_page_module(name: str) -> ModuleType | None:
         else:
             log.warning("page %s is not available (module missing)", name)
         return None
-    except Exception:  # noqa: BLE001 - a broken page must not take the others down
+    except Exception:  # a broken page must not take the others down
         log.exception("page %s could not be imported", name)
         return None
     if not callable(getattr(module, "render", None)):

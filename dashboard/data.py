@@ -240,7 +240,7 @@ def save_in_background(
         except TidemarkError as exc:
             with tracker.lock:
                 tracker.failed[test_id] = str(exc)
-        except Exception:  # noqa: BLE001 - logged with its traceback, the user gets a plain message
+        except Exception:  # logged with its traceback, the user gets a plain message
             log.exception("saving settings of test %s failed", test_id)
             with tracker.lock:
                 tracker.failed[test_id] = "The change could not be saved because of a server problem (see the server log)."

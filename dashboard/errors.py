@@ -58,7 +58,7 @@ def user_errors(context: str = "") -> Iterator[None]:
     """
     try:
         yield
-    except Exception as exc:  # noqa: BLE001 - shown to the user, logged with its traceback
+    except Exception as exc:  # shown to the user, logged with its traceback
         if _is_streamlit_control_flow(exc):
             raise
         show_error(exc, context=context)

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import re
 from datetime import timedelta
+from typing import ClassVar
 
 from sqlalchemy import func, select
 
@@ -39,7 +40,7 @@ def normalise_username(username: str) -> str:
 
 class AccountsMixin(StoreCore):
     password_params: ScryptParams = DEFAULT_PARAMS
-    _dummy_hashes: dict[ScryptParams, str] = {}
+    _dummy_hashes: ClassVar[dict[ScryptParams, str]] = {}
 
     def _user_row(self, db, username: str) -> UserRow:  # noqa: ANN001
         row = db.execute(select(UserRow).where(UserRow.username == normalise_username(username))).scalar_one_or_none()

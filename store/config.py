@@ -53,7 +53,7 @@ def resolve_url(url: str | None = None) -> str:
 def _parse(url: str) -> URL:
     try:
         return make_url(url)
-    except Exception as exc:  # noqa: BLE001 - SQLAlchemy raises ArgumentError with a terse text
+    except Exception as exc:  # SQLAlchemy raises ArgumentError with a terse text
         raise StoreError(f"The store URL could not be read ({exc}); check --store or {STORE_ENV}.") from exc
 
 

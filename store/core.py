@@ -70,7 +70,7 @@ Actor = User | Operator
 class StoreCore:
     """Engine, transactions and checks shared by the store's parts."""
 
-    def __init__(self, engine: Engine, *, url: str, clock: Clock | None = None):
+    def __init__(self, engine: Engine, *, url: str, clock: Clock | None = None) -> None:
         self.engine = engine
         self.url = url
         self.clock: Clock = clock or utc_now

@@ -32,6 +32,6 @@ class LoginRefused(StoreError):
 class AccountLocked(LoginRefused):
     """Too many failed sign-ins for this user name in a short time; try again later."""
 
-    def __init__(self, message: str, *, retry_after_s: float):
+    def __init__(self, message: str, *, retry_after_s: float) -> None:
         super().__init__(message)
         self.retry_after_s = retry_after_s

@@ -15,6 +15,7 @@ from store.errors import EditConflict, NotFound, StoreError
 from store.models import AnalysisVersion, AuditEvent, PersonRow, SignOff, TestRow
 from store.records import AuditEntry
 
+
 def changed_fields(old: Any, new: Any, prefix: str = "") -> list[tuple[str, Any, Any]]:
     """``(field path, old, new)`` for every setting that differs.
 

@@ -20,8 +20,8 @@ from analysis.errors import require
 from store.core import Actor, aware, to_json
 from store.errors import NotFound, StoreError
 from store.models import PersonRow, ShareLink, ShareLinkTest, ShareView, TestRow
-from store.review import ReviewMixin
 from store.records import ShareInfo, ShareScope
+from store.review import ReviewMixin
 
 #: What a link may show; the default is all four (the display name is a separate choice).
 SHARE_SECTIONS: tuple[str, ...] = ("headline", "zones", "charts", "report")
@@ -157,29 +157,29 @@ class SharingMixin(ReviewMixin):
                 covering = select(ShareLinkTest.share_id).where(ShareLinkTest.test_id == test_id)
                 query = query.where(ShareLink.id.in_(covering))
             links = db.execute(query).scalars().all()
-            ids = [l.id for l in links]
-            views = dict(
-                (sid, (n, last)) for sid, n, last in db.execute(
+            ids = [link.id for link in links]
+            views = {
+                sid: (n, last) for sid, n, last in db.execute(
                     select(ShareView.share_id, func.count(ShareView.id), func.max(ShareView.viewed_at))
                     .where(ShareView.share_id.in_(ids)).group_by(ShareView.share_id)
                 ).all()
-            ) if ids else {}
+            } if ids else {}
             covered: dict[int, list[int]] = {}
             if ids:
                 for sid, tid in db.execute(select(ShareLinkTest.share_id, ShareLinkTest.test_id).where(ShareLinkTest.share_id.in_(ids))):
                     covered.setdefault(sid, []).append(tid)
-            names = self._usernames(db, {l.created_by for l in links})
+            names = self._usernames(db, {link.created_by for link in links})
         out = []
-        for l in links:
-            active = l.revoked_at is None and aware(l.expires_at) > now  # type: ignore[operator]
+        for link in links:
+            active = link.revoked_at is None and aware(link.expires_at) > now  # type: ignore[operator]
             if not include_inactive and not active:
                 continue
-            n, last = views.get(l.id, (0, None))
+            n, last = views.get(link.id, (0, None))
             out.append(ShareInfo(
-                id=l.id, test_id=l.test_id, person_id=l.person_id, test_ids=tuple(sorted(covered.get(l.id, []))),
-                sections=tuple(json.loads(l.sections_json)), show_name=l.show_name, note=l.note,
-                created_by=names.get(l.created_by, "?"), created_at=aware(l.created_at),  # type: ignore[arg-type]
-                expires_at=aware(l.expires_at), revoked_at=aware(l.revoked_at), n_views=int(n),  # type: ignore[arg-type]
+                id=link.id, test_id=link.test_id, person_id=link.person_id, test_ids=tuple(sorted(covered.get(link.id, []))),
+                sections=tuple(json.loads(link.sections_json)), show_name=link.show_name, note=link.note,
+                created_by=names.get(link.created_by, "?"), created_at=aware(link.created_at),  # type: ignore[arg-type]
+                expires_at=aware(link.expires_at), revoked_at=aware(link.revoked_at), n_views=int(n),  # type: ignore[arg-type]
                 last_viewed_at=aware(last), active=active,
             ))
         return out

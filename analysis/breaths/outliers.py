@@ -293,9 +293,6 @@ def exclude_breaths(breaths: pd.DataFrame, source_rows: Iterable[int]) -> pd.Dat
         The remaining breaths, index reset.
     """
     drop = {int(r) for r in source_rows}
-    if "source_row" in breaths.columns:
-        keys = breaths["source_row"].to_numpy()
-    else:
-        keys = np.arange(1, len(breaths) + 1)
+    keys = breaths["source_row"].to_numpy() if "source_row" in breaths.columns else np.arange(1, len(breaths) + 1)
     mask = ~np.isin(keys, np.fromiter(drop, dtype=np.int64, count=len(drop)))
     return breaths.loc[mask].reset_index(drop=True)  # a new frame (copy-on-write: never a view)

@@ -39,7 +39,7 @@ def finite_columns(
     out = [as_float_array(n, a) for n, a in zip(names, arrays, strict=True)]
     lengths = {a.size for a in out}
     if len(lengths) > 1:
-        sizes = ", ".join(f"{n}={a.size}" for n, a in zip(names, out))
+        sizes = ", ".join(f"{n}={a.size}" for n, a in zip(names, out, strict=True))
         raise InvalidParameter("/".join(names), "sequences of equal length", sizes)
     if not out:
         return ()

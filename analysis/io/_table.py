@@ -43,7 +43,7 @@ class LocatedTable:
 class _Split:
     """csv parsing of lines with a fixed delimiter, keeping original line numbers."""
 
-    def __init__(self, delimiter: str, file_name: str):
+    def __init__(self, delimiter: str, file_name: str) -> None:
         self.delimiter = delimiter
         self.file_name = file_name
 
@@ -189,7 +189,7 @@ def _sniff(sample: Sequence[str], file_name: str) -> tuple[str | None, str | Non
         except ImportRejected:
             continue
         kinds = [classify(c) for _, c in rows]
-        n_data = sum(1 for (_, c), k in zip(rows, kinds) if k == "data" and _width(c) >= 2)
+        n_data = sum(1 for (_, c), k in zip(rows, kinds, strict=True) if k == "data" and _width(c) >= 2)
         if n_data > most_data:
             most_data, fallback = n_data, delim
         cand = _best(rows, kinds)

@@ -72,7 +72,7 @@ _PHASE_SYNONYMS: dict[str, str] = {
 class ProblemLog:
     """Collects located problems; raises them together, at most :data:`MAX_PROBLEMS` listed."""
 
-    def __init__(self, file_name: str):
+    def __init__(self, file_name: str) -> None:
         self.file_name = file_name
         self.items: list[Problem] = []
         self.more = 0
@@ -299,7 +299,7 @@ def finish_session(
         problems.add("the table has a header but no breath rows", "check the export contains the test data")
     problems.raise_if_any()
     ordered = [c for c in C.COLUMNS if c in frame.columns]
-    frame = frame[ordered + ["source_row"]].copy()
+    frame = frame[[*ordered, "source_row"]].copy()
     for name in ordered:
         if name not in C.REQUIRED and frame[name].isna().all():
             frame = frame.drop(columns=name)

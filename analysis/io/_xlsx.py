@@ -7,7 +7,6 @@ import zipfile
 from typing import Any
 
 from analysis.errors import ImportRejected, InvalidParameter, Problem
-
 from analysis.io._table import Row
 
 

@@ -104,7 +104,7 @@ def _resolve_mapping(
     absent = [h for h, n in explicit.columns.items() if h not in headers and n != IGNORE]
     if absent:
         notes.append("mapping entries for headers not in this file were not used: " + ", ".join(repr(h) for h in absent))
-    chosen = ColumnMapping(present, {n: u for n, u in explicit.units.items()}, explicit.guess_rest)
+    chosen = ColumnMapping(present, dict(explicit.units), explicit.guess_rest)
     if not explicit.guess_rest:
         return chosen, notes
     return guessed.overridden_by(chosen), notes
@@ -360,7 +360,7 @@ def import_bytes(
         v_idx = index[C.VO2_ML_MIN]
         tail_t = parse_times([c[t_idx] if t_idx < len(c) else None for _, c in tail], decimal=decimal, time_format=t_format, unit=t_unit)
         tail_v = parse_numbers([c[v_idx] if v_idx < len(c) else None for _, c in tail], decimal=decimal)
-        lost = [n for (n, _), ok_t, ok_v in zip(tail, np.isfinite(tail_t[0]), np.isfinite(tail_v[0])) if ok_t and ok_v]
+        lost = [n for (n, _), ok_t, ok_v in zip(tail, np.isfinite(tail_t[0]), np.isfinite(tail_v[0]), strict=True) if ok_t and ok_v]
         if lost:
             stop = located.after[0][0]
             problems.add(
@@ -412,7 +412,7 @@ def import_bytes(
                 notes.append(f"{moved} marker(s) from rows without gas values were moved to the next breath")
         for name in list(values):
             if isinstance(values[name], list):
-                values[name] = [v for v, k in zip(values[name], keep) if k]
+                values[name] = [v for v, k in zip(values[name], keep, strict=True) if k]
             else:
                 values[name] = np.asarray(values[name])[keep]
         for table in (missing, bad):
@@ -511,7 +511,7 @@ def import_bytes(
     codes = set(gas_codes.values())
     gas_detected = codes.pop() if len(codes) == 1 else "mixed"
     final_mapping = ColumnMapping(
-        {h: n for h, n in used.columns.items()}, kept_units, used.guess_rest
+        dict(used.columns), kept_units, used.guess_rest
     )
     return ImportOutcome(
         session=session,

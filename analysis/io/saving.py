@@ -14,6 +14,7 @@ follows the same stem. Importing the identical file again replaces its session f
 
 from __future__ import annotations
 
+import contextlib
 import hashlib
 import os
 import tempfile
@@ -132,10 +133,8 @@ def save_import(outcome: ImportOutcome, original: bytes, *, out_dir: str | Path,
         if placed_original is not None:
             placed_original.unlink(missing_ok=True)
         for folder in sorted(made_dirs, key=lambda p: len(p.absolute().parts), reverse=True):
-            try:
+            with contextlib.suppress(OSError):
                 folder.rmdir()
-            except OSError:
-                pass
         if isinstance(exc, OSError):
             raise SaveError(
                 f"could not write to '{out}' ({exc.strerror or exc}); nothing was saved — "

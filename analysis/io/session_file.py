@@ -199,7 +199,7 @@ def read_session(source: str | Path | bytes, *, file_name: str | None = None, ma
     line_numbers = np.array([n for n, _ in body], dtype=np.int64)
     data: dict[str, object] = {"source_row": line_numbers}
     shown = {c: headers[k] for c, k in columns.items()}
-    by_column = list(zip(*(row for _, row in body))) if body else [()] * len(headers)
+    by_column = list(zip(*(row for _, row in body), strict=True)) if body else [()] * len(headers)
     for canonical, k in columns.items():
         cells = list(by_column[k])
         if canonical in C.NUMERIC:

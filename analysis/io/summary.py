@@ -13,7 +13,7 @@ from analysis.io.importer import ImportOutcome
 def _clock(seconds: float) -> str:
     sign = "-" if seconds < 0 else ""
     seconds = abs(seconds)
-    h, rest = divmod(int(round(seconds)), 3600)
+    h, rest = divmod(round(seconds), 3600)
     m, s = divmod(rest, 60)
     return f"{sign}{h}:{m:02d}:{s:02d}" if h else f"{sign}{m}:{s:02d}"
 

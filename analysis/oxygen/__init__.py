@@ -48,7 +48,6 @@ from analysis.oxygen.haldane import (
     haldane_extra_co2_ml_dl,
     haldane_factor,
 )
-from analysis.oxygen.unloading import arterial_content_ml_dl, curve_unloading_ml_dl
 from analysis.oxygen.states import (
     ARTERIAL_CONDITIONS,
     DEFAULT_CONDITIONS,
@@ -56,6 +55,7 @@ from analysis.oxygen.states import (
     StateConditions,
     StatePoint,
 )
+from analysis.oxygen.unloading import arterial_content_ml_dl, curve_unloading_ml_dl
 
 __all__ = [
     "ARTERIAL_CONDITIONS",

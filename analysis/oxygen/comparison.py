@@ -36,7 +36,7 @@ from scipy.optimize import brentq
 from analysis.errors import InvalidParameter
 from analysis.oxygen import _checks
 from analysis.oxygen.content import DEFAULT_HUEFNER_ML_G, O2_SOLUBILITY_ML_DL_MMHG
-from analysis.oxygen.curves import STANDARD, _curve, _Curve, _saturation_at, saturation
+from analysis.oxygen.curves import STANDARD, _Curve, _curve, _saturation_at, saturation
 from analysis.oxygen.decomposition import shapley_parts
 from analysis.oxygen.fick import avo2_difference_ml_dl, stringer_cardiac_output_l_min, stroke_volume_ml
 from analysis.oxygen.haldane import haldane_extra_co2_ml_dl

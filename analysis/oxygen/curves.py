@@ -33,6 +33,9 @@ import numpy as np
 from analysis.errors import InvalidParameter
 from analysis.oxygen import _checks
 
+#: A scalar or an array of them (the curve helpers work on both).
+FloatOrArray = float | np.ndarray
+
 #: Model names accepted by ``model=``.
 MODELS: tuple[str, ...] = ("severinghaus", "siggaard_andersen", "hill")
 
@@ -225,7 +228,7 @@ def _sa_params(c: _Curve) -> tuple[float, float]:
     return 1.946 + a + b, 3.5 + a
 
 
-def _sa_from_x(x, x0: float, h: float):  # noqa: ANN001, ANN202 - float or array alike
+def _sa_from_x(x: FloatOrArray, x0: float, h: float) -> FloatOrArray:
     """Siggaard-Andersen saturation at x = ln(PO2 / kPa) (works on floats and arrays)."""
     y = _SA_Y0 + (x - x0) + h * np.tanh(_SA_K * (x - x0))
     return 0.5 * (1.0 + np.tanh(0.5 * y))  # logistic, without overflow

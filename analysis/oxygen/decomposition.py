@@ -40,7 +40,7 @@ def shapley_parts(value: Callable[[frozenset[str]], float], factors: Sequence[st
             cache[subset] = float(value(subset))
         return cache[subset]
 
-    parts = {name: 0.0 for name in names}
+    parts = dict.fromkeys(names, 0.0)
     for order in permutations(names):
         on: frozenset[str] = frozenset()
         for name in order:

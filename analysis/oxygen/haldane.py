@@ -180,7 +180,7 @@ def haldane_extra_co2_ml_dl(
 
 def _extra_co2(pco2_mmhg: float, sa: float, sv: float, hb_g_dl: float, be_mmol_l: float, temperature_c: float) -> float:
     """Cb(SvO2) - Cb(SaO2) at one PCO2 (the body of :func:`haldane_extra_co2_ml_dl`)."""
-    common = dict(pco2_mmhg=pco2_mmhg, hb_g_dl=hb_g_dl, base_excess_oxygenated_mmol_l=be_mmol_l, temperature_c=temperature_c)
+    common = {"pco2_mmhg": pco2_mmhg, "hb_g_dl": hb_g_dl, "base_excess_oxygenated_mmol_l": be_mmol_l, "temperature_c": temperature_c}
     venous = blood_co2_content_at_base_excess_ml_dl(so2=sv, **common)
     arterial = blood_co2_content_at_base_excess_ml_dl(so2=sa, **common)
     return venous - arterial

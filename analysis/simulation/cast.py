@@ -13,7 +13,6 @@ from typing import NamedTuple
 from analysis.simulation.profiles import ProtocolSpec, SubjectProfile
 from analysis.simulation.simulate import simulate_session
 
-
 #: Trained road cyclist, 66 mL/kg/min, clear VO2 plateau.
 TRAINED_CYCLIST = SubjectProfile(
     subject_id="SEL-0107",

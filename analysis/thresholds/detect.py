@@ -11,7 +11,8 @@ from analysis import columns as C
 from analysis.errors import InvalidParameter
 from analysis.thresholds.results import ThresholdPick, ThresholdReport, VSlopeFit
 from analysis.thresholds.segments import best_turn_up, best_two_lines
-from analysis.thresholds.vslope import F_TEST_ALPHA, f_test_p as _f_test_p, vslope_fit
+from analysis.thresholds.vslope import F_TEST_ALPHA, vslope_fit
+from analysis.thresholds.vslope import f_test_p as _f_test_p
 
 # Method names, as shown to the user (and used as keys of the candidate dictionaries).
 VSLOPE = "V-slope (Beaver 1986)"
@@ -481,7 +482,7 @@ def detect_thresholds(avg: pd.DataFrame, *, phases: pd.Series | np.ndarray | Non
             c_cut, f_cut = _vt1_candidates(win.take(cut), r_cut)
             v_cut, a_cut = _consensus("vt1", c_cut, ex)
             if v_cut is not None:
-                r1 = r_cut + [f"VT1: the first reading ({vt1.vo2_ml_min:.0f} mL/min) fell on the rise at VT2; read again below VT2"]
+                r1 = [*r_cut, f"VT1: the first reading ({vt1.vo2_ml_min:.0f} mL/min) fell on the rise at VT2; read again below VT2"]
                 vt1_c, fit, vt1, agree1 = c_cut, f_cut, v_cut, a_cut
     reasons.extend(r1)
     if vt1 is not None:  # a VT2 pick at or below VT1 is not an RCP: set it aside

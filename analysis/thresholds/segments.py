@@ -196,7 +196,7 @@ def best_turn_up(
     p = prefix_sums(t, y)
     i = np.arange(m, n - 2 * m + 1)  # end of first line
     j = np.arange(2 * m, n - m + 1)  # end of second line
-    s1, _, e1 = run_fit(p, np.zeros_like(i), i)
+    _, _, e1 = run_fit(p, np.zeros_like(i), i)
     s3, b3, e3 = run_fit(p, j, np.full_like(j, n))
     # Pairs (a, b) with j[b] - i[a] >= m are exactly b >= a (both ranges have the same length);
     # only last lines that rise can be admissible, so the middle line is fitted just for those.
@@ -212,7 +212,7 @@ def best_turn_up(
         return None
     # first minimum in row-major (a, b) order, as a full-matrix argmin would give
     best = int(np.argmin(np.where(admissible, total, np.inf)))
-    a, b = int(a_idx[best]), int(b_idx[best])
+    b = int(b_idx[best])
     jj = int(j[b])
     sb, bb = float(s2[best]), float(b2[best])
     sa, ba = float(s3[b]), float(b3[b])

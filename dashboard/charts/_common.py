@@ -19,7 +19,7 @@ TEMPLATE: dict[str, Any] = {
         "paper_bgcolor": "white",
         "plot_bgcolor": "white",
         "font": {"color": "#2A3F5F"},
-        "colorway": list(palette.OKABE_ITO[1:]) + [palette.BLACK],
+        "colorway": [*palette.OKABE_ITO[1:], palette.BLACK],
         "xaxis": {"gridcolor": _GRID, "linecolor": _GRID, "zerolinecolor": _GRID, "ticks": "", "automargin": True},
         "yaxis": {"gridcolor": _GRID, "linecolor": _GRID, "zerolinecolor": _GRID, "ticks": "", "automargin": True},
         "hoverlabel": {"align": "left"},

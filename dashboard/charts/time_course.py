@@ -11,7 +11,7 @@ import plotly.graph_objects as go
 
 from analysis import columns as C
 from dashboard import palette
-from dashboard.charts._common import axis_title, build_figure, column, decorations, figure_title, has, phase_legend, nice_step
+from dashboard.charts._common import axis_title, build_figure, column, decorations, figure_title, has, nice_step, phase_legend
 from dashboard.charts.linking import TimeSpan, span_legend, span_shapes, window_range, y_range_in_window
 
 #: The clickable trace (averaged VO2) is named so the page can find it in a selection.
@@ -57,7 +57,7 @@ def time_course_figure(
         ``customdata = [t_s, vo2_ml_min, row]`` for selection.
     """
     load_col = C.WORK_W if has(avg, C.WORK_W) else (C.SPEED_KMH if has(avg, C.SPEED_KMH) else None)
-    excluded = set(int(r) for r in excluded_rows)
+    excluded = {int(r) for r in excluded_rows}
     traces: list[dict] = []
     axis_of_row = {1: "y", 2: "y2", 3: "y3"}
 

@@ -90,7 +90,7 @@ def report_figures(results: Any, session: Session) -> list[tuple[str, Any]]:
     for title, make in makers:
         try:
             figures.append((title, make()))
-        except Exception:  # noqa: BLE001 - report without this chart, logged
+        except Exception:  # report without this chart, logged
             log.exception("chart %r could not be drawn for the report", title)
     return figures
 
@@ -112,7 +112,7 @@ def report_context(
     signed = [s for s in record.sign_offs if version is not None and s.version == version]
     try:
         audit = store.audit_log(test_id)
-    except Exception:  # noqa: BLE001 - a report without the audit names is still correct
+    except Exception:  # a report without the audit names is still correct
         log.exception("audit log of test %s could not be read", test_id)
         audit = []
     return ReportContext(

@@ -334,10 +334,10 @@ def _figure_html(title: str, fig: Any, *, first: bool) -> str:
         font={"size": 11},
         # legend above the plot on paper: it never covers an axis title or the data
         legend={"orientation": "h", "yanchor": "bottom", "y": 1.02, "xanchor": "left", "x": 0, "font": {"size": 10}},
-        margin=dict(l=70, r=60, t=110, b=50),
+        margin={"l": 70, "r": 60, "t": 110, "b": 50},
     )
     div = fig.to_html(
-        include_plotlyjs=True if first else False,
+        include_plotlyjs=bool(first),
         full_html=False,
         config={"displaylogo": False, "responsive": False, "displayModeBar": False},
     )
@@ -425,7 +425,7 @@ def build_report_html(
     ctx = context or ReportContext()
     meta = session.meta if session is not None else {}
     items = list(figures.items()) if isinstance(figures, Mapping) else list(figures)
-    generated = ctx.generated_at or _dt.datetime.now(_dt.timezone.utc).strftime("%Y-%m-%d %H:%M UTC")
+    generated = ctx.generated_at or _dt.datetime.now(_dt.UTC).strftime("%Y-%m-%d %H:%M UTC")
 
     if ctx.signed_off_by:
         state = f'<span class="badge signed">Signed off by {_e(ctx.signed_off_by)}{" on " + _e(ctx.signed_off_at) if ctx.signed_off_at else ""}</span>'

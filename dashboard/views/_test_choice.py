@@ -63,7 +63,7 @@ def test_settings(store: Any, test_id: int) -> tuple[dict[str, Any], int | None]
         return dict(working.settings), working.version
     try:
         settings, version = store.get_settings(test_id)
-    except Exception:  # noqa: BLE001 - fall back to defaults, logged
+    except Exception:  # fall back to defaults, logged
         log.exception("settings of test %s could not be read; using defaults", test_id)
         return data.default_settings_dict(), None
     return dict(settings or data.default_settings_dict()), version
@@ -78,7 +78,7 @@ def _fold_finished_saves(test_id: int) -> None:
         return
     try:
         sync_saves(test_id)
-    except Exception:  # noqa: BLE001 - the working settings stay as they are; logged
+    except Exception:  # the working settings stay as they are; logged
         log.exception("background saves of test %s could not be folded in", test_id)
 
 

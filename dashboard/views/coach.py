@@ -19,10 +19,10 @@ import pandas as pd
 import streamlit as st
 
 from dashboard import data, state
-from dashboard.views._test_choice import test_settings
 from dashboard.report import CAUTIONS, headline_rows, zone_rows
 from dashboard.report.assemble import build_test_report, report_figures, report_file_name
 from dashboard.report.html_report import threshold_display
+from dashboard.views._test_choice import test_settings
 
 log = logging.getLogger("tidemark.dashboard")
 
@@ -52,7 +52,7 @@ def resolve_scope(store: Any, token: Any, *, log_view: bool = True) -> Any | Non
         return None
     try:
         scope = store.resolve_share(token, log_view=log_view)
-    except Exception:  # noqa: BLE001 - same plain page for every failure, details in the log
+    except Exception:  # same plain page for every failure, details in the log
         log.exception("share link could not be resolved")
         return None
     if scope is None or not tuple(getattr(scope, "test_ids", ()) or ()):
@@ -84,7 +84,7 @@ def render() -> None:
         token = st.query_params.get("link")
     try:
         store = data.get_store()
-    except Exception:  # noqa: BLE001 - never reveal server problems on a public link
+    except Exception:  # never reveal server problems on a public link
         log.exception("store could not be opened for a coach link")
         render_invalid()
         return
@@ -167,7 +167,7 @@ def stored_settings(store: Any, test_id: int) -> tuple[dict[str, Any], int | Non
     """The reviewer's stored settings (a coach never has working settings of their own)."""
     try:
         settings, version = store.get_settings(test_id)
-    except Exception:  # noqa: BLE001 - fall back to the analysis defaults
+    except Exception:  # fall back to the analysis defaults
         log.exception("settings of shared test %s could not be read", test_id)
         return test_settings(store, test_id)
     return dict(settings or data.default_settings_dict()), version

@@ -107,7 +107,7 @@ def stored_headline(store: Any, summary: Any) -> dict[str, float | None]:
     if any(v is None for v in out.values()) and not summary.results_error:
         try:
             results = store.get_results(summary.id)
-        except Exception:  # noqa: BLE001 - the list still shows what the summary has
+        except Exception:  # the list still shows what the summary has
             log.exception("stored results of test %s could not be read", summary.id)
             return out
         vt1 = results.get("vt1") or {}

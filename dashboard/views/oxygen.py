@@ -22,8 +22,8 @@ from analysis.oxygen import CAUTION, DEFAULT_CONDITIONS, STATE_NAMES, StateCondi
 from analysis.oxygen.comparison import COMPARISON_MODELS
 from dashboard import data, state
 from dashboard.charts.oxygen_curves import STATE_LABEL, dissociation_figure, unloading_figure
-from dashboard.views._test_choice import choose_test, settings_json, test_settings
 from dashboard.report.html_report import format_number
+from dashboard.views._test_choice import choose_test, settings_json, test_settings
 
 log = logging.getLogger("tidemark.dashboard")
 
@@ -197,7 +197,7 @@ def condition_inputs(start: dict[str, StateConditions], *, test_id: int) -> dict
     """Per-state condition inputs (rest, VT1, VT2, peak side by side)."""
     cols = st.columns(len(STATE_NAMES))
     out: dict[str, dict[str, float]] = {}
-    for col, name in zip(cols, STATE_NAMES):
+    for col, name in zip(cols, STATE_NAMES, strict=True):
         with col:
             st.markdown(f"**{STATE_LABEL[name]}**")
             values = asdict(start[name])
@@ -271,7 +271,7 @@ def render() -> None:
         q_cols = st.columns(len(STATE_NAMES))
         stored_q = stored_ox.get("q_l_min") or {}
         q = {}
-        for col, name in zip(q_cols, STATE_NAMES):
+        for col, name in zip(q_cols, STATE_NAMES, strict=True):
             value = col.number_input(
                 f"Q {STATE_LABEL[name]}", min_value=0.0, max_value=45.0,
                 value=float(stored_q.get(name, 0.0)), step=0.1, key=widget_key(name, "q_l_min"),
@@ -321,10 +321,9 @@ def render() -> None:
         q_l_min={k: float(v) for k, v in (stored_ox.get("q_l_min") or {}).items() if float(v) > 0},
     )
     changed = state.settings_key(oxygen_in) != state.settings_key(start_oxygen) or hb_override is not None
-    if state.can_edit() and changed:
-        if st.button("Keep these conditions with the test", key="ox_keep"):
-            keep_conditions(store, test_id, new_settings, version=_version)
-            st.rerun()
+    if state.can_edit() and changed and st.button("Keep these conditions with the test", key="ox_keep"):
+        keep_conditions(store, test_id, new_settings, version=_version)
+        st.rerun()
 
 
 def keep_conditions(store: Any, test_id: int, new_settings: dict[str, Any], *, version: int | None) -> int:

@@ -16,8 +16,8 @@ import streamlit as st
 from analysis.progress import BAND_METHOD, METRICS, OVERLAYS, TYPICAL_ERRORS, TestRecord, aligned_series, progress_table
 from dashboard import data, state
 from dashboard.charts.progress import overlay_figure, progress_figure
-from dashboard.views._test_choice import person_label, settings_json, test_settings
 from dashboard.report.html_report import format_number
+from dashboard.views._test_choice import person_label, settings_json, test_settings
 
 log = logging.getLogger("tidemark.dashboard")
 
@@ -133,7 +133,7 @@ def render() -> None:
     present = [m for m in METRICS if table.loc[table["metric"] == m, "value"].notna().any()]
     if present:
         tabs = st.tabs([METRICS[m].label for m in present])
-        for tab, metric in zip(tabs, present):
+        for tab, metric in zip(tabs, present, strict=True):
             with tab:
                 st.plotly_chart(progress_figure(table, metric), width="stretch", key=f"progress_{metric}")
 

@@ -14,10 +14,10 @@ import streamlit as st
 
 from analysis.io.result_exports import export_files
 from dashboard import data, state
-from dashboard.views._test_choice import choose_test, settings_json, test_settings
 from dashboard.report import CAUTIONS, headline_rows
 from dashboard.report.assemble import build_test_report, report_file_name
 from dashboard.report.html_report import threshold_display
+from dashboard.views._test_choice import choose_test, settings_json, test_settings
 
 log = logging.getLogger("tidemark.dashboard")
 
@@ -86,7 +86,7 @@ def render() -> None:
     stem = report_file_name(summary).removesuffix(".html")
     files = export_files(results, session, stem=stem)
     cols = st.columns(len(files))
-    for col, (name, f) in zip(cols, files.items()):
+    for col, (name, f) in zip(cols, files.items(), strict=True):
         col.download_button(EXPORT_LABELS.get(name, name), f.data, file_name=f.file_name, mime=f.mime, key=f"reports_{name}")
     st.caption(
         "CSV cells that start with =, +, - or @ are neutralised so that a spreadsheet does not run them as formulas."

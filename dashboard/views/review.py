@@ -25,7 +25,15 @@ from analysis.settings import AnalysisSettings, ThresholdOverride
 from analysis.thresholds import pick_from_chart_point
 from dashboard import data, state
 from dashboard.charts import equivalents_figure, time_course_figure, vslope_figure
-from dashboard.charts.linking import clamp_window, is_area_selection, selected_time_span, span_text, window_around, window_bounds, window_range
+from dashboard.charts.linking import (
+    clamp_window,
+    is_area_selection,
+    selected_time_span,
+    span_text,
+    window_around,
+    window_bounds,
+    window_range,
+)
 from dashboard.charts.time_course import VO2_TRACE
 from dashboard.charts.vslope import DATA_TRACE, exercise_rows
 from dashboard.errors import show_error
@@ -323,7 +331,7 @@ def excluded_rows_view(table: pd.DataFrame) -> pd.DataFrame:
 @st.fragment(run_every=1.0)
 def _save_status(test_id: int) -> None:
     """A "saving" note that polls the background save and refreshes the page when it is done."""
-    pending, _, failed, _ = state.save_tracker().status(test_id)
+    pending = state.save_tracker().status(test_id)[0]
     if pending or st.session_state.get(SAVE_QUEUE):
         st.caption("Saving the change to the store…")
     else:
@@ -375,7 +383,7 @@ def _guard(fn: Any) -> Any:
     def run(*args: Any, **kwargs: Any) -> None:
         try:
             fn(*args, **kwargs)
-        except Exception as exc:  # noqa: BLE001 - shown plainly after the rerun
+        except Exception as exc:  # shown plainly after the rerun
             from dashboard.errors import describe
 
             if not isinstance(exc, TidemarkError):

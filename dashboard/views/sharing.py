@@ -8,7 +8,7 @@ once, right after creation; the store keeps only its hash.
 from __future__ import annotations
 
 import logging
-from datetime import datetime, timezone
+from datetime import UTC, datetime
 from typing import Any
 
 import pandas as pd
@@ -56,10 +56,10 @@ def share_state(info: Any, *, now: datetime | None = None) -> str:
     """"active", "revoked" or "expired" for a store ``ShareInfo``."""
     if getattr(info, "revoked_at", None) is not None:
         return "revoked"
-    now = now or datetime.now(timezone.utc)
+    now = now or datetime.now(UTC)
     expires = info.expires_at
     if expires.tzinfo is None:
-        expires = expires.replace(tzinfo=timezone.utc)
+        expires = expires.replace(tzinfo=UTC)
     if expires <= now or not getattr(info, "active", True):
         return "expired"
     return "active"
