@@ -91,7 +91,7 @@ def main(argv: Sequence[str] | None = None) -> int:
         return EXIT_BAD_INPUT
     except KeyboardInterrupt:
         return EXIT_INTERNAL
-    except Exception:  # noqa: BLE001 - last line of defence, logged with the traceback
+    except Exception:  # last line of defence, logged with the traceback
         log.exception("internal error in 'tidemark %s'", args.command)
         print(
             f"tidemark {args.command}: internal error (details above). Please report it with the input file.",
