@@ -6,6 +6,10 @@ Inputs
     :class:`SubjectProfile`, :class:`ProtocolSpec`
 Simulation
     :func:`simulate_session`, :func:`noise_free_course`
+Hard kinds and suites (ground truth for threshold and interpretation checks)
+    :class:`ModelExtras`, :class:`BreathEvents`, :data:`ALL_KINDS`, :data:`ORIGINAL_KINDS`,
+    :data:`HARD_KINDS`, :func:`case_inputs`, :func:`simulate_case`, :func:`simulation_suite`,
+    :class:`SimulatedCase`, :class:`CaseTruth`
 Demo cast (fictional people of the Saltmarsh Exercise Lab)
     :data:`DEMO_TESTS`, :class:`DemoTest`, :func:`generate_demo`, and the named profiles and
     protocols (``TRAINED_CYCLIST``, ``RECREATIONAL_RUNNER``, ``REHAB_BASELINE``,
@@ -31,8 +35,11 @@ from analysis.simulation.cast import (
     DemoTest,
     generate_demo,
 )
+from analysis.simulation.extras import BreathEvents, ModelExtras
+from analysis.simulation.kinds import ALL_KINDS, HARD_KINDS, ORIGINAL_KINDS, CaseInputs, case_inputs
 from analysis.simulation.profiles import MODES, SEXES, STOP_RULES, ProtocolSpec, SubjectProfile
 from analysis.simulation.simulate import LAB_NAME, noise_free_course, simulate_session
+from analysis.simulation.suite import NOISE_LEVELS, CaseTruth, SimulatedCase, simulate_case, simulation_suite, truth_table
 
 __all__ = [
     "SubjectProfile",
@@ -42,6 +49,19 @@ __all__ = [
     "STOP_RULES",
     "simulate_session",
     "noise_free_course",
+    "ModelExtras",
+    "BreathEvents",
+    "ALL_KINDS",
+    "ORIGINAL_KINDS",
+    "HARD_KINDS",
+    "CaseInputs",
+    "case_inputs",
+    "simulate_case",
+    "simulation_suite",
+    "SimulatedCase",
+    "CaseTruth",
+    "NOISE_LEVELS",
+    "truth_table",
     "DemoTest",
     "DEMO_TESTS",
     "generate_demo",

@@ -220,6 +220,9 @@ class ProtocolSpec:
     warmup_w, ramp_w_per_min, recovery_w : float
         Cycle only: warm-up load (W), ramp rate (W/min, starting from the warm-up load) and
         active-recovery load (W).
+    start_w : float, optional
+        Cycle only: load at the start of the incremental phase, W (a step up from the
+        warm-up); ``None`` starts the incremental phase at ``warmup_w``.
     warmup_speed_kmh, warmup_grade_pct : float
         Treadmill only: warm-up speed (km/h) and grade (%).
     start_speed_kmh, speed_step_kmh_per_min, start_grade_pct, grade_step_pct_per_min : float
@@ -248,6 +251,7 @@ class ProtocolSpec:
     warmup_w: float = 20.0
     ramp_w_per_min: float = 20.0
     recovery_w: float = 20.0
+    start_w: float | None = None
     warmup_speed_kmh: float = 5.0
     warmup_grade_pct: float = 0.0
     start_speed_kmh: float = 8.0
@@ -271,6 +275,8 @@ class ProtocolSpec:
         _in("warmup_w", self.warmup_w, 0, 400, "W")
         _in("ramp_w_per_min", self.ramp_w_per_min, 3, 100, "W/min")
         _in("recovery_w", self.recovery_w, 0, 200, "W")
+        if self.start_w is not None:
+            _in("start_w", self.start_w, 0, 600, "W")
         _in("warmup_speed_kmh", self.warmup_speed_kmh, 0, 20, "km/h")
         _in("warmup_grade_pct", self.warmup_grade_pct, 0, 25, "%")
         _in("start_speed_kmh", self.start_speed_kmh, 1, 25, "km/h")
@@ -297,6 +303,8 @@ class ProtocolSpec:
         stepping = f", {self.stage_s:g}-s stages" if self.stage_s else ""
         if self.mode == "cycle":
             text = f"cycle ramp {self.ramp_w_per_min:g} W/min from {self.warmup_w:g} W{stepping}"
+            if self.start_w is not None:
+                text = f"cycle ramp {self.ramp_w_per_min:g} W/min from {self.start_w:g} W after {self.warmup_w:g} W{stepping}"
         else:
             parts = [f"treadmill from {self.start_speed_kmh:g} km/h at {self.start_grade_pct:g} %"]
             if self.speed_step_kmh_per_min:

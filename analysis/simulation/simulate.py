@@ -10,7 +10,11 @@ import pandas as pd
 from analysis import columns as C
 from analysis.errors import InvalidParameter, require
 from analysis.session import Session
+from analysis.simulation import _extras_model as X
 from analysis.simulation import _model as M
+from analysis.simulation._breath_events import plant_events
+from analysis.simulation._truth_extended import extended_truth
+from analysis.simulation.extras import BreathEvents, ModelExtras
 from analysis.simulation.profiles import ProtocolSpec, SubjectProfile
 
 #: The fictional lab named in every simulated session's metadata.
@@ -68,7 +72,8 @@ def _loads(protocol: ProtocolSpec, t_s: np.ndarray, t_end_s: float = np.inf) -> 
     warm = (t >= t_warm) & (t < t_ex)
     rec = t > t_end_s
     if protocol.mode == "cycle":
-        work = protocol.warmup_w + protocol.ramp_w_per_min * minutes
+        start_w = protocol.warmup_w if protocol.start_w is None else protocol.start_w
+        work = start_w + protocol.ramp_w_per_min * minutes
         work = np.where(warm, protocol.warmup_w, work)
         work = np.where(rest, 0.0, work)
         work = np.where(rec, protocol.recovery_w, work)
@@ -105,7 +110,7 @@ def _first_crossing(t: np.ndarray, y: np.ndarray, level: float, start: int) -> f
     return float(t[i - 1] + frac * (t[i] - t[i - 1]))
 
 
-def _timeline(profile: SubjectProfile, protocol: ProtocolSpec) -> _Timeline:
+def _timeline(profile: SubjectProfile, protocol: ProtocolSpec, extras: ModelExtras | None = None) -> _Timeline:
     t_warm = protocol.rest_s
     t_ex = protocol.rest_s + protocol.warmup_s
     t = np.arange(0.0, t_ex + protocol.max_exercise_s + GRID_DT_S, GRID_DT_S)
@@ -136,6 +141,16 @@ def _timeline(profile: SubjectProfile, protocol: ProtocolSpec) -> _Timeline:
     plateau = profile.plateau and protocol.stop == "max"
     lag_input = np.minimum(demand, profile.vo2max_ml_min) if plateau else demand
     vo2 = M.first_order_lag(lag_input, dt_s=GRID_DT_S, tau_s=profile.tau_on_s, x0=profile.vo2_rest_ml_min)
+    if extras is not None and extras.slow_component_fraction > 0:
+        vo2 = vo2 + X.slow_component_ml_min(
+            lag_input,
+            vo2_vt1_ml_min=profile.vo2_vt1_ml_min,
+            fraction=extras.slow_component_fraction,
+            tau_s=extras.slow_component_tau_s,
+            dt_s=GRID_DT_S,
+        )
+        if plateau:
+            vo2 = np.minimum(vo2, profile.vo2max_ml_min)
 
     if protocol.stop == "max" and plateau:
         t_cap = _first_crossing(t, demand, profile.vo2max_ml_min, start)
@@ -220,6 +235,39 @@ def _channels(profile: SubjectProfile, protocol: ProtocolSpec, line: _Timeline, 
     }
     out.update(_loads(protocol, t, line.t_end_s))
     return out
+
+
+def _extended_grid(
+    profile: SubjectProfile, protocol: ProtocolSpec, line: _Timeline, extras: ModelExtras
+) -> tuple[np.ndarray, dict[str, np.ndarray], dict[str, np.ndarray]]:
+    """The whole record on the internal grid with the extras applied: ``(grid, without the
+    oscillation, final)``."""
+    grid = np.arange(0.0, line.t_total_s + GRID_DT_S, GRID_DT_S)
+    base = _channels(profile, protocol, line, grid)
+    plain, final = X.apply_extras(
+        base,
+        grid,
+        extras,
+        dt_s=GRID_DT_S,
+        t_load_s=line.t_warmup_s,
+        t_exercise_s=line.t_exercise_s,
+        t_end_s=line.t_end_s,
+        barometric_mmhg=protocol.barometric_mmhg,
+    )
+    return grid, plain, final
+
+
+def _channels_at(
+    profile: SubjectProfile, protocol: ProtocolSpec, line: _Timeline, t_s: np.ndarray, extras: ModelExtras | None
+) -> dict[str, np.ndarray]:
+    """Noise-free channels at times ``t_s``: the base model, or the extended grid sampled
+    there (loads are evaluated exactly, so steps stay steps)."""
+    if extras is None:
+        return _channels(profile, protocol, line, t_s)
+    t = np.asarray(t_s, dtype=float)
+    grid, _, final = _extended_grid(profile, protocol, line, extras)
+    loads = _loads(protocol, t, line.t_end_s)
+    return {k: (loads[k] if k in loads else np.interp(t, grid, v)) for k, v in final.items()}
 
 
 def _breath_times(profile: SubjectProfile, protocol: ProtocolSpec, line: _Timeline, *, rng: np.random.Generator, noise: float) -> np.ndarray:
@@ -337,7 +385,21 @@ def _truth(profile: SubjectProfile, protocol: ProtocolSpec, line: _Timeline) -> 
     return truth
 
 
-def noise_free_course(profile: SubjectProfile, protocol: ProtocolSpec, t_s: np.ndarray | list[float]) -> pd.DataFrame:
+def _mvv_l_min(profile: SubjectProfile, meta: dict[str, object]) -> float | None:
+    """MVV measured, else FEV1 x 40 (common practice; ATS/ACCP 2003), else None."""
+    if profile.mvv_l_min is not None:
+        return float(profile.mvv_l_min)
+    fev1 = meta.get("fev1_l")
+    return None if fev1 is None else 40.0 * float(fev1)  # type: ignore[arg-type]
+
+
+def noise_free_course(
+    profile: SubjectProfile,
+    protocol: ProtocolSpec,
+    t_s: np.ndarray | list[float],
+    *,
+    extras: ModelExtras | None = None,
+) -> pd.DataFrame:
     """The model's noise-free values at chosen times (no breath noise, no artifacts).
 
     Useful to draw the truth behind a simulated session or to measure its noise.
@@ -348,6 +410,8 @@ def noise_free_course(profile: SubjectProfile, protocol: ProtocolSpec, t_s: np.n
     protocol : ProtocolSpec
     t_s : array_like
         Times in s from the start of the record (0 to the end of recovery).
+    extras : ModelExtras, optional
+        The same extras as passed to :func:`simulate_session` (``None``: base model).
 
     Returns
     -------
@@ -364,14 +428,14 @@ def noise_free_course(profile: SubjectProfile, protocol: ProtocolSpec, t_s: np.n
     True
     """
     t = np.asarray(t_s, dtype=float)
-    line = _timeline(profile, protocol)
+    line = _timeline(profile, protocol, extras)
     require(
         t.size == 0 or (t.min() >= 0 and t.max() <= line.t_total_s),
         "t_s",
         f"times between 0 and {line.t_total_s:.1f} s (the end of recovery)",
         f"{t.min():.1f} to {t.max():.1f} s",
     )
-    ch = _channels(profile, protocol, line, t)
+    ch = _channels_at(profile, protocol, line, t, extras)
     frame = pd.DataFrame({C.T_S: t, **{k: ch[k] for k in (C.VO2_ML_MIN, C.VCO2_ML_MIN, C.VE_L_MIN, C.HR_BPM)}})
     for name in (C.WORK_W, C.SPEED_KMH, C.GRADE_PCT):
         if name in ch:
@@ -393,6 +457,9 @@ def simulate_session(
     artifacts: int = 3,
     test_date: str = "2026-01-05",
     notes: str = "",
+    extras: ModelExtras | None = None,
+    events: BreathEvents | None = None,
+    meta_extra: dict[str, object] | None = None,
 ) -> Session:
     """Simulate one breath-by-breath exercise test with known ground truth.
 
@@ -415,6 +482,17 @@ def simulate_session(
         ISO date written to the metadata.
     notes : str, default ""
         Free text for the metadata (omitted when empty).
+    extras : ModelExtras, optional
+        Physiology beyond the base model (VO2 slow component, CO2 stores, over-breathing,
+        oscillating ventilation, a ventilatory ceiling). When given, the metadata also holds
+        the extended truth (``truth_ve_vco2_slope_whole_exercise``, SpO2, breathing reserve,
+        oscillation, ...; ``docs/simulation.md``). ``None`` (default): the base model only.
+    events : BreathEvents, optional
+        Sighs, mask leaks, merged and lost breaths, impossible breaths, planted after the
+        noise (their times in ``truth_breath_events``). ``None`` (default): none.
+    meta_extra : dict, optional
+        More metadata written after the person's data (e.g. ``fev1_l``, ``beta_blocker``);
+        an ``fev1_l`` without ``mvv_l_min`` gives the truth MVV as FEV1 x 40.
 
     Returns
     -------
@@ -461,15 +539,17 @@ def simulate_session(
     require(isinstance(seed, (int, np.integer)) and not isinstance(seed, bool) and seed >= 0, "seed", "a whole number >= 0", seed)
     require(isinstance(noise, (int, float)) and 0 <= noise <= 5, "noise", "a number between 0 and 5", noise)
     require(isinstance(artifacts, (int, np.integer)) and 0 <= artifacts <= 20, "artifacts", "a whole number between 0 and 20", artifacts)
+    require(extras is None or isinstance(extras, ModelExtras), "extras", "a ModelExtras or None", type(extras).__name__)
+    require(events is None or isinstance(events, BreathEvents), "events", "a BreathEvents or None", type(events).__name__)
 
-    line = _timeline(profile, protocol)
+    line = _timeline(profile, protocol, extras)
     rng_time = np.random.default_rng([int(seed), 1])
     rng_noise = np.random.default_rng([int(seed), 2])
     rng_art = np.random.default_rng([int(seed), 3])
 
     t = _breath_times(profile, protocol, line, rng=rng_time, noise=float(noise))
     n = len(t)
-    ch = _channels(profile, protocol, line, t)
+    ch = _channels_at(profile, protocol, line, t, extras)
     duration = np.diff(np.concatenate([[0.0], t]))
     rf_breath = 60.0 / duration
 
@@ -511,6 +591,12 @@ def simulate_session(
     )
     frame = pd.DataFrame(data)
     artifact_t = _inject_artifacts(frame, count=int(artifacts), rng=rng_art) if artifacts else []
+    event_notes: list[str] = []
+    if events is not None and events.any:
+        frame, event_notes = plant_events(
+            frame, events, rng=np.random.default_rng([int(seed), 4]), protect_t_s=artifact_t
+        )
+        n = len(frame)
     frame.insert(frame.columns.get_loc(C.RF_BPM) + 1, C.VT_L, frame[C.VE_L_MIN] / frame[C.RF_BPM])
 
     meta: dict[str, object] = {
@@ -525,6 +611,9 @@ def simulate_session(
     }
     if profile.mvv_l_min is not None:
         meta["mvv_l_min"] = float(profile.mvv_l_min)
+    for key, value in (meta_extra or {}).items():
+        require(not str(key).startswith("truth_") and key not in meta, "meta_extra", "new keys that are not truth_ keys", key)
+        meta[str(key)] = value
     meta.update(
         {
             "test_date": test_date,
@@ -538,6 +627,22 @@ def simulate_session(
     meta["simulated"] = f"Tidemark simulator, seed {int(seed)}, noise {float(noise):g}, artifacts {int(artifacts)}"
     meta.update(_truth(profile, protocol, line))
     meta["truth_artifact_t_s"] = ",".join(f"{x:.2f}" for x in artifact_t)
+    if extras is not None:
+        grid, plain, _ = _extended_grid(profile, protocol, line, extras)
+        meta.update(
+            extended_truth(
+                grid,
+                plain,
+                extras=extras,
+                t_warmup_s=line.t_warmup_s,
+                t_exercise_s=line.t_exercise_s,
+                t_end_s=line.t_end_s,
+                t_vt2_s=meta.get("truth_vt2_t_s"),  # type: ignore[arg-type]
+                mvv_l_min=_mvv_l_min(profile, meta),
+            )
+        )
+    if events is not None:
+        meta["truth_breath_events"] = ",".join(event_notes)
 
     # the line each breath will occupy in a written session file: meta lines, header, rows
     first_row = len(meta) + 2

@@ -1,0 +1,144 @@
+"""What makes a simulated test hard: physiology beyond the base model (:class:`ModelExtras`)
+and breath-level events of a real recording (:class:`BreathEvents`).
+
+Both are frozen, keyword-only dataclasses that check their values on creation and raise
+:class:`~analysis.errors.InvalidParameter` naming the field. Their defaults are neutral: a
+session simulated with ``ModelExtras()`` and ``BreathEvents()`` has the base model's values
+(and the extended truth keys, see ``docs/simulation.md``).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from analysis.errors import require
+from analysis.simulation.profiles import _in
+
+
+@dataclass(frozen=True, kw_only=True)
+class ModelExtras:
+    """Physiology added on top of the base model (all neutral by default).
+
+    Parameters
+    ----------
+    slow_component_fraction : float
+        VO2 slow component: extra O2 cost above VT1 as a fraction of the demand above the VT1
+        level (0 none; 0.10-0.25 in the hard kinds). It builds up with
+        ``slow_component_tau_s`` and steepens the VO2-work relation above VT1.
+    slow_component_tau_s : float
+        Time constant of the slow component, s.
+    co2_extra_tau_s : float
+        Extra first-order lag of the exhaled VCO2 (and of VE, which follows it) behind the
+        metabolic CO2 production, s: the CO2 stores fill after each rise in load. 0 none.
+    overbreathing_ve_fraction : float
+        Anxious over-breathing: VE raised by this fraction at rest (0 none; 0.4-0.9 in the
+        over-breathing kind), fading after the first load with ``overbreathing_tau_s``.
+    overbreathing_co2_fraction : float
+        Extra exhaled VCO2 (CO2 washed out of the stores) at rest as a fraction of the
+        metabolic VCO2; lifts the resting RER above 1 when large enough.
+    overbreathing_petco2_drop_mmhg : float
+        PETCO2 fall at rest caused by the over-breathing, mmHg.
+    overbreathing_tau_s : float
+        Time constant with which the over-breathing fades after the first load starts, s.
+    oscillation_period_s : float or None
+        Oscillating ventilation: period, s (``None``: no oscillation).
+    oscillation_amplitude_fraction : float
+        Half the peak-to-trough swing of VE as a fraction of its mean (VE x (1 ± A)).
+    oscillation_phase_rad : float
+        Phase of the oscillation at t = 0, rad.
+    oscillation_end_fraction : float
+        The oscillation runs from the start of the record to this fraction of the incremental
+        phase (1: to the end of exercise); it then fades over one period.
+    ve_ceiling_l_min : float or None
+        Ventilatory limitation: VE cannot exceed this value (``None``: no ceiling). VE follows
+        the demand up to ``ve_knee_fraction`` x the ceiling and then bends smoothly onto it;
+        the CO2 that is not breathed off raises PETCO2 (CO2 retention).
+    ve_knee_fraction : float
+        Where the VE ceiling starts to bend the VE response, fraction of the ceiling.
+    """
+
+    slow_component_fraction: float = 0.0
+    slow_component_tau_s: float = 180.0
+    co2_extra_tau_s: float = 0.0
+    overbreathing_ve_fraction: float = 0.0
+    overbreathing_co2_fraction: float = 0.0
+    overbreathing_petco2_drop_mmhg: float = 0.0
+    overbreathing_tau_s: float = 90.0
+    oscillation_period_s: float | None = None
+    oscillation_amplitude_fraction: float = 0.0
+    oscillation_phase_rad: float = 0.0
+    oscillation_end_fraction: float = 1.0
+    ve_ceiling_l_min: float | None = None
+    ve_knee_fraction: float = 0.75
+
+    def __post_init__(self) -> None:
+        _in("slow_component_fraction", self.slow_component_fraction, 0, 0.4)
+        _in("slow_component_tau_s", self.slow_component_tau_s, 60, 400, "s")
+        _in("co2_extra_tau_s", self.co2_extra_tau_s, 0, 60, "s")
+        _in("overbreathing_ve_fraction", self.overbreathing_ve_fraction, 0, 1.5)
+        _in("overbreathing_co2_fraction", self.overbreathing_co2_fraction, 0, 0.6)
+        _in("overbreathing_petco2_drop_mmhg", self.overbreathing_petco2_drop_mmhg, 0, 15, "mmHg")
+        _in("overbreathing_tau_s", self.overbreathing_tau_s, 20, 300, "s")
+        if self.oscillation_period_s is not None:
+            _in("oscillation_period_s", self.oscillation_period_s, 20, 150, "s")
+            _in("oscillation_amplitude_fraction", self.oscillation_amplitude_fraction, 0.02, 0.45)
+        _in("oscillation_phase_rad", self.oscillation_phase_rad, -10, 10, "rad")
+        _in("oscillation_end_fraction", self.oscillation_end_fraction, 0, 1)
+        if self.ve_ceiling_l_min is not None:
+            _in("ve_ceiling_l_min", self.ve_ceiling_l_min, 15, 250, "L/min")
+        _in("ve_knee_fraction", self.ve_knee_fraction, 0.5, 0.95)
+
+    @property
+    def has_oscillation(self) -> bool:
+        """True when the ventilation oscillates."""
+        return self.oscillation_period_s is not None and self.oscillation_amplitude_fraction > 0
+
+
+@dataclass(frozen=True, kw_only=True)
+class BreathEvents:
+    """Breath-level events of a real recording, planted after the breath noise.
+
+    Counts are per test; each event's place is drawn from its own random stream, so the
+    same seed gives the same events. Nothing in the breath table marks them; their times are
+    in the metadata key ``truth_breath_events``.
+
+    Parameters
+    ----------
+    sighs_per_10_min : float
+        Mean number of sighs (one breath 2-3 x deeper, CO2 washed out, followed by a
+        shallower breath) per 10 minutes.
+    leak_runs : int
+        Runs of 4-20 breaths with a mask leak: VE, VO2 and VCO2 x 0.55-0.85.
+    merged_breaths : int
+        Pairs of breaths the detector merged into one (duration and volume add; per-minute
+        values are the duration-weighted mean).
+    dropped_runs : int
+        Runs of 1-3 breaths lost in the recording (a gap in time).
+    impossible_breaths : int
+        Isolated breaths no person can breathe (RER 1.8-2.6, or VE x 3.5 with the gases
+        barely moved), as a cough or a valve artefact gives.
+    """
+
+    sighs_per_10_min: float = 0.0
+    leak_runs: int = 0
+    merged_breaths: int = 0
+    dropped_runs: int = 0
+    impossible_breaths: int = 0
+
+    def __post_init__(self) -> None:
+        _in("sighs_per_10_min", self.sighs_per_10_min, 0, 10)
+        for name in ("leak_runs", "merged_breaths", "dropped_runs", "impossible_breaths"):
+            value = getattr(self, name)
+            require(
+                isinstance(value, int) and not isinstance(value, bool) and 0 <= value <= 20,
+                name,
+                "a whole number between 0 and 20",
+                value,
+            )
+
+    @property
+    def any(self) -> bool:
+        """True when at least one event is asked for."""
+        return bool(
+            self.sighs_per_10_min or self.leak_runs or self.merged_breaths or self.dropped_runs or self.impossible_breaths
+        )
