@@ -122,27 +122,24 @@ def plant_events(
             vco2[i] = min(rer * vo2[i], _limit(C.VCO2_ML_MIN))
             notes.append((t[i], "impossible (RER)"))
 
-    out[C.VE_L_MIN] = ve
-    out[C.VO2_ML_MIN] = vo2
-    out[C.VCO2_ML_MIN] = vco2
-    out[C.RF_BPM] = rf
-
     drop: list[int] = []
     for i in _pick(rng, ok, events.merged_breaths, span=2):
         d0 = t[i] - t[i - 1]
         d1 = t[i + 1] - t[i]
         w0, w1 = d0 / (d0 + d1), d1 / (d0 + d1)
-        for name in (C.VE_L_MIN, C.VO2_ML_MIN, C.VCO2_ML_MIN):
-            a = float(out.at[i, name])
-            b = float(out.at[i + 1, name])
-            out.at[i + 1, name] = w0 * a + w1 * b
-        out.at[i + 1, C.RF_BPM] = 60.0 / (d0 + d1)
+        for values in (ve, vo2, vco2):
+            values[i + 1] = w0 * values[i] + w1 * values[i + 1]
+        rf[i + 1] = 60.0 / (d0 + d1)
         drop.append(i)
         notes.append((t[i + 1], "merged"))
     for i in _pick(rng, ok, events.dropped_runs, span=3):
         length = int(rng.integers(1, 4))
         drop.extend(range(i, i + length))
         notes.append((t[i], f"lost {length}"))
+    out[C.VE_L_MIN] = ve
+    out[C.VO2_ML_MIN] = vo2
+    out[C.VCO2_ML_MIN] = vco2
+    out[C.RF_BPM] = rf
     if drop:
         out = out.drop(index=sorted(set(drop))).reset_index(drop=True)
     notes.sort()

@@ -92,15 +92,15 @@ def apply_extras(
         out[C.PETCO2_MMHG] = out[C.PETCO2_MMHG] + rise
     out[C.PETO2_MMHG] = M.peto2_mmhg(out[C.PETCO2_MMHG], out[C.VCO2_ML_MIN] / out[C.VO2_ML_MIN], barometric_mmhg=barometric_mmhg)
     plain = {k: v.copy() for k, v in out.items()}
-    if extras.has_oscillation:
-        assert extras.oscillation_period_s is not None
+    if extras.oscillation_period_s is not None and extras.has_oscillation:
+        period_s = float(extras.oscillation_period_s)
         amp = extras.oscillation_amplitude_fraction
         t_stop = t_exercise_s + extras.oscillation_end_fraction * (t_end_s - t_exercise_s)
 
         def wave(delay_s: float) -> np.ndarray:
             return oscillation(
                 np.asarray(t_s) - delay_s,
-                period_s=float(extras.oscillation_period_s),
+                period_s=period_s,
                 phase_rad=extras.oscillation_phase_rad,
                 t_stop_s=t_stop,
             )

@@ -348,7 +348,7 @@ def _hf(rng: np.random.Generator, code: str, *, end_fraction: tuple[float, float
             "oscillation_phase_rad": _u(rng, 0, 2 * np.pi),
             "oscillation_end_fraction": _u(rng, *end_fraction),
         }
-    extras = ModelExtras(co2_extra_tau_s=_u(rng, 5, 15, 1), **osc)  # type: ignore[arg-type]
+    extras = ModelExtras(co2_extra_tau_s=_u(rng, 5, 15, 1), **osc)
     return CaseInputs(p, proto, extras, _light_events(rng))
 
 
