@@ -4,6 +4,10 @@ VENV   := .venv
 BIN    := $(VENV)/bin
 STAMP  := $(VENV)/.installed-$(shell cat pyproject.toml | cksum | cut -d' ' -f1)
 PORT   ?= 8630
+# `make run` serves the fictional demo from a store file of its own (never the store for real data).
+DEMO_STORE ?= $(HOME)/.tidemark/demo.sqlite
+# `make run` installs Tidemark alone; `make test` adds the test and PostgreSQL extras.
+RUN_STAMP := $(VENV)/.run-installed-$(shell cat pyproject.toml | cksum | cut -d' ' -f1)
 
 .PHONY: run test install demo bench lint clean
 
@@ -18,9 +22,14 @@ $(STAMP): $(BIN)/python pyproject.toml
 
 install: $(STAMP)
 
-run: install
-	$(BIN)/tidemark demo --load
-	$(BIN)/tidemark serve --port $(PORT)
+$(RUN_STAMP): $(BIN)/python pyproject.toml
+	$(BIN)/python -m pip install --quiet -e .
+	rm -f $(VENV)/.run-installed-*
+	touch $(RUN_STAMP)
+
+run: $(RUN_STAMP)
+	$(BIN)/tidemark demo --load --store $(DEMO_STORE)
+	$(BIN)/tidemark serve --port $(PORT) --store $(DEMO_STORE)
 
 # ruff (style and likely bugs) and mypy (types) over the four packages; mypy keeps an incremental
 # cache in .mypy_cache/, so a second run takes a few seconds.

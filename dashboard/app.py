@@ -15,6 +15,7 @@ from __future__ import annotations
 import importlib
 import logging
 from collections.abc import Callable
+from pathlib import Path
 from types import ModuleType
 from typing import Any
 
@@ -33,7 +34,14 @@ PAGES: tuple[tuple[str, str, str], ...] = (
     ("progress", "Progress", ":material/trending_up:"),
     ("reports", "Reports", ":material/description:"),
     ("sharing", "Share links", ":material/link:"),
+    ("lab_settings", "Lab settings", ":material/settings:"),
 )
+
+#: Pages only administrators see in the navigation (the store checks the role again on save).
+ADMIN_PAGES: frozenset[str] = frozenset({"lab_settings"})
+
+#: The browser tab's icon, served by the dashboard itself (no request to any other host).
+FAVICON = Path(__file__).resolve().parent / "assets" / "favicon.png"
 
 COACH_PAGE = ("coach", "Coach view", ":material/sports:")
 
@@ -74,10 +82,12 @@ def _guarded(module: ModuleType, title: str) -> Callable[[], None]:
     return page
 
 
-def build_pages() -> dict[str, Any]:
-    """The ``st.Page`` objects of every available page, keyed by module name."""
+def build_pages(role: str = "") -> dict[str, Any]:
+    """The ``st.Page`` objects of every available page for a user of ``role``, keyed by module name."""
     pages: dict[str, Any] = {}
     for i, (name, title, icon) in enumerate(PAGES):
+        if name in ADMIN_PAGES and role != "admin":
+            continue
         module = load_page_module(name)
         if module is None:
             continue
@@ -135,16 +145,32 @@ def _provider_sign_in(store: Any) -> None:
         st.login()
 
 
+def lab_name(store: Any) -> str:
+    """The lab's name from the store's lab settings ("" when none is set or it cannot be read)."""
+    try:
+        return str(store.lab_identity().name or "")
+    except Exception:  # noqa: BLE001 - a page without the lab's name still works
+        log.exception("lab settings could not be read")
+        return ""
+
+
+def sign_in_subtitle(name: str) -> str:
+    """The line under the sign-in title: the lab's own name when an administrator set one."""
+    base = "Breath-by-breath exercise test review"
+    return f"{base} — {name}" if name else base
+
+
 def sign_in_form(store: Any) -> None:
     """Render the staff sign-in form; on success store the user and rerun."""
     st.title("Tidemark")
-    st.caption("Breath-by-breath exercise test review — Saltmarsh Exercise Lab workspace")
+    st.caption(sign_in_subtitle(lab_name(store)), unsafe_allow_html=False)
     if oidc_configured():
         _provider_sign_in(store)
         st.caption("Or sign in with a local Tidemark account:")
     with st.form("sign_in"):
         username = st.text_input("User name")
-        password = st.text_input("Password", type="password")
+        # "current-password": password managers fill in the saved password (not a new one).
+        password = st.text_input("Password", type="password", autocomplete="current-password")
         submitted = st.form_submit_button("Sign in", type="primary")
     if submitted:
         try:
@@ -164,7 +190,7 @@ def sidebar(store: Any) -> None:
     with st.sidebar:
         user = state.current_user()
         if state.in_demo_mode():
-            st.warning("**Demo mode** — fictional Saltmarsh Exercise Lab data; signed in as the demo reviewer.")
+            st.warning("**Demo mode** — fictional people of a fictional lab; signed in as the demo reviewer.")
         elif user is not None:
             st.caption(f"Signed in as **{state.user_name()}** ({state.user_role()})")
             if st.button("Sign out", key="sign_out"):
@@ -175,7 +201,7 @@ def sidebar(store: Any) -> None:
 
 def run() -> None:
     """Build and run the dashboard for this browser session."""
-    st.set_page_config(page_title="Tidemark", page_icon=":material/air:", layout="wide")
+    st.set_page_config(page_title="Tidemark", page_icon=str(FAVICON), layout="wide")
     token = st.query_params.get("link")
     if token is not None:
         run_coach(str(token))
@@ -190,15 +216,34 @@ def run() -> None:
         if demo is not None:
             state.set_current_user(demo, demo=True)
     if state.current_user() is None:
-        st.navigation([st.Page(lambda: sign_in_form(store), title="Sign in", url_path="sign-in")], position="hidden").run()
+        st.navigation(sign_in_pages(store), position="hidden").run()
         return
-    pages = build_pages()
+    pages = build_pages(state.user_role())
     state.register_pages(pages)
     sidebar(store)
     if not pages:
         st.error("No dashboard pages are available. Check the server log.")
         return
     st.navigation(list(pages.values())).run()
+
+
+def sign_in_pages(store: Any) -> list[Any]:
+    """The sign-in form under its own address and under every page's address.
+
+    A bookmarked or shared deep link (``/library``) then opens the sign-in form instead of a
+    "Page not found" dialog, and after signing in the same address shows that page.
+    """
+    def form() -> None:
+        sign_in_form(store)
+
+    pages = [st.Page(form, title="Sign in", url_path="sign-in", default=True)]
+    for name, title, _icon in PAGES:
+        def deep(title: str = title) -> None:
+            sign_in_form(store)
+
+        deep.__name__ = f"sign_in_for_{name}"
+        pages.append(st.Page(deep, title=f"Sign in — {title}", url_path=name))
+    return pages
 
 
 def run_coach(token: str) -> None:

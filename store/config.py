@@ -19,8 +19,11 @@ from store.errors import StoreError
 
 #: Environment variable naming the store (a SQLAlchemy URL or a SQLite file path).
 STORE_ENV = "TIDEMARK_STORE"
-#: Default SQLite file when nothing is configured.
+#: Default SQLite file when nothing is configured: the store for real data, never a demo store.
 DEFAULT_PATH = Path("~/.tidemark/tidemark.sqlite")
+#: Default SQLite file of the demo store (``tidemark demo --load``, ``make run``): fictional data
+#: live in a file of their own, so real accounts and imports never land under the demo banner.
+DEMO_PATH = Path("~/.tidemark/demo.sqlite")
 #: How long a SQLite writer waits for another writer before giving up (milliseconds).
 SQLITE_BUSY_TIMEOUT_MS = 15_000
 #: Back ends the store is tested against.
@@ -55,6 +58,11 @@ def _parse(url: str) -> URL:
         return make_url(url)
     except Exception as exc:  # SQLAlchemy raises ArgumentError with a terse text
         raise StoreError(f"The store URL could not be read ({exc}); check --store or {STORE_ENV}.") from exc
+
+
+def is_default_real_store(url: str) -> bool:
+    """True when ``url`` names the default store for real data (``~/.tidemark/tidemark.sqlite``)."""
+    return resolve_url(url) == resolve_url(str(DEFAULT_PATH))
 
 
 def describe_url(url: str) -> str:

@@ -6,7 +6,15 @@ from collections.abc import Iterable
 from pathlib import Path
 
 from analysis.errors import ImportRejected, Problem
+from analysis.simulation.simulate import LAB_NAME as DEMO_LAB_NAME
+from store.config import DEMO_PATH, is_default_real_store
+from store.errors import StoreError
+from store.records import LOCAL_OPERATOR
 from store.store import open_store
+
+#: The fictional demo lab's letterhead (demo data, like the sessions themselves).
+DEMO_LAB_ADDRESS = "1 Tideway, Saltmarsh (fictional address)"
+DEMO_REPORT_FOOTER = "Fictional demo data made by Tidemark's simulator; not a real person's test."
 
 
 def load_demo_sessions(paths: Iterable[str | Path], *, url: str | None = None) -> list[int]:
@@ -21,7 +29,8 @@ def load_demo_sessions(paths: Iterable[str | Path], *, url: str | None = None) -
     paths : iterable of path
         Demo session files (fictional people of the Saltmarsh Exercise Lab).
     url : str, optional
-        Store URL or SQLite path; default as for :func:`store.open_store`.
+        Store URL or SQLite path; default ``~/.tidemark/demo.sqlite`` (never the default store for
+        real data, ``~/.tidemark/tidemark.sqlite``, which is refused).
 
     Returns
     -------
@@ -31,7 +40,7 @@ def load_demo_sessions(paths: Iterable[str | Path], *, url: str | None = None) -
     Raises
     ------
     StoreError
-        The store already holds real accounts or tests.
+        The store already holds real accounts or tests, or is the default store for real data.
     ImportRejected
         A demo file is missing or unreadable.
     """
@@ -41,9 +50,18 @@ def load_demo_sessions(paths: Iterable[str | Path], *, url: str | None = None) -
         raise ImportRejected(
             [Problem("The demo file does not exist.", "Run 'tidemark demo' first.", file=str(p)) for p in missing]
         )
-    store = open_store(url)
+    target = url or str(DEMO_PATH)
+    if is_default_real_store(target):
+        raise StoreError(
+            "The demo is never loaded into the default store for real data (~/.tidemark/tidemark.sqlite). "
+            "Leave out --store to use the demo store ~/.tidemark/demo.sqlite, or name another file."
+        )
+    store = open_store(target)
     try:
         demo_user = store.enable_demo_mode()
+        if not store.lab_identity().name:  # the demo lab's name is demo data, written here only
+            store.set_lab_identity(actor=LOCAL_OPERATOR, name=DEMO_LAB_NAME, address=DEMO_LAB_ADDRESS,
+                                   report_footer=DEMO_REPORT_FOOTER, reason="demo store")
         return [
             store.import_test(path.read_bytes(), file_name=path.name, actor=demo_user).test_id for path in files
         ]

@@ -218,3 +218,24 @@ class ShareView(Base):
     id: Mapped[int] = mapped_column(Integer, primary_key=True)
     share_id: Mapped[int] = mapped_column(ForeignKey("share_links.id"), index=True)
     viewed_at: Mapped[datetime] = mapped_column(DateTime(timezone=True))
+
+
+class LabIdentityRow(Base):
+    """The lab's identity for reports, the sign-in page and share links (one row, ``id`` 1).
+
+    Set by an administrator on the dashboard's lab settings page; every change is audited.
+    """
+
+    __tablename__ = "lab_identity"
+
+    id: Mapped[int] = mapped_column(Integer, primary_key=True)
+    name: Mapped[str] = mapped_column(String(200), default="")
+    address: Mapped[str] = mapped_column(String(400), default="")
+    report_footer: Mapped[str] = mapped_column(Text, default="")
+    #: Logo image bytes (PNG or JPEG), ``None`` when the lab has none.
+    logo: Mapped[bytes | None] = mapped_column(LargeBinary)
+    logo_mime: Mapped[str | None] = mapped_column(String(32))
+    #: Public base URL of the dashboard for share links (``https://tests.lab.example``), or "".
+    public_url: Mapped[str] = mapped_column(String(400), default="")
+    updated_at: Mapped[datetime | None] = mapped_column(DateTime(timezone=True))
+    updated_by: Mapped[int | None] = mapped_column(ForeignKey("users.id"))

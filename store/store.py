@@ -5,11 +5,12 @@ from __future__ import annotations
 from store.accounts import AccountsMixin
 from store.config import make_engine, resolve_url
 from store.core import Clock
+from store.lab import LabMixin
 from store.migrate import upgrade_to_head
 from store.sharing import SharingMixin
 
 
-class Store(SharingMixin, AccountsMixin):
+class Store(SharingMixin, AccountsMixin, LabMixin):
     """Persistence and access control for Tidemark (see ``docs/store.md``).
 
     Create with :func:`open_store`. Every method runs in its own transaction; every mutating

@@ -15,7 +15,7 @@ Flag reasons (``Session.flags["reason"]``):
 """
 
 from analysis.io._cells import TIME_FORMATS
-from analysis.io._decode import DEFAULT_MAX_BYTES
+from analysis.io._decode import DEFAULT_MAX_BYTES, MAX_UPLOAD_MB
 from analysis.io._decode import container_kind as file_kind
 from analysis.io._validate import (
     FLAG_REASONS,
@@ -37,6 +37,7 @@ from analysis.io.summary import describe_outcome
 
 __all__ = [
     "DEFAULT_MAX_BYTES",
+    "MAX_UPLOAD_MB",
     "FLAG_REASONS",
     "GAP_FLAG_S",
     "GAS_UNITS",

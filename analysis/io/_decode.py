@@ -18,9 +18,13 @@ from dataclasses import dataclass
 
 from analysis.errors import ImportRejected, Problem
 
-#: Largest file the importer reads, in bytes (50 MiB). Breath tables are far smaller
-#: (a 30-minute test is about 2,000 lines, some 200 kB).
-DEFAULT_MAX_BYTES: int = 50 * 1024 * 1024
+#: Largest file the importer reads, in megabytes of 1,000,000 bytes: the one number the dashboard's
+#: upload box (``server.maxUploadSize``, counted in the browser as 1,000,000 bytes per MB), the
+#: ``tidemark serve`` command and the importer share. Breath tables are far smaller (a 30-minute
+#: test is about 2,000 lines, some 200 kB).
+MAX_UPLOAD_MB: int = 50
+#: The same limit in bytes (50,000,000).
+DEFAULT_MAX_BYTES: int = MAX_UPLOAD_MB * 1_000_000
 
 _CONTROL = re.compile(r"[\x00-\x08\x0b-\x0c\x0e-\x1f\x7f-\x9f]")
 _LINE_BREAK = re.compile(r"\r\n|\r|\n")
@@ -47,7 +51,7 @@ def check_size(size: int, *, max_bytes: int, file_name: str) -> None:
     if size > max_bytes:
         raise ImportRejected(
             Problem(
-                f"the file is {size / 1048576:.1f} MB, larger than the {max_bytes / 1048576:.1f} MB limit",
+                f"the file is {size / 1e6:.1f} MB, larger than the {max_bytes / 1e6:.1f} MB limit",
                 "check it is a single breath-by-breath export; raise the limit (--max-mb) if it really is one test",
                 file_name,
             )

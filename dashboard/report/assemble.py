@@ -101,9 +101,11 @@ def report_context(
     *,
     version: int | None,
     show_name: bool = True,
-    lab_name: str = "Saltmarsh Exercise Lab",
 ) -> ReportContext:
-    """Person label, version, sign-off and threshold setters of a stored test."""
+    """Person label, version, sign-off, threshold setters and the lab's letterhead of a stored test."""
+    from dashboard import lab
+
+    identity = lab.read_identity(store)
     record = store.get_test(test_id)
     summary = record.summary
     label = str(summary.person_code)
@@ -117,7 +119,10 @@ def report_context(
         audit = []
     return ReportContext(
         person_label=label,
-        lab_name=lab_name,
+        lab_name=str(getattr(identity, "name", "") or ""),
+        lab_address=str(getattr(identity, "address", "") or ""),
+        lab_logo_url=lab.logo_data_url(identity),
+        report_footer=str(getattr(identity, "report_footer", "") or ""),
         version=version,
         signed_off_by=signed[-1].signed_by if signed else None,
         signed_off_at=signed[-1].signed_at.strftime("%Y-%m-%d %H:%M") if signed else None,

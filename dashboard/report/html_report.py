@@ -77,8 +77,12 @@ class ReportContext:
     ----------
     person_label : str
         Pseudonymous code or display name, as the reviewer chose to show it.
-    lab_name : str
-        Shown in the title block.
+    lab_name, lab_address : str
+        The lab's letterhead (from the lab settings; empty when none is set).
+    lab_logo_url : str or None
+        The lab's logo as a ``data:`` URL (embedded, no outside request).
+    report_footer : str
+        The lab's own footer text.
     version : int or None
         Stored settings/results version the report was made from.
     signed_off_by, signed_off_at : str or None
@@ -91,7 +95,10 @@ class ReportContext:
     """
 
     person_label: str = ""
-    lab_name: str = "Saltmarsh Exercise Lab"
+    lab_name: str = ""
+    lab_address: str = ""
+    lab_logo_url: str | None = None
+    report_footer: str = ""
     version: int | None = None
     signed_off_by: str | None = None
     signed_off_at: str | None = None
@@ -344,6 +351,16 @@ def _figure_html(title: str, fig: Any, *, first: bool) -> str:
     return f'<div class="figure"><h3>{_e(title)}</h3><div class="plot">{div}</div></div>'
 
 
+def _letterhead(ctx: ReportContext) -> str:
+    """The lab's letterhead: logo, name and address line (nothing when none is set)."""
+    if not (ctx.lab_name or ctx.lab_address or ctx.lab_logo_url):
+        return ""
+    logo = f'<img class="logo" src="{_e(ctx.lab_logo_url)}" alt="">' if ctx.lab_logo_url else ""
+    name = f'<div class="lab-name">{_e(ctx.lab_name)}</div>' if ctx.lab_name else ""
+    address = f'<div class="lab-address">{_e(ctx.lab_address)}</div>' if ctx.lab_address else ""
+    return f'<div class="letterhead">{logo}<div>{name}{address}</div></div>'
+
+
 def _css() -> str:
     return resources.files("dashboard.report").joinpath("report.css").read_text(encoding="utf-8")
 
@@ -448,8 +465,9 @@ def build_report_html(
         f"<title>Exercise test report — {_e(ctx.person_label or 'test')}</title>",
         f"<style>{_css()}</style></head><body>",
         "<header>",
+        _letterhead(ctx),
         f"<h1>Exercise test report{' — ' + _e(ctx.person_label) if ctx.person_label else ''}</h1>",
-        f'<p class="sub">{_e(ctx.lab_name)} · {_e(version)} · {state}</p>',
+        f'<p class="sub">{_e(version)} · {state}</p>',
         f'<p class="sub">{" · ".join(facts)}</p>' if facts else "",
         "</header>",
         '<div class="caution"><strong>Caution.</strong> ' + " ".join(_e(c) for c in CAUTIONS) + "</div>",
@@ -500,7 +518,8 @@ def build_report_html(
     parts.append("</ul></section>")
 
     parts.append(
-        f"<footer>Made with Tidemark on {_e(generated)} from the stored {_e(version)}. "
+        "<footer>" + (f'<p class="lab-footer">{_e(ctx.report_footer)}</p>' if ctx.report_footer else "")
+        + f"Made with Tidemark on {_e(generated)} from the stored {_e(version)}. "
         + " ".join(_e(c) for c in CAUTIONS[:1])
         + "</footer></body></html>"
     )

@@ -18,7 +18,7 @@ from typing import Any
 import pandas as pd
 import streamlit as st
 
-from dashboard import data, state
+from dashboard import data, lab, state
 from dashboard.report import CAUTIONS, headline_rows, zone_rows
 from dashboard.report.assemble import build_test_report, report_figures, report_file_name
 from dashboard.report.html_report import threshold_display
@@ -110,8 +110,11 @@ def render_scope(store: Any, scope: Any) -> None:
     by_id = {s.id: s for s in summaries}
 
     st.title(f"Exercise test results — {_coach_label(summaries[0], show_name=show_name)}")
-    st.caption("Read-only view shared by the Saltmarsh Exercise Lab.")
+    st.caption(shared_by_text(lab.read_identity(store)))
     st.warning(" ".join(CAUTIONS))
+    if len(summaries) > 1 and _allowed(scope, "headline"):
+        render_progress(store, summaries, charts=_allowed(scope, "charts"))
+        st.subheader("One test in detail")
     if len(summaries) > 1:
         test_id = st.selectbox(
             "Test",
@@ -161,6 +164,42 @@ def render_scope(store: Any, scope: Any) -> None:
             mime="text/html",
             key="coach_report",
         )
+
+
+def shared_by_text(identity: Any | None) -> str:
+    """The caption under the coach view's title, naming the lab when its name is set (escaped)."""
+    name = str(getattr(identity, "name", "") or "").strip()
+    return f"Read-only view shared by {lab.markdown_text(name)}." if name else "Read-only view shared by the lab."
+
+
+def progress_records(store: Any, summaries: list[Any]) -> list[Any]:
+    """One :class:`analysis.progress.TestRecord` per shared test, from the reviewer's stored settings."""
+    from analysis.progress import TestRecord
+
+    records = []
+    for s in summaries:
+        settings, _ = stored_settings(store, s.id)
+        label = " · ".join(x for x in (str(s.test_date or "no date"), s.protocol or "") if x)
+        records.append(TestRecord(s.id, str(s.test_date or ""), data.results_json(s.id, state.settings_key(settings)), label=label))
+    return records
+
+
+def render_progress(store: Any, summaries: list[Any], *, charts: bool = True) -> None:
+    """Progress across the tests a person link covers: change from the first test, with charts."""
+    from analysis.progress import BAND_METHOD, METRICS, progress_table
+    from dashboard.charts.progress import progress_figure
+    from dashboard.views.progress import change_display
+
+    st.subheader(f"Progress across the {len(summaries)} shared tests")
+    table = progress_table(progress_records(store, summaries))
+    st.caption(f"Change from the first shared test. Band: {BAND_METHOD}. Estimates, not measurements of biology.")
+    st.dataframe(change_display(table), hide_index=True, width="stretch")
+    present = [m for m in METRICS if table.loc[table["metric"] == m, "value"].notna().any()]
+    if present and charts:
+        tabs = st.tabs([METRICS[m].label for m in present])
+        for tab, metric in zip(tabs, present):
+            with tab:
+                st.plotly_chart(progress_figure(table, metric), width="stretch", key=f"coach_progress_{metric}")
 
 
 def stored_settings(store: Any, test_id: int) -> tuple[dict[str, Any], int | None]:

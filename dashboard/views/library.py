@@ -18,6 +18,8 @@ import streamlit as st
 
 from analysis import columns as C
 from analysis.errors import ImportRejected, InvalidParameter
+from analysis.io import MAX_UPLOAD_MB
+from analysis.io.plausibility import duration_warning
 from dashboard import data, state
 from dashboard.errors import show_error
 
@@ -309,6 +311,9 @@ def _import_panel(store: Any, upload: Any, index: int) -> None:
     st.caption(" · ".join(details))
     for note in outcome.notes:
         st.caption(f"Note: {note}")
+    too_long = duration_warning(b[C.T_S].to_numpy())
+    if too_long:
+        st.warning(too_long)
     flags = session.flags
     if len(flags):
         st.warning(f"{len(flags)} rows are flagged as suspicious but kept (nothing is dropped silently).")
@@ -378,7 +383,12 @@ def _add_tests(store: Any) -> None:
         "Breath-by-breath exports as CSV, TSV or Excel (.xlsx). Each file is checked before anything "
         "is stored: columns found, units, time format and every suspicious row."
     )
-    uploads = st.file_uploader("Exercise test files", type=UPLOAD_TYPES, accept_multiple_files=True, key="lib_upload")
+    # The upload box's limit is server.maxUploadSize (dashboard/.streamlit/config.toml and
+    # `tidemark serve`), the same number of MB (1,000,000 bytes each) as the importer's.
+    uploads = st.file_uploader(
+        f"Exercise test files (up to {MAX_UPLOAD_MB} MB each)", type=UPLOAD_TYPES, accept_multiple_files=True,
+        key="lib_upload",
+    )
     for i, upload in enumerate(uploads or []):
         with st.expander(upload.name, expanded=True):
             _import_panel(store, upload, i)

@@ -14,7 +14,7 @@ from typing import Any
 import pandas as pd
 import streamlit as st
 
-from dashboard import data, state
+from dashboard import data, lab, state
 from dashboard.views._test_choice import person_label, test_label
 
 log = logging.getLogger("tidemark.dashboard")
@@ -38,9 +38,12 @@ SECTION_SHORT: dict[str, str] = {"headline": "headline and thresholds", "zones":
                                  "report": "report"}
 
 
-def share_url(token: str, *, host: str | None = None) -> str:
-    """``http://<host>/?link=<token>`` — the address a coach opens."""
-    return f"http://{host or 'localhost:8630'}/?link={token}"
+def share_url(token: str, *, host: str | None = None, identity: Any | None = None,
+              environ: dict[str, str] | None = None) -> str:
+    """The address a coach opens: ``<public URL>/?link=<token>`` when a public URL is configured
+    (``TIDEMARK_PUBLIC_URL`` or the lab settings; https unless it says otherwise), else
+    ``http://<host the reviewer used>/?link=<token>``."""
+    return lab.share_url(token, base_url=lab.share_base_url(identity, request_host=host, environ=environ))
 
 
 def request_host() -> str | None:
@@ -167,5 +170,11 @@ def create_form(store: Any, user: Any, *, tests: dict[int, Any], people: dict[in
     token, share_id = store.create_share(
         actor=user, expires_in_days=int(days), show_name=bool(show_name), sections=tuple(sections), **kwargs
     )
+    identity = lab.read_identity(store)
     st.success(f"Link {share_id} created. Copy it now: the address is shown only this once.")
-    st.code(share_url(token, host=request_host()), language=None)
+    st.code(share_url(token, host=request_host(), identity=identity), language=None)
+    if not lab.public_url_configured(identity):
+        st.caption(
+            "No public address is configured, so the link uses the address you reached the dashboard on. "
+            "An administrator can set the lab's public address on the Lab settings page."
+        )

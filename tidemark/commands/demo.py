@@ -27,7 +27,8 @@ def add_parser(subparsers: argparse._SubParsersAction) -> argparse.ArgumentParse
                    help=f"folder for the session files (default: {DEFAULT_DEMO_DIR})")
     p.add_argument("--load", action="store_true", help="load the written sessions into the store")
     p.add_argument("--store", default=None, metavar="URL",
-                   help="database URL of the store (default: the store's own default)")
+                   help="database URL or SQLite file of the demo store (default: ~/.tidemark/demo.sqlite; "
+                   "never the store for real data)")
     p.set_defaults(func=run)
     return p
 
@@ -53,12 +54,12 @@ def run(args: argparse.Namespace) -> int:
         paths = generate_demo(out)
     except OSError as exc:
         raise TidemarkError(f"cannot write the demo sessions to '{out}': {exc.strerror or exc}") from exc
-    print(f"Wrote {len(paths)} simulated demo sessions (fictional people, Saltmarsh Exercise Lab):")
+    print(f"Wrote {len(paths)} simulated demo sessions (fictional people of a fictional lab):")
     for path in paths:
         print(f"  {path}")
     if args.load:
         result = _load(paths, args.store)
-        where = args.store or "the default store"
+        where = args.store or "the demo store ~/.tidemark/demo.sqlite"
         if isinstance(result, (list, tuple)):
             ids = ", ".join(str(x) for x in result)
             print(f"Loaded {len(result)} sessions into {where} (test ids {ids}).")

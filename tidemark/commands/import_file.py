@@ -7,6 +7,7 @@ prints what was read and how. ``--out`` defaults to the current folder.
 from __future__ import annotations
 
 import argparse
+import sys
 from pathlib import Path
 
 from analysis.errors import ImportRejected, InvalidParameter, Problem
@@ -23,6 +24,7 @@ from analysis.io import (
     read_input_file,
     save_profile,
 )
+from analysis.io.plausibility import duration_warning
 from analysis.io.saving import save_import
 
 
@@ -58,8 +60,9 @@ def add_parser(subparsers: argparse._SubParsersAction) -> argparse.ArgumentParse
     p.add_argument(
         "--max-mb",
         type=float,
-        default=DEFAULT_MAX_BYTES / 1048576,
-        help=f"reject files larger than this many MB (default {DEFAULT_MAX_BYTES / 1048576:g}; 1 MB = 1,048,576 bytes)",
+        default=DEFAULT_MAX_BYTES / 1_000_000,
+        help=f"reject files larger than this many MB (default {DEFAULT_MAX_BYTES / 1_000_000:g}; 1 MB = 1,000,000 bytes, "
+        "as in the dashboard's upload box)",
     )
     p.set_defaults(func=run)
     return p
@@ -91,7 +94,7 @@ def run(args: argparse.Namespace) -> int:
     path: Path = args.file
     if not args.max_mb > 0:
         raise InvalidParameter("--max-mb", "a positive number", args.max_mb)
-    max_bytes = int(args.max_mb * 1048576)
+    max_bytes = int(args.max_mb * 1_000_000)
     mapping = load_profile(args.profile) if args.profile else None
     overrides = _pairs(args.map, "--map", '"Oxygen uptake=vo2_ml_min"', split_at_last=True)
     if overrides:
@@ -116,6 +119,9 @@ def run(args: argparse.Namespace) -> int:
     print(f"Imported '{path.name}': {verb} {saved.session_path}")
     for line in describe_outcome(outcome):
         print(f"  {line}")
+    warning = duration_warning(outcome.session.breaths["t_s"].to_numpy())
+    if warning:
+        print(f"warning: {warning}", file=sys.stderr)
     kept = "kept" if saved.original_was_new else "already kept (identical)"
     print(f"  original {kept}: {saved.original_path}")
     if args.save_profile:

@@ -10,15 +10,21 @@ from __future__ import annotations
 
 import argparse
 import os
+import signal
 import subprocess
 import sys
 from pathlib import Path
+from types import FrameType
 
 from analysis.errors import require
+from analysis.io import MAX_UPLOAD_MB
 
 DEFAULT_PORT = 8630
 DEFAULT_HOST = "127.0.0.1"
 STORE_ENV = "TIDEMARK_STORE"
+PUBLIC_URL_ENV = "TIDEMARK_PUBLIC_URL"
+#: Seconds the dashboard gets to stop after SIGTERM before it is killed.
+STOP_GRACE_S = 10.0
 
 
 def app_path() -> Path:
@@ -44,6 +50,13 @@ def add_parser(subparsers: argparse._SubParsersAction) -> argparse.ArgumentParse
         "use 0.0.0.0 only behind a proxy with TLS)",
     )
     p.add_argument("--store", default=None, help=f"store URL (default: ${STORE_ENV} or the store's default file)")
+    p.add_argument(
+        "--public-url",
+        default=None,
+        metavar="URL",
+        help=f"address coaches reach the dashboard at, e.g. https://tests.lab.example (sets ${PUBLIC_URL_ENV}; "
+        "share links start with it)",
+    )
     p.set_defaults(func=run)
     return p
 
@@ -67,10 +80,29 @@ def streamlit_command(*, port: int, host: str) -> list[str]:
         "--browser.gatherUsageStats",
         "false",
         "--server.maxUploadSize",
-        "50",
+        str(MAX_UPLOAD_MB),
         "--client.toolbarMode",
         "viewer",
     ]
+
+
+class _Stop(Exception):
+    """A stop signal (SIGTERM, SIGHUP) arrived while the dashboard was running."""
+
+
+def _raise_stop(signum: int, _frame: FrameType | None) -> None:
+    raise _Stop(signum)
+
+
+def stop_child(proc: subprocess.Popen, *, grace_s: float = STOP_GRACE_S) -> int:
+    """Ask the dashboard process to stop (SIGTERM), kill it after ``grace_s``; its exit code."""
+    if proc.poll() is None:
+        proc.terminate()
+        try:
+            return proc.wait(timeout=grace_s)
+        except subprocess.TimeoutExpired:
+            proc.kill()
+    return proc.wait()
 
 
 def run(args: argparse.Namespace) -> int:
@@ -78,8 +110,22 @@ def run(args: argparse.Namespace) -> int:
     env = dict(os.environ)
     if args.store:
         env[STORE_ENV] = args.store
+    if getattr(args, "public_url", None):
+        from store.lab import normalise_public_url
+
+        env[PUBLIC_URL_ENV] = normalise_public_url(args.public_url)
     print(f"Tidemark dashboard: http://{args.host}:{args.port}  (Ctrl+C to stop)", flush=True)
+    # The dashboard runs as a child process: a stop signal to this command stops it too, so a
+    # service manager's SIGTERM never leaves a server holding the port.
+    previous = {sig: signal.signal(sig, _raise_stop) for sig in (signal.SIGTERM, signal.SIGHUP)}
+    proc: subprocess.Popen | None = None
     try:
-        return subprocess.call(cmd, env=env)
-    except KeyboardInterrupt:
+        proc = subprocess.Popen(cmd, env=env)
+        return proc.wait()
+    except (KeyboardInterrupt, _Stop):
         return 0
+    finally:
+        if proc is not None:
+            stop_child(proc)
+        for sig, handler in previous.items():
+            signal.signal(sig, handler)

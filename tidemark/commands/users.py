@@ -13,7 +13,7 @@ import argparse
 import getpass
 import sys
 
-from store import LOCAL_OPERATOR, ROLE_ORDER, StoreError, open_store
+from store import LOCAL_OPERATOR, ROLE_ORDER, Store, StoreError, open_store
 from store.config import STORE_ENV, describe_url
 
 
@@ -77,11 +77,23 @@ def read_password(*, from_stdin: bool) -> str:
     return first
 
 
+def refuse_demo_store(store: Store) -> None:
+    """Accounts for real work are never added to a demo store (fictional data, auto sign-in)."""
+    if store.is_demo_store():
+        raise StoreError(
+            f"{describe_url(store.url)} is a demo store: it holds fictional data and signs everyone in as the "
+            "demo reviewer, so no accounts can be added to it. For real data use a store of its own, e.g. "
+            "export TIDEMARK_STORE=/srv/lab/tidemark.sqlite (or leave it unset for ~/.tidemark/tidemark.sqlite) "
+            "and run this command again."
+        )
+
+
 def run(args: argparse.Namespace) -> int:
     store = open_store(args.store)
     try:
         action = args.users_action
         if action == "add":
+            refuse_demo_store(store)
             password = None if args.oidc else read_password(from_stdin=args.password_stdin)
             user = store.create_user(
                 args.name, role=args.role, actor=LOCAL_OPERATOR, password=password,
