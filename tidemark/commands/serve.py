@@ -17,7 +17,6 @@ from pathlib import Path
 from types import FrameType
 
 from analysis.errors import require
-from analysis.io import MAX_UPLOAD_MB
 
 DEFAULT_PORT = 8630
 DEFAULT_HOST = "127.0.0.1"
@@ -63,6 +62,8 @@ def add_parser(subparsers: argparse._SubParsersAction) -> argparse.ArgumentParse
 
 def streamlit_command(*, port: int, host: str) -> list[str]:
     """The command line that starts Streamlit on the dashboard."""
+    from analysis.io._decode import MAX_UPLOAD_MB  # the importer's limit, the same number in the browser
+
     require(1 <= port <= 65535, "--port", "a TCP port between 1 and 65535", port)
     require(bool(host.strip()), "--host", "an address such as 127.0.0.1", host)
     return [
