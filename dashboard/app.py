@@ -149,7 +149,7 @@ def lab_name(store: Any) -> str:
     """The lab's name from the store's lab settings ("" when none is set or it cannot be read)."""
     try:
         return str(store.lab_identity().name or "")
-    except Exception:  # noqa: BLE001 - a page without the lab's name still works
+    except Exception:
         log.exception("lab settings could not be read")
         return ""
 

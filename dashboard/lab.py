@@ -26,7 +26,7 @@ def read_identity(store: Any) -> Any | None:
     """The store's :class:`store.lab.LabIdentity`, or ``None`` when it cannot be read (logged)."""
     try:
         return store.lab_identity()
-    except Exception:  # noqa: BLE001 - a page without the lab's name still works
+    except Exception:
         log.exception("lab settings could not be read")
         return None
 

@@ -28,7 +28,7 @@ def format_duration(seconds: float) -> str:
     >>> format_duration(754.0)
     '12:34 min'
     """
-    total = int(round(float(seconds)))
+    total = round(float(seconds))
     if total >= 3600:
         return f"{total // 3600} h {total % 3600 // 60:02d} min"
     return f"{total // 60}:{total % 60:02d} min"

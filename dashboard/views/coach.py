@@ -197,7 +197,7 @@ def render_progress(store: Any, summaries: list[Any], *, charts: bool = True) ->
     present = [m for m in METRICS if table.loc[table["metric"] == m, "value"].notna().any()]
     if present and charts:
         tabs = st.tabs([METRICS[m].label for m in present])
-        for tab, metric in zip(tabs, present):
+        for tab, metric in zip(tabs, present, strict=True):
             with tab:
                 st.plotly_chart(progress_figure(table, metric), width="stretch", key=f"coach_progress_{metric}")
 
