@@ -2,16 +2,17 @@
 
 For points sorted by x, the sums of x, y, x^2, xy and y^2 over any run of consecutive points
 come from five cumulative sums, so the least-squares line and its residual sum of squares for
-every run are O(1) each. A two-line fit over every split point is then O(n) after sorting, and
-a three-line fit over every pair of split points is O(n^2) (used only on averaged data, where
-n is a few hundred at most).
+every run are O(1) each. A two-line fit over every split point is then O(n) after sorting. The
+three-line "turn-up" fit searches its second break (the turn) at every point and its first break
+at every point too when there are at most :data:`TURN_FIRST_BREAKS` candidates (every clinical
+test at 20 s resolution), otherwise on a grid of that many positions refined by alternating exact
+one-dimensional searches: O(n) time and memory in both cases.
 """
 
 from __future__ import annotations
 
 from collections.abc import Callable
-from dataclasses import dataclass
-from functools import lru_cache
+from dataclasses import dataclass, field
 
 import numpy as np
 
@@ -59,6 +60,29 @@ def run_fit(p: _Prefix, a: np.ndarray, b: np.ndarray) -> tuple[np.ndarray, np.nd
     # intercept in original units: y - y0 = slope * (x - x0) + (my - slope * mx)
     intercept = p.y0 + my - slope * (mx + p.x0)
     return slope, intercept, sse
+
+
+def block_fit(p: _Prefix, a: np.ndarray, b: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Slope and SSE of the line through run ``[a[r], b[c])`` for every pair: arrays ``(len(a), len(b))``.
+
+    The same numbers as :func:`run_fit` with broadcast indices, gathered once per row and
+    column (cells with ``b <= a`` come out as inf or NaN and must be masked by the caller).
+    """
+
+    def diff(v: np.ndarray) -> np.ndarray:
+        return v[b][None, :] - v[a][:, None]
+
+    n = diff(p.n)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        mx = diff(p.sx) / n
+        my = diff(p.sy) / n
+        cxx = diff(p.sxx) - n * mx * mx
+        cxy = diff(p.sxy) - n * mx * my
+        cyy = diff(p.syy) - n * my * my
+        ok = cxx > 1e-12 * max(1.0, float(p.sxx[-1]))
+        slope = cxy / np.where(ok, cxx, np.nan)
+        sse = np.where(ok, np.maximum(cyy - slope * cxy, 0.0), np.inf)
+    return slope, sse
 
 
 @dataclass(frozen=True)
@@ -151,13 +175,15 @@ def best_two_lines(
     return table.best(mask)
 
 
-@lru_cache(maxsize=64)
-def _upper_pairs(size: int) -> tuple[np.ndarray, np.ndarray]:
-    """Row and column indices of the upper triangle (diagonal included) of a size x size matrix."""
-    a, b = np.triu_indices(size)
-    a.flags.writeable = False
-    b.flags.writeable = False
-    return a, b
+#: Most first-break positions the turn-up fit tries in full. With at most this many candidates
+#: (n <= TURN_FIRST_BREAKS + 3 * min_segment - 1 points: 46 minutes of exercise at 20 s points)
+#: the search is exhaustive; beyond, the candidates are a grid of this many positions.
+TURN_FIRST_BREAKS = 128
+#: Cells evaluated at once in the turn-up search (bounds its memory whatever the length).
+_CHUNK_CELLS = 1 << 16
+#: When the first break was searched on a grid, the refinement starts from the best turn in
+#: each of this many equal stretches of the series.
+TURN_REFINE_STARTS = 16
 
 
 @dataclass(frozen=True)
@@ -166,6 +192,11 @@ class TurnUp:
 
     ``rise`` is the rise of the last line from the break to the last point; ``t_stat_after``
     is the last line's slope divided by its standard error (from the pooled residual SD).
+    ``sse`` is the total squared error of the three lines and ``turn_index`` the position of
+    the first point of the last line. ``profile`` holds, for every possible start of the last
+    line (positions ``profile_start`` onward), the smallest total squared error of an
+    admissible fit with the turn there (``inf`` where none is admissible): the profile of the
+    fit's error over the turn position, from which its confidence interval is read.
     """
 
     t_break: float
@@ -175,6 +206,18 @@ class TurnUp:
     resid_sd: float
     n_after: int
     t_stat_after: float
+    sse: float = np.nan
+    turn_index: int = -1
+    profile_start: int = 0
+    profile: np.ndarray = field(default_factory=lambda: np.zeros(0), compare=False, repr=False)
+    exhaustive: bool = True
+
+
+def _first_breaks(count: int, limit: int) -> np.ndarray:
+    """Positions (0-based, among ``count`` candidates) tried for the first break."""
+    if count <= limit:
+        return np.arange(count)
+    return np.unique(np.linspace(0, count - 1, limit).round().astype(np.int64))
 
 
 def best_turn_up(
@@ -188,6 +231,17 @@ def best_turn_up(
     steep as the third are considered (a turn from level or falling into a rise, so the first
     of two successive rises is found, not the steeper second). ``t`` sorted.
     Returns ``None`` when no admissible split exists.
+
+    Notes
+    -----
+    Every line comes from prefix sums in O(1). The turn (second break) is tried at every
+    point. The first break is tried at every point when there are at most
+    :data:`TURN_FIRST_BREAKS` candidates, which makes the search exhaustive (the same answer
+    as trying every pair; the first minimum in the order first break, then turn). With more
+    candidates it is tried on a grid of :data:`TURN_FIRST_BREAKS` positions, and the best pair
+    is then refined by alternating exact searches over all first breaks (turn fixed) and all
+    turns (first break fixed) until neither moves. Either way the work and memory grow in
+    proportion to the number of points (evaluated in chunks of at most 65,536 cells).
     """
     n = t.size
     m = min_segment
@@ -195,32 +249,92 @@ def best_turn_up(
         return None
     p = prefix_sums(t, y)
     i = np.arange(m, n - 2 * m + 1)  # end of first line
-    j = np.arange(2 * m, n - m + 1)  # end of second line
+    j = np.arange(2 * m, n - m + 1)  # end of second line (start of the last)
     _, _, e1 = run_fit(p, np.zeros_like(i), i)
     s3, b3, e3 = run_fit(p, j, np.full_like(j, n))
-    # Pairs (a, b) with j[b] - i[a] >= m are exactly b >= a (both ranges have the same length);
-    # only last lines that rise can be admissible, so the middle line is fitted just for those.
-    a_idx, b_idx = _upper_pairs(i.size)
-    keep = s3[b_idx] > 0
-    a_idx, b_idx = a_idx[keep], b_idx[keep]
-    if a_idx.size == 0:
+    rising = s3 > 0
+    if not rising.any():
         return None
-    s2, b2, e2 = run_fit(p, i[a_idx], j[b_idx])
-    total = e1[a_idx] + e2 + e3[b_idx]
-    admissible = np.isfinite(total) & (s2 <= flat_fraction * s3[b_idx])
-    if not admissible.any():
+    rows = _first_breaks(i.size, TURN_FIRST_BREAKS)
+    # best admissible total for each turn position (over the first breaks tried), and the
+    # first minimum over all pairs in row-major (first break, turn) order
+    profile = np.full(j.size, np.inf)
+    best_total, best_a, best_b = np.inf, -1, -1
+    cols = np.flatnonzero(rising)
+    step = max(1, _CHUNK_CELLS // cols.size)
+    e3c, s3c, jc = e3[cols], s3[cols], j[cols]
+    for lo in range(0, rows.size, step):
+        a = rows[lo : lo + step]
+        # a block of (first break, turn) pairs; pairs with j[b] - i[a] >= m are exactly b >= a
+        s2, e2 = block_fit(p, i[a], jc)
+        with np.errstate(invalid="ignore"):
+            ok = (cols[None, :] >= a[:, None]) & (s2 <= flat_fraction * s3c[None, :])
+        total = np.where(ok, e1[a][:, None] + e2 + e3c[None, :], np.inf)
+        k = int(np.argmin(total))  # first minimum in row-major (first break, turn) order
+        r, c = divmod(k, cols.size)
+        if total[r, c] < best_total:
+            best_total, best_a, best_b = float(total[r, c]), int(a[r]), int(cols[c])
+        profile[cols] = np.minimum(profile[cols], total.min(axis=0))
+    if not np.isfinite(best_total):
         return None
-    # first minimum in row-major (a, b) order, as a full-matrix argmin would give
-    best = int(np.argmin(np.where(admissible, total, np.inf)))
-    b = int(b_idx[best])
+    exhaustive = rows.size == i.size
+    if not exhaustive:
+        # refine from the best pair and from the turns best on the grid (several starts, so a
+        # turn whose first break fell between grid positions is not lost)
+        blocks = np.array_split(np.arange(j.size), min(TURN_REFINE_STARTS, j.size))
+        starts = np.unique([int(bl[np.argmin(profile[bl])]) for bl in blocks if bl.size])
+        for b0 in starts[np.isfinite(profile[starts])]:
+            a0 = int(np.argmin(_first_break_totals(p, i, j, e1, s3, e3, int(b0), flat_fraction)))
+            a_r, b_r, tot_r = _refine(p, i, j, e1, s3, e3, a0, int(b0), float(profile[b0]), flat_fraction=flat_fraction)
+            profile[b_r] = min(profile[b_r], tot_r)
+            if tot_r < best_total:
+                best_a, best_b, best_total = a_r, b_r, tot_r
+    a, b = best_a, best_b
     jj = int(j[b])
-    sb, bb = float(s2[best]), float(b2[best])
+    sb_arr, bb_arr, _ = run_fit(p, np.array([i[a]]), np.array([jj]))
+    sb, bbv = float(sb_arr[0]), float(bb_arr[0])
     sa, ba = float(s3[b]), float(b3[b])
-    total_best = float(total[best])
-    t_break = crossing(sb, bb, sa, ba, float(t[jj - 1]), float(t[jj]))
-    resid_sd = float(np.sqrt(total_best / max(n - 6, 1)))
+    t_break = crossing(sb, bbv, sa, ba, float(t[jj - 1]), float(t[jj]))
+    resid_sd = float(np.sqrt(best_total / max(n - 6, 1)))
     rise = sa * (float(t[-1]) - t_break)
     tt = t[jj:]
     sxx = float(np.sum((tt - tt.mean()) ** 2))
     t_stat = sa / (resid_sd / np.sqrt(sxx)) if resid_sd > 0 and sxx > 0 else np.inf
-    return TurnUp(t_break, sb, sa, rise, resid_sd, n - jj, float(t_stat))
+    return TurnUp(
+        t_break, sb, sa, rise, resid_sd, n - jj, float(t_stat),
+        sse=best_total, turn_index=jj, profile_start=int(j[0]), profile=profile, exhaustive=exhaustive,
+    )
+
+
+def _first_break_totals(
+    p: _Prefix, i: np.ndarray, j: np.ndarray, e1: np.ndarray, s3: np.ndarray, e3: np.ndarray, b: int, flat_fraction: float
+) -> np.ndarray:
+    """Total squared error of every first break (positions 0..b) with the turn at ``b``."""
+    aa = np.arange(0, b + 1)
+    s2, _, e2 = run_fit(p, i[aa], np.full_like(aa, j[b]))
+    with np.errstate(invalid="ignore"):
+        return np.where(s2 <= flat_fraction * s3[b], e1[aa] + e2 + e3[b], np.inf)
+
+
+def _refine(
+    p: _Prefix, i: np.ndarray, j: np.ndarray, e1: np.ndarray, s3: np.ndarray, e3: np.ndarray,
+    a: int, b: int, total: float, *, flat_fraction: float,
+) -> tuple[int, int, float]:
+    """Alternate exact searches over the first break (turn fixed) and the turn (first fixed)."""
+    for _ in range(50):
+        moved = False
+        tot = _first_break_totals(p, i, j, e1, s3, e3, b, flat_fraction)
+        k = int(np.argmin(tot))
+        if tot[k] < total:
+            a, total, moved = k, float(tot[k]), True
+        # all turns for first break a: b' >= a, last line rising
+        bb = np.arange(a, j.size)
+        s2, _, e2 = run_fit(p, np.full_like(bb, i[a]), j[bb])
+        with np.errstate(invalid="ignore"):
+            tot = np.where((s3[bb] > 0) & (s2 <= flat_fraction * s3[bb]), e1[a] + e2 + e3[bb], np.inf)
+        k = int(np.argmin(tot))
+        if tot[k] < total:
+            b, total, moved = int(bb[k]), float(tot[k]), True
+        if not moved:
+            break
+    return a, b, total
