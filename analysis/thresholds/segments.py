@@ -264,16 +264,16 @@ def best_turn_up(
     step = max(1, _CHUNK_CELLS // cols.size)
     e3c, s3c, jc = e3[cols], s3[cols], j[cols]
     for lo in range(0, rows.size, step):
-        a = rows[lo : lo + step]
+        ra = rows[lo : lo + step]
         # a block of (first break, turn) pairs; pairs with j[b] - i[a] >= m are exactly b >= a
-        s2, e2 = block_fit(p, i[a], jc)
+        s2, e2 = block_fit(p, i[ra], jc)
         with np.errstate(invalid="ignore"):
-            ok = (cols[None, :] >= a[:, None]) & (s2 <= flat_fraction * s3c[None, :])
-        total = np.where(ok, e1[a][:, None] + e2 + e3c[None, :], np.inf)
+            ok = (cols[None, :] >= ra[:, None]) & (s2 <= flat_fraction * s3c[None, :])
+        total = np.where(ok, e1[ra][:, None] + e2 + e3c[None, :], np.inf)
         k = int(np.argmin(total))  # first minimum in row-major (first break, turn) order
         r, c = divmod(k, cols.size)
         if total[r, c] < best_total:
-            best_total, best_a, best_b = float(total[r, c]), int(a[r]), int(cols[c])
+            best_total, best_a, best_b = float(total[r, c]), int(ra[r]), int(cols[c])
         profile[cols] = np.minimum(profile[cols], total.min(axis=0))
     if not np.isfinite(best_total):
         return None
