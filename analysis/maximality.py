@@ -404,7 +404,7 @@ def assess_maximality(
         reasons.append("Age unknown, so the heart-rate criterion was not applied.")
     elif hr_ok:
         reasons.append(f"Peak HR {hr:.0f} beats/min is {hr_pct:.0f} % of predicted {hr_pred:.0f} (≥ {hr_pct_min:.0f} %).")
-    else:
+    elif hr_pct is not None:
         pct = f"{hr_pct:.0f}" if round(hr_pct) < hr_pct_min else f"{hr_pct:.1f}"  # 89.7 % is not "90 %"
         reasons.append(
             f"Peak HR {hr:.0f} beats/min is only {pct} % of predicted {hr_pred:.0f} (< {hr_pct_min:.0f} %); "

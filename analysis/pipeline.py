@@ -135,9 +135,9 @@ def _excluded_table(breaths: pd.DataFrame, settings: AnalysisSettings) -> pd.Dat
             found = {k: v[keep] if isinstance(v, np.ndarray) else [v[i] for i in keep] for k, v in found.items()}
     n_auto = 0 if found is None else len(found["column"])
     manual_rows = settings.excluded_rows
-    auto_rows = set(found["source_row"].tolist()) if manual_rows and n_auto else set()
+    auto_rows = set(found["source_row"].tolist()) if manual_rows and n_auto and found is not None else set()
     manual = [r for r in manual_rows if r not in auto_rows]
-    if not manual and n_auto:
+    if not manual and n_auto and found is not None:
         rows = found["source_row"]
         order = np.argsort(rows, kind="stable") if np.any(np.diff(rows) < 0) else np.arange(len(rows))
         column, reason = found["column"], found["reason"]
@@ -337,7 +337,7 @@ def _reference(meta: dict[str, Any], mode: str | None, peak: PointValues, ve_vco
     }
     age, mass, height, sex = meta.get("age_y"), meta.get("body_mass_kg"), meta.get("height_cm"), meta.get("sex")
     missing = [n for n, v in (("age", age), ("sex", sex), ("body mass", mass), ("height", height), ("mode", mode)) if v is None]
-    if not missing:
+    if not missing and age is not None and mass is not None and height is not None and mode is not None:
         try:
             pred = friend_vo2max_ml_kg_min(age_y=age, sex=sex_code(sex), body_mass_kg=mass, height_cm=height, mode=mode)
             predicted["vo2max_friend_ml_kg_min"] = pred
@@ -437,8 +437,8 @@ def _oxygen(
         opts["conditions"] = {k: StateConditions(**v) for k, v in conditions.items()}
     if opts.get("arterial_conditions") is not None:
         opts["arterial_conditions"] = StateConditions(**opts["arterial_conditions"])
-    column_spo2 = {} if opts.get("spo2_pct") is not None else None  # a set SpO2 overrides the column
-    states = []
+    column_spo2: dict[str, float] | None = {} if opts.get("spo2_pct") is not None else None  # a set SpO2 overrides the column
+    states: list[tuple[str, float, float | None, float | None]] = []
     at_rest = phases_avg == "rest"
     vo2_rest = _mean_where(avg, C.VO2_ML_MIN, at_rest)
     if vo2_rest is not None:

@@ -246,13 +246,16 @@ def sign_in_pages(store: Any) -> list[Any]:
     return pages
 
 
+def _invalid_link() -> None:
+    st.error("This link is not valid. Ask the lab that sent it for a new one.")
+
+
 def run_coach(token: str) -> None:
     """Coach-link mode: the read-only coach view and nothing else."""
     state.set_share_token(token)
     module = load_page_module(COACH_PAGE[0])
     if module is None:
-        page = st.Page(lambda: st.error("This link is not valid. Ask the lab that sent it for a new one."),
-                       title="Tidemark", url_path="coach")
+        page = st.Page(_invalid_link, title="Tidemark", url_path="coach")
     else:
         page = st.Page(_guarded(module, COACH_PAGE[1]), title=COACH_PAGE[1], url_path="coach")
     st.navigation([page], position="hidden").run()

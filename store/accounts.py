@@ -7,6 +7,7 @@ from datetime import timedelta
 from typing import ClassVar
 
 from sqlalchemy import func, select
+from sqlalchemy.orm import Session as DbSession
 
 from analysis.errors import require
 from store.core import Actor, StoreCore, aware, user_record
@@ -42,7 +43,7 @@ class AccountsMixin(StoreCore):
     password_params: ScryptParams = DEFAULT_PARAMS
     _dummy_hashes: ClassVar[dict[ScryptParams, str]] = {}
 
-    def _user_row(self, db, username: str) -> UserRow:  # noqa: ANN001
+    def _user_row(self, db: DbSession, username: str) -> UserRow:
         row = db.execute(select(UserRow).where(UserRow.username == normalise_username(username))).scalar_one_or_none()
         if row is None:
             raise NotFound(f"No account named '{username}'.")
@@ -97,7 +98,7 @@ class AccountsMixin(StoreCore):
                 raise NotFound(f"No account with number {user_id}.")
             return user_record(row)
 
-    def _ensure_other_admin(self, db, row: UserRow) -> None:  # noqa: ANN001
+    def _ensure_other_admin(self, db: DbSession, row: UserRow) -> None:
         if row.role != "admin" or not row.is_active:
             return
         others = db.execute(
@@ -184,7 +185,7 @@ class AccountsMixin(StoreCore):
         recent = [aware(t) for t in times if last_ok is None or aware(t) > last_ok]
         if len(recent) < MAX_FAILED_LOGINS:
             return 0.0
-        until = recent[0] + LOCKOUT  # type: ignore[operator]
+        until = recent[0] + LOCKOUT
         return max(0.0, (until - now).total_seconds())
 
     def authenticate(self, username: str, password: str) -> User:
@@ -218,12 +219,14 @@ class AccountsMixin(StoreCore):
         else:
             outcome = "ok"
         self._log_attempt(name, outcome)
-        if outcome != "ok":
+        if outcome != "ok" or row is None or stored is None:  # "ok" has both; the checks tell the type checker
             raise LoginRefused("The user name or password is not correct, or the account is disabled.")
-        if needs_rehash(stored, params=self.password_params):  # type: ignore[arg-type]
+        if needs_rehash(stored, params=self.password_params):
             with self._tx() as db:
-                db.get(UserRow, row.id).password_hash = hash_password(password, params=self.password_params)  # type: ignore[union-attr]
-        return user_record(row)  # type: ignore[arg-type]
+                fresh = db.get(UserRow, row.id)
+                if fresh is not None:
+                    fresh.password_hash = hash_password(password, params=self.password_params)
+        return user_record(row)
 
     def unlock_login(self, username: str, *, actor: Actor) -> None:
         """Lift a sign-in lock at once (admin or command line); earlier failures stop counting."""

@@ -53,7 +53,7 @@ def flags_to_records(session: Session) -> list[dict[str, Any]]:
     """The session's import flags as JSON-ready records."""
     records = []
     for row in session.flags.to_dict(orient="records"):
-        records.append({k: (v.item() if hasattr(v, "item") else v) for k, v in row.items()})
+        records.append({str(k): (v.item() if hasattr(v, "item") else v) for k, v in row.items()})
     return records
 
 

@@ -7,7 +7,7 @@ import json
 import secrets
 from typing import Any
 
-from sqlalchemy import func, select
+from sqlalchemy import Select, func, select
 from sqlalchemy.exc import IntegrityError
 from sqlalchemy.orm import Session as DbSession
 
@@ -321,7 +321,7 @@ class ArchiveMixin(StoreCore):
                     setattr(person, field, value)
 
     # ----------------------------------------------------------------- tests
-    def _summary_query(self):  # noqa: ANN202 - SQLAlchemy Select
+    def _summary_query(self) -> Select[Any]:
         signed = (
             select(SignOff.test_id, func.max(SignOff.version).label("signed_version"))
             .group_by(SignOff.test_id)
@@ -345,7 +345,7 @@ class ArchiveMixin(StoreCore):
             version=test.current_version, vo2peak_ml_min=version.vo2peak_ml_min,
             vt1_vo2_ml_min=version.vt1_vo2_ml_min, ve_vco2_slope=version.ve_vco2_slope,
             signed_version=signed, results_error=version.results_error,
-            imported_at=aware(test.imported_at),  # type: ignore[arg-type]
+            imported_at=aware(test.imported_at),
         )
 
     def list_tests(self, person_id: int | None = None, *, test_ids: tuple[int, ...] | None = None) -> list[TestSummary]:
@@ -377,7 +377,7 @@ class ArchiveMixin(StoreCore):
             import_options=json.loads(test.import_options_json),
             flags=json.loads(test.flags_json),
             sign_offs=[
-                SignOffRecord(s.test_id, s.version, names.get(s.signed_by, "?"), aware(s.signed_at), s.note)  # type: ignore[arg-type]
+                SignOffRecord(s.test_id, s.version, names.get(s.signed_by, "?"), aware(s.signed_at), s.note)
                 for s in sign_rows
             ],
             imported_by=names.get(test.imported_by) if test.imported_by else None,

@@ -13,7 +13,7 @@ import time
 from pathlib import Path
 
 from sqlalchemy import create_engine, event
-from sqlalchemy.engine import URL, Engine, make_url
+from sqlalchemy.engine import URL, Connection, Engine, make_url
 
 from store.errors import StoreError
 
@@ -86,7 +86,7 @@ def make_engine(url: str) -> Engine:
     return create_engine(parsed, pool_pre_ping=True)
 
 
-def _sqlite_on_connect(dbapi_connection, _record) -> None:  # noqa: ANN001 - DB-API objects
+def _sqlite_on_connect(dbapi_connection: sqlite3.Connection, _record: object) -> None:
     # Let SQLAlchemy issue BEGIN itself so that transactions behave the same on both back ends.
     dbapi_connection.isolation_level = None
     cursor = dbapi_connection.cursor()
@@ -97,7 +97,7 @@ def _sqlite_on_connect(dbapi_connection, _record) -> None:  # noqa: ANN001 - DB-
     cursor.close()
 
 
-def _ensure_wal(cursor) -> None:  # noqa: ANN001 - DB-API cursor
+def _ensure_wal(cursor: sqlite3.Cursor) -> None:
     """Switch the file to WAL once (the mode is kept in the file).
 
     Changing the journal mode needs a moment without other connections and does not wait on
@@ -120,7 +120,7 @@ def _ensure_wal(cursor) -> None:  # noqa: ANN001 - DB-API cursor
 READ_ONLY_OPTION = "tidemark_read_only"
 
 
-def _sqlite_on_begin(connection) -> None:  # noqa: ANN001 - SQLAlchemy Connection
+def _sqlite_on_begin(connection: Connection) -> None:
     # A writing transaction takes the write lock at once (BEGIN IMMEDIATE), so two writers queue
     # instead of one failing half-way with "database is locked" after reading stale data.
     # Read-only transactions use a plain BEGIN: with WAL they never wait for a writer.

@@ -7,7 +7,7 @@ import math
 from collections.abc import Callable, Iterator
 from contextlib import contextmanager
 from datetime import UTC, datetime
-from typing import Any
+from typing import Any, Self, overload
 
 from sqlalchemy import select
 from sqlalchemy.engine import Engine
@@ -28,6 +28,10 @@ def utc_now() -> datetime:
     return datetime.now(UTC)
 
 
+@overload
+def aware(value: datetime) -> datetime: ...
+@overload
+def aware(value: datetime | None) -> datetime | None: ...
 def aware(value: datetime | None) -> datetime | None:
     """SQLite hands back naive datetimes; everything stored is UTC."""
     if value is None:
@@ -89,7 +93,7 @@ class StoreCore:
         """Release database connections."""
         self.engine.dispose()
 
-    def __enter__(self):  # noqa: ANN204
+    def __enter__(self) -> Self:
         return self
 
     def __exit__(self, *exc: object) -> None:

@@ -3,9 +3,10 @@
 from __future__ import annotations
 
 import json
-from typing import Any
+from typing import Any, cast
 
-from sqlalchemy import select, update
+from sqlalchemy import CursorResult, select, update
+from sqlalchemy.orm import Session as DbSession
 
 from analysis.errors import require
 from store.analysis_bridge import run_analysis
@@ -34,7 +35,7 @@ def changed_fields(old: Any, new: Any, prefix: str = "") -> list[tuple[str, Any,
 
 
 class ReviewMixin(ArchiveMixin):
-    def _version_row(self, db, test_id: int, version: int | None = None) -> AnalysisVersion:  # noqa: ANN001
+    def _version_row(self, db: DbSession, test_id: int, version: int | None = None) -> AnalysisVersion:
         test = self._live_test(db, test_id)
         wanted = test.current_version if version is None else version
         row = db.execute(
@@ -136,12 +137,13 @@ class ReviewMixin(ArchiveMixin):
         new_version = expected_version + 1
         with self._tx() as db:
             actor_row = self._check_actor(db, actor, "reviewer", "change analysis settings")
-            bumped = db.execute(
+            # an UPDATE's result is a cursor result (it has a row count); Session.execute is typed for any statement
+            bumped = cast(CursorResult[Any], db.execute(
                 update(TestRow)
                 .where(TestRow.id == test_id, TestRow.current_version == expected_version, TestRow.deleted_at.is_(None))
                 .values(current_version=new_version)
                 .execution_options(synchronize_session=False)
-            )
+            ))
             if bumped.rowcount != 1:
                 raise self._conflict(db, test_id, expected_version)
             now = self.now()
@@ -163,7 +165,7 @@ class ReviewMixin(ArchiveMixin):
                 )
         return new_version
 
-    def _conflict(self, db, test_id: int, expected_version: int) -> Exception:  # noqa: ANN001
+    def _conflict(self, db: DbSession, test_id: int, expected_version: int) -> Exception:
         test = db.get(TestRow, test_id)
         if test is None or test.deleted_at is not None:
             return NotFound(f"No test with number {test_id} (it may have been deleted).")
@@ -217,7 +219,7 @@ class ReviewMixin(ArchiveMixin):
             rows = db.execute(query.order_by(AuditEvent.id.desc()).limit(limit)).scalars().all()
         return [
             AuditEntry(
-                id=r.id, at=aware(r.at), actor=r.actor_name, action=r.action, test_id=r.test_id,  # type: ignore[arg-type]
+                id=r.id, at=aware(r.at), actor=r.actor_name, action=r.action, test_id=r.test_id,
                 person_id=r.person_id, field=r.field,
                 old_value=None if r.old_value is None else json.loads(r.old_value),
                 new_value=None if r.new_value is None else json.loads(r.new_value), reason=r.reason,

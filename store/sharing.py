@@ -107,7 +107,7 @@ class SharingMixin(ReviewMixin):
             link = db.execute(select(ShareLink).where(ShareLink.token_sha256 == digest)).scalar_one_or_none()
             stored = link.token_sha256 if link is not None else "0" * 64
             matches = hmac.compare_digest(stored, digest) and well_formed and link is not None
-            if not matches or link.revoked_at is not None or aware(link.expires_at) <= now:  # type: ignore[union-attr,operator]
+            if link is None or not matches or link.revoked_at is not None or aware(link.expires_at) <= now:
                 return None
             test_ids = tuple(db.execute(
                 select(ShareLinkTest.test_id)
@@ -122,7 +122,7 @@ class SharingMixin(ReviewMixin):
                 db.add(ShareView(share_id=link.id, viewed_at=now))
             return ShareScope(
                 share_id=link.id, test_ids=test_ids, sections=tuple(json.loads(link.sections_json)),
-                show_name=link.show_name, expires_at=aware(link.expires_at),  # type: ignore[arg-type]
+                show_name=link.show_name, expires_at=aware(link.expires_at),
             )
 
     def log_share_view(self, share_id: int) -> None:
@@ -171,15 +171,15 @@ class SharingMixin(ReviewMixin):
             names = self._usernames(db, {link.created_by for link in links})
         out = []
         for link in links:
-            active = link.revoked_at is None and aware(link.expires_at) > now  # type: ignore[operator]
+            active = link.revoked_at is None and aware(link.expires_at) > now
             if not include_inactive and not active:
                 continue
             n, last = views.get(link.id, (0, None))
             out.append(ShareInfo(
                 id=link.id, test_id=link.test_id, person_id=link.person_id, test_ids=tuple(sorted(covered.get(link.id, []))),
                 sections=tuple(json.loads(link.sections_json)), show_name=link.show_name, note=link.note,
-                created_by=names.get(link.created_by, "?"), created_at=aware(link.created_at),  # type: ignore[arg-type]
-                expires_at=aware(link.expires_at), revoked_at=aware(link.revoked_at), n_views=int(n),  # type: ignore[arg-type]
+                created_by=names.get(link.created_by, "?"), created_at=aware(link.created_at),
+                expires_at=aware(link.expires_at), revoked_at=aware(link.revoked_at), n_views=int(n),
                 last_viewed_at=aware(last), active=active,
             ))
         return out

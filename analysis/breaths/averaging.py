@@ -8,7 +8,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
-from typing import Any, Literal, get_args
+from typing import Any, Literal, cast, get_args
 
 import numpy as np
 import pandas as pd
@@ -64,6 +64,11 @@ class AveragingSpec:
             ok = int(self.size) % 2 == 1
         kind = "an odd whole number" if self.method == "middle_of_n" else ("a whole number" if whole else "a number")
         require(ok, "size", f"{kind} of {unit} from {_fmt(lo)} to {_fmt(hi)} for method '{self.method}'", self.size)
+
+    @classmethod
+    def from_text(cls, method: str, size: float) -> AveragingSpec:
+        """The spec for a method named in text (a form, a command line); the name is checked on creation."""
+        return cls(cast(AveragingMethod, method), size)
 
     @property
     def label(self) -> str:

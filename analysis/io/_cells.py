@@ -8,6 +8,7 @@ from __future__ import annotations
 import datetime as dt
 import re
 from collections.abc import Sequence
+from typing import cast
 
 import numpy as np
 import pandas as pd
@@ -109,13 +110,14 @@ def _parse_plain_column(values: Sequence[object], decimal: str) -> tuple[np.ndar
     """Fast path: every cell is text that is a plain number or empty (the usual case)."""
     if not values or set(map(type, values)) != {str}:
         return None
-    joined = "\n".join(values)  # type: ignore[arg-type]
+    texts = cast("Sequence[str]", values)  # every cell is a str (checked just above)
+    joined = "\n".join(texts)
     # Cells made only of digits, signs, exponents and this decimal mark: float() reads exactly
     # the ones the number pattern accepts and fails on the rest (then the pattern decides).
     plain = set(joined) <= _PLAIN_CHARS[decimal]
     if not plain and not _FAST_COLUMN[decimal].fullmatch(joined):
         return None
-    cells = [v or "nan" for v in values]  # type: ignore[misc]
+    cells = [v or "nan" for v in texts]
     if decimal == ",":
         cells = [v.replace(",", ".") for v in cells]
     try:
@@ -274,8 +276,8 @@ def text_values(values: Sequence[object]) -> list[str | None]:
     """Cells of a text column (phase, marker): trimmed text, ``None`` when missing."""
     if all(type(v) is str for v in values):  # the usual case: CSV text, read without is_missing
         out_text: list[str | None] = []
-        for v in values:
-            t = v.strip()  # type: ignore[union-attr]
+        for cell in cast("Sequence[str]", values):
+            t = cell.strip()
             out_text.append(None if t.replace("\u2212", "-").lower() in MISSING_TOKENS else t)
         return out_text
     out: list[str | None] = []

@@ -13,7 +13,9 @@ from analysis.errors import ImportRejected, Problem
 from analysis.io._cells import MISSING_TOKENS, VALUE_RE, is_missing, is_value
 from analysis.io._units import unit_code
 
-Row = tuple[int, list[object]]
+Row = tuple[int, Sequence[object]]
+#: A row split from text: every cell is a string.
+TextRow = tuple[int, list[str]]
 
 #: Candidate delimiters in order of preference when two read a file equally well
 #: (``" "`` means runs of spaces). Semicolon before comma: a comma may be the decimal mark.
@@ -47,10 +49,10 @@ class _Split:
         self.delimiter = delimiter
         self.file_name = file_name
 
-    def rows(self, lines: Sequence[str], first_line: int = 1) -> list[Row]:
+    def rows(self, lines: Sequence[str], first_line: int = 1) -> list[TextRow]:
         if self.delimiter == " ":
             return [(first_line + i, line.split()) for i, line in enumerate(lines)]
-        out: list[Row] = []
+        out: list[TextRow] = []
         reader = csv.reader(lines, delimiter=self.delimiter, skipinitialspace=False, strict=False)
         previous = 0
         try:
@@ -69,7 +71,7 @@ class _Split:
         return out
 
 
-def split_rows(lines: Sequence[str], *, delimiter: str, file_name: str, first_line: int = 1) -> list[Row]:
+def split_rows(lines: Sequence[str], *, delimiter: str, file_name: str, first_line: int = 1) -> list[TextRow]:
     """Split every line into cells with ``delimiter`` (csv quoting rules); ``lines[0]`` is ``first_line``."""
     return _Split(delimiter, file_name).rows(lines, first_line)
 
@@ -77,7 +79,10 @@ def split_rows(lines: Sequence[str], *, delimiter: str, file_name: str, first_li
 def _width(cells: Sequence[object]) -> int:
     """Number of cells without trailing empty ones."""
     n = len(cells)
-    while n and (cells[n - 1] is None or (isinstance(cells[n - 1], str) and not cells[n - 1].strip())):
+    while n:
+        last = cells[n - 1]
+        if last is not None and not (isinstance(last, str) and not last.strip()):
+            break
         n -= 1
     return n
 

@@ -172,8 +172,8 @@ def checked_meta(
     return meta
 
 
-def _fmt(value: float) -> str:
-    return f"{value:.6g}"
+def _fmt(value: float | None) -> str:
+    return "no limit" if value is None else f"{value:.6g}"
 
 
 def normalise_phase(values: pd.Series) -> pd.Series:
@@ -271,9 +271,9 @@ def check_and_flag(
         flags += [(int(rows[i + 1]), C.T_S, REASON_GAP) for i in np.flatnonzero(dt > GAP_FLAG_S)]
 
     if C.PHASE in frame.columns:
-        for i, v in enumerate(frame[C.PHASE].tolist()):
+        for j, v in enumerate(frame[C.PHASE].tolist()):
             if isinstance(v, str) and v not in C.PHASES:
-                flags.append((int(rows[i]), C.PHASE, REASON_PHASE))
+                flags.append((int(rows[j]), C.PHASE, REASON_PHASE))
 
     table = pd.DataFrame(flags, columns=FLAG_COLUMNS)
     table["source_row"] = table["source_row"].astype("int64")

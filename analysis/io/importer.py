@@ -7,6 +7,7 @@ from __future__ import annotations
 
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
+from functools import partial
 from pathlib import Path
 from typing import Any
 
@@ -72,6 +73,11 @@ class ImportOutcome:
     notes: list[str] = field(default_factory=list)
     sheet: str | None = None
     encoding: str = "utf-8"
+
+
+def _cell_on_line(cells_by_line: Mapping[int, Sequence[object]], line_numbers: np.ndarray, k: int, i: int) -> object:
+    """The original cell in column ``k`` of body row ``i`` (quoted in error messages)."""
+    return cells_by_line[int(line_numbers[i])][k]
 
 
 def _ranges(lines: Sequence[int]) -> str:
@@ -432,7 +438,7 @@ def import_bytes(
                 bad=bad[name],
                 missing=missing[name],
                 line_numbers=line_numbers,
-                cell_at=lambda i, k=k: cells_by_line[int(line_numbers[i])][k],
+                cell_at=partial(_cell_on_line, cells_by_line, line_numbers, k),
             )
     problems.raise_if_any()
 

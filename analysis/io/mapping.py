@@ -295,11 +295,13 @@ def guess_mapping(headers: Sequence[str], *, unit_row: Sequence[str | None] | No
             name, unit = _normalise_target(raw)
         else:
             key, unit = split_header(header)
-            name = _LOOKUP.get(key)
-            if name is None:
+            known = _LOOKUP.get(key)
+            if known is None:
                 continue
-        if unit is None and unit_row is not None and i < len(unit_row) and isinstance(unit_row[i], str):
-            unit = unit_code(unit_row[i])
+            name = known
+        unit_cell = unit_row[i] if unit_row is not None and i < len(unit_row) else None
+        if unit is None and isinstance(unit_cell, str):
+            unit = unit_code(unit_cell)
         if name in taken:
             continue
         if name in (C.VO2_ML_MIN, C.VCO2_ML_MIN) and (unit == "per_kg" or is_per_kg(header)):

@@ -8,6 +8,8 @@ from __future__ import annotations
 
 import io
 import math
+from collections.abc import Sequence
+from functools import partial
 from pathlib import Path
 from typing import Any
 
@@ -80,6 +82,11 @@ def coerce_meta(raw: dict[str, str]) -> dict[str, Any]:
                 pass
         meta[key] = value
     return meta
+
+
+def _body_cell(body: Sequence[tuple[int, Sequence[object]]], k: int, j: int) -> object:
+    """The original cell of body row ``j`` in column ``k`` (quoted in error messages)."""
+    return body[j][1][k]
 
 
 def _session_bytes(source: str | Path | bytes, file_name: str | None, max_bytes: int) -> tuple[bytes, str]:
@@ -197,7 +204,7 @@ def read_session(source: str | Path | bytes, *, file_name: str | None = None, ma
             )
     problems.raise_if_any()
     line_numbers = np.array([n for n, _ in body], dtype=np.int64)
-    data: dict[str, object] = {"source_row": line_numbers}
+    by_name: dict[str, object] = {"source_row": line_numbers}
     shown = {c: headers[k] for c, k in columns.items()}
     by_column = list(zip(*(row for _, row in body), strict=True)) if body else [()] * len(headers)
     for canonical, k in columns.items():
@@ -211,12 +218,12 @@ def read_session(source: str | Path | bytes, *, file_name: str | None = None, ma
                 bad=bad,
                 missing=missing,
                 line_numbers=line_numbers,
-                cell_at=lambda j, k=k: body[j][1][k],
+                cell_at=partial(_body_cell, body, k),
             )
-            data[canonical] = values * factors[canonical]
+            by_name[canonical] = values * factors[canonical]
         else:
-            data[canonical] = pd.Series(text_values(cells), dtype=object)  # None stays None
+            by_name[canonical] = pd.Series(text_values(cells), dtype=object)  # None stays None
     problems.raise_if_any()
-    frame = pd.DataFrame(data)  # built once: adding columns one by one costs more than the parse
+    frame = pd.DataFrame(by_name)  # built once: adding columns one by one costs more than the parse
     meta = checked_meta(meta_entries, problems)
     return finish_session(frame, meta=meta, file_name=name, problems=problems, headers=shown)

@@ -10,6 +10,7 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from analysis.errors import InvalidParameter
 
@@ -86,7 +87,7 @@ def fraction_open(name: str, value: object) -> np.ndarray:
     return values
 
 
-def as_output(values: np.ndarray, like: object) -> float | np.ndarray:
+def as_output(values: np.ndarray, like: ArrayLike) -> float | np.ndarray:
     """A float when the caller passed a scalar, an array otherwise."""
     if np.ndim(like) == 0:
         return float(values)

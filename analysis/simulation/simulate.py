@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 
 import numpy as np
@@ -174,6 +175,8 @@ def _timeline(profile: SubjectProfile, protocol: ProtocolSpec, extras: ModelExtr
     end_loads = _loads(protocol, np.array([t_end]))
     for name, value in end_loads.items():
         limit = C.COLUMNS[name].flag_above
+        if limit is None:  # no upper limit for this load
+            continue
         require(
             float(value[0]) <= limit,
             "protocol",
@@ -328,17 +331,18 @@ def _inject_artifacts(frame: pd.DataFrame, *, count: int, rng: np.random.Generat
     vco2 = frame[C.VCO2_ML_MIN].to_numpy(copy=True)
     rf = frame[C.RF_BPM].to_numpy(copy=True)
     vt = ve / rf
-    lim = C.COLUMNS
+    # the upper flag limit of each column (none: no limit)
+    top = {n: math.inf if c.flag_above is None else c.flag_above for n, c in C.COLUMNS.items()}
     for i in chosen:
         cough = rng.random() < 0.6
         f_ve, f_gas = rng.uniform(2.0, 3.0), rng.uniform(1.8, 2.6)
         f_swallow, f_swallow_gas, f_co2 = rng.uniform(0.3, 0.5), rng.uniform(0.9, 1.1), rng.uniform(0.95, 1.05)
         fits = (
-            ve[i] * f_ve < 0.95 * lim[C.VE_L_MIN].flag_above
-            and vo2[i] * f_gas < 0.95 * lim[C.VO2_ML_MIN].flag_above
-            and vco2[i] * f_gas * f_co2 < 0.95 * lim[C.VCO2_ML_MIN].flag_above
-            and rf[i] * np.sqrt(f_ve) < 0.95 * lim[C.RF_BPM].flag_above
-            and vt[i] * np.sqrt(f_ve) < 0.95 * lim[C.VT_L].flag_above
+            ve[i] * f_ve < 0.95 * top[C.VE_L_MIN]
+            and vo2[i] * f_gas < 0.95 * top[C.VO2_ML_MIN]
+            and vco2[i] * f_gas * f_co2 < 0.95 * top[C.VCO2_ML_MIN]
+            and rf[i] * np.sqrt(f_ve) < 0.95 * top[C.RF_BPM]
+            and vt[i] * np.sqrt(f_ve) < 0.95 * top[C.VT_L]
         )
         if not (cough and fits):  # swallow or interrupted breath: a small one
             f_ve = f_swallow
@@ -597,7 +601,7 @@ def simulate_session(
             frame, events, rng=np.random.default_rng([int(seed), 4]), protect_t_s=artifact_t
         )
         n = len(frame)
-    frame.insert(frame.columns.get_loc(C.RF_BPM) + 1, C.VT_L, frame[C.VE_L_MIN] / frame[C.RF_BPM])
+    frame.insert(list(frame.columns).index(C.RF_BPM) + 1, C.VT_L, frame[C.VE_L_MIN] / frame[C.RF_BPM])
 
     meta: dict[str, object] = {
         "subject_id": profile.subject_id,

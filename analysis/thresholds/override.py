@@ -101,7 +101,7 @@ def override_threshold(
     if other is not None and ((kind == "vt1" and vo2_row >= other.vo2_ml_min) or (kind == "vt2" and vo2_row <= other.vo2_ml_min)):
         note += f" — check: this is {'at or above VT2' if kind == 'vt1' else 'at or below VT1'}"
     pick = ThresholdPick(kind, t_row, vo2_row, "manual", "manual", "high", note, i)
-    return replace(report, **{kind: pick}, agreement=dict(report.agreement), reasons=list(report.reasons))
+    return _with_pick(report, kind, pick)
 
 
 def clear_override(report: ThresholdReport, *, kind: Literal["vt1", "vt2"]) -> ThresholdReport:
@@ -109,7 +109,15 @@ def clear_override(report: ThresholdReport, *, kind: Literal["vt1", "vt2"]) -> T
     require(isinstance(report, ThresholdReport), "report", "a ThresholdReport", type(report).__name__)
     require(kind in _KINDS, "kind", "'vt1' or 'vt2'", kind)
     auto = report.vt1_auto if kind == "vt1" else report.vt2_auto
-    return replace(report, **{kind: auto}, agreement=dict(report.agreement), reasons=list(report.reasons))
+    return _with_pick(report, kind, auto)
+
+
+def _with_pick(report: ThresholdReport, kind: Literal["vt1", "vt2"], pick: ThresholdPick | None) -> ThresholdReport:
+    """A copy of ``report`` with ``pick`` as its VT1 or VT2 (containers copied, not shared)."""
+    agreement, reasons = dict(report.agreement), list(report.reasons)
+    if kind == "vt1":
+        return replace(report, vt1=pick, agreement=agreement, reasons=reasons)
+    return replace(report, vt2=pick, agreement=agreement, reasons=reasons)
 
 
 def pick_from_chart_point(

@@ -177,7 +177,7 @@ def window_around(span: TimeSpan, bounds: TimeSpan, *, step_s: float = 10.0) -> 
     return clamp_window((lo, hi), bounds)
 
 
-def y_range_in_window(traces: Sequence[Mapping[str, Any]], window: TimeSpan | None, *, axis: str,
+def y_range_in_window(traces: Sequence[Mapping[str, Any]], window: Sequence[float] | None, *, axis: str,
                       pad: float = 0.06) -> list[float] | None:
     """A y range fitting the points of the traces on ``axis`` (``"y"``, ``"y2"``, ...) inside the
     time window, with ``pad`` of the span as margin; ``None`` (autorange) without a window or data.

@@ -78,10 +78,11 @@ def dissociation_figure(
         For ``model="hill"``.
     """
     fig = go.Figure()
-    extra = {"p50_mmhg": p50_mmhg, "hill_n": hill_n} if model == "hill" else {}
+    hill = model == "hill"
     for state, conds in curves.items():
         style = STATE_STYLE.get(state, {"color": palette.GREY, "dash": "solid", "symbol": "circle"})
-        s = saturation(PO2_GRID_MMHG, model=model, **curve_conditions(conds, model=model), **extra)
+        s = saturation(PO2_GRID_MMHG, model=model, **curve_conditions(conds, model=model),
+                       p50_mmhg=p50_mmhg if hill else None, hill_n=hill_n if hill else None)
         cond_text = condition_text(curve_conditions(conds, model=model))
         fig.add_trace(
             go.Scatter(
@@ -94,7 +95,8 @@ def dissociation_figure(
             )
         )
     if points is not None and len(points):
-        for (state, site), part in points.groupby(["state", "site"], sort=False):
+        for key, part in points.groupby(["state", "site"], sort=False):
+            state, site = (str(k) for k in key)
             style = STATE_STYLE.get(state, {"color": palette.GREY, "symbol": "circle"})
             venous = site == "venous"
             fig.add_trace(

@@ -228,7 +228,8 @@ def _import_panel(store: Any, upload: Any, index: int) -> None:
     name: str = upload.name
     key = "imp_" + hashlib.sha256(raw).hexdigest()[:12] + f"_{index}"
     is_xlsx = name.lower().endswith(".xlsx")
-    c1, c2, c_time, c3 = st.columns(4) if is_xlsx else (None, *st.columns(3))
+    cols = st.columns(4 if is_xlsx else 3)  # the sheet choice first, for workbooks only
+    c2, c_time, c3 = cols[-3:]
     sheet = None
     if is_xlsx:
         try:
@@ -236,10 +237,10 @@ def _import_panel(store: Any, upload: Any, index: int) -> None:
         except ImportRejected as exc:
             show_error(exc, context=name)
             return
-        sheet = c1.selectbox("Sheet", sheets, key=f"{key}_sheet")
-    gas_unit = c2.selectbox("VO2/VCO2 unit", list(GAS_UNITS), format_func=GAS_UNITS.get, key=f"{key}_gas")
+        sheet = cols[0].selectbox("Sheet", sheets, key=f"{key}_sheet")
+    gas_unit = c2.selectbox("VO2/VCO2 unit", list(GAS_UNITS), format_func=GAS_UNITS.__getitem__, key=f"{key}_gas")
     time_format = c_time.selectbox(
-        "Time column written as", list(TIME_FORMAT_LABELS), format_func=TIME_FORMAT_LABELS.get, key=f"{key}_time"
+        "Time column written as", list(TIME_FORMAT_LABELS), format_func=TIME_FORMAT_LABELS.__getitem__, key=f"{key}_time"
     )
     profiles = data.list_profiles()
     profile = c3.selectbox("Column mapping", [GUESS, *profiles], key=f"{key}_profile")

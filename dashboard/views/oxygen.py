@@ -314,7 +314,7 @@ def render() -> None:
 
     start = _start_conditions(settings)
     start_oxygen = oxygen_settings(
-        model=stored_ox.get("model") if stored_ox.get("model") in COMPARISON_MODELS else COMPARISON_MODELS[0],
+        model=next((m for m in COMPARISON_MODELS if m == stored_ox.get("model")), COMPARISON_MODELS[0]),
         pao2_mmhg=float(stored_ox.get("pao2_mmhg", DEFAULT_PAO2_MMHG)),
         spo2_pct=stored_ox.get("spo2_pct"),
         conditions={k: asdict(v) for k, v in start.items()},

@@ -13,7 +13,7 @@ import dataclasses
 import functools
 import logging
 from collections.abc import Mapping, Sequence
-from typing import Any
+from typing import Any, Literal, cast
 
 import pandas as pd
 import streamlit as st
@@ -78,6 +78,9 @@ def window_key(test_id: int) -> str:
     return f"time_window_{test_id}"
 
 
+#: The two charts a threshold can be picked on.
+ChartName = Literal["vslope", "time"]
+
 # --- pure helpers: user input -> settings --------------------------------------------------
 
 
@@ -87,19 +90,23 @@ def with_override(
     """Settings dict with VT1 or VT2 placed by the reviewer (by time or by VO2)."""
     s = AnalysisSettings.from_dict(dict(settings))
     override = ThresholdOverride(t_s=t_s, vo2_ml_min=vo2_ml_min, reason=reason)
-    return dataclasses.replace(s, **{f"{_kind(kind)}_override": override}).to_dict()
+    if _kind(kind) == "vt1":
+        return dataclasses.replace(s, vt1_override=override).to_dict()
+    return dataclasses.replace(s, vt2_override=override).to_dict()
 
 
 def without_override(settings: Mapping[str, Any], *, kind: str) -> dict[str, Any]:
     """Settings dict with the reviewer's VT1 or VT2 removed (back to the automatic pick)."""
     s = AnalysisSettings.from_dict(dict(settings))
-    return dataclasses.replace(s, **{f"{_kind(kind)}_override": None}).to_dict()
+    if _kind(kind) == "vt1":
+        return dataclasses.replace(s, vt1_override=None).to_dict()
+    return dataclasses.replace(s, vt2_override=None).to_dict()
 
 
 def with_averaging(settings: Mapping[str, Any], *, method: str, size: float) -> dict[str, Any]:
     """Settings dict with another averaging (validated by :class:`AveragingSpec`)."""
     s = AnalysisSettings.from_dict(dict(settings))
-    return dataclasses.replace(s, averaging=AveragingSpec(method, size)).to_dict()  # type: ignore[arg-type]
+    return dataclasses.replace(s, averaging=AveragingSpec.from_text(method, size)).to_dict()
 
 
 def with_exclusions(
@@ -148,13 +155,13 @@ def selected_point(event: Any, *, trace_names: Sequence[str]) -> dict[str, Any] 
     return None
 
 
-def chart_pick(event: Any, *, chart: str, avg: pd.DataFrame) -> dict[str, Any] | None:
+def chart_pick(event: Any, *, chart: ChartName, avg: pd.DataFrame) -> dict[str, Any] | None:
     """A chart selection turned into ``{"t_s", "vo2_ml_min", "index"}`` (or ``None``)."""
     names = (DATA_TRACE,) if chart == "vslope" else (VO2_TRACE,)
     point = selected_point(event, trace_names=names)
     if point is None:
         return None
-    return pick_from_chart_point(point, chart=chart, avg=avg)  # type: ignore[arg-type]
+    return pick_from_chart_point(point, chart=chart, avg=avg)
 
 
 # --- state: the settings the reviewer is working on -----------------------------------------
@@ -399,7 +406,7 @@ def _on_averaging(store: Any, test_id: int, *, method_changed: bool) -> None:
     sizes = AVERAGING_SIZES[method]
     size = sizes[len(sizes) // 2] if method_changed else st.session_state[f"avg_size_{test_id}_{method}"]
     apply_change(store, test_id, with_averaging(working.settings, method=method, size=size),
-                 reason=f"averaging changed to {AveragingSpec(method, size).label}")  # type: ignore[arg-type]
+                 reason=f"averaging changed to {AveragingSpec.from_text(method, size).label}")
 
 
 def _averaging_selector(store: Any, test_id: int, working: state.WorkingSettings) -> None:
@@ -461,7 +468,7 @@ def _threshold_controls(store: Any, test_id: int, working: state.WorkingSettings
                              args=(store, test_id), kwargs={"clear": True})
 
 
-def _on_chart_select(store: Any, test_id: int, *, chart: str) -> None:
+def _on_chart_select(store: Any, test_id: int, *, chart: ChartName) -> None:
     working = ensure_working(store, test_id)
     event = st.session_state.get(f"chart_{chart}_{test_id}")
     if is_area_selection(event):  # box / lasso: highlight those breaths on every chart, move nothing
@@ -481,7 +488,7 @@ def _on_chart_select(store: Any, test_id: int, *, chart: str) -> None:
                  reason=reason)
 
 
-def _select_callback(store: Any, test_id: int, chart: str) -> Any:
+def _select_callback(store: Any, test_id: int, chart: ChartName) -> Any:
     guarded = _guard(_on_chart_select)
     return functools.partial(guarded, store, test_id, chart=chart)
 
@@ -493,7 +500,8 @@ def _time_window(test_id: int, bounds: tuple[float, float]) -> tuple[float, floa
     st.session_state[key] = clamp_window(st.session_state.get(key, bounds), bounds)
     window = st.slider("Time window (s)", min_value=bounds[0], max_value=bounds[1], step=WINDOW_STEP_S, key=key,
                        format="%.0f", help="Zooms the time course and the ventilatory-equivalents chart together.")
-    rng = window_range((float(window[0]), float(window[1])), bounds=bounds)
+    lo, hi = cast(tuple[float, float], window)  # a range slider (its key holds a pair) returns a pair
+    rng = window_range((float(lo), float(hi)), bounds=bounds)
     return (rng[0], rng[1]) if rng else None
 
 

@@ -8,6 +8,7 @@ connection in ``config.attributes["connection"]``) and by developers running
 from __future__ import annotations
 
 from alembic import context
+from sqlalchemy.engine import Connection
 
 from store.config import make_engine, resolve_url
 from store.models import Base
@@ -15,7 +16,7 @@ from store.models import Base
 target_metadata = Base.metadata
 
 
-def _configure_and_run(connection) -> None:  # noqa: ANN001 - SQLAlchemy Connection
+def _configure_and_run(connection: Connection) -> None:
     context.configure(
         connection=connection,
         target_metadata=target_metadata,

@@ -78,7 +78,7 @@ def parse_averaging(text: str) -> AveragingSpec:
         value = float(size)
     except ValueError:
         raise InvalidParameter("--averaging", "a number after the colon, e.g. time_bin:10", text) from None
-    return AveragingSpec(method.strip(), int(value) if value.is_integer() else value)  # type: ignore[arg-type]
+    return AveragingSpec.from_text(method.strip(), int(value) if value.is_integer() else value)
 
 
 def settings_from_args(args: argparse.Namespace) -> AnalysisSettings:

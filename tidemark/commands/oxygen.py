@@ -11,6 +11,8 @@ import argparse
 import json
 import sys
 
+import numpy as np
+
 from analysis.oxygen import (
     DEFAULT_HUEFNER_ML_G,
     MODEL_CONDITIONS,
@@ -69,8 +71,9 @@ def run(args: argparse.Namespace) -> int:
     curve = dict(conditions, model=args.model, p50_mmhg=args.p50, hill_n=args.hill_n)
     hb_assumed = args.hb is None
     hb = ASSUMED_HB_G_DL if hb_assumed else args.hb
-    sats = saturation(list(args.po2), **curve)
-    contents = o2_content_ml_dl(saturation=sats, po2_mmhg=list(args.po2), hb_g_dl=hb, huefner_ml_g=args.huefner)
+    po2_mmhg = np.asarray(args.po2, dtype=float)
+    sats = np.atleast_1d(saturation(po2_mmhg, **curve))
+    contents = np.atleast_1d(o2_content_ml_dl(saturation=sats, po2_mmhg=po2_mmhg, hb_g_dl=hb, huefner_ml_g=args.huefner))
     p50_mmhg = p50(**curve)
     applied = {name: conditions[name] for name in MODEL_CONDITIONS[args.model]}
 
