@@ -127,6 +127,8 @@ def plant_events(
         d0 = t[i] - t[i - 1]
         d1 = t[i + 1] - t[i]
         w0, w1 = d0 / (d0 + d1), d1 / (d0 + d1)
+        if (w0 * ve[i] + w1 * ve[i + 1]) * (d0 + d1) / 60.0 > _limit(C.VT_L):  # the two volumes add
+            continue
         for values in (ve, vo2, vco2):
             values[i + 1] = w0 * values[i] + w1 * values[i + 1]
         rf[i + 1] = 60.0 / (d0 + d1)

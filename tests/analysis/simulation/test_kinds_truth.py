@@ -230,3 +230,17 @@ def test_kind_lists():
     assert len(ALL_KINDS) == 15 and not set(ORIGINAL_KINDS) & set(HARD_KINDS)
     with pytest.raises(Exception, match="kind"):
         case_inputs("nonsense", 0)
+
+
+@pytest.mark.parametrize("kind", ALL_KINDS)
+def test_no_simulated_breath_is_past_the_reject_limits(kind):
+    # a cart never exports an impossible value: the importer would reject it (analysis.columns)
+    for seed in range(6):
+        b = simulate_case(kind, seed, noise=2.0).breaths
+        for name in C.NUMERIC:
+            if name in b:
+                spec = C.COLUMNS[name]
+                values = b[name].to_numpy(dtype=float)
+                assert np.all(values >= spec.reject_below) and np.all(values <= spec.reject_above), (seed, name)
+        assert np.all(b[C.VCO2_ML_MIN] / b[C.VO2_ML_MIN] <= C.RER_REJECT_ABOVE)
+        assert np.all(np.diff(b[C.T_S]) > 0)
