@@ -207,7 +207,7 @@ def score_case(case: SimulatedCase, *, analyze: Callable[[Any], Any] | None = No
     from analysis.io import import_bytes
 
     run = analyze or _default_analyze
-    base = {"kind": case.kind, "seed": case.seed, "noise": case.noise, "foreign": case.foreign}
+    base: dict[str, Any] = {"kind": case.kind, "seed": case.seed, "noise": case.noise, "foreign": case.foreign}
     layout = ""
     session = case.session
     start = time.perf_counter()
