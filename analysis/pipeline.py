@@ -43,7 +43,6 @@ from analysis.reference import (
     friend_vo2max_ml_kg_min,
     mode_code,
     pct_predicted,
-    sex_code,
     tanaka_hr_max_bpm,
     ventilatory_class,
     weber_class,
@@ -51,6 +50,7 @@ from analysis.reference import (
 from analysis.results import TestResults, json_safe
 from analysis.session import Session
 from analysis.settings import AnalysisSettings
+from analysis.subject import reference_sex
 from analysis.thresholds import detect_thresholds, override_threshold
 from analysis.thresholds.results import ThresholdPick, ThresholdReport
 from analysis.zones import ZoneSet, training_zones
@@ -339,7 +339,7 @@ def _reference(meta: dict[str, Any], mode: str | None, peak: PointValues, ve_vco
     missing = [n for n, v in (("age", age), ("sex", sex), ("body mass", mass), ("height", height), ("mode", mode)) if v is None]
     if not missing and age is not None and mass is not None and height is not None and mode is not None:
         try:
-            pred = friend_vo2max_ml_kg_min(age_y=age, sex=sex_code(sex), body_mass_kg=mass, height_cm=height, mode=mode)
+            pred = friend_vo2max_ml_kg_min(age_y=age, sex=reference_sex(sex), body_mass_kg=mass, height_cm=height, mode=mode)
             predicted["vo2max_friend_ml_kg_min"] = pred
             if peak.vo2_ml_kg_min is not None and pred > 0:
                 predicted["pct_predicted_vo2max"] = pct_predicted(peak.vo2_ml_kg_min, pred)

@@ -102,14 +102,15 @@ class MetadataOverrides:
     mode: str | None = None
 
     def __post_init__(self) -> None:
-        from analysis.reference import mode_code, sex_code
+        from analysis.reference import mode_code
+        from analysis.subject import reference_sex
 
         for name, (low, high, unit) in _META_RANGES.items():
             v = getattr(self, name)
             if v is not None:
                 object.__setattr__(self, name, _finite(name, v, low, high, unit))
         if self.sex is not None:
-            object.__setattr__(self, "sex", sex_code(self.sex))
+            object.__setattr__(self, "sex", reference_sex(self.sex))
         if self.mode is not None:
             object.__setattr__(self, "mode", mode_code(self.mode))
 

@@ -11,9 +11,10 @@ from sqlalchemy import Select, func, select
 from sqlalchemy.exc import IntegrityError
 from sqlalchemy.orm import Session as DbSession
 
-from analysis.errors import ImportRejected, Problem, require
+from analysis.errors import ImportRejected, InvalidParameter, Problem, require
 from analysis.io import DEFAULT_MAX_BYTES
 from analysis.session import Session
+from analysis.subject import normalise_sex
 from store.analysis_bridge import run_analysis
 from store.core import Actor, StoreCore, aware, to_json
 from store.errors import NotFound, StoreError
@@ -28,7 +29,6 @@ IMPORT_OPTIONS = ("sheet", "gas_unit", "time_format", "meta_overrides")
 MAX_CODE_CHARS = 120
 MAX_NAME_CHARS = 200
 MAX_FILE_NAME_CHARS = 255
-SEXES = ("female", "male", "other")
 
 
 def sha256_hex(data: bytes) -> str:
@@ -48,11 +48,13 @@ def _clean_text(value: str | None, *, name: str, limit: int, required: bool = Fa
     return text or None
 
 
-def _normalise_sex(value: Any) -> str | None:
-    if value is None or str(value).strip() == "":
+def _sex_from_file(value: object) -> str | None:
+    """The person's sex as recorded in an imported file; text no spelling matches is kept as
+    not recorded (``None``) rather than refusing the file (the file's own text stays in the test)."""
+    try:
+        return normalise_sex(value)
+    except InvalidParameter:
         return None
-    v = str(value).strip().lower()
-    return {"f": "female", "m": "male", "w": "female"}.get(v, v if v in SEXES else "other")
 
 
 class ArchiveMixin(StoreCore):
@@ -167,7 +169,7 @@ class ArchiveMixin(StoreCore):
         with self._tx() as db:
             actor_row = self._check_actor(db, actor, "reviewer", "import tests")
             person = self._person_for_import(
-                db, code=code, display_name=display_name, sex=_normalise_sex(meta.get("sex")),
+                db, code=code, display_name=display_name, sex=_sex_from_file(meta.get("sex")),
                 birth_year=birth_year, actor_row_id=actor_row.id if actor_row else None,
             )
             now = self.now()
@@ -307,12 +309,13 @@ class ArchiveMixin(StoreCore):
             birth_year is None or (isinstance(birth_year, int) and 1900 <= birth_year <= 2100),
             "birth_year", "a year between 1900 and 2100", birth_year,
         )
+        sex_value = normalise_sex(sex)
         with self._tx() as db:
             actor_row = self._check_actor(db, actor, "reviewer", "edit people")
             person = db.get(PersonRow, person_id)
             if person is None or person.deleted_at is not None:
                 raise NotFound(f"No person with number {person_id} (it may have been deleted).")
-            for field, value in (("display_name", display_name), ("sex", _normalise_sex(sex)),
+            for field, value in (("display_name", display_name), ("sex", sex_value),
                                  ("birth_year", birth_year)):
                 if value is not None and getattr(person, field) != value:
                     self._audit(db, actor=actor, actor_row=actor_row, action="person_edit",

@@ -7,7 +7,7 @@ Public API
 :data:`WEBER_DESCRIPTIONS` and :data:`VENTILATORY_DESCRIPTIONS`.
 """
 
-from analysis.reference._validate import mode_code, sex_code
+from analysis.reference._validate import mode_code
 from analysis.reference.classes import (
     VENTILATORY_DESCRIPTIONS,
     WEBER_DESCRIPTIONS,
@@ -23,7 +23,6 @@ __all__ = [
     "friend_vo2max_ml_kg_min",
     "mode_code",
     "pct_predicted",
-    "sex_code",
     "tanaka_hr_max_bpm",
     "ventilatory_class",
     "weber_class",

@@ -6,16 +6,6 @@ import math
 
 from analysis.errors import InvalidParameter
 
-#: Accepted spellings of sex, mapped to the two codes used by the equations.
-SEX_CODES: dict[str, str] = {
-    "m": "male",
-    "male": "male",
-    "man": "male",
-    "f": "female",
-    "female": "female",
-    "woman": "female",
-}
-
 #: Accepted spellings of the exercise mode.
 MODE_CODES: dict[str, str] = {
     "treadmill": "treadmill",
@@ -37,14 +27,6 @@ def number_in(name: str, value: object, low: float, high: float, unit: str) -> f
     if not math.isfinite(f) or not low <= f <= high:
         raise InvalidParameter(name, f"a number between {low:g} and {high:g} {unit}", value)
     return f
-
-
-def sex_code(value: object) -> str:
-    """``'male'`` or ``'female'`` from the usual spellings."""
-    key = str(value).strip().lower() if value is not None else ""
-    if key not in SEX_CODES:
-        raise InvalidParameter("sex", "'male' or 'female' (or 'm' / 'f')", value)
-    return SEX_CODES[key]
 
 
 def mode_code(value: object) -> str:

@@ -3,7 +3,8 @@
 from __future__ import annotations
 
 from analysis.errors import require
-from analysis.reference._validate import mode_code, number_in, sex_code
+from analysis.reference._validate import mode_code, number_in
+from analysis.subject import reference_sex
 
 LB_PER_KG = 2.2046226218
 CM_PER_IN = 2.54
@@ -19,6 +20,7 @@ def friend_vo2max_ml_kg_min(
     age_y : float, keyword-only
         Age, years (20-89 in the registry; 10-100 accepted).
     sex : {'male', 'female'}, keyword-only
+        Any spelling :func:`analysis.subject.reference_sex` accepts (``"F"``, ``"weiblich"``, ...).
         Also accepts ``'m'``/``'f'``.
     body_mass_kg : float, keyword-only
         Body mass, kg (converted to lb).
@@ -52,7 +54,7 @@ def friend_vo2max_ml_kg_min(
     age = number_in("age_y", age_y, 10, 100, "years")
     mass = number_in("body_mass_kg", body_mass_kg, 20, 300, "kg")
     height = number_in("height_cm", height_cm, 100, 250, "cm")
-    s = 1.0 if sex_code(sex) == "male" else 2.0
+    s = 1.0 if reference_sex(sex) == "male" else 2.0
     m = 1.0 if mode_code(mode) == "treadmill" else 2.0
     return (
         45.2

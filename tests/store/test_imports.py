@@ -172,3 +172,23 @@ class TestHostileText:
         # Nothing was created next to or above the working directory.
         assert os.listdir(work) == [] and sorted(os.listdir(tmp_path / "a")) == ["b"]
         assert not (tmp_path / "etc").exists()
+
+
+class TestSexOfPerson:
+    """The store reads a file's sex with the one normaliser of analysis.subject."""
+
+    @pytest.mark.parametrize("written, stored", [("woman", "female"), ("W", "female"), ("männlich", "male"),
+                                                 ("divers", "other"), ("banana", None)])
+    def test_sex_from_the_file(self, store, users, written, stored):
+        data = csv_bytes(3000.0, subject="SEL-031").replace(b"# test_date", f"# sex: {written}\n# test_date".encode())
+        store.import_test(data, file_name="s.csv", actor=users["rhea"])
+        (person,) = store.list_people()
+        assert person.sex == stored
+
+    def test_editing_a_person_uses_the_same_table(self, store, users):
+        res = store.import_test(csv_bytes(3000.0, subject="SEL-032"), file_name="s.csv", actor=users["rhea"])
+        store.update_person(res.person_id, actor=users["rhea"], sex="weiblich", reason="from the form")
+        assert store.list_people()[0].sex == "female"
+        with pytest.raises(InvalidParameter, match="sex"):
+            store.update_person(res.person_id, actor=users["rhea"], sex="banana", reason="typo")
+        assert store.list_people()[0].sex == "female"

@@ -59,7 +59,7 @@ def add_parser(subparsers: argparse._SubParsersAction) -> argparse.ArgumentParse
     p.add_argument("--reason", default="", help="reason recorded with a manual VT1/VT2 placement")
     p.add_argument("--body-mass-kg", type=float, metavar="KG", help="body mass (replaces the file's value)")
     p.add_argument("--age-y", type=float, metavar="Y", help="age in years (replaces the file's value)")
-    p.add_argument("--sex", choices=("male", "female", "m", "f"), help="sex for the reference equations")
+    p.add_argument("--sex", help="sex for the reference equations: male or female (M/F, W, männlich/weiblich, homme/femme also read)")
     p.add_argument("--height-cm", type=float, metavar="CM", help="height (replaces the file's value)")
     p.add_argument("--hb-g-dl", type=float, metavar="G_DL", help="haemoglobin (enables the oxygen comparison)")
     p.add_argument("--out", type=Path, metavar="CSV", help="write the one-row-per-test summary CSV here")
