@@ -436,16 +436,26 @@ def _oxygen(
     if conditions is not None:
         opts["conditions"] = {k: StateConditions(**v) for k, v in conditions.items()}
     if opts.get("arterial_conditions") is not None:
-        opts["arterial_conditions"] = StateConditions(**opts["arterial_conditions"])
+        art = opts["arterial_conditions"]
+        per_state = all(isinstance(v, dict) for v in art.values())  # {"peak": {...}} or one {...} for all
+        opts["arterial_conditions"] = (
+            {k: StateConditions(**v) for k, v in art.items()} if per_state else StateConditions(**art)
+        )
+    if opts.get("pb_mmhg") is None and meta.get("barometric_mmhg") is not None:
+        opts["pb_mmhg"] = float(meta["barometric_mmhg"])  # the test's own barometric pressure
+    opts = {k: v for k, v in opts.items() if v is not None}
     column_spo2: dict[str, float] | None = {} if opts.get("spo2_pct") is not None else None  # a set SpO2 overrides the column
-    states: list[tuple[str, float, float | None, float | None]] = []
+    states: list[tuple[str, float, float | None, float | None, float | None]] = []
     at_rest = phases_avg == "rest"
     vo2_rest = _mean_where(avg, C.VO2_ML_MIN, at_rest)
     if vo2_rest is not None:
-        states.append(("rest", vo2_rest, _mean_where(avg, C.HR_BPM, at_rest), 100.0 * vo2_rest / peak.vo2_ml_min))
+        vco2_rest = _mean_where(avg, C.VCO2_ML_MIN, at_rest)
+        rer_rest = None if vco2_rest is None else vco2_rest / vo2_rest
+        rest_pct = 100.0 * vo2_rest / peak.vo2_ml_min
+        states.append(("rest", vo2_rest, _mean_where(avg, C.HR_BPM, at_rest), rest_pct, rer_rest))
     for name, p in (("vt1", vt1), ("vt2", vt2), ("peak", peak)):
         if p is not None:
-            states.append((name, p.vo2_ml_min, p.hr_bpm, p.pct_vo2_peak))
+            states.append((name, p.vo2_ml_min, p.hr_bpm, p.pct_vo2_peak, p.rer))
     if column_spo2 is None:
         times = {name: p.t_s for name, p in (("vt1", vt1), ("vt2", vt2), ("peak", peak)) if p is not None}
         column_spo2 = spo2_by_state(avg, phases_avg, times, warns=warns)
@@ -454,8 +464,9 @@ def _oxygen(
             StatePoint(
                 name, vo2, hr_bpm=hr, pct_vo2_peak=pct, q_l_min=measured_q.get(name),
                 spo2_pct=state_spo2.get(name, column_spo2.get(name)),
+                rer=rer if rer is not None and 0.5 <= rer <= 2.0 else None,
             )
-            for name, vo2, hr, pct in states
+            for name, vo2, hr, pct, rer in states
         ]
         with warnings.catch_warnings(record=True) as caught:
             warnings.simplefilter("always")

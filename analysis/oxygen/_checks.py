@@ -45,6 +45,15 @@ LIMITS: dict[str, Limit] = {
     "q_l_min": Limit(0.5, 60.0, "L/min"),
     "hr_bpm": Limit(20.0, 260.0, "beats/min"),
     "pct_vo2_peak": Limit(0.0, 120.0, "%"),
+    "pb_mmhg": Limit(200.0, 800.0, "mmHg"),
+    "fio2": Limit(0.10, 1.0, ""),
+    "altitude_m": Limit(-500.0, 9000.0, "m"),
+    "aa_gradient_mmhg": Limit(0.0, 80.0, "mmHg"),
+    "rer": Limit(0.5, 2.0, ""),
+    "ph2o_mmhg": Limit(0.0, 100.0, "mmHg"),
+    "cohb_fraction": Limit(0.0, 0.6, "(fraction of total Hb, e.g. 0.10 for 10 %)"),
+    "methb_fraction": Limit(0.0, 0.6, "(fraction of total Hb, e.g. 0.02 for 2 %)"),
+    "dmo2_ml_min_mmhg": Limit(0.5, 2000.0, "mL/min/mmHg"),
 }
 
 

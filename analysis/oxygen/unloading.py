@@ -33,7 +33,8 @@ def arterial_content_ml_dl(
     if spo2_pct is not None:
         sao2, source = saturation_from_spo2(spo2_pct), "spo2"
     else:
-        sao2 = float(saturation(pao2, **arterial_conditions.curve_kwargs(model), model=model))
+        arterial = arterial_conditions.resolved(hb_g_dl=hb_g_dl)
+        sao2 = float(saturation(pao2, **arterial.curve_kwargs(model), model=model))
         source = "curve"
     cao2 = float(o2_content_ml_dl(saturation=sao2, po2_mmhg=pao2, hb_g_dl=hb_g_dl, huefner_ml_g=huefner_ml_g))
     return cao2, sao2, source
@@ -78,7 +79,7 @@ def curve_unloading_ml_dl(
     --------
     >>> from analysis.oxygen import DEFAULT_CONDITIONS
     >>> round(curve_unloading_ml_dl(40.0, conditions=DEFAULT_CONDITIONS["rest"], hb_g_dl=15.0), 1)
-    5.0
+    5.1
     """
     cao2, _, _ = arterial_content_ml_dl(
         hb_g_dl=hb_g_dl,
@@ -88,7 +89,8 @@ def curve_unloading_ml_dl(
         model=model,
         huefner_ml_g=huefner_ml_g,
     )
-    sv = saturation(pvo2_mmhg, **conditions.curve_kwargs(model), model=model)
+    venous = conditions.resolved(hb_g_dl=hb_g_dl)  # any two of pH, PCO2, base excess given
+    sv = saturation(pvo2_mmhg, **venous.curve_kwargs(model), model=model)
     cv = o2_content_ml_dl(saturation=sv, po2_mmhg=pvo2_mmhg, hb_g_dl=hb_g_dl, huefner_ml_g=huefner_ml_g)
     out = cao2 - np.asarray(cv)
     return float(out) if np.ndim(pvo2_mmhg) == 0 else out

@@ -50,7 +50,9 @@ CONDITION_TEXT: dict[str, str] = {
 
 def condition_text(conditions: Mapping[str, float]) -> str:
     """``"pH 7.37, 37 °C, 2,3-BPG 5 mmol/L, BE 0 mmol/L"`` for a curve's legend entry."""
-    return ", ".join(CONDITION_TEXT.get(k, k + " {:g}").format(float(v)) for k, v in conditions.items())
+    return ", ".join(
+        CONDITION_TEXT.get(k, k + " {:g}").format(round(float(v), 2 if k == "ph" else 1)) for k, v in conditions.items()
+    )
 
 
 def dissociation_figure(

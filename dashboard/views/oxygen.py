@@ -56,16 +56,34 @@ def widget_key(state_name: str, field: str) -> str:
     return f"ox_{state_name}_{field}"
 
 
+#: How the blood gas of each state is given: the field left out is derived (Van Slyke equation).
+GAS_GIVEN: dict[str, str] = {
+    "ph": "PCO2 and base excess (pH derived)",
+    "base_excess_mmol_l": "pH and PCO2 (base excess derived)",
+    "pco2_mmhg": "pH and base excess (PCO2 derived)",
+    "": "pH, PCO2 and base excess (a measured blood gas)",
+}
+
+#: Where arterial PO2 comes from.
+PAO2_SOURCES: tuple[str, ...] = ("Alveolar gas equation", "Measured PaO2", "SpO2")
+
+
 def oxygen_settings(
     *,
     model: str,
-    pao2_mmhg: float,
+    pao2_mmhg: float | None,
     spo2_pct: float | None,
-    conditions: dict[str, dict[str, float]],
+    conditions: dict[str, dict[str, float | None]],
     q_l_min: dict[str, float],
 ) -> dict[str, Any]:
-    """The ``oxygen`` entry of the analysis settings, in the form the pipeline reads."""
-    out: dict[str, Any] = {"model": model, "pao2_mmhg": float(pao2_mmhg), "conditions": conditions}
+    """The ``oxygen`` entry of the analysis settings, in the form the pipeline reads.
+
+    ``pao2_mmhg`` is a MEASURED arterial PO2; ``None`` lets the analysis derive it from the
+    alveolar gas equation at the test's barometric pressure.
+    """
+    out: dict[str, Any] = {"model": model, "conditions": conditions}
+    if pao2_mmhg is not None:
+        out["pao2_mmhg"] = float(pao2_mmhg)
     if spo2_pct is not None:
         out["spo2_pct"] = float(spo2_pct)
     if q_l_min:
@@ -89,10 +107,10 @@ def points_frame(oxygen: dict[str, Any]) -> pd.DataFrame:
     rows = []
     seen_arterial = set()
     for s in oxygen.get("states") or []:
-        art = (round(float(oxygen["pao2_mmhg"]), 3), round(float(s["sao2"]), 5))
+        art = (round(float(s["pao2_mmhg"]), 3), round(float(s["sao2"]), 5))
         if art not in seen_arterial:
             seen_arterial.add(art)
-            rows.append({"state": s["name"], "site": "arterial", "po2_mmhg": oxygen["pao2_mmhg"], "saturation": s["sao2"]})
+            rows.append({"state": s["name"], "site": "arterial", "po2_mmhg": s["pao2_mmhg"], "saturation": s["sao2"]})
         if s.get("svo2") is not None and s.get("pvo2_exercise_curve_mmhg") is not None:
             rows.append({"state": s["name"], "site": "venous", "po2_mmhg": s["pvo2_exercise_curve_mmhg"], "saturation": s["svo2"]})
     return pd.DataFrame(rows, columns=["state", "site", "po2_mmhg", "saturation"])
@@ -116,18 +134,32 @@ def comparison_table(oxygen: dict[str, Any]) -> pd.DataFrame:
                 "State": STATE_LABEL.get(s["name"], s["name"]),
                 "VO2 (mL/min)": format_number(s.get("vo2_ml_min"), 0),
                 "Q (L/min)": format_number(s.get("q_l_min"), 1),
-                "Q source": "ESTIMATE (Stringer 1997)" if s.get("q_estimated") else "measured",
+                "Q source": Q_SOURCE.get(str(s.get("q_method")), "measured"),
                 "SV (mL)": format_number(s.get("stroke_volume_ml"), 0),
                 "Fick a-vO2 (mL/dL)": format_number(s.get("avo2_ml_dl"), 1),
+                "PaO2 (mmHg)": format_number(s.get("pao2_mmhg"), 1),
+                "PaO2 from": str(s.get("pao2_source") or ""),
+                "Arterial pH": format_number((s.get("arterial_conditions") or {}).get("ph"), 3),
                 "CaO2 (mL/dL)": format_number(s.get("cao2_ml_dl"), 1),
                 "Implied CvO2 (mL/dL)": format_number(s.get("cvo2_ml_dl"), 1),
                 "Implied SvO2 (%)": format_number(None if s.get("svo2") is None else 100.0 * s["svo2"], 1),
+                "Mixed venous pH": format_number((s.get("conditions") or {}).get("ph"), 3),
+                "Mixed venous PCO2 (mmHg)": format_number((s.get("conditions") or {}).get("pco2_mmhg"), 1),
+                "Mixed venous base excess (mmol/L)": format_number((s.get("conditions") or {}).get("base_excess_mmol_l"), 1),
                 "Venous PO2, resting curve (mmHg)": format_number(s.get("pvo2_resting_curve_mmhg"), 1),
                 "Venous PO2, exercise curve (mmHg)": format_number(s.get("pvo2_exercise_curve_mmhg"), 1),
                 "Most the curve allows (mL/dL)": format_number(s.get("max_avo2_by_curve_ml_dl"), 1),
             }
         )
     return by_state(rows)
+
+
+#: How cardiac output was obtained, in words.
+Q_SOURCE: dict[str, str] = {
+    "measured": "measured",
+    "stringer1997": "ESTIMATE (Stringer 1997)",
+    "resting_typical_avo2": "ASSUMED (typical resting a-vO2 5 mL/dL)",
+}
 
 
 def unloading_table(oxygen: dict[str, Any]) -> pd.DataFrame:
@@ -193,23 +225,39 @@ def _start_conditions(settings: dict[str, Any]) -> dict[str, StateConditions]:
     return out
 
 
-def condition_inputs(start: dict[str, StateConditions], *, test_id: int) -> dict[str, dict[str, float]]:
-    """Per-state condition inputs (rest, VT1, VT2, peak side by side)."""
+def derived_field_of(start: dict[str, StateConditions]) -> str:
+    """The acid-base field the stored conditions leave out ("" when all three are given)."""
+    for conds in start.values():
+        if conds.derived_field:
+            return conds.derived_field
+    return ""
+
+
+def condition_inputs(
+    start: dict[str, StateConditions], *, test_id: int, hb_g_dl: float, derived: str
+) -> dict[str, dict[str, float | None]]:
+    """Per-state condition inputs (rest, VT1, VT2, peak side by side); ``derived`` is left out."""
     cols = st.columns(len(STATE_NAMES))
-    out: dict[str, dict[str, float]] = {}
+    out: dict[str, dict[str, float | None]] = {}
     for col, name in zip(cols, STATE_NAMES, strict=True):
         with col:
             st.markdown(f"**{STATE_LABEL[name]}**")
-            values = asdict(start[name])
-            out[name] = {
-                field: float(
+            try:  # start values: the stored or default blood, completed at this Hb
+                values = asdict(start[name].resolved(hb_g_dl=hb_g_dl))
+            except (TypeError, ValueError):
+                values = asdict(DEFAULT_CONDITIONS[name].resolved(hb_g_dl=hb_g_dl))
+            row: dict[str, float | None] = {}
+            for field, label, step, lo, hi in CONDITION_FIELDS:
+                if field == derived:
+                    row[field] = None
+                    continue
+                row[field] = float(
                     st.number_input(
-                        label, min_value=lo, max_value=hi, value=float(values[field]), step=step,
+                        label, min_value=lo, max_value=hi, value=min(hi, max(lo, float(values[field]))), step=step,
                         key=widget_key(name, field), format="%.2f" if step < 0.1 else "%.1f",
                     )
                 )
-                for field, label, step, lo, hi in CONDITION_FIELDS
-            }
+            out[name] = row
     return out
 
 
@@ -251,11 +299,19 @@ def render() -> None:
         )
         if not hb_meta:
             mid.caption("No Hb recorded with this test: enter the measured value.")
-        arterial = right.radio("Arterial saturation from", ["PaO2", "SpO2"], horizontal=True, key="ox_arterial")
-        pao2 = right.number_input(
-            "PaO2 (mmHg)", min_value=30.0, max_value=600.0,
-            value=float(stored_ox.get("pao2_mmhg", DEFAULT_PAO2_MMHG)), step=1.0, key="ox_pao2",
+        start_source = 2 if stored_ox.get("spo2_pct") is not None else 1 if stored_ox.get("pao2_mmhg") is not None else 0
+        arterial = right.radio(
+            "Arterial PO2 and saturation from", list(PAO2_SOURCES), index=start_source, horizontal=True,
+            key="ox_arterial",
+            help="Alveolar gas equation: at the test's barometric pressure, minus an alveolar-arterial gradient "
+            "(10 mmHg at rest widening to 20 at peak; Dempsey & Wagner 1999).",
         )
+        pao2 = None
+        if arterial == "Measured PaO2":
+            pao2 = right.number_input(
+                "PaO2 (mmHg)", min_value=30.0, max_value=600.0,
+                value=float(stored_ox.get("pao2_mmhg") or DEFAULT_PAO2_MMHG), step=1.0, key="ox_pao2",
+            )
         spo2 = None
         if arterial == "SpO2":
             spo2 = right.number_input(
@@ -263,10 +319,17 @@ def render() -> None:
                 value=float(stored_ox.get("spo2_pct") or DEFAULT_SPO2_PCT), step=0.5, key="ox_spo2",
             )
         st.markdown(
-            "Venous blood conditions per state (defaults are typical values for healthy adults at each "
+            "Mixed venous blood conditions per state (defaults are typical values for healthy adults at each "
             "exercise intensity; replace them with measured blood gases when you have them)"
         )
-        conditions = condition_inputs(_start_conditions(settings), test_id=test_id)
+        start_conditions = _start_conditions(settings)
+        keys = list(GAS_GIVEN)
+        derived = st.selectbox(
+            "Blood gas given as", keys, index=keys.index(derived_field_of(start_conditions)),
+            format_func=lambda k: GAS_GIVEN[k], key="ox_gas_given",
+            help="The value left out follows from the other two by the Van Slyke equation at this Hb.",
+        )
+        conditions = condition_inputs(start_conditions, test_id=test_id, hb_g_dl=float(hb), derived=derived)
         st.markdown("Measured cardiac output (L/min; leave 0 to use the Stringer 1997 estimate)")
         q_cols = st.columns(len(STATE_NAMES))
         stored_q = stored_ox.get("q_l_min") or {}
@@ -315,7 +378,7 @@ def render() -> None:
     start = _start_conditions(settings)
     start_oxygen = oxygen_settings(
         model=next((m for m in COMPARISON_MODELS if m == stored_ox.get("model")), COMPARISON_MODELS[0]),
-        pao2_mmhg=float(stored_ox.get("pao2_mmhg", DEFAULT_PAO2_MMHG)),
+        pao2_mmhg=stored_ox.get("pao2_mmhg"),
         spo2_pct=stored_ox.get("spo2_pct"),
         conditions={k: asdict(v) for k, v in start.items()},
         q_l_min={k: float(v) for k, v in (stored_ox.get("q_l_min") or {}).items() if float(v) > 0},

@@ -20,7 +20,8 @@ def _oxygen():
 
 def _default_oxygen_settings() -> dict:
     conds = {k: {f: getattr(v, f) for f in ("temperature_c", "ph", "pco2_mmhg", "dpg_mmol_l", "base_excess_mmol_l")} for k, v in DEFAULT_CONDITIONS.items()}
-    return oxygen_settings(model="siggaard_andersen", pao2_mmhg=95.0, spo2_pct=None, conditions=conds, q_l_min={})
+    # the page's defaults: PaO2 from the alveolar gas equation, pH derived from PCO2 and base excess
+    return oxygen_settings(model="siggaard_andersen", pao2_mmhg=None, spo2_pct=None, conditions=conds, q_l_min={})
 
 
 def _table(at) -> pd.DataFrame:
@@ -89,7 +90,7 @@ def test_charts_from_comparison_json(demo_store, test_id):
     assert set(pts["site"]) == {"arterial", "venous"}
     # one arterial point per distinct arterial saturation (states share it when SaO2 is the same;
     # the analysis reads SaO2 per state from the session's SpO2 column when it has one)
-    distinct = {(round(float(ox["pao2_mmhg"]), 3), round(float(s["sao2"]), 5)) for s in ox["states"]}
+    distinct = {(round(float(s["pao2_mmhg"]), 3), round(float(s["sao2"]), 5)) for s in ox["states"]}
     assert (pts["site"] == "arterial").sum() == len(distinct)
     curves = {"rest": StateConditions(**ox["resting_conditions"])} | {
         s["name"]: StateConditions(**s["conditions"]) for s in ox["states"] if s["name"] != "rest"
@@ -118,8 +119,8 @@ def test_hb_input_changes_arterial_content_by_the_content_equation(demo_store, p
     ox = analysis_json(
         demo_store.store, test_id, with_oxygen(settings, _default_oxygen_settings(), hb_g_dl=12.0)
     )["oxygen"]
-    sao2 = ox["states"][0]["sao2"]
-    expected = 1.34 * 12.0 * sao2 + 0.0031 * 95.0
+    sao2, pao2 = ox["states"][0]["sao2"], ox["states"][0]["pao2_mmhg"]
+    expected = 1.34 * 12.0 * sao2 + 0.0031 * pao2
     assert parse_number(table.loc["Rest", "CaO2 (mL/dL)"]) == pytest.approx(expected, abs=0.05)
 
 

@@ -7,7 +7,9 @@ import importlib
 
 import pytest
 
-MODULES = ["curves", "content", "fick", "haldane", "decomposition", "unloading"]
+MODULES = [
+    "curves", "content", "fick", "haldane", "decomposition", "unloading", "acid_base", "alveolar", "dyshaemoglobin",
+]
 
 
 @pytest.mark.parametrize("name", MODULES)

@@ -88,9 +88,10 @@ def test_spo2_column_gives_each_states_saturation(desaturating):
         truth = float(model_spo2(HEART_FAILURE, np.array([states[name]["vo2_ml_min"]]))[0])
         assert 100.0 * states[name]["sao2"] == pytest.approx(truth, abs=0.5)
     assert states["peak"]["sao2"] < states["rest"]["sao2"]  # the modelled exercise desaturation
-    # CaO2 = 1.34 Hb SaO2 + 0.0031 PaO2 (content equation, common practice; PaO2 default 95)
+    # CaO2 = 1.34 Hb SaO2 + 0.0031 PaO2 (content equation, common practice; PaO2 of the state)
     hb = desaturating.meta["hb_g_dl"]
-    assert states["peak"]["cao2_ml_dl"] == pytest.approx(1.34 * hb * states["peak"]["sao2"] + 0.0031 * 95.0)
+    peak = states["peak"]
+    assert peak["cao2_ml_dl"] == pytest.approx(1.34 * hb * peak["sao2"] + 0.0031 * peak["pao2_mmhg"])
     assert "SpO2 column" in data["methods"]["oxygen_spo2"]
 
 
