@@ -6,11 +6,12 @@ from store.accounts import AccountsMixin
 from store.config import make_engine, resolve_url
 from store.core import Clock
 from store.lab import LabMixin
+from store.metadata import MetadataMixin
 from store.migrate import upgrade_to_head
 from store.sharing import SharingMixin
 
 
-class Store(SharingMixin, AccountsMixin, LabMixin):
+class Store(SharingMixin, MetadataMixin, AccountsMixin, LabMixin):
     """Persistence and access control for Tidemark (see ``docs/store.md``).
 
     Create with :func:`open_store`. Every method runs in its own transaction; every mutating

@@ -24,6 +24,7 @@ from analysis.io._units import CANONICAL_UNIT, UNIT_LABELS, factor
 from analysis.io._validate import ProblemLog, checked_meta, finish_session, report_cells
 from analysis.io._xlsx import list_sheets, sheet_rows
 from analysis.io.mapping import IGNORE, ColumnMapping, guess_mapping, is_per_kg, split_header
+from analysis.io.preamble import PreambleItem, read_preamble_item
 from analysis.io.session_file import parse_meta_line
 from analysis.session import Session
 
@@ -61,6 +62,9 @@ class ImportOutcome:
         comment lines, event rows without gas values, summary/footer lines after the table.
     notes : list of str
         Everything the user should know about how the file was read.
+    preamble : tuple of PreambleItem
+        Labelled lines above the table read into the metadata (``Test date:;10.02.2026``), for
+        the preview the reviewer confirms (:mod:`analysis.io.preamble`).
     """
 
     session: Session
@@ -73,6 +77,7 @@ class ImportOutcome:
     notes: list[str] = field(default_factory=list)
     sheet: str | None = None
     encoding: str = "utf-8"
+    preamble: tuple[PreambleItem, ...] = ()
 
 
 def _cell_on_line(cells_by_line: Mapping[int, Sequence[object]], line_numbers: np.ndarray, k: int, i: int) -> object:
@@ -116,7 +121,10 @@ def _resolve_mapping(
     return guessed.overridden_by(chosen), notes
 
 
-def _check_mapping(mapping: ColumnMapping, headers: list[str], problems: ProblemLog, file_name: str) -> None:
+def _check_mapping(
+    mapping: ColumnMapping, headers: list[str], problems: ProblemLog, file_name: str, *,
+    sheet: str | None = None, other_sheets: Sequence[str] = (),
+) -> None:
     mapped = mapping.mapped()
     for name in (C.VO2_ML_MIN, C.VCO2_ML_MIN):
         header = mapped.get(name)
@@ -129,13 +137,23 @@ def _check_mapping(mapping: ColumnMapping, headers: list[str], problems: Problem
     missing = [n for n in C.REQUIRED if n not in mapped]
     if missing:
         labels = ", ".join(f"{C.COLUMNS[n].label} ({n})" for n in missing)
+        fix = "name the column(s) explicitly, e.g. --map \"Oxygen=vo2_ml_min\" (or choose them in the import page)"
+        if other_sheets:
+            fix = (
+                f"sheet '{sheet}' was read; if the breath table is on another sheet "
+                f"({', '.join(repr(n) for n in other_sheets)}), choose it with --sheet; otherwise {fix}"
+            )
         problems.add(
             f"required column(s) not found: {labels}; the columns are: {', '.join(repr(h) for h in headers)}",
-            "name the column(s) explicitly, e.g. --map \"Oxygen=vo2_ml_min\" (or choose them in the import page)",
+            fix,
         )
 
 
-def _meta_from_preamble(preamble: list[Row], lines: list[str] | None) -> list[tuple[str, str, int | None]]:
+def _meta_from_preamble(
+    preamble: list[Row], lines: list[str] | None, items: list[PreambleItem] | None = None
+) -> list[tuple[str, str, int | None]]:
+    """Metadata entries from ``# key: value`` lines and labelled lines (``Body mass (kg);58``)
+    above the table; the labelled ones are also collected in ``items`` for the reviewer's preview."""
     entries: list[tuple[str, str, int | None]] = []
     for number, cells in preamble:
         if lines is not None:
@@ -146,6 +164,12 @@ def _meta_from_preamble(preamble: list[Row], lines: list[str] | None) -> list[tu
         parsed = parse_meta_line(text)
         if parsed:
             entries.append((parsed[0], parsed[1], number))
+            continue
+        item = read_preamble_item(number, list(cells))
+        if item is not None:
+            entries.append((item.key, item.value, number))
+            if items is not None:
+                items.append(item)
     return entries
 
 
@@ -179,6 +203,9 @@ def _locate_xlsx(
         return name, rows, locate_table(rows, file_name=file_name)
     names = list_sheets(data, file_name=file_name)
     first_error: ImportRejected | None = None
+    # The sheet that looks most like breath data: most required columns recognised by their
+    # headers, then most rows (a summary or notes sheet loses to the breath table).
+    best: tuple[tuple[int, int], str, list[Row], LocatedTable] | None = None
     for name in names:
         _, rows = sheet_rows(data, name, file_name=file_name)
         try:
@@ -186,6 +213,12 @@ def _locate_xlsx(
         except ImportRejected as exc:
             first_error = first_error or exc
             continue
+        recognised = guess_mapping(located.headers, unit_row=located.unit_row).mapped()
+        score = (sum(1 for n in C.REQUIRED if n in recognised), len(located.body))
+        if best is None or score > best[0]:
+            best = (score, name, rows, located)
+    if best is not None:
+        _, name, rows, located = best
         if len(names) > 1:
             notes.append(f"sheet '{name}' was read (the workbook has: {', '.join(names)}); choose another with --sheet")
         return name, rows, located
@@ -322,7 +355,9 @@ def import_bytes(
     headers = located.headers
     used, mapping_notes = _resolve_mapping(headers, located.unit_row, mapping)
     notes.extend(mapping_notes)
-    _check_mapping(used, headers, problems, file_name)
+    incomplete = any(n not in used.mapped() for n in C.REQUIRED)
+    others = [n for n in list_sheets(data, file_name=file_name) if n != found.sheet] if found.sheet and incomplete else []
+    _check_mapping(used, headers, problems, file_name, sheet=found.sheet, other_sheets=others)
     problems.raise_if_any()
     mapped = used.mapped()
     index = {name: headers.index(header) for name, header in mapped.items()}
@@ -482,7 +517,8 @@ def import_bytes(
         elif name in gas_codes:
             unit_notes[name] = "values were read as mL/min — set the gas unit to L/min if that is wrong"
 
-    meta = checked_meta(_meta_from_preamble(located.preamble, lines), problems, overrides=meta_overrides)
+    preamble_items: list[PreambleItem] = []
+    meta = checked_meta(_meta_from_preamble(located.preamble, lines, preamble_items), problems, overrides=meta_overrides)
 
     session = finish_session(
         frame, meta=meta, file_name=file_name, problems=problems, headers=mapped, unit_notes=unit_notes
@@ -530,6 +566,7 @@ def import_bytes(
         notes=notes,
         sheet=found.sheet,
         encoding=found.encoding,
+        preamble=tuple(preamble_items),
     )
 
 

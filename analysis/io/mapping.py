@@ -83,6 +83,26 @@ _SYNONYMS: dict[str, tuple[str, ...]] = {
         "label",
     ),
 }
+#: Common non-English spellings of the trade terms (our own choice, documented in docs/import.md):
+#: German (Zeit, HF = Herzfrequenz, AF = Atemfrequenz, AZV = Atemzugvolumen, AMV = Atemminutenvolumen,
+#: Last/Leistung, Geschwindigkeit, Steigung), French (temps, FC = fréquence cardiaque, FR, puissance,
+#: vitesse, pente), Spanish/Portuguese/Italian (tiempo, tempo, FC, carga, potencia/potenza, velocidad).
+_NON_ENGLISH: dict[str, tuple[str, ...]] = {
+    C.T_S: ("zeit", "gesamtzeit", "testzeit", "temps", "tiempo", "tempo", "tempototale"),
+    C.VE_L_MIN: ("amv", "atemminutenvolumen", "ventilacion", "ventilazione", "debitventilatoire"),
+    C.HR_BPM: ("hf", "herzfrequenz", "puls", "fc", "frequencecardiaque", "frecuenciacardiaca",
+               "frequenzacardiaca", "frequenciacardiaca"),
+    C.WORK_W: ("last", "leistung", "belastung", "puissance", "charge", "carga", "potencia", "potenza", "carico"),
+    C.SPEED_KMH: ("geschwindigkeit", "vitesse", "velocidad", "velocita", "velocidade"),
+    C.GRADE_PCT: ("steigung", "neigung", "pente", "pendiente", "pendenza", "inclinacion", "inclinazione"),
+    C.RF_BPM: ("af", "atemfrequenz", "frequencerespiratoire", "frecuenciarespiratoria", "frequenzarespiratoria"),
+    C.VT_L: ("azv", "atemzugvolumen", "volumecourant", "volumencorriente", "volumecorrente"),
+    C.SPO2_PCT: ("sattigung", "sauerstoffsattigung", "saturacion", "saturazione"),
+    C.PHASE: ("phase", "fase"),
+    C.MARKER: ("kommentar", "bemerkung", "ereignis", "commentaire", "evenement", "comentario", "evento"),
+}
+_SYNONYMS = {name: spellings + tuple(s for s in _NON_ENGLISH.get(name, ()) if s not in spellings)
+             for name, spellings in _SYNONYMS.items()}
 _LOOKUP: dict[str, str] = {spelling: name for name, spellings in _SYNONYMS.items() for spelling in spellings}
 
 _BRACKETED = re.compile(r"[\(\[\{]([^\)\]\}]*)[\)\]\}]")

@@ -55,6 +55,11 @@ def describe_outcome(outcome: ImportOutcome) -> list[str]:
         f"read as: {source}, decimal mark '{outcome.decimal}', gas unit {UNIT_LABELS.get(outcome.gas_unit_detected, outcome.gas_unit_detected)}, "
         f"time as {outcome.time_format_detected}"
     )
+    if outcome.preamble:
+        lines.append(
+            "read from the lines above the table: "
+            + ", ".join(f"{i.key} = {i.value} (line {i.line}: '{i.label}')" for i in outcome.preamble)
+        )
     counts = flag_counts(outcome)
     flagged_rows = s.flags["source_row"].nunique() if not s.flags.empty else 0
     if counts:

@@ -10,6 +10,7 @@ from __future__ import annotations
 import hashlib
 import json
 import logging
+import re
 from collections.abc import Mapping, Sequence
 from typing import Any
 
@@ -22,6 +23,10 @@ from analysis.io import MAX_UPLOAD_MB
 from analysis.io.plausibility import duration_warning
 from dashboard import data, state
 from dashboard.errors import show_error
+from dashboard.lab import markdown_text
+from dashboard.subject_details import form_defaults, import_overrides, preamble_rows
+from dashboard.timefmt import clock_text
+from dashboard.views._subject_panel import detail_inputs
 
 log = logging.getLogger("tidemark.dashboard")
 
@@ -79,12 +84,55 @@ def import_options(*, sheet: str | None, gas_unit: str, time_format: str) -> dic
     return options
 
 
+#: The importer's advice names command-line options; on this page the same advice names the
+#: page's own controls instead (pattern -> replacement).
+_CLI_ADVICE: tuple[tuple[re.Pattern[str], str], ...] = (
+    (re.compile(r'name the column\(s\) explicitly, e\.g\. --map "[^"]*" \(or choose them in the import page\)'),
+     "choose the column(s) in the column mapping below"),
+    (re.compile(r"choose it with --sheet"), "choose it in the Sheet box above"),
+    (re.compile(r"choose another with --sheet"), "choose another in the Sheet box above"),
+    (re.compile(r"; raise the limit \(--max-mb\) if it really is one test"), ""),
+    (re.compile(r" — save it again with --save-profile"), " — save the mapping as a profile again"),
+    (re.compile(r"\s*\(?--[a-z][a-z-]*(?: \S+)?\)?"), ""),  # anything else: the option is left out
+)
+
+
+def page_advice(text: str) -> str:
+    """Importer advice in the words of this page: no command-line option is named."""
+    for pattern, replacement in _CLI_ADVICE:
+        text = pattern.sub(replacement, text)
+    return text
+
+
 def problem_rows(exc: ImportRejected) -> list[dict[str, Any]]:
     """The problems of a rejected import as table rows (line, column, problem, what to do)."""
     return [
-        {"Line": p.row if p.row is not None else "", "Column": p.column or "", "Problem": p.message, "What to do": p.fix}
+        {"Line": str(p.row) if p.row is not None else "", "Column": p.column or "", "Problem": page_advice(p.message),
+         "What to do": page_advice(p.fix)}
         for p in exc.problems
     ]
+
+
+def conversion_notes(mapping: Any) -> list[str]:
+    """One sentence per column whose values the import converts (``VO2: L/min → mL/min, × 1000``)."""
+    from analysis.io._units import UNIT_LABELS, factor
+
+    mapped = mapping.mapped()
+    out = []
+    for name, code in sorted(mapping.units.items()):
+        spec = C.COLUMNS.get(name)
+        if spec is None or name not in mapped or not code:
+            continue
+        label = UNIT_LABELS.get(code, code)
+        if label == spec.unit:
+            continue
+        try:
+            times = factor(name, code)
+        except Exception:  # noqa: BLE001 - a unit without a factor is described without one
+            times = None
+        by = f", values × {times:g}" if isinstance(times, (int, float)) and times not in (1, 1.0) else ""
+        out.append(f"‘{mapped[name]}’ is converted from {label} to {spec.unit}{by}.")
+    return out
 
 
 def flag_summary(flags: pd.DataFrame) -> pd.DataFrame:
@@ -223,10 +271,19 @@ def _mapping_editor(key: str, headers: list[str], used: Mapping[str, str]) -> di
     return edited
 
 
+def _default_sheet(raw: bytes, name: str, sheets: list[str]) -> int:
+    """Index of the sheet the importer itself would read (the one that looks like breath data)."""
+    try:
+        chosen = data.preview_import(raw, file_name=name).sheet
+    except Exception:  # noqa: BLE001 - no sheet reads on its own: start with the first
+        return 0
+    return sheets.index(chosen) if chosen in sheets else 0
+
+
 def _import_panel(store: Any, upload: Any, index: int) -> None:
     raw: bytes = upload.getvalue()
     name: str = upload.name
-    key = "imp_" + hashlib.sha256(raw).hexdigest()[:12] + f"_{index}"
+    base = "imp_" + hashlib.sha256(raw).hexdigest()[:12] + f"_{index}"
     is_xlsx = name.lower().endswith(".xlsx")
     cols = st.columns(4 if is_xlsx else 3)  # the sheet choice first, for workbooks only
     c2, c_time, c3 = cols[-3:]
@@ -237,16 +294,19 @@ def _import_panel(store: Any, upload: Any, index: int) -> None:
         except ImportRejected as exc:
             show_error(exc, context=name)
             return
-        sheet = cols[0].selectbox("Sheet", sheets, key=f"{key}_sheet")
-    gas_unit = c2.selectbox("VO2/VCO2 unit", list(GAS_UNITS), format_func=GAS_UNITS.__getitem__, key=f"{key}_gas")
+        sheet = cols[0].selectbox("Sheet", sheets, index=_default_sheet(raw, name, sheets), key=f"{base}_sheet")
+    gas_unit = c2.selectbox("VO2/VCO2 unit", list(GAS_UNITS), format_func=GAS_UNITS.__getitem__, key=f"{base}_gas")
     time_format = c_time.selectbox(
-        "Time column written as", list(TIME_FORMAT_LABELS), format_func=TIME_FORMAT_LABELS.__getitem__, key=f"{key}_time"
+        "Time column written as", list(TIME_FORMAT_LABELS), format_func=TIME_FORMAT_LABELS.__getitem__, key=f"{base}_time"
     )
     profiles = data.list_profiles()
-    profile = c3.selectbox("Column mapping", [GUESS, *profiles], key=f"{key}_profile")
+    profile = c3.selectbox("Column mapping", [GUESS, *profiles], key=f"{base}_profile")
 
-    # widgets and edits are per profile: choosing another profile starts from that profile
-    key = f"{key}_{hashlib.sha256(str(profile).encode()).hexdigest()[:6]}"
+    # Widgets and edits belong to one sheet and one profile: choosing another sheet or profile
+    # starts from its own guessed mapping. "Back to the guessed mapping" starts a new generation
+    # of editor widgets, so no edited box survives the reset.
+    generation = int(st.session_state.get(f"{base}_gen", 0))
+    key = f"{base}_{hashlib.sha256(f'{profile}|{sheet}|{generation}'.encode()).hexdigest()[:8]}"
     edits_key = f"{key}_edits"
     columns: dict[str, str] | None = st.session_state.get(edits_key)
     guess_rest = columns is None
@@ -266,8 +326,10 @@ def _import_panel(store: Any, upload: Any, index: int) -> None:
             raw, file_name=name, mapping_json=mapping_json, sheet=sheet, gas_unit=gas_unit, time_format=time_format
         )
     except ImportRejected as exc:
-        st.error(f"**{name}** cannot be imported as set up. Nothing was stored.")
-        st.dataframe(pd.DataFrame(problem_rows(exc)), hide_index=True)
+        st.error(f"**{markdown_text(name)}** cannot be imported as set up. Nothing was stored.")
+        st.dataframe(pd.DataFrame(problem_rows(exc)), hide_index=True, width="stretch",
+                     column_config={"Problem": st.column_config.TextColumn("Problem", width="large"),
+                                    "What to do": st.column_config.TextColumn("What to do", width="large")})
     except InvalidParameter as exc:
         show_error(exc, context=name)
 
@@ -286,8 +348,12 @@ def _import_panel(store: Any, upload: Any, index: int) -> None:
             if edited is not None:
                 st.session_state[edits_key] = edited
                 st.rerun()
-            if columns is not None and st.button("Back to the guessed mapping", key=f"{key}_reset"):
+            if outcome is not None:
+                for line in conversion_notes(outcome.mapping):
+                    st.caption(line)
+            if (columns is not None or generation) and st.button("Back to the guessed mapping", key=f"{key}_reset"):
                 st.session_state.pop(edits_key, None)
+                st.session_state[f"{base}_gen"] = generation + 1
                 st.rerun()
             p1, p2 = st.columns([2, 1])
             profile_name = p1.text_input("Save this mapping as a profile named", key=f"{key}_pname")
@@ -300,7 +366,7 @@ def _import_panel(store: Any, upload: Any, index: int) -> None:
     b = session.breaths
     m1, m2, m3, m4 = st.columns(4)
     m1.metric("Breaths", f"{len(b):,}")
-    m2.metric("Time span (s)", f"{b[C.T_S].min():.0f} – {b[C.T_S].max():.0f}")
+    m2.metric("Time span (m:ss)", f"{clock_text(b[C.T_S].min())} – {clock_text(b[C.T_S].max())}")
     m3.metric("Gas unit found", GAS_UNITS.get(outcome.gas_unit_detected, outcome.gas_unit_detected))
     m4.metric("Time format", TIME_FORMAT_LABELS.get(outcome.time_format_detected, outcome.time_format_detected))
     details = [f"delimiter {outcome.delimiter!r}" if outcome.delimiter else "Excel workbook",
@@ -309,20 +375,20 @@ def _import_panel(store: Any, upload: Any, index: int) -> None:
         details.append(f"sheet ‘{outcome.sheet}’")
     if outcome.skipped_lines:
         details.append(f"{len(outcome.skipped_lines)} lines outside the table skipped")
-    st.caption(" · ".join(details))
+    st.caption(markdown_text(" · ".join(details)))
     for note in outcome.notes:
-        st.caption(f"Note: {note}")
+        st.caption(markdown_text(f"Note: {page_advice(note)}"))
     too_long = duration_warning(b[C.T_S].to_numpy())
     if too_long:
         st.warning(too_long)
     flags = session.flags
     if len(flags):
         st.warning(f"{len(flags)} rows are flagged as suspicious but kept (nothing is dropped silently).")
-        st.dataframe(flag_summary(flags), hide_index=True)
+        st.dataframe(flag_summary(flags), hide_index=True, width="stretch")
         with st.expander("Every flagged row"):
             st.dataframe(
                 flags.rename(columns={"source_row": "Line", "column": "Column", "reason": "Reason"}),
-                hide_index=True,
+                hide_index=True, width="stretch",
             )
     else:
         st.success("No suspicious rows found.")
@@ -330,12 +396,27 @@ def _import_panel(store: Any, upload: Any, index: int) -> None:
     if not state.can_edit():
         st.info("Your role can view the library but not import tests.")
         return
+    if outcome.preamble:
+        st.markdown("**Read from the lines above the table** — check them; the form below starts from them.")
+        st.dataframe(pd.DataFrame(preamble_rows(outcome.preamble)), hide_index=True, width="stretch")
     with st.form(f"{key}_form"):
         f1, f2 = st.columns(2)
         code = f1.text_input("Person code (pseudonymous)", value=str(session.meta.get("subject_id", "")), key=f"{key}_code")
         display = f2.text_input("Display name (optional, staff only)", key=f"{key}_name")
+        st.markdown("**Subject and test details**")
+        values = detail_inputs(f"{key}_det", form_defaults(session.meta))
+        confirmed = True
+        if outcome.preamble:
+            confirmed = st.checkbox("The values read from the file are right", key=f"{key}_confirm")
         go = st.form_submit_button("Import into the library", type="primary")
+    if go and not confirmed:
+        st.error("Check the values read from the file and tick the box before importing (or correct them in the form).")
+        return
     if go:
+        options = import_options(sheet=outcome.sheet, gas_unit=gas_unit, time_format=time_format)
+        overrides = import_overrides(session.meta, values)
+        if overrides:
+            options["meta_overrides"] = overrides
         try:
             result = store.import_test(
                 raw,
@@ -344,18 +425,20 @@ def _import_panel(store: Any, upload: Any, index: int) -> None:
                 person_code=code.strip() or None,
                 display_name=display.strip() or None,
                 mapping=outcome.mapping.to_dict(),
-                options=import_options(sheet=outcome.sheet, gas_unit=gas_unit, time_format=time_format),
+                options=options,
             )
         except Exception as exc:  # noqa: BLE001 - refusals shown plainly, nothing written
             show_error(exc, context=f"Import of {name}")
             return
         st.session_state["lib_last_import"] = result.test_id
         if result.duplicate:
-            st.info(f"{name} is already in the library (test {result.test_id}); nothing new was stored.")
+            state.flash(f"{name} is already in the library (test {result.test_id}); nothing new was stored.", kind="info")
         else:
-            st.success(f"{name} stored as test {result.test_id}.")
+            state.flash(f"{name} stored as test {result.test_id}.")
             if result.results_error:
-                st.warning(f"The analysis could not be completed: {result.results_error}")
+                state.flash(f"The analysis could not be completed: {result.results_error}", kind="warning")
+        state.set_current_test(result.test_id)
+        st.rerun()  # the list above shows the new test at once
     if st.session_state.get("lib_last_import") is not None and st.button(
         "Open the imported test in Review", key=f"{key}_open"
     ):

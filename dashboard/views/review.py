@@ -37,6 +37,7 @@ from dashboard.charts.linking import (
 from dashboard.charts.time_course import VO2_TRACE
 from dashboard.charts.vslope import DATA_TRACE, exercise_rows
 from dashboard.errors import show_error
+from dashboard.views._subject_panel import details_panel
 
 log = logging.getLogger("tidemark.dashboard")
 
@@ -739,6 +740,7 @@ def render() -> None:
     for w in results_json.get("warnings") or []:
         st.warning(str(w))
     _headline(results_json)
+    details_panel(store, test_id)
     st.subheader("Thresholds")
     for line in threshold_lines(results_json):
         st.markdown(line)

@@ -85,6 +85,12 @@ def test_upload_shows_the_import_check_and_imports_into_the_store(demo_store, pa
     assert room.value == "ignore"
     code_key = next(t.key for t in at.text_input if t.label.startswith("Person code"))
     at.text_input(key=code_key).input("SEL-9001")
+    # "subject: fictional" above the table was read as the person code: the reviewer confirms it
+    assert any("Read from the lines above the table" in m.value for m in at.markdown)
+    at.button[[b.label for b in at.button].index("Import into the library")].click().run()
+    assert any("tick the box" in e.value for e in at.error)  # not confirmed: nothing stored
+    assert "SEL-9001" not in {p.code for p in demo_store.store.list_people()}
+    next(c for c in at.checkbox if c.label == "The values read from the file are right").check()
     at.button[[b.label for b in at.button].index("Import into the library")].click().run()
     assert not at.exception, at.exception
     assert any("stored as test" in s.value for s in at.success)
