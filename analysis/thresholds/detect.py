@@ -10,7 +10,8 @@ import pandas as pd
 from analysis import columns as C
 from analysis.errors import InvalidParameter
 from analysis.thresholds.results import ThresholdPick, ThresholdReport, VSlopeFit
-from analysis.thresholds.segments import best_turn_up, best_two_lines
+from analysis.thresholds.segments import TurnUp, best_turn_up, split_table
+from analysis.thresholds.uncertainty import MAX_CI_FRACTION, hull, profile_accept
 from analysis.thresholds.vslope import F_TEST_ALPHA, vslope_fit
 from analysis.thresholds.vslope import f_test_p as _f_test_p
 
@@ -172,10 +173,28 @@ def time_at_level(t: np.ndarray, values: np.ndarray, level: float) -> float:
     return float(t[i - 1] + f * (t[i] - t[i - 1]))
 
 
-def _pick(kind: str, method: str, ex: _Ex, t_s: float, note: str, *, vo2: float | None = None) -> ThresholdPick:
+def _pick(
+    kind: str,
+    method: str,
+    ex: _Ex,
+    t_s: float,
+    note: str,
+    *,
+    vo2: float | None = None,
+    ci_t: tuple[float, float] | None = None,
+    ci_vo2: tuple[float, float] | None = None,
+) -> ThresholdPick:
+    """One method's pick; an interval given in time or in VO2 is translated into the other."""
     i = int(np.argmin(np.abs(ex.t - t_s)))
     v = vo2 if vo2 is not None else vo2_at_time(ex.t, ex.vo2, t_s)
-    return ThresholdPick(kind, float(t_s), float(v), method, "auto", "moderate", note, int(ex.row[i]))  # type: ignore[arg-type]
+    if ci_t is not None and ci_vo2 is None:
+        ci_vo2 = hull(np.array([vo2_at_time(ex.t, ex.vo2, x) for x in ci_t]), including=v)
+    elif ci_vo2 is not None and ci_t is None:
+        ci_t = hull(np.array([time_at_level(ex.t, ex.vo2, x) for x in ci_vo2]), including=t_s)
+    return ThresholdPick(
+        kind, float(t_s), float(v), method, "auto", "moderate", note, int(ex.row[i]),  # type: ignore[arg-type]
+        ci90_vo2_ml_min=ci_vo2, ci90_t_s=ci_t,
+    )
 
 
 #: How each turn's size is written for the reader: unit and number format.
@@ -219,7 +238,16 @@ def _turn(
         reasons.append(f"{method}: " + "; ".join(why))
         return None
     note = f"{what} {'starts to fall' if falling else 'turns upward'} at {fit.t_break:.0f} s ({'falls' if falling else 'rises'} {_size(key, fit.rise)} by the end)"
-    return _pick(kind, method, ex, fit.t_break, note)
+    return _pick(kind, method, ex, fit.t_break, note, ci_t=_turn_interval(ex.t[ok], fit))
+
+
+def _turn_interval(t: np.ndarray, fit: TurnUp) -> tuple[float, float] | None:
+    """90 % profile interval of a turn's time (positions of the last line's first point)."""
+    keep = profile_accept(fit.profile, n_points=t.size, n_params=6)
+    if keep is None or not keep.any():
+        return None
+    j = fit.profile_start + np.flatnonzero(keep)
+    return hull(np.array([t[j.min() - 1], t[j.max()]]), including=fit.t_break)
 
 
 # ---------------------------------------------------------------- VT2 (respiratory compensation)
@@ -233,10 +261,14 @@ def _ve_vco2_break(ex: _Ex, reasons: list[str]) -> ThresholdPick | None:
     if xs.size < 8:
         reasons.append(f"{VE_VCO2_BREAK}: only {xs.size} averaged points with VE and VCO2 (at least 8 needed)")
         return None
-    fit = best_two_lines(
-        xs, ys, min_segment=4, admissible=lambda s1, s2: (s1 > 0) & (s2 >= VE_VCO2_STEEPENING * s1)
-    )
-    if fit is None:
+    table = split_table(xs, ys, min_segment=4)
+    rules = None
+    fit = None
+    if table is not None:
+        with np.errstate(invalid="ignore"):
+            rules = (table.s1 > 0) & (table.s2 >= VE_VCO2_STEEPENING * table.s1)
+        fit = table.best(rules)
+    if fit is None or table is None:
         reasons.append(
             f"{VE_VCO2_BREAK}: VE never becomes at least {VE_VCO2_STEEPENING - 1:.0%} steeper against VCO2 "
             "(no sign of respiratory compensation)"
@@ -250,7 +282,12 @@ def _ve_vco2_break(ex: _Ex, reasons: list[str]) -> ThresholdPick | None:
         )
         return None
     t_s = time_at_level(sub.t, sub.vco2, fit.x_cross)
-    return _pick("vt2", VE_VCO2_BREAK, ex, t_s, f"VE steepens against VCO2 at VCO2 {fit.x_cross:.0f} mL/min")
+    ci_t = None
+    keep = profile_accept(np.where(rules, table.total, np.inf), n_points=xs.size, n_params=4)
+    if keep is not None and keep.any():
+        k = table.k[keep]
+        ci_t = hull(np.array([time_at_level(sub.t, sub.vco2, x) for x in (xs[k.min() - 1], xs[k.max()])]), including=t_s)
+    return _pick("vt2", VE_VCO2_BREAK, ex, t_s, f"VE steepens against VCO2 at VCO2 {fit.x_cross:.0f} mL/min", ci_t=ci_t)
 
 
 def _vt2_candidates(ex: _Ex, reasons: list[str]) -> dict[str, ThresholdPick | None]:
@@ -295,7 +332,7 @@ def _vslope(ex: _Ex, reasons: list[str]) -> tuple[ThresholdPick | None, VSlopeFi
         f"VCO2 against VO2 steepens from a slope of {fit.slope_below:.2f} to {fit.slope_above:.2f} "
         f"at VO2 {fit.vo2_break_ml_min:.0f} mL/min"
     )
-    return _pick("vt1", VSLOPE, ex, t_s, note, vo2=fit.vo2_break_ml_min), fit
+    return _pick("vt1", VSLOPE, ex, t_s, note, vo2=fit.vo2_break_ml_min, ci_vo2=fit.ci90_vo2_ml_min), fit
 
 
 def _equivalents(ex: _Ex, reasons: list[str]) -> ThresholdPick | None:
@@ -376,8 +413,28 @@ def _consensus(kind: str, cands: dict[str, ThresholdPick | None], ex: _Ex) -> tu
     if confidence == "low":
         note += " (check the charts before relying on it)"
     i = int(np.argmin(np.abs(ex.t - t_s)))
-    pick = ThresholdPick(kind, t_s, v, CONSENSUS, "auto", confidence, note, int(ex.row[i]))  # type: ignore[arg-type]
+    ci_vo2, ci_t = _cluster_interval(cluster, v, t_s)
+    pick = ThresholdPick(
+        kind, t_s, v, CONSENSUS, "auto", confidence, note, int(ex.row[i]),  # type: ignore[arg-type]
+        ci90_vo2_ml_min=ci_vo2, ci90_t_s=ci_t,
+    )
     return pick, agree
+
+
+def _cluster_interval(
+    cluster: list[ThresholdPick], v: float, t_s: float
+) -> tuple[tuple[float, float] | None, tuple[float, float] | None]:
+    """Interval of a consensus: middle (median) lower and upper ends of its members' intervals."""
+    out: list[tuple[float, float] | None] = []
+    for attr, centre in (("ci90_vo2_ml_min", v), ("ci90_t_s", t_s)):
+        ends = [getattr(p, attr) for p in cluster if getattr(p, attr) is not None]
+        if not ends:
+            out.append(None)
+            continue
+        lo = float(np.median([e[0] for e in ends]))
+        hi = float(np.median([e[1] for e in ends]))
+        out.append((min(lo, centre), max(hi, centre)))
+    return out[0], out[1]
 
 
 def detect_thresholds(avg: pd.DataFrame, *, phases: pd.Series | np.ndarray | None = None) -> ThresholdReport:
@@ -503,6 +560,8 @@ def detect_thresholds(avg: pd.DataFrame, *, phases: pd.Series | np.ndarray | Non
         reasons.append("VT1 came out at or above VT2: both marked low confidence; check the charts")
         vt1 = _with_confidence(vt1, "low")
         vt2 = _with_confidence(vt2, "low")
+    vt1, report.vt1_undetermined = _determinable(vt1, ex, reasons)
+    vt2, report.vt2_undetermined = _determinable(vt2, ex, reasons)
     report.vt1, report.vt2 = vt1, vt2
     report.vt1_auto, report.vt2_auto = vt1, vt2
     report.vt1_candidates, report.vt2_candidates = vt1_c, vt2_c
@@ -510,6 +569,24 @@ def detect_thresholds(avg: pd.DataFrame, *, phases: pd.Series | np.ndarray | Non
     report.agreement = {"vt1": agree1, "vt2": agree2}
     report.reasons = reasons
     return report
+
+
+def _determinable(
+    pick: ThresholdPick | None, ex: _Ex, reasons: list[str]
+) -> tuple[ThresholdPick | None, ThresholdPick | None]:
+    """(pick in use, pick set aside as not determinable): too wide an interval is not reported."""
+    if pick is None or pick.ci90_vo2_ml_min is None:
+        return pick, None
+    lo, hi = pick.ci90_vo2_ml_min
+    peak = float(np.max(ex.vo2))
+    if peak <= 0 or (hi - lo) <= MAX_CI_FRACTION * peak:
+        return pick, None
+    reason = (
+        f"its 90 % interval runs from {lo:.0f} to {hi:.0f} mL/min, {100 * (hi - lo) / peak:.0f} % of the "
+        f"highest VO2 of exercise (at most {100 * MAX_CI_FRACTION:.0f} % for a reading), so no value is reported"
+    )
+    reasons.append(f"{pick.kind.upper()} not determinable: {reason}")
+    return None, replace(pick, determinable=False, reason=reason)
 
 
 def _with_confidence(p: ThresholdPick, confidence: str) -> ThresholdPick:

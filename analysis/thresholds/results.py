@@ -45,6 +45,17 @@ class ThresholdPick:
         Plain-language explanation.
     index : int
         Row in the averaged frame nearest the threshold.
+    ci90_vo2_ml_min : tuple of float or None
+        90 % confidence interval of the threshold's VO2, mL/min (``None`` when not estimated,
+        e.g. a reviewer's pick). See :mod:`analysis.thresholds.uncertainty` for the method.
+    ci90_t_s : tuple of float or None
+        90 % confidence interval of the threshold's time, s.
+    determinable : bool
+        False when the interval is wider than :data:`analysis.thresholds.uncertainty.MAX_CI_FRACTION`
+        of the test's VO2 range: the pick is then kept for the charts (as a band) but not
+        reported as the threshold.
+    reason : str
+        Why the threshold is not determinable (empty otherwise).
     """
 
     kind: ThresholdKind
@@ -55,6 +66,10 @@ class ThresholdPick:
     confidence: Confidence = "moderate"
     note: str = ""
     index: int = -1
+    ci90_vo2_ml_min: tuple[float, float] | None = None
+    ci90_t_s: tuple[float, float] | None = None
+    determinable: bool = True
+    reason: str = ""
 
     def to_dict(self) -> dict[str, Any]:
         return _clean(asdict(self))
@@ -68,6 +83,8 @@ class VSlopeFit:
     split (in the order of increasing x). ``vo2_break_ml_min`` / ``vco2_break_ml_min`` are
     where the two lines cross (kept inside the span of the two points either side of the
     split). ``valid`` says whether the fit meets the acceptance rules; ``reason`` says why not.
+    ``ci90_vo2_ml_min`` is the 90 % profile interval of the break's VO2
+    (:func:`analysis.thresholds.uncertainty.profile_accept` over the admissible splits).
     """
 
     break_index: int
@@ -84,6 +101,7 @@ class VSlopeFit:
     n_above: int = 0
     vo2_min_ml_min: float = math.nan
     vo2_max_ml_min: float = math.nan
+    ci90_vo2_ml_min: tuple[float, float] | None = None
 
     def to_dict(self) -> dict[str, Any]:
         return _clean(asdict(self))
@@ -107,6 +125,9 @@ class ThresholdReport:
         Why a threshold (or a method) found nothing.
     vt1_auto, vt2_auto : ThresholdPick or None
         The automatic consensus, kept so that a manual override can be cleared.
+    vt1_undetermined, vt2_undetermined : ThresholdPick or None
+        A consensus whose 90 % interval was too wide to report (``determinable=False``, with
+        its ``reason``): ``vt1`` / ``vt2`` are then ``None``; kept to draw its band and say why.
     """
 
     vt1: ThresholdPick | None = None
@@ -118,6 +139,8 @@ class ThresholdReport:
     reasons: list[str] = field(default_factory=list)
     vt1_auto: ThresholdPick | None = None
     vt2_auto: ThresholdPick | None = None
+    vt1_undetermined: ThresholdPick | None = None
+    vt2_undetermined: ThresholdPick | None = None
 
     def to_dict(self) -> dict[str, Any]:
         """JSON-ready dictionary (NaN -> None)."""
@@ -135,4 +158,6 @@ class ThresholdReport:
             "reasons": list(self.reasons),
             "vt1_auto": pick(self.vt1_auto),
             "vt2_auto": pick(self.vt2_auto),
+            "vt1_undetermined": pick(self.vt1_undetermined),
+            "vt2_undetermined": pick(self.vt2_undetermined),
         }

@@ -9,7 +9,8 @@ from scipy.special import fdtrc
 
 from analysis.errors import InvalidParameter, require
 from analysis.thresholds.results import VSlopeFit
-from analysis.thresholds.segments import split_table
+from analysis.thresholds.segments import SplitTable, split_table
+from analysis.thresholds.uncertainty import hull, profile_accept
 
 #: Acceptance rules for a V-slope breakpoint. Beaver et al. (1986) require the upper slope to
 #: exceed the lower by more than 0.1 and the lower slope to be near 1 (from memory); the
@@ -71,11 +72,15 @@ def vslope_fit(
     (when none meets them, the best free split is returned, invalid, with the rule it breaks).
     The breakpoint is where the two lines cross. The winner must also (3) explain the data
     better than one line (F test, alpha = 0.001, 2 and n - 4 degrees of freedom).
+    ``ci90_vo2_ml_min`` is the 90 % profile interval of the break over the splits meeting
+    (1)-(2) (:func:`analysis.thresholds.uncertainty.profile_accept`, Lerman 1980).
 
     References
     ----------
     Beaver WL, Wasserman K, Whipp BJ (1986). A new method for detecting anaerobic threshold by
     gas exchange. J Appl Physiol 60:2020-2027.
+    Lerman PM (1980). Fitting segmented regression models by grid search. Appl Stat 29:77-84
+    (the profile interval of the join point; from memory).
 
     Examples
     --------
@@ -102,9 +107,11 @@ def vslope_fit(
     table = split_table(xs, ys, min_segment=int(min_segment))
     free = table.best() if table is not None else None
     fit = None
+    rules = None
     if table is not None:
         with np.errstate(invalid="ignore"):
-            fit = table.best((table.s2 - table.s1 > MIN_SLOPE_INCREASE) & (table.s1 >= lo_s) & (table.s1 <= hi_s))
+            rules = (table.s2 - table.s1 > MIN_SLOPE_INCREASE) & (table.s1 >= lo_s) & (table.s1 <= hi_s)
+        fit = table.best(rules)
     if free is None:
         return VSlopeFit(
             -1, math.nan, math.nan, math.nan, math.nan, math.nan, math.nan, math.nan, False,
@@ -133,6 +140,7 @@ def vslope_fit(
             )
     xb = fit.x_cross
     yb = fit.slope_below * xb + fit.intercept_below
+    ci = _profile_interval(table, rules, xs, xb) if table is not None and not reason else None
     return VSlopeFit(
         break_index=int(order[fit.k]),
         vo2_break_ml_min=float(xb),
@@ -148,4 +156,20 @@ def vslope_fit(
         n_above=n - fit.k,
         vo2_min_ml_min=lo,
         vo2_max_ml_min=hi,
+        ci90_vo2_ml_min=ci,
     )
+
+
+def _profile_interval(table: SplitTable, rules: np.ndarray | None, xs: np.ndarray, x_break: float) -> tuple[float, float] | None:
+    """90 % profile interval of the break's x over the splits meeting the slope rules.
+
+    A split at sorted position ``k`` puts the break between ``xs[k - 1]`` and ``xs[k]``; the
+    interval runs from the lower point of the first accepted split to the upper point of the
+    last (and always holds the break itself).
+    """
+    profile = np.where(rules, table.total, np.inf) if rules is not None else table.total
+    keep = profile_accept(profile, n_points=xs.size, n_params=4)
+    if keep is None or not keep.any():
+        return None
+    k = table.k[keep]
+    return hull(np.array([xs[k.min() - 1], xs[k.max()]]), including=x_break)
