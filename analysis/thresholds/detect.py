@@ -262,7 +262,7 @@ def _ve_vco2_break(ex: _Ex, reasons: list[str]) -> ThresholdPick | None:
         reasons.append(f"{VE_VCO2_BREAK}: only {xs.size} averaged points with VE and VCO2 (at least 8 needed)")
         return None
     table = split_table(xs, ys, min_segment=4)
-    rules = None
+    rules = np.zeros(0, dtype=bool)
     fit = None
     if table is not None:
         with np.errstate(invalid="ignore"):
