@@ -31,7 +31,7 @@ def _eligible(frame: pd.DataFrame) -> np.ndarray:
     ok = np.zeros(n, dtype=bool)
     ok[EDGE_BREATHS : max(n - EDGE_BREATHS, EDGE_BREATHS)] = True
     if C.PHASE in frame:
-        phase = frame[C.PHASE].astype(str).to_numpy()
+        phase = np.asarray(frame[C.PHASE].to_numpy(), dtype=object)
         change = np.flatnonzero(phase[1:] != phase[:-1]) + 1
         for i in change:
             ok[max(i - 3, 0) : i + 3] = False
@@ -41,9 +41,10 @@ def _eligible(frame: pd.DataFrame) -> np.ndarray:
 def _pick(rng: np.random.Generator, ok: np.ndarray, count: int, span: int = 1) -> list[int]:
     """Up to ``count`` start rows whose ``span`` rows are all eligible, 10 breaths apart; the
     chosen rows are then marked not eligible."""
-    starts = [i for i in range(len(ok) - span + 1) if ok[i : i + span].all()]
+    bad = np.concatenate([[0], np.cumsum(~ok)])
+    starts = np.flatnonzero(bad[span:] == bad[:-span]) if len(ok) >= span else np.array([], dtype=int)
     chosen: list[int] = []
-    for i in rng.permutation(np.asarray(starts, dtype=int)) if starts else []:
+    for i in rng.permutation(starts) if starts.size else []:
         if len(chosen) == count:
             break
         if ok[int(i) : int(i) + span].all():

@@ -260,15 +260,23 @@ def _extended_grid(
     return grid, plain, final
 
 
+_Extended = tuple[np.ndarray, dict[str, np.ndarray], dict[str, np.ndarray]]
+
+
 def _channels_at(
-    profile: SubjectProfile, protocol: ProtocolSpec, line: _Timeline, t_s: np.ndarray, extras: ModelExtras | None
+    profile: SubjectProfile,
+    protocol: ProtocolSpec,
+    line: _Timeline,
+    t_s: np.ndarray,
+    extras: ModelExtras | None,
+    extended: _Extended | None = None,
 ) -> dict[str, np.ndarray]:
     """Noise-free channels at times ``t_s``: the base model, or the extended grid sampled
     there (loads are evaluated exactly, so steps stay steps)."""
     if extras is None:
         return _channels(profile, protocol, line, t_s)
     t = np.asarray(t_s, dtype=float)
-    grid, _, final = _extended_grid(profile, protocol, line, extras)
+    grid, _, final = extended if extended is not None else _extended_grid(profile, protocol, line, extras)
     loads = _loads(protocol, t, line.t_end_s)
     return {k: (loads[k] if k in loads else np.interp(t, grid, v)) for k, v in final.items()}
 
@@ -553,7 +561,8 @@ def simulate_session(
 
     t = _breath_times(profile, protocol, line, rng=rng_time, noise=float(noise))
     n = len(t)
-    ch = _channels_at(profile, protocol, line, t, extras)
+    extended = None if extras is None else _extended_grid(profile, protocol, line, extras)
+    ch = _channels_at(profile, protocol, line, t, extras, extended)
     duration = np.diff(np.concatenate([[0.0], t]))
     rf_breath = 60.0 / duration
 
@@ -631,8 +640,8 @@ def simulate_session(
     meta["simulated"] = f"Tidemark simulator, seed {int(seed)}, noise {float(noise):g}, artifacts {int(artifacts)}"
     meta.update(_truth(profile, protocol, line))
     meta["truth_artifact_t_s"] = ",".join(f"{x:.2f}" for x in artifact_t)
-    if extras is not None:
-        grid, plain, _ = _extended_grid(profile, protocol, line, extras)
+    if extras is not None and extended is not None:
+        grid, plain, _ = extended
         meta.update(
             extended_truth(
                 grid,
