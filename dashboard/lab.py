@@ -49,7 +49,7 @@ def share_base_url(identity: Any | None, *, request_host: str | None, environ: d
     >>> share_base_url(None, request_host="x", environ={"TIDEMARK_PUBLIC_URL": "tests.lab.example"})
     'https://tests.lab.example'
     """
-    from store.lab import public_base_url
+    from store import public_base_url
 
     stored = str(getattr(identity, "public_url", "") or "")
     configured = public_base_url(stored, environ=environ)
@@ -60,7 +60,7 @@ def share_base_url(identity: Any | None, *, request_host: str | None, environ: d
 
 def public_url_configured(identity: Any | None, *, environ: dict[str, str] | None = None) -> bool:
     """True when share links have a configured public address (environment or lab settings)."""
-    from store.lab import public_base_url
+    from store import public_base_url
 
     return public_base_url(str(getattr(identity, "public_url", "") or ""), environ=environ) is not None
 

@@ -19,6 +19,7 @@ from store.errors import (
     PermissionDenied,
     StoreError,
 )
+from store.lab import PUBLIC_URL_ENV, LabIdentity, public_base_url
 from store.records import (
     LOCAL_OPERATOR,
     ROLE_ORDER,
@@ -42,10 +43,12 @@ __all__ = [
     "EditConflict",
     "ImportResult",
     "LOCAL_OPERATOR",
+    "LabIdentity",
     "LoginRefused",
     "NotFound",
     "Operator",
     "PermissionDenied",
+    "PUBLIC_URL_ENV",
     "PersonSummary",
     "ROLE_ORDER",
     "SHARE_SECTIONS",
@@ -58,4 +61,5 @@ __all__ = [
     "TestSummary",
     "User",
     "open_store",
+    "public_base_url",
 ]

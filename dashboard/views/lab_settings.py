@@ -13,7 +13,7 @@ import streamlit as st
 
 from dashboard import data, lab, state
 from dashboard.errors import show_error
-from store.lab import PUBLIC_URL_ENV, public_base_url
+from store import PUBLIC_URL_ENV, public_base_url
 
 LOGO_TYPES = ["png", "jpg", "jpeg"]
 
