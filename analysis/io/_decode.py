@@ -27,6 +27,9 @@ MAX_UPLOAD_MB: int = 50
 DEFAULT_MAX_BYTES: int = MAX_UPLOAD_MB * 1_000_000
 
 _CONTROL = re.compile(r"[\x00-\x08\x0b-\x0c\x0e-\x1f\x7f-\x9f]")
+#: Every byte except the ASCII control characters of ``_CONTROL``: deleting these from ASCII
+#: text leaves only its control characters (one C pass, several times quicker than the search).
+_NOT_CONTROL_BYTES = bytes(b for b in range(256) if not _CONTROL.match(chr(b)) or b > 0x7F)
 _LINE_BREAK = re.compile(r"\r\n|\r|\n")
 
 XLSX_MAGIC = b"PK\x03\x04"
@@ -135,7 +138,8 @@ def decode_text(data: bytes, *, file_name: str, strict_utf8: bool = False) -> De
                 f"the file is not UTF-8 (first non-UTF-8 byte on line {line}); it was read as "
                 "Windows-1252 — check that special characters (µ, °, accented letters) look right"
             )
-    bad = _CONTROL.search(text)
+    plain_ascii = text.isascii() and not text.encode("ascii").translate(None, _NOT_CONTROL_BYTES)
+    bad = None if plain_ascii else _CONTROL.search(text)
     if bad:
         raise _reject_binary(
             file_name, _line_of(text, bad.start()), f"the file contains the control character U+{ord(bad.group()):04X}"

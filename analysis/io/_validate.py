@@ -185,11 +185,17 @@ def normalise_phase(values: pd.Series) -> pd.Series:
         key = v.strip().lower()
         return _PHASE_SYNONYMS.get(key, v.strip())
 
-    return values.map(one)
+    codes, uniques = pd.factorize(values)  # a handful of labels: map each once; None/NaN kept as they are
+    mapped = np.empty(len(uniques), dtype=object)
+    mapped[:] = [one(v) for v in uniques]
+    out = values.to_numpy(dtype=object, copy=True)
+    labelled = codes >= 0
+    out[labelled] = mapped[codes[labelled]]
+    return pd.Series(out, index=values.index, name=values.name, dtype=object)
 
 
 def check_and_flag(
-    frame: pd.DataFrame,
+    frame: pd.DataFrame | Mapping[str, Any],
     *,
     problems: ProblemLog,
     headers: Mapping[str, str],
@@ -199,7 +205,7 @@ def check_and_flag(
 
     Parameters
     ----------
-    frame : DataFrame
+    frame : DataFrame or mapping of column name to array
         Canonical columns (numeric ones as float, NaN where missing) and ``source_row``.
     problems : ProblemLog
         Receives located problems; the caller raises them.
@@ -209,17 +215,17 @@ def check_and_flag(
         Canonical column -> how its unit was read (added to the fix of range problems).
     """
     unit_notes = unit_notes or {}
-    rows = frame["source_row"].to_numpy()
-    flags: list[tuple[int, str, str]] = []
+    rows = np.asarray(frame["source_row"])
+    flags: list[tuple[np.ndarray, str, str]] = []  # (source rows, column, reason), in the order found
 
     def header(name: str) -> str:
         return headers.get(name, name)
 
     for name in C.NUMERIC:
-        if name not in frame.columns:
+        if name not in frame:
             continue
         spec = C.COLUMNS[name]
-        v = frame[name].to_numpy(dtype=float)
+        v = np.asarray(frame[name], dtype=float)
         lo, hi = spec.reject_below, spec.reject_above
         impossible = np.zeros(len(v), dtype=bool)
         if lo is not None:
@@ -236,15 +242,15 @@ def check_and_flag(
             )
         usable = ~impossible & ~np.isnan(v)
         if spec.flag_below is not None:
-            flags += [(int(rows[i]), name, REASON_BELOW) for i in np.flatnonzero(usable & (v < spec.flag_below))]
+            flags.append((rows[usable & (v < spec.flag_below)], name, REASON_BELOW))
         if spec.flag_above is not None:
-            flags += [(int(rows[i]), name, REASON_ABOVE) for i in np.flatnonzero(usable & (v > spec.flag_above))]
+            flags.append((rows[usable & (v > spec.flag_above)], name, REASON_ABOVE))
         if not spec.required:
-            flags += [(int(rows[i]), name, REASON_MISSING) for i in np.flatnonzero(np.isnan(v))]
+            flags.append((rows[np.isnan(v)], name, REASON_MISSING))
 
-    if C.VO2_ML_MIN in frame.columns and C.VCO2_ML_MIN in frame.columns:
-        vo2 = frame[C.VO2_ML_MIN].to_numpy(dtype=float)
-        vco2 = frame[C.VCO2_ML_MIN].to_numpy(dtype=float)
+    if C.VO2_ML_MIN in frame and C.VCO2_ML_MIN in frame:
+        vo2 = np.asarray(frame[C.VO2_ML_MIN], dtype=float)
+        vco2 = np.asarray(frame[C.VCO2_ML_MIN], dtype=float)
         with np.errstate(divide="ignore", invalid="ignore"):
             rer = np.where(vo2 > 0, vco2 / vo2, np.nan)
         for i in np.flatnonzero(rer > C.RER_REJECT_ABOVE):
@@ -255,10 +261,10 @@ def check_and_flag(
                 column=header(C.VCO2_ML_MIN),
             )
         odd = ((rer < C.RER_FLAG_BELOW) | (rer > C.RER_FLAG_ABOVE)) & (rer <= C.RER_REJECT_ABOVE)
-        flags += [(int(rows[i]), RER_COLUMN, REASON_RER) for i in np.flatnonzero(odd)]
+        flags.append((rows[odd], RER_COLUMN, REASON_RER))
 
-    if C.T_S in frame.columns and len(frame) > 1:
-        t = frame[C.T_S].to_numpy(dtype=float)
+    if C.T_S in frame and len(rows) > 1:
+        t = np.asarray(frame[C.T_S], dtype=float)
         dt = np.diff(t)
         for i in np.flatnonzero(dt < 0):
             problems.add(
@@ -267,23 +273,32 @@ def check_and_flag(
                 row=int(rows[i + 1]),
                 column=header(C.T_S),
             )
-        flags += [(int(rows[i + 1]), C.T_S, REASON_DUPLICATE_TIME) for i in np.flatnonzero(dt == 0)]
-        flags += [(int(rows[i + 1]), C.T_S, REASON_GAP) for i in np.flatnonzero(dt > GAP_FLAG_S)]
+        flags.append((rows[1:][dt == 0], C.T_S, REASON_DUPLICATE_TIME))
+        flags.append((rows[1:][dt > GAP_FLAG_S], C.T_S, REASON_GAP))
 
-    if C.PHASE in frame.columns:
-        for j, v in enumerate(frame[C.PHASE].tolist()):
-            if isinstance(v, str) and v not in C.PHASES:
-                flags.append((int(rows[j]), C.PHASE, REASON_PHASE))
+    if C.PHASE in frame:
+        codes, labels = pd.factorize(np.asarray(frame[C.PHASE], dtype=object))  # each distinct label checked once
+        unknown = np.array([isinstance(v, str) and v not in C.PHASES for v in labels] + [False], dtype=bool)
+        flags.append((rows[unknown[codes]], C.PHASE, REASON_PHASE))  # code -1 (no label) -> False
 
-    table = pd.DataFrame(flags, columns=FLAG_COLUMNS)
-    table["source_row"] = table["source_row"].astype("int64")
-    table["column"] = table["column"].astype(object)
-    table["reason"] = table["reason"].astype(object)
-    return table.sort_values(["source_row", "column"], kind="stable").reset_index(drop=True)
+    counts = [len(f[0]) for f in flags]
+    source_row = np.concatenate([f[0] for f in flags] + [np.empty(0)]).astype("int64")
+    column = np.repeat(np.array([f[1] for f in flags], dtype=object), counts)
+    reason = np.repeat(np.array([f[2] for f in flags], dtype=object), counts)
+    order = np.argsort(column, kind="stable")  # by row, then column; found order among equals
+    order = order[np.argsort(source_row[order], kind="stable")]
+    return pd.DataFrame(
+        {
+            "source_row": source_row[order],
+            "column": pd.Series(column[order], dtype=object),
+            "reason": pd.Series(reason[order], dtype=object),
+        },
+        columns=FLAG_COLUMNS,
+    )
 
 
 def finish_session(
-    frame: pd.DataFrame,
+    frame: pd.DataFrame | Mapping[str, Any],
     *,
     meta: dict[str, Any],
     file_name: str,
@@ -293,28 +308,28 @@ def finish_session(
 ) -> Session:
     """Run :func:`check_and_flag`, raise collected problems, and build the :class:`Session`.
 
-    Optional columns that hold no value at all are dropped (a note is the caller's job).
+    ``frame`` holds the canonical columns and ``source_row`` (a DataFrame, or a mapping of
+    column name to array). Optional columns that hold no value at all are dropped (a note is
+    the caller's job).
     """
-    if len(frame) == 0:
+    n_rows = len(frame["source_row"])
+    if n_rows == 0:
         problems.add("the table has a header but no breath rows", "check the export contains the test data")
     problems.raise_if_any()
-    ordered = [c for c in C.COLUMNS if c in frame.columns]
-    frame = frame[[*ordered, "source_row"]].copy()
-    for name in ordered:
-        if name not in C.REQUIRED and frame[name].isna().all():
-            frame = frame.drop(columns=name)
-    if C.PHASE in frame.columns:
-        frame[C.PHASE] = normalise_phase(frame[C.PHASE])
-    flags = check_and_flag(frame, problems=problems, headers=headers, unit_notes=unit_notes)
+    # every column read once and put in its final type; the breath table is built once
+    data: dict[str, object] = {}
+    for name in (c for c in C.COLUMNS if c in frame):
+        if name in C.NUMERIC:
+            values = np.asarray(frame[name], dtype=np.float64)
+            if name in C.REQUIRED or not np.isnan(values).all():
+                data[name] = values
+            continue
+        text = np.asarray(frame[name], dtype=object)
+        if name in C.REQUIRED or not pd.isna(text).all():
+            column = pd.Series(text, dtype=object)
+            data[name] = normalise_phase(column) if name == C.PHASE else column
+    data["source_row"] = np.asarray(frame["source_row"], dtype=np.int64)
+    flags = check_and_flag(data, problems=problems, headers=headers, unit_notes=unit_notes)
     problems.raise_if_any()
-    # convert only the columns not yet in their final type (each assignment copies a column)
-    for name in C.NUMERIC:
-        if name in frame.columns and frame[name].dtype != np.float64:
-            frame[name] = frame[name].astype(float)
-    for name in (C.PHASE, C.MARKER):
-        if name in frame.columns and frame[name].dtype != object:
-            frame[name] = frame[name].astype(object)
-    if frame["source_row"].dtype != np.int64:
-        frame["source_row"] = frame["source_row"].astype("int64")
-    frame = frame.reset_index(drop=True)
+    frame = pd.DataFrame(data)
     return Session(meta=meta, breaths=frame, flags=flags, source_name=file_name)
