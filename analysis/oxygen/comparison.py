@@ -141,6 +141,7 @@ class StateOxygen:
     vo2_ml_min: float
     hr_bpm: float | None
     pct_vo2_peak: float | None
+    rer: float | None
     q_l_min: float
     q_estimated: bool
     q_method: str
@@ -669,6 +670,7 @@ def _one_state(point: StatePoint, ctx: _Context) -> StateOxygen:
         vo2_ml_min=float(point.vo2_ml_min),
         hr_bpm=None if point.hr_bpm is None else float(point.hr_bpm),
         pct_vo2_peak=None if point.pct_vo2_peak is None else float(point.pct_vo2_peak),
+        rer=None if point.rer is None else float(point.rer),
         q_l_min=q,
         q_estimated=q_est,
         q_method=q_method,

@@ -8,7 +8,7 @@ import importlib
 import pytest
 
 MODULES = [
-    "curves", "content", "fick", "haldane", "decomposition", "unloading", "acid_base", "alveolar", "dyshaemoglobin",
+    "curves", "content", "fick", "haldane", "decomposition", "unloading", "acid_base", "alveolar", "dyshaemoglobin", "co2_carriage", "scenarios",
 ]
 
 
