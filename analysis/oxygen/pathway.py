@@ -272,3 +272,37 @@ def explore(
         lines=cascade_lines(inputs, dmo2_ml_min_mmhg=dmo2),
         change_pct=100.0 * (point.vo2_ml_min / pathway.vo2_peak_ml_min - 1.0),
     )
+
+
+def comparison_from_json(oxygen: dict[str, Any]) -> OxygenComparison:
+    """The per-state comparison again from its JSON (``TestResults.oxygen``), for the cascade step.
+
+    Every state is re-solved from its own inputs (VO2, HR, %VO2peak, R, measured Q or none,
+    the saturation's source) with the bloods and gas conditions the JSON records, so the
+    result equals the comparison the pipeline made.
+    """
+    from analysis.oxygen.comparison import oxygen_comparison
+    from analysis.oxygen.states import StateConditions, StatePoint
+
+    if not isinstance(oxygen, dict) or not oxygen.get("states"):
+        raise InvalidParameter("oxygen", "the 'oxygen' part of an analysis result with its states", oxygen)
+    cohb, methb = float(oxygen.get("cohb_fraction") or 0.0), float(oxygen.get("methb_fraction") or 0.0)
+    points, venous, arterial = [], {}, {}
+    for s in oxygen["states"]:
+        spo2 = None
+        if s.get("sao2_source") == "spo2":  # back to what the oximeter read (it counts COHb as O2Hb)
+            spo2 = 100.0 * (float(s["sao2"]) * (1.0 - cohb - methb) + cohb)
+        points.append(
+            StatePoint(
+                s["name"], s["vo2_ml_min"], hr_bpm=s.get("hr_bpm"), pct_vo2_peak=s.get("pct_vo2_peak"), rer=s.get("rer"),
+                q_l_min=None if s.get("q_estimated") else s.get("q_l_min"), spo2_pct=spo2,
+            )
+        )
+        venous[s["name"]] = StateConditions(**s["conditions"])
+        arterial[s["name"]] = StateConditions(**s["arterial_conditions"])
+    venous.setdefault("rest", StateConditions(**oxygen["resting_conditions"]))
+    return oxygen_comparison(
+        points, hb_g_dl=oxygen["hb_g_dl"], pao2_mmhg=oxygen.get("pao2_mmhg"), conditions=venous,
+        model=oxygen["model"], huefner_ml_g=oxygen.get("huefner_ml_g", 1.34), arterial_conditions=arterial,
+        pb_mmhg=oxygen["pb_mmhg"], fio2=oxygen["fio2"], cohb_fraction=cohb, methb_fraction=methb,
+    )

@@ -73,3 +73,70 @@ def test_unparseable_number_exits_2(capsys):
         main(["oxygen", "--po2", "abc"])
     assert info.value.code == EXIT_BAD_INPUT
     assert "invalid float value" in capsys.readouterr().err
+
+
+# --- gas conditions, dyshaemoglobins and the cascade form -------------------------------------
+
+
+def test_alveolar_po2_from_pb_and_fio2(capsys):
+    # Alveolar gas equation (textbook): PB 596, PaCO2 40, R 0.8 -> 67.0 mmHg.
+    data = run_json(capsys, "--po2", "60", "--pb", "596")
+    assert data["alveolar"]["pao2_alveolar_mmhg"] == pytest.approx(67.0, abs=0.05)
+    assert data["alveolar"]["fio2"] == pytest.approx(0.2093)
+
+
+def test_cohb_lowers_content_and_p50(capsys):
+    # Content with COHb 20 % (Hb 15, S 0.98, PO2 95 -> 16.05 mL/dL when S is the functional
+    # saturation); CO shifts the remaining haemoglobin's curve left (Roughton & Darling 1944).
+    plain = run_json(capsys, "--po2", "95", "--hb", "15")
+    co = run_json(capsys, "--po2", "95", "--hb", "15", "--cohb", "20")
+    point = co["points"][0]
+    assert point["o2_content_ml_dl"] == pytest.approx(1.34 * 15 * 0.8 * point["saturation"] + 0.0031 * 95, abs=1e-9)
+    assert point["o2_content_ml_dl"] < plain["points"][0]["o2_content_ml_dl"] - 3.5
+    assert co["p50_mmhg"] < plain["p50_mmhg"] - 4.0
+    assert co["cohb_fraction"] == pytest.approx(0.2) and co["notes"]
+
+
+def test_cohb_out_of_range_is_refused(capsys):
+    assert main(["oxygen", "--po2", "95", "--cohb", "0.2", "--methb", "70"]) == EXIT_BAD_INPUT
+    assert "--methb" in capsys.readouterr().err
+
+
+@pytest.fixture(scope="module")
+def demo_file():
+    from pathlib import Path
+
+    return str(sorted(Path(__file__).resolve().parents[2].joinpath("demo_sessions").glob("SEL-0107*.session.csv"))[0])
+
+
+def test_cascade_form_json(capsys, demo_file):
+    code = main(["oxygen", "cascade", demo_file, "--json"])
+    assert code == EXIT_OK
+    data = json.loads(capsys.readouterr().out)["oxygen_cascade"]
+    rows = {r["scenario"]: r for r in data["what_if"]}
+    assert rows["baseline"]["vo2_peak_ml_min"] == pytest.approx(data["vo2_peak_ml_min"], rel=1e-9)
+    assert rows["hb_minus_10pct"]["change_pct"] < 0 < rows["fio2_30pct"]["change_pct"] < 8.0
+    assert data["estimate"] is True and data["q_estimated"] is True
+
+
+def test_cascade_options_change_the_inputs(capsys, demo_file):
+    # A measured peak Q replaces the estimate; a lower PB lowers the alveolar and arterial PO2.
+    main(["oxygen", "cascade", demo_file, "--json"])
+    base = json.loads(capsys.readouterr().out)["oxygen_cascade"]
+    main(["oxygen", "cascade", demo_file, "--json", "--q-peak", "30", "--pb", "596"])
+    high = json.loads(capsys.readouterr().out)["oxygen_cascade"]
+    assert high["q_estimated"] is False and high["q_l_min"] == pytest.approx(30.0)
+    assert high["peak"]["pao2_alveolar_mmhg"] < base["peak"]["pao2_alveolar_mmhg"] - 30.0
+
+
+def test_cascade_text_says_estimate_and_caution(capsys, demo_file):
+    assert main(["oxygen", "cascade", demo_file]) == EXIT_OK
+    out = capsys.readouterr().out
+    assert "model estimate" in out and "consistent with" in out and "not a medical device" in out
+    assert "hb_minus_10pct" in out and "mixed venous" in out
+
+
+def test_cascade_needs_a_file(capsys):
+    assert main(["oxygen", "cascade"]) == EXIT_BAD_INPUT
+    assert "cascade FILE" in capsys.readouterr().err
+    assert main(["oxygen"]) == EXIT_BAD_INPUT

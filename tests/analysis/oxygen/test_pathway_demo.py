@@ -5,8 +5,7 @@ from __future__ import annotations
 
 import pytest
 
-from analysis.oxygen import StatePoint, oxygen_comparison
-from analysis.oxygen.pathway import explore, oxygen_pathway
+from analysis.oxygen.pathway import comparison_from_json, explore, oxygen_pathway
 from analysis.oxygen.scenarios import SCENARIO_CODES
 from analysis.pipeline import analyze_session
 from analysis.simulation import DEMO_TESTS, simulate_session
@@ -15,15 +14,11 @@ from analysis.simulation import DEMO_TESTS, simulate_session
 def _pathway(demo):
     session = simulate_session(demo.profile, demo.protocol, seed=demo.seed)
     ox = analyze_session(session).to_json_dict()["oxygen"]
-    points = [
-        StatePoint(
-            s["name"], s["vo2_ml_min"], hr_bpm=s["hr_bpm"], pct_vo2_peak=s["pct_vo2_peak"], rer=s["rer"],
-            q_l_min=None if s["q_estimated"] else s["q_l_min"],
-            spo2_pct=100.0 * s["sao2"] if s["sao2_source"] == "spo2" else None,
-        )
-        for s in ox["states"]
-    ]
-    comparison = oxygen_comparison(points, hb_g_dl=ox["hb_g_dl"], pb_mmhg=ox["pb_mmhg"], model=ox["model"])
+    comparison = comparison_from_json(ox)
+    # the comparison made again from its JSON is the pipeline's own (same peak values)
+    peak = comparison.state("peak")
+    assert peak.cao2_ml_dl == pytest.approx(ox["states"][-1]["cao2_ml_dl"], rel=1e-12)
+    assert peak.pao2_mmhg == pytest.approx(ox["states"][-1]["pao2_mmhg"], rel=1e-12)
     return oxygen_pathway(comparison)
 
 
