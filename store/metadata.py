@@ -17,7 +17,7 @@ from sqlalchemy import select, update
 
 from analysis.errors import require
 from store.analysis_bridge import run_analysis
-from store.archive import _normalise_sex
+from store.archive import _sex_from_file as _normalise_sex  # the one sex normaliser, lenient for edits
 from store.core import Actor, to_json
 from store.errors import StoreError
 from store.models import AnalysisVersion, PersonRow, SignOff, TestRow
