@@ -258,33 +258,55 @@ def _slow_co2(rng: np.random.Generator, code: str) -> CaseInputs:
 
 
 def _treadmill_steps(rng: np.random.Generator, code: str) -> CaseInputs:
-    p = _recreational_profile(rng, code, ml_kg_min=(46, 64))
+    # a person who can start running at 7.5 km/h below 85 % of the VT1 demand (drawn again
+    # until so, at most 20 times; the walking start below is the fallback)
+    for _ in range(20):
+        p = _recreational_profile(rng, code, ml_kg_min=(46, 64))
+        per_kmh_flat = (M._RUN_H + M._RUN_V / 100) * p.body_mass_kg * 1000 / 60
+        if p.vo2_rest_ml_min + per_kmh_flat * 7.5 <= 0.85 * p.vo2_vt1_ml_min:
+            break
     m = p.body_mass_kg
+    rest = p.vo2_rest_ml_min
     stage_s = float(rng.choice([60.0, 120.0, 180.0]))
     minutes = _u(rng, 9, 14, 1)
     grade0 = float(rng.choice([0.0, 1.0]))
-    # walk-to-run jump: running from a speed whose O2 demand is 60-85 % of the VT1 level
-    # (ACSM running equation, from memory), at least 7.5 km/h
-    d0 = _u(rng, 0.60, 0.85) * p.vo2_vt1_ml_min
-    per_kmh = (M._RUN_H + M._RUN_V * grade0 / 100) * m * 1000 / 60  # mL/min per km/h
-    s0 = max(7.5, round((d0 - p.vo2_rest_ml_min) / per_kmh * 2) / 2)
-    variant = int(rng.integers(0, 3))  # 0 speed steps, 1 speed and grade, 2 speed then grade-only growth
+    variant = int(rng.integers(0, 3))  # 0 speed stages, 1 speed and grade, 2 mostly grade
+    d0 = _u(rng, 0.60, 0.85) * p.vo2_vt1_ml_min  # the first stage's demand
     d_end = p.vo2max_ml_min
-    if variant == 0:
-        speed_step = (d_end - p.vo2_rest_ml_min - per_kmh * s0) / per_kmh / minutes
-        grade_step = 0.0
+    # walk-to-run jump (ACSM running equation, from memory): running from at least 7.5 km/h;
+    # where even 7.5 km/h would need more than 85 % of the VT1 level, a brisk uphill walk
+    # (walking equation) with a grade jump at onset instead
+    per_kmh = (M._RUN_H + M._RUN_V * grade0 / 100) * m * 1000 / 60  # mL/min per km/h, running
+    running = rest + per_kmh * 7.5 <= 0.85 * p.vo2_vt1_ml_min
+    if running:
+        s0 = max(7.5, round((d0 - rest) / per_kmh * 2) / 2)
+        speed_step = 0.0 if variant == 0 else (0.5 if variant == 1 else 0.2)
+        h_cost, v_cost = M._RUN_H, M._RUN_V
+        base = rest + per_kmh * s0
     else:
-        grade_step = _u(rng, 0.3, 1.0, 1) if variant == 1 else _u(rng, 0.8, 1.5, 1)
-        speed_step = 0.25 if variant == 2 else 0.5
-    speed_step = float(np.clip(round(speed_step * 4) / 4, 0.25, 3.0))
+        s0 = _u(rng, 5.5, 6.5, 1)
+        s_m_min = s0 * 1000 / 60
+        grade0 = float(np.clip(round(((d0 - rest) / m - M._WALK_H * s_m_min) / (M._WALK_V * s_m_min) * 100, 1), 0, 12))
+        speed_step = 0.0  # constant walking speed: above 7.2 km/h the running equation would apply
+        h_cost, v_cost = M._WALK_H, M._WALK_V
+        base = rest + (M._WALK_H * s_m_min + M._WALK_V * s_m_min * grade0 / 100) * m
+    need_per_min = (d_end - base) / minutes
+    if running and variant == 0:  # speed stages only
+        speed_step = need_per_min / per_kmh
+        grade_step = 0.0
+    else:  # the grade carries what the speed does not
+        speed_mid_m_min = (s0 + speed_step * minutes / 2) * 1000 / 60
+        per_min_speed = speed_step * (h_cost + v_cost * grade0 / 100) * m * 1000 / 60
+        per_pct_grade = v_cost * speed_mid_m_min * m / 100  # mL/min per % grade
+        grade_step = float(np.clip(round((need_per_min - per_min_speed) / per_pct_grade, 2), 0.2, 3.0))
     proto = ProtocolSpec(
         mode="treadmill",
         warmup_s=_u(rng, 120, 240, 0),
-        warmup_speed_kmh=_u(rng, 4.5, 5.5, 1),
+        warmup_speed_kmh=_u(rng, 4.5, 5.0 if not running else 5.5, 1),
         warmup_grade_pct=0.0,
         start_speed_kmh=s0,
         start_grade_pct=grade0,
-        speed_step_kmh_per_min=speed_step,
+        speed_step_kmh_per_min=round(float(np.clip(speed_step, 0.0, 3.0)), 2),
         grade_step_pct_per_min=grade_step,
         recovery_speed_kmh=4.0,
         stage_s=stage_s,
