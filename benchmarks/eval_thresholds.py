@@ -3,7 +3,7 @@
 Usage::
 
     python benchmarks/eval_thresholds.py [--seeds 10] [--noise 0.5 1 2] [--kinds athlete lung_limited ...]
-                                         [--cases-csv FILE]
+                                         [--by kind|noise|layout] [--cases-csv FILE]
 
 Runs :func:`analysis.pipeline.analyze_session` on every case of
 :func:`analysis.simulation.simulation_suite` (half of them through a foreign export and the
@@ -35,11 +35,12 @@ def main(argv: list[str] | None = None) -> int:
     parser.add_argument("--seeds", type=int, default=10, help="seeds per kind (default 10)")
     parser.add_argument("--noise", type=float, nargs="+", default=list(NOISE_LEVELS), help="noise levels")
     parser.add_argument("--kinds", nargs="+", default=list(ALL_KINDS), choices=list(ALL_KINDS), metavar="KIND")
+    parser.add_argument("--by", default="kind", choices=["kind", "noise", "layout"], help="split the rows by (default kind)")
     parser.add_argument("--cases-csv", type=Path, help="also write one row per case to this CSV file")
     args = parser.parse_args(argv)
     start = time.perf_counter()
     scores = evaluate_suite(simulation_suite(args.kinds, seeds=range(args.seeds), noise_levels=args.noise))
-    rows = summarise(scores, groups={"original (all)": ORIGINAL_KINDS, "hard (all)": HARD_KINDS})
+    rows = summarise(scores, groups={"original (all)": ORIGINAL_KINDS, "hard (all)": HARD_KINDS}, by=args.by)
     print(format_markdown(rows))
     print(
         f"\n{len(scores)} cases ({args.seeds} seeds x {len(args.noise)} noise levels per kind, "

@@ -21,6 +21,7 @@ from typing import Any
 
 import numpy as np
 
+from analysis.errors import require
 from analysis.simulation.foreign import FOREIGN_LAYOUTS, foreign_export_bytes, foreign_meta_overrides
 from analysis.simulation.suite import CaseTruth, SimulatedCase
 
@@ -277,17 +278,35 @@ def summarise_group(scores: Sequence[CaseScore], label: str) -> dict[str, Any]:
     }
 
 
-def summarise(scores: Sequence[CaseScore], *, groups: dict[str, Sequence[str]] | None = None) -> list[dict[str, Any]]:
-    """Per-kind rows (in order of first appearance), then one row per named group of kinds.
+#: Case attributes a table can be split by.
+SPLITS: tuple[str, ...] = ("kind", "noise", "layout")
+
+
+def _split_label(score: CaseScore, by: str) -> str:
+    if by == "noise":
+        return f"noise {score.noise:g}"
+    if by == "layout":
+        return score.layout or "direct (no export)"
+    return score.kind
+
+
+def summarise(
+    scores: Sequence[CaseScore], *, groups: dict[str, Sequence[str]] | None = None, by: str = "kind"
+) -> list[dict[str, Any]]:
+    """Rows per kind (or per noise level or export layout, in order of first appearance), then
+    one row per named group of kinds.
 
     Parameters
     ----------
     scores : sequence of CaseScore
     groups : dict, keyword-only
         Label -> kinds, e.g. ``{"hard (all)": HARD_KINDS}``; groups with no scores are left out.
+    by : {"kind", "noise", "layout"}, keyword-only
+        What the first rows are split by.
     """
-    kinds = list(dict.fromkeys(s.kind for s in scores))
-    rows = [summarise_group([s for s in scores if s.kind == k], k) for k in kinds]
+    require(by in SPLITS, "by", f"one of {SPLITS}", by)
+    labels = list(dict.fromkeys(_split_label(s, by) for s in scores))
+    rows = [summarise_group([s for s in scores if _split_label(s, by) == k], k) for k in labels]
     for label, members in (groups or {}).items():
         chosen = [s for s in scores if s.kind in set(members)]
         if chosen:

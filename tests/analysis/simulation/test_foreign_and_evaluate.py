@@ -130,3 +130,14 @@ def test_summary_rows_and_markdown():
     assert rows[2]["crashes"] == 1 and rows[2]["n"] == 3
     text = format_markdown(rows)
     assert "| a | 2 | 3.00 | 3.80 |" in text and "1/2" in text and "50 %" in text
+
+
+def test_summary_split_by_noise_and_layout():
+    scores = [
+        CaseScore(kind="a", seed=0, noise=0.5, foreign=False, layout="", status="ok", vt1_error_pct=1.0, vt1_given=True),
+        CaseScore(kind="b", seed=0, noise=2.0, foreign=True, layout="tab_kpa_ml", status="ok", vt1_error_pct=5.0, vt1_given=True),
+    ]
+    assert [r["group"] for r in summarise(scores, by="noise")] == ["noise 0.5", "noise 2"]
+    assert [r["group"] for r in summarise(scores, by="layout")] == ["direct (no export)", "tab_kpa_ml"]
+    with pytest.raises(Exception, match="by"):
+        summarise(scores, by="colour")
