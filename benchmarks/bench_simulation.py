@@ -29,6 +29,14 @@ def measure() -> list[BenchRow]:
             simulate_session(TRAINED_CYCLIST, CYCLE_RAMP_30, seed=seed)
 
     fifty = best_of(batch, repeats=2)
+
+    from analysis.simulation import ALL_KINDS, simulate_case
+
+    def kinds() -> None:
+        for kind in ALL_KINDS:
+            simulate_case(kind, 0)
+
+    every_kind = best_of(kinds, repeats=3)
     with tempfile.TemporaryDirectory() as tmp:
         demo = best_of(lambda: generate_demo(tmp), repeats=3)
     return [
@@ -36,6 +44,8 @@ def measure() -> list[BenchRow]:
                  "< 100 ms", f"{n} breaths"),
         BenchRow("simulate_session, noise 0, no artifacts", clean, "numpy normals, same size", floor, "< 100 ms"),
         BenchRow("simulate_session x 50 seeds", fifty, "", None, "< 5 s"),
+        BenchRow(f"simulate_case, one of each of the {len(ALL_KINDS)} kinds", every_kind, "simulate_session, cyclist ramp",
+                 one * len(ALL_KINDS), "< 1 s", "hard kinds add extras, breath events and the extended truth"),
         BenchRow(f"generate_demo ({len(DEMO_TESTS)} files)", demo, "", None, "< 2 s"),
     ]
 
