@@ -10,9 +10,9 @@ languages, not from a single source):
 ============  =================================================================================
 meaning       spellings
 ============  =================================================================================
-``male``      m, male, man, men's, h (homme/hombre), männlich, maennlich, mannlich, mann, homme,
+``male``      m, ♂, male, man, men's, h (homme/hombre), männlich, maennlich, mannlich, mann, homme,
               masculin, hombre, masculino, maschio, maschile, uomo, mannelijk
-``female``    f, female, woman, women's, w (weiblich), v (vrouw), weiblich, frau, femme, féminin,
+``female``    f, ♀, female, woman, women's, w (weiblich), v (vrouw), weiblich, frau, femme, féminin,
               feminin, mujer, femenino, feminino, femmina, femminile, donna, vrouw, vrouwelijk
 ``other``     other, diverse, divers, d, x, non-binary, nonbinary, intersex, inter
 ============  =================================================================================
@@ -34,11 +34,11 @@ SEXES: tuple[Sex, ...] = get_args(Sex)
 
 _SPELLINGS: dict[Sex, tuple[str, ...]] = {
     "male": (
-        "m", "male", "man", "men's", "h", "männlich", "maennlich", "mannlich", "mann", "homme", "masculin",
+        "m", "♂", "male", "man", "men's", "h", "männlich", "maennlich", "mannlich", "mann", "homme", "masculin",
         "hombre", "masculino", "maschio", "maschile", "uomo", "mannelijk",
     ),
     "female": (
-        "f", "female", "woman", "women's", "w", "v", "weiblich", "frau", "femme", "féminin", "feminin",
+        "f", "♀", "female", "woman", "women's", "w", "v", "weiblich", "frau", "femme", "féminin", "feminin",
         "mujer", "femenino", "feminino", "femmina", "femminile", "donna", "vrouw", "vrouwelijk",
     ),
     "other": ("other", "diverse", "divers", "d", "x", "non-binary", "nonbinary", "intersex", "inter"),

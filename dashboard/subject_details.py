@@ -12,6 +12,9 @@ from collections.abc import Mapping
 from dataclasses import dataclass
 from typing import Any
 
+from analysis.errors import InvalidParameter
+from analysis.subject import normalise_sex
+
 
 @dataclass(frozen=True)
 class DetailField:
@@ -60,11 +63,20 @@ def form_defaults(meta: Mapping[str, Any]) -> dict[str, Any]:
         elif f.kind == "choice":
             text = str(value or "").strip()
             if f.key == "sex":
-                text = text[:1].upper() if text[:1].upper() in ("F", "M") else ""
+                text = _sex_choice(text)
             out[f.key] = text if text in f.choices else ""
         else:
             out[f.key] = str(value or "")
     return out
+
+
+def _sex_choice(text: str) -> str:
+    """``"F"``, ``"M"`` or ``""`` from any spelling the one normaliser reads (``analysis.subject``)."""
+    try:
+        sex = normalise_sex(text)
+    except InvalidParameter:
+        return ""
+    return {"male": "M", "female": "F"}.get(sex or "", "")
 
 
 def _date(value: Any) -> _dt.date | None:

@@ -45,6 +45,9 @@ import unicodedata
 from dataclasses import dataclass
 from typing import Any
 
+from analysis.errors import InvalidParameter
+from analysis.subject import normalise_sex
+
 #: International avoirdupois pound in kg (exact by definition, 1959).
 KG_PER_LB = 0.45359237
 #: g/dL per mmol/L of haemoglobin (monomer, 16,114 g/mol; common practice).
@@ -79,10 +82,6 @@ _ISO = re.compile(r"^(\d{4})-(\d{1,2})-(\d{1,2})(?:[ T].*)?$")
 _DMY = re.compile(r"^(\d{1,2})([./-])(\d{1,2})\2(\d{4})$")
 _YES = {"yes", "y", "ja", "j", "oui", "si", "sí", "sim", "true", "1", "x"}
 _NO = {"no", "n", "nein", "non", "nao", "não", "false", "0", "-"}
-_MALE = {"m", "male", "man", "mann", "männlich", "mannlich", "masculin", "homme", "h", "masculino", "hombre",
-         "maschio", "maschile"}
-_FEMALE = {"f", "female", "woman", "w", "frau", "weiblich", "féminin", "feminin", "femme", "femenino", "mujer",
-           "femmina", "femminile", "feminino"}
 
 
 @dataclass(frozen=True)
@@ -184,12 +183,12 @@ def _value(key: str, text: str, unit: str) -> str | None:
         clean = " ".join(text.split())
         return clean[:200] or None
     low = _plain(text.strip()).rstrip(".")
-    if key == "sex":
-        if low in _MALE or text.strip() == "♂":
-            return "M"
-        if low in _FEMALE or text.strip() == "♀":
-            return "F"
-        return None
+    if key == "sex":  # the one table of spellings (analysis.subject), written as M / F / other
+        try:
+            sex = normalise_sex(text)
+        except InvalidParameter:
+            return None
+        return {"male": "M", "female": "F"}.get(sex or "", sex)
     if key == "beta_blocker":
         if low in _YES:
             return "yes"

@@ -74,3 +74,15 @@ def test_friend_reads_any_spelling_the_same():
     assert len(values) == 1
     # FRIEND by hand for this woman (see tests/analysis/reference): 35.70 mL/kg/min
     assert values.pop() == pytest.approx(35.70, abs=1e-4)
+
+
+@pytest.mark.parametrize("text, meaning", [(t, m) for t, m in TABLE if t is not None and t.strip()])
+def test_every_layer_reads_the_same_table(text, meaning):
+    # the importer's preamble reader and the dashboard's details form agree with normalise_sex
+    from analysis.io.preamble import read_preamble_item
+    from dashboard.subject_details import form_defaults
+
+    item = read_preamble_item(3, ["Sex", text])
+    assert item is not None and item.key == "sex"
+    assert item.value == {"male": "M", "female": "F", "other": "other"}[meaning]
+    assert form_defaults({"sex": text})["sex"] == {"male": "M", "female": "F", "other": ""}[meaning]
