@@ -375,6 +375,8 @@ def render() -> None:
     for note in grouped_notes(oxygen):
         st.info(note)
 
+    what_if_panel(oxygen)
+
     start = _start_conditions(settings)
     start_oxygen = oxygen_settings(
         model=next((m for m in COMPARISON_MODELS if m == stored_ox.get("model")), COMPARISON_MODELS[0]),
@@ -387,6 +389,150 @@ def render() -> None:
     if state.can_edit() and changed and st.button("Keep these conditions with the test", key="ox_keep"):
         keep_conditions(store, test_id, new_settings, version=_version)
         st.rerun()
+
+
+#: What-if slider ranges: key, label, min, max, step.
+WHAT_IF_SLIDERS: dict[str, tuple[str, float, float, float]] = {
+    "hb": ("Haemoglobin (g/dL)", 6.0, 22.0, 0.1),
+    "cohb": ("Carboxyhaemoglobin (% of Hb)", 0.0, 40.0, 0.5),
+    "p50": ("Standard P50 (mmHg)", 12.0, 40.0, 0.5),
+    "altitude": ("Altitude (m, standard atmosphere)", 0.0, 5000.0, 50.0),
+    "pb": ("Barometric pressure (mmHg)", 400.0, 800.0, 1.0),
+    "fio2": ("Inspired O2 (%)", 15.0, 100.0, 0.5),
+    "q": ("Peak cardiac output (L/min)", 2.0, 45.0, 0.1),
+    "dmo2": ("Muscle O2 diffusing capacity DmO2 (mL/min/mmHg)", 5.0, 300.0, 1.0),
+}
+
+
+def what_if_key(name: str) -> str:
+    """Session-state key of one what-if slider (tests set these)."""
+    return f"ox_wi_{name}"
+
+
+def pathway_for(oxygen: dict[str, Any]) -> tuple[Any, tuple[str, ...]]:
+    """The O2 pathway record of the comparison shown (from :mod:`analysis.oxygen.pathway`)."""
+    from analysis.oxygen.pathway import comparison_from_json, oxygen_pathway
+
+    return oxygen_pathway(comparison_from_json(oxygen))
+
+
+def what_if_table(pathway: Any) -> pd.DataFrame:
+    """The stable what-if scenarios, formatted (scenario code, predicted VO2peak, change, note)."""
+    return pd.DataFrame(
+        [
+            {
+                "Scenario": w.scenario,
+                "Predicted VO2peak (mL/min)": format_number(w.vo2_peak_ml_min, 0),
+                "Change (%)": f"{w.change_pct:+.1f}",
+                "What changes": w.note,
+            }
+            for w in pathway.what_if
+        ]
+    )
+
+
+def sensitivity_table(pathway: Any) -> pd.DataFrame:
+    """VO2peak after a 10 % rise in each determinant, ranked."""
+    return pd.DataFrame(
+        [
+            {"Rank": r.rank, "10 % more": r.label, "Predicted VO2peak (mL/min)": format_number(r.vo2_peak_ml_min, 0),
+             "Change (%)": f"{r.change_pct:+.1f}"}
+            for r in pathway.sensitivity
+        ]
+    )
+
+
+def co2_table(pathway: Any) -> pd.DataFrame:
+    """The a-v CO2 difference per state and how it is carried (mL CO2/dL, one row per state)."""
+    rows = []
+    for c in pathway.co2:
+        rows.append(
+            {
+                "State": STATE_LABEL.get(c.state, c.state),
+                "a-v CO2 (mL/dL)": format_number(c.avco2_ml_dl, 2),
+                "Dissolved (mL/dL)": format_number(c.dissolved_ml_dl, 2),
+                "Carbamino (mL/dL)": format_number(c.carbamino_ml_dl, 2),
+                "Bicarbonate (mL/dL)": format_number(c.bicarbonate_ml_dl, 2),
+                "Haldane part (mL/dL)": format_number(c.haldane_ml_dl, 2),
+            }
+        )
+    return pd.DataFrame(rows)
+
+
+def what_if_panel(oxygen: dict[str, Any]) -> None:
+    """The O2 cascade at peak with sliders for Hb, COHb, P50, altitude or PB, FIO2, Q and DmO2."""
+    from analysis.oxygen.alveolar import barometric_pressure_mmhg
+    from analysis.oxygen.cascade import cascade_lines
+    from analysis.oxygen.curves import p50
+    from analysis.oxygen.pathway import explore
+    from dashboard.charts.oxygen_cascade import cascade_figure
+
+    st.subheader("What if: the O2 cascade at peak")
+    pathway, notes = pathway_for(oxygen)
+    if pathway is None:
+        st.info(" ".join(notes))
+        return
+    st.caption(
+        "Oxygen followed from inspired air to the muscle (Wagner 1996): the convective (Fick) line and the "
+        "diffusive line (muscle O2 diffusing capacity, Bohr integration along the capillary) meet at VO2peak. "
+        "Venous figures are mixed venous blood, the whole body taken as one muscle compartment. "
+        "Move a slider to see the meeting point move. " + pathway.caution
+    )
+    i = pathway.inputs
+    start = {
+        "hb": i.hb_g_dl, "cohb": 100.0 * i.cohb_fraction,
+        "p50": i.p50_standard_mmhg or p50(model=i.model), "altitude": 0.0, "pb": i.pb_mmhg,
+        "fio2": 100.0 * i.fio2, "q": i.q_l_min, "dmo2": pathway.dmo2_ml_min_mmhg,
+    }
+    values: dict[str, float] = {}
+    left, right = st.columns(2)
+    air = right.radio("Air pressure set by", ["Barometric pressure", "Altitude"], horizontal=True, key=what_if_key("air"))
+    for col, names in ((left, ("hb", "cohb", "p50", "q")), (right, ("altitude" if air == "Altitude" else "pb", "fio2", "dmo2"))):
+        for name in names:
+            label, lo, hi, step = WHAT_IF_SLIDERS[name]
+            value = min(hi, max(lo, round(float(start[name]) / step) * step))
+            moved = float(col.slider(label, min_value=lo, max_value=hi, value=value, step=step, key=what_if_key(name)))
+            # a slider left where it started keeps the person's exact value (the slider's step rounds it)
+            values[name] = float(start[name]) if abs(moved - value) < 1e-9 else moved
+    pb = barometric_pressure_mmhg(altitude_m=values["altitude"]) if air == "Altitude" else values["pb"]
+    try:
+        result = explore(
+            pathway, hb_g_dl=values["hb"], cohb_fraction=values["cohb"] / 100.0, p50_standard_mmhg=values["p50"],
+            pb_mmhg=pb, fio2=values["fio2"] / 100.0, q_l_min=values["q"], dmo2_ml_min_mmhg=values["dmo2"],
+        )
+    except (TypeError, ValueError) as exc:
+        st.error(f"This scenario cannot be solved: {exc}")
+        return
+    baseline = cascade_lines(i, dmo2_ml_min_mmhg=pathway.dmo2_ml_min_mmhg)
+    a, b, c = st.columns(3)
+    a.metric("Measured VO2peak (mL/min)", format_number(pathway.vo2_peak_ml_min, 0))
+    b.metric("Predicted VO2peak, this scenario (mL/min, estimate)", format_number(result.point.vo2_ml_min, 0),
+             delta=f"{result.change_pct:+.1f} %")
+    c.metric("Venous PO2, mixed venous (mmHg, estimate)", format_number(result.point.pvo2_mmhg, 1))
+    st.plotly_chart(cascade_figure(baseline, result.lines), width="stretch", key="oxygen_cascade")
+    st.caption(
+        f"Scenario: PB {pb:.0f} mmHg, PaO2 {result.point.pao2_mmhg:.0f} mmHg, SaO2 {100 * result.point.sao2:.1f} %, "
+        f"CaO2 {result.point.cao2_ml_dl:.1f} mL/dL. Q source: "
+        + ("measured" if not pathway.q_estimated else "ESTIMATE (Stringer 1997)")
+        + ". Model estimate, not a measurement."
+    )
+    st.markdown("**Scenarios solved on this person's cascade**")
+    table = what_if_table(pathway)
+    st.dataframe(table, hide_index=True, width="stretch", height=_rows_height(len(table)))
+    st.markdown("**Which step limits (10 % more of each)**")
+    sens = sensitivity_table(pathway)
+    st.dataframe(sens, hide_index=True, width="stretch", height=_rows_height(len(sens)))
+    st.info(pathway.limiting)
+    with st.expander("The model's assumptions"):
+        for text in pathway.assumptions:
+            st.markdown(f"- {text}")
+    for note in pathway.notes:
+        st.info(note)
+    if pathway.co2:
+        st.markdown("**CO2 side: how the arterio-venous CO2 difference is carried (estimate)**")
+        co2 = co2_table(pathway)
+        st.dataframe(co2, hide_index=True, width="stretch", height=_rows_height(len(co2)))
+    st.caption(f"Resting hyperventilation: {pathway.hyperventilation.note}")
 
 
 def keep_conditions(store: Any, test_id: int, new_settings: dict[str, Any], *, version: int | None) -> int:

@@ -172,3 +172,88 @@ def test_every_curve_model_has_a_short_name_and_its_inputs(demo_store, page_test
     at.run()
     model = at.selectbox(key="ox_model").value
     assert any(c.value == MODEL_INPUTS[model] for c in at.caption)
+
+
+# --- what-if panel: the O2 cascade at peak -----------------------------------------------------
+
+
+def _predicted(at) -> float:
+    metric = next(m for m in at.metric if m.label.startswith("Predicted VO2peak"))
+    return parse_number(metric.value)
+
+
+def _measured(at) -> float:
+    return parse_number(next(m for m in at.metric if m.label.startswith("Measured VO2peak")).value)
+
+
+def test_what_if_panel_starts_at_the_measured_vo2peak(demo_store, page_test, test_id):
+    from dashboard.views.oxygen import what_if_key
+
+    at = page_test(_oxygen, **signed_in(demo_store.user), **{state.TEST_ID: test_id})
+    at.run()
+    assert not at.exception
+    # the person's own cascade solved forward returns the measured VO2peak (round trip)
+    assert _predicted(at) == pytest.approx(_measured(at), abs=1.0)
+    assert any("convective" in t for t in (c.value for c in at.caption))
+    scenarios = next(df.value for df in at.dataframe if "Scenario" in df.value.columns)
+    assert scenarios["Scenario"].tolist()[0] == "baseline" and "cohb_10pct" in scenarios["Scenario"].tolist()
+    assert any("consistent with" in i.value for i in at.info)
+    assert at.slider(key=what_if_key("hb")).value > 0
+
+
+@pytest.mark.parametrize(
+    ("name", "value", "direction"),
+    [
+        ("hb", 10.0, -1),  # less haemoglobin: less O2 carried (content equation)
+        ("cohb", 10.0, -1),  # COHb: capacity lost and a left shift (Roughton & Darling 1944)
+        ("p50", 18.0, -1),  # high-affinity haemoglobin unloads less in the capillary
+        ("fio2", 30.0, +1),  # more inspired O2: a little more arterial content
+        ("q", 40.0, +1),  # more flow: the convective line rises
+        ("dmo2", 250.0, +1),  # more diffusing capacity: the diffusive line steepens
+    ],
+)
+def test_sliders_move_the_meeting_point(demo_store, page_test, test_id, name, value, direction):
+    from dashboard.views.oxygen import what_if_key
+
+    at = page_test(_oxygen, **signed_in(demo_store.user), **{state.TEST_ID: test_id})
+    at.run()
+    before = _predicted(at)
+    at.slider(key=what_if_key(name)).set_value(value).run()
+    assert not at.exception
+    after = _predicted(at)
+    assert (after - before) * direction > 0
+    # the chart's bold meeting point is the predicted VO2peak shown
+    import json
+
+    traces = [t for c in at.get("plotly_chart") for t in json.loads(c.proto.spec)["data"]]
+    meeting = [t for t in traces if str(t.get("name", "")).startswith("What if: meeting point")]
+    assert len(meeting) == 1 and meeting[0]["y"][0] == pytest.approx(after, abs=1.0)
+
+
+def test_altitude_slider_uses_the_standard_atmosphere(demo_store, page_test, test_id):
+    from dashboard.views.oxygen import what_if_key
+
+    at = page_test(_oxygen, **signed_in(demo_store.user), **{state.TEST_ID: test_id})
+    at.run()
+    at.radio(key=what_if_key("air")).set_value("Altitude").run()
+    at.slider(key=what_if_key("altitude")).set_value(2000.0).run()
+    assert not at.exception
+    change = 100.0 * (_predicted(at) / _measured(at) - 1.0)
+    assert -18.0 < change < -2.0  # a few to about 15 % at 2,000 m (issue 15)
+    assert any("PB 596 mmHg" in c.value for c in at.caption)
+
+
+def test_cascade_figure_lines_meet():
+    from analysis.oxygen.cascade import cascade_lines, oxygen_cascade
+    from analysis.oxygen.states import DEFAULT_ARTERIAL_CONDITIONS
+    from dashboard.charts.oxygen_cascade import X_TITLE, cascade_figure
+
+    c = oxygen_cascade(vo2_peak_ml_min=3000.0, hb_g_dl=14.0, arterial=DEFAULT_ARTERIAL_CONDITIONS["peak"],
+                       capillary=DEFAULT_CONDITIONS["peak"])
+    lines = cascade_lines(c.inputs, dmo2_ml_min_mmhg=c.dmo2_ml_min_mmhg)
+    fig = cascade_figure(lines)
+    names = [t.name for t in fig.data]
+    assert any("convective" in n for n in names) and any("diffusive" in n for n in names)
+    meet = next(t for t in fig.data if "meeting point" in t.name)
+    assert meet.y[0] == pytest.approx(3000.0, rel=1e-9)
+    assert fig.layout.xaxis.title.text == X_TITLE and "mixed venous" in X_TITLE
