@@ -95,7 +95,7 @@ def _get(d: Mapping[str, Any] | None, *path: str) -> Any:
 
 
 def summary_row(results_json: Mapping[str, Any], *, file: str) -> dict[str, Any]:
-    """One summary row (keys :data:`SUMMARY_COLUMNS`) from ``TestResults.to_json_dict()``.
+    """One summary row (keys :data:`SUMMARY_COLUMNS`) from ``to_json(TestResults)``.
 
     Parameters
     ----------

@@ -7,8 +7,8 @@ caller selects them (``avg[avg.phase == "exercise"]``).
 from __future__ import annotations
 
 import math
-from dataclasses import asdict, dataclass, field, replace
-from typing import Any, Literal
+from dataclasses import dataclass, replace
+from typing import Literal
 
 import numpy as np
 import pandas as pd
@@ -17,6 +17,13 @@ from analysis import columns as C
 from analysis.errors import AnalysisError, require
 from analysis.indices._arrays import present_values
 from analysis.indices.point_values import PointValues, point_values
+from analysis.records import described
+
+#: Reader-facing method sentence (shown under ``methods``).
+MAXIMALITY_METHOD = (
+    "VO2 plateau below the set rise over the last minute despite more work (Taylor et al. 1955); "
+    "secondary criteria RER ≥ 1.10 and HR ≥ 90 % of Tanaka-predicted (common practice)"
+)
 
 #: Plateau threshold: VO2 rising less than this over the last minute despite more work
 #: (Taylor, Buskirk & Henschel 1955, from memory), mL/min.
@@ -170,17 +177,18 @@ class PlateauTest:
         Plain-language result.
     """
 
-    plateau: bool | None
-    vo2_rise_ml_min: float | None
-    threshold_ml_min: float
-    load_column: str | None
-    load_rise: float | None
-    grade_load_rise_pct: float | None
-    expected_rise_ml_min: float | None
-    note: str
-
-    def to_dict(self) -> dict[str, Any]:
-        return asdict(self)
+    plateau: bool | None = described(description="VO2 plateau reached (null when exercise was too short to test)")
+    vo2_rise_ml_min: float | None = described(
+        unit="mL/min", description="mean VO2 of the final window minus that of the window one minute earlier"
+    )
+    threshold_ml_min: float = described(unit="mL/min", description="largest rise still counted as a plateau")
+    load_column: str | None = described(description="`work_w` or `speed_kmh` (null when no load was recorded)")
+    load_rise: float | None = described(unit="W or km/h", description="rise of that load between the two windows")
+    grade_load_rise_pct: float | None = described(unit="%", description="rise of the treadmill grade between the windows")
+    expected_rise_ml_min: float | None = described(
+        unit="mL/min", description="rise per minute expected from the earlier exercise (least-squares slope of VO2 on time)"
+    )
+    note: str = described(description="the plateau test's result in plain words")
 
 
 def plateau_test(
@@ -317,19 +325,18 @@ class MaximalityReport:
         ``None`` when HR or age is missing.
     """
 
-    verdict: Verdict
-    label: str
-    reasons: list[str] = field(default_factory=list)
-    plateau: PlateauTest | None = None
-    rer_peak: float | None = None
-    rer_criterion_met: bool | None = None
-    hr_peak_bpm: float | None = None
-    hr_max_predicted_bpm: float | None = None
-    hr_pct_predicted: float | None = None
-    hr_criterion_met: bool | None = None
-
-    def to_dict(self) -> dict[str, Any]:
-        return asdict(self)
+    verdict: Verdict = described(description="`vo2max_plateau`, `vo2peak_criteria_met` or `vo2peak_submaximal`")
+    label: str = described(description="the verdict in the reader's words")
+    reasons: tuple[str, ...] = described(default=(), description="one sentence per criterion, in plain words")
+    plateau: PlateauTest | None = described(default=None, description="the plateau test")
+    rer_peak: float | None = described(default=None, description="peak RER (ratio of the peak-window means of VCO2 and VO2)")
+    rer_criterion_met: bool | None = described(default=None, description="`rer_peak` at least 1.10 (null when RER could not be read)")
+    hr_peak_bpm: float | None = described(default=None, unit="beats/min", description="highest averaged exercise heart rate")
+    hr_max_predicted_bpm: float | None = described(default=None, unit="beats/min", description="predicted maximal heart rate (Tanaka)")
+    hr_pct_predicted: float | None = described(default=None, unit="%", description="`hr_peak_bpm` as % of `hr_max_predicted_bpm`")
+    hr_criterion_met: bool | None = described(
+        default=None, description="`hr_pct_predicted` at least 90 % (null without heart rate or age)"
+    )
 
 
 def assess_maximality(
@@ -420,7 +427,7 @@ def assess_maximality(
     return MaximalityReport(
         verdict=verdict,
         label=VERDICT_LABELS[verdict],
-        reasons=reasons,
+        reasons=tuple(reasons),
         plateau=plateau,
         rer_peak=rer,
         rer_criterion_met=rer_ok,

@@ -2,13 +2,17 @@
 
 from __future__ import annotations
 
-import warnings
+from dataclasses import dataclass
 
 import numpy as np
 import pandas as pd
 
 from analysis import columns as C
-from analysis.errors import DataQualityWarning, InvalidParameter
+from analysis.errors import InvalidParameter
+from analysis.records import described
+
+#: Reader-facing method sentence (shown under ``methods``).
+PHASES_METHOD = "the file's phase column when present, else found from the work-rate signal (common practice)"
 
 #: A constant first load counts as warm-up when it lasts at least this long (seconds) and at
 #: least 1.5 times as long as the typical later load step (common practice: a 2-5 minute
@@ -52,11 +56,8 @@ def detect_phases(breaths: pd.DataFrame) -> pd.Series:
     pandas.Series
         Phase labels, same index as ``breaths``, named ``phase``.
 
-    Warns
-    -----
-    DataQualityWarning
-        When neither a ``phase`` column nor a load (``work_w`` / ``speed_kmh``) is available:
-        every breath is then labelled ``exercise``.
+    When neither a ``phase`` column nor a load (``work_w`` / ``speed_kmh``) is available,
+    every breath is labelled ``exercise``; :func:`label_phases` says so in its notes.
 
     Notes
     -----
@@ -83,13 +84,6 @@ def detect_phases(breaths: pd.DataFrame) -> pd.Series:
         return pd.Series(np.array(names, dtype=object)[codes], index=breaths.index, name=C.PHASE)
     load = _load_signal(breaths) if n else None
     if load is None:
-        if n:
-            warnings.warn(
-                "No phase labels and no work rate or speed in this test: every breath is treated "
-                "as exercise. Add a 'phase' column or the load to separate rest and recovery.",
-                DataQualityWarning,
-                stacklevel=2,
-            )
         return pd.Series(["exercise"] * n, index=breaths.index, name=C.PHASE, dtype=object)
     t = breaths[C.T_S].to_numpy(dtype=float)
     labels = np.full(n, "exercise", dtype=object)
@@ -112,6 +106,67 @@ def detect_phases(breaths: pd.DataFrame) -> pd.Series:
             if first_dur >= WARMUP_MIN_S and first_dur >= 1.5 * typical:
                 labels[first:end_first] = "warmup"
     return pd.Series(labels, index=breaths.index, name=C.PHASE)
+
+
+#: Note given when every breath had to be treated as exercise.
+NO_PHASES_NOTE = (
+    "No phase labels and no work rate or speed in this test: every breath is treated "
+    "as exercise. Add a 'phase' column or the load to separate rest and recovery."
+)
+
+
+@dataclass(frozen=True)
+class PhaseSpan:
+    """Start and end of one phase of the breaths used."""
+
+    start_s: float = described(unit="s", description="time of the first breath of the phase")
+    end_s: float = described(unit="s", description="time of the last breath of the phase")
+
+
+@dataclass(frozen=True)
+class PhaseLabels:
+    """The phase of every breath, the span of each phase, and notes.
+
+    Attributes
+    ----------
+    labels : pandas.Series
+        :func:`detect_phases` output (same index as the breaths).
+    spans : dict of str to PhaseSpan
+        Phase -> first and last breath time, for the phases present.
+    notes : tuple of str
+        Plain-language notes (e.g. no way to tell the phases apart).
+    """
+
+    labels: pd.Series
+    spans: dict[str, PhaseSpan]
+    notes: tuple[str, ...]
+
+
+def label_phases(breaths: pd.DataFrame) -> PhaseLabels:
+    """Label the phases of the breaths (:func:`detect_phases`) with their spans and notes.
+
+    Parameters
+    ----------
+    breaths : pandas.DataFrame
+        Breath table sorted by ``t_s``.
+
+    Returns
+    -------
+    PhaseLabels
+    """
+    labels = detect_phases(breaths)
+    notes: tuple[str, ...] = ()
+    has_labels = C.PHASE in breaths.columns and breaths[C.PHASE].notna().any()
+    if len(breaths) and not has_labels and _load_signal(breaths) is None:
+        notes = (NO_PHASES_NOTE,)
+    t = breaths[C.T_S].to_numpy(dtype=float)
+    ph = labels.to_numpy()
+    spans = {
+        name: PhaseSpan(float(t[m].min()), float(t[m].max()))
+        for name in C.PHASES
+        if (m := ph == name).any()
+    }
+    return PhaseLabels(labels, spans, notes)
 
 
 def ramp_rate_w_per_min(breaths: pd.DataFrame, phases: pd.Series | None = None) -> float | None:
@@ -138,9 +193,7 @@ def ramp_rate_w_per_min(breaths: pd.DataFrame, phases: pd.Series | None = None) 
     if C.WORK_W not in breaths.columns or not breaths[C.WORK_W].notna().any():
         return None
     if phases is None:
-        with warnings.catch_warnings():
-            warnings.simplefilter("ignore", DataQualityWarning)
-            phases = detect_phases(breaths)
+        phases = detect_phases(breaths)
     if len(phases) != len(breaths):
         raise InvalidParameter("phases", f"one label per breath ({len(breaths)})", len(phases))
     mask = (np.asarray(phases) == "exercise") & breaths[C.WORK_W].notna().to_numpy()

@@ -1,7 +1,7 @@
 """One person across tests: change from baseline, typical-error bands and aligned series.
 
 Pure functions on plain dicts and pandas frames: the inputs are the stored results of each
-test (the JSON dict of :meth:`analysis.results.TestResults.to_json_dict`) and, for overlays,
+test (the JSON dict of ``analysis.records.to_json(TestResults)``) and, for overlays,
 the averaged breath frames. Nothing here reads a file or a database.
 
 Typical (test-retest) errors are kept in :data:`TYPICAL_ERRORS` with their provenance, so the
@@ -123,7 +123,7 @@ def metric_value(results: Mapping[str, Any], metric: str) -> float | None:
     Parameters
     ----------
     results : mapping
-        The dict of :meth:`TestResults.to_json_dict`.
+        The dict of ``to_json(TestResults)``.
     metric : str
         A key of :data:`METRICS`.
 

@@ -2,11 +2,14 @@
 
 from __future__ import annotations
 
-from dataclasses import asdict, dataclass, field
-from typing import Any
+from dataclasses import dataclass
 
 from analysis.errors import InvalidParameter
 from analysis.indices.point_values import PointValues
+from analysis.records import described
+
+#: Reader-facing method sentence (shown under ``methods``).
+ZONES_METHOD = "three zones bounded by VT1 and VT2, values read from the averaged data (common practice)"
 
 
 @dataclass(frozen=True)
@@ -30,30 +33,27 @@ class Zone:
         O2 uptake, mL/min.
     """
 
-    number: int
-    name: str
-    description: str
-    hr_low_bpm: float | None = None
-    hr_high_bpm: float | None = None
-    work_low_w: float | None = None
-    work_high_w: float | None = None
-    speed_low_kmh: float | None = None
-    speed_high_kmh: float | None = None
-    grade_low_pct: float | None = None
-    grade_high_pct: float | None = None
-    vo2_low_ml_min: float | None = None
-    vo2_high_ml_min: float | None = None
+    number: int = described(description="1, 2 or 3")
+    name: str = described(description="the zone's name")
+    description: str = described(description="the zone in plain words")
+    hr_low_bpm: float | None = described(default=None, unit="beats/min", description="lower heart rate (null: open end)")
+    hr_high_bpm: float | None = described(default=None, unit="beats/min", description="upper heart rate")
+    work_low_w: float | None = described(default=None, unit="W", description="lower work rate (cycle)")
+    work_high_w: float | None = described(default=None, unit="W", description="upper work rate (cycle)")
+    speed_low_kmh: float | None = described(default=None, unit="km/h", description="lower treadmill speed")
+    speed_high_kmh: float | None = described(default=None, unit="km/h", description="upper treadmill speed")
+    grade_low_pct: float | None = described(default=None, unit="%", description="lower treadmill grade")
+    grade_high_pct: float | None = described(default=None, unit="%", description="upper treadmill grade")
+    vo2_low_ml_min: float | None = described(default=None, unit="mL/min", description="lower O2 uptake")
+    vo2_high_ml_min: float | None = described(default=None, unit="mL/min", description="upper O2 uptake")
 
 
 @dataclass(frozen=True)
 class ZoneSet:
     """The zones and a note on how they were made (or why fewer than three)."""
 
-    zones: list[Zone] = field(default_factory=list)
-    note: str = ""
-
-    def to_dict(self) -> dict[str, Any]:
-        return {"zones": [asdict(z) for z in self.zones], "note": self.note}
+    zones: tuple[Zone, ...] = described(default=(), description="the zones, lowest first")
+    note: str = described(default="", description="how the zones were made, or why fewer than three")
 
 
 def _between(number: int, name: str, description: str, low: PointValues | None, high: PointValues) -> Zone:
@@ -112,13 +112,13 @@ def training_zones(*, vt1: PointValues | None, vt2: PointValues | None, peak: Po
     2006;16:49-56 (three-zone model by ventilatory thresholds, from memory).
     """
     if vt1 is None:
-        return ZoneSet([], "VT1 was not identified, so training zones cannot be given.")
+        return ZoneSet((), "VT1 was not identified, so training zones cannot be given.")
     if vt2 is not None and vt2.vo2_ml_min < vt1.vo2_ml_min:
         raise InvalidParameter("vt2", f"a VO2 above VT1 ({vt1.vo2_ml_min:.0f} mL/min)", vt2.vo2_ml_min)
     z1 = _between(1, "Zone 1 (below VT1)", "Easy, sustained aerobic work: below the first ventilatory threshold.", None, vt1)
     if vt2 is None:
         z2 = _between(2, "Zone 2 (above VT1)", "Above the first threshold, up to peak; VT2 unknown.", vt1, peak)
-        return ZoneSet([z1, z2], "VT2 was not identified, so two zones are given (below and above VT1).")
+        return ZoneSet((z1, z2), "VT2 was not identified, so two zones are given (below and above VT1).")
     z2 = _between(2, "Zone 2 (VT1 to VT2)", "Moderate to hard, between the two ventilatory thresholds.", vt1, vt2)
     z3 = _between(3, "Zone 3 (above VT2)", "Severe intensity: above the respiratory compensation point, up to peak.", vt2, peak)
-    return ZoneSet([z1, z2, z3], "Three zones bounded by VT1 and VT2 from the averaged ramp data.")
+    return ZoneSet((z1, z2, z3), "Three zones bounded by VT1 and VT2 from the averaged ramp data.")

@@ -49,6 +49,10 @@ def long_session():
 
 def measure() -> list[BenchRow]:
     from analysis import pipeline as P
+    from analysis.breaths.cleaning import clean_breaths
+    from analysis.oxygen.from_test import oxygen_from_test
+    from analysis.phases import label_phases
+    from analysis.records import to_json
     from analysis.io import read_session
     from analysis.io.session_file import write_session
     from analysis.settings import AnalysisSettings
@@ -85,24 +89,23 @@ def measure() -> list[BenchRow]:
 
     # stages, to show where the time goes (same baseline)
     breaths = session.breaths
-    excluded = P._excluded_table(breaths, settings)
-    clean = P.exclude_breaths(breaths, excluded["source_row"].tolist())
-    labels = P.detect_phases(clean).to_numpy()
+    clean_kw = dict(window_breaths=settings.outlier_window_breaths, k_sd=settings.outlier_k_sd)
+    clean = clean_breaths(breaths, **clean_kw).breaths
+    labels = label_phases(clean).labels.to_numpy()
     avg = P.average_breaths(clean, settings.averaging, phase_labels=labels).reset_index(drop=True)
     res = P.analyze_session(session, settings)
     phases_avg = res.averaged["phase"].astype(str).to_numpy()
-    warns: list[str] = []
     stages = [
-        ("stage: outlier breaths", lambda: P._excluded_table(breaths, settings)),
-        ("stage: phases", lambda: P.detect_phases(clean)),
+        ("stage: outlier breaths", lambda: clean_breaths(breaths, **clean_kw)),
+        ("stage: phases", lambda: label_phases(clean)),
         ("stage: averaging", lambda: P.average_breaths(clean, settings.averaging, phase_labels=labels)),
         ("stage: thresholds", lambda: P.detect_thresholds(avg, phases=phases_avg)),
         (
             "stage: oxygen comparison (4 states)",
-            lambda: P._oxygen(res.meta, settings, avg=res.averaged, phases_avg=phases_avg, peak=res.peak,
-                              vt1=res.vt1, vt2=res.vt2, warns=warns),
+            lambda: oxygen_from_test(res.averaged, phases_avg=phases_avg, hb_g_dl=res.subject.hb_g_dl,
+                                     options=settings.oxygen, peak=res.peak, vt1=res.vt1, vt2=res.vt2),
         ),
-        ("stage: results JSON (to_json_dict)", res.to_json_dict),
+        ("stage: results JSON (to_json)", lambda: to_json(res)),
     ]
     for name, fn in stages:
         t = best_of(fn, repeats=5)

@@ -48,6 +48,7 @@ def snapshot() -> dict[str, Any]:
     from analysis.io import read_session
     from analysis.io.session_file import session_to_text
     from analysis.pipeline import analyze_session
+    from analysis.records import to_json
     from analysis.simulation import DEMO_TESTS, simulate_session
 
     out: dict[str, Any] = {}
@@ -60,9 +61,9 @@ def snapshot() -> dict[str, Any]:
                 session = read_session(text, file_name=f"{demo.stem}.session.csv")
                 for name, s in settings.items():
                     key = f"{demo.stem}/seed{seed}/noise{noise}/{name}"
-                    out[key] = analyze_session(session, s).to_json_dict()
+                    out[key] = to_json(analyze_session(session, s))
     for path in sorted((ROOT / "demo_sessions").glob("*.session.csv")):
-        out[f"file/{path.name}"] = analyze_session(read_session(path)).to_json_dict()
+        out[f"file/{path.name}"] = to_json(analyze_session(read_session(path)))
     return json.loads(json.dumps(out, sort_keys=True, allow_nan=True))
 
 

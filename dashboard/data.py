@@ -25,6 +25,7 @@ from typing import Any
 
 import streamlit as st
 
+from analysis.records import to_json
 from analysis.session import Session
 
 log = logging.getLogger("tidemark.dashboard")
@@ -89,11 +90,11 @@ def analyze(test_id: int, settings_json: str) -> Any:
 
 @st.cache_data(show_spinner=False, max_entries=64)
 def _results_json(test_id: int, settings_json: str, url: str | None) -> dict[str, Any]:
-    return _analyze(int(test_id), settings_json, url).to_json_dict()
+    return to_json(_analyze(int(test_id), settings_json, url))
 
 
 def results_json(test_id: int, settings_json: str) -> dict[str, Any]:
-    """``analyze(...).to_json_dict()``, cached separately (pages mostly read this dict)."""
+    """``to_json(analyze(...))``, cached separately (pages mostly read this dict)."""
     return _results_json(int(test_id), settings_json, store_url())
 
 

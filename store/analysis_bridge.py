@@ -39,16 +39,6 @@ def _finite(value: Any) -> float | None:
     return v if math.isfinite(v) else None
 
 
-def _dig(results: dict[str, Any], path: str) -> float | None:
-    """The finite number at the dotted ``path`` of ``results``, else ``None``."""
-    node: Any = results
-    for part in path.split("."):
-        if not isinstance(node, dict) or part not in node:
-            return None
-        node = node[part]
-    return _finite(node)
-
-
 def flags_to_records(session: Session) -> list[dict[str, Any]]:
     """The session's import flags as JSON-ready records."""
     records = []
@@ -94,16 +84,20 @@ class AnalysisBridge:
 
     def analyze(self, session: Session, settings: dict[str, Any]) -> dict[str, Any]:
         from analysis.pipeline import analyze_session
+        from analysis.records import to_json
         from analysis.settings import AnalysisSettings
 
-        return analyze_session(session, AnalysisSettings.from_dict(settings)).to_json_dict()
+        return to_json(analyze_session(session, AnalysisSettings.from_dict(settings)))
 
     def headline(self, results: dict[str, Any]) -> Headline:
-        """Copy the list columns from ``TestResults.to_json_dict()`` (keys in docs/results.md)."""
+        """The list columns, read from the results record (its JSON form read back by the codec)."""
+        from analysis.results import results_from_json
+
+        r = results_from_json(results)
         return Headline(
-            vo2peak_ml_min=_dig(results, "vo2_peak_ml_min"),
-            vt1_vo2_ml_min=_dig(results, "vt1.vo2_ml_min"),
-            ve_vco2_slope=_dig(results, "ve_vco2_slope"),
+            vo2peak_ml_min=_finite(r.vo2_peak_ml_min),
+            vt1_vo2_ml_min=_finite(r.vt1.vo2_ml_min) if r.vt1 is not None else None,
+            ve_vco2_slope=_finite(r.ve_vco2_slope),
         )
 
 

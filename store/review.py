@@ -55,7 +55,7 @@ class ReviewMixin(ArchiveMixin):
             return json.loads(row.settings_json), row.version
 
     def get_results(self, test_id: int, *, version: int | None = None) -> dict[str, Any]:
-        """Stored results (``TestResults.to_json_dict()``) of the current or a given version.
+        """Stored results (``to_json(TestResults)``) of the current or a given version.
 
         Returns an empty dict when the analysis could not be carried out; the reason is in
         ``get_test(test_id).summary.results_error``.

@@ -7,6 +7,10 @@ from dataclasses import dataclass
 import numpy as np
 
 from analysis.errors import require
+from analysis.records import described
+
+#: Reader-facing method sentence (shown under ``methods``).
+BREATHING_RESERVE_METHOD = "MVV - peak VE; MVV measured or FEV1 × 40 (ATS/ACCP 2003)"
 
 #: MVV estimated from FEV1 (L) times this factor (common practice).
 MVV_PER_FEV1 = 40.0
@@ -28,10 +32,10 @@ class BreathingReserve:
         ``100 * (MVV - VE peak) / MVV``, %.
     """
 
-    mvv_l_min: float
-    mvv_source: str
-    reserve_l_min: float
-    reserve_pct: float
+    mvv_l_min: float = described(unit="L/min", description="maximal voluntary ventilation used")
+    mvv_source: str = described(description="`measured` or `fev1_x40` (FEV1 × 40, common practice)")
+    reserve_l_min: float = described(unit="L/min", description="MVV - peak VE")
+    reserve_pct: float = described(unit="%", description="100 · (MVV - peak VE) / MVV")
 
 
 def breathing_reserve(

@@ -8,6 +8,11 @@ from numpy.typing import ArrayLike
 from analysis.errors import require
 from analysis.indices._arrays import finite_columns
 
+#: Reader-facing method sentences (shown under ``methods``).
+HR_RESERVE_METHOD = "peak HR - resting HR; % of reserve by Karvonen et al. 1957"
+HR_RECOVERY_METHOD = "HR at end of exercise - HR 60 s later (Cole et al. 1999)"
+HR_PEAK_METHOD = "highest averaged heart rate during exercise"
+
 
 def hr_reserve_bpm(*, hr_max_bpm: float, hr_rest_bpm: float) -> float:
     """Heart-rate reserve, beats/min.

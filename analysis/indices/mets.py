@@ -5,6 +5,9 @@ from __future__ import annotations
 import numpy as np
 from numpy.typing import ArrayLike
 
+#: Reader-facing method sentence (shown under ``methods``).
+METS_METHOD = "VO2peak per kg / 3.5 mL/kg/min (common practice)"
+
 #: O2 uptake of one MET, mL/kg/min (common practice).
 ML_KG_MIN_PER_MET = 3.5
 

@@ -8,6 +8,9 @@ from numpy.typing import ArrayLike
 from analysis.indices._arrays import finite_columns, need_points
 from analysis.indices._fit import LineFit, fit_line
 
+#: Reader-facing method sentence (shown under ``methods``).
+OUES_METHOD = "slope of VO2 (mL/min) on log10 VE (L/min) over the whole exercise phase (Baba et al. 1996)"
+
 
 def oues(vo2_ml_min: ArrayLike, ve_l_min: ArrayLike) -> LineFit:
     """Oxygen uptake efficiency slope: VO2 against log10 of minute ventilation.

@@ -3,13 +3,14 @@
 from __future__ import annotations
 
 import math
-from dataclasses import asdict, dataclass
+from dataclasses import dataclass
 from typing import Any
 
 import pandas as pd
 
 from analysis import columns as C
 from analysis.errors import InvalidParameter
+from analysis.records import described
 
 
 @dataclass(frozen=True)
@@ -18,8 +19,8 @@ class PointValues:
 
     Attributes
     ----------
-    index : object
-        Row label in the averaged frame.
+    index : int
+        Row position label in the averaged frame (0..n-1 in the pipeline).
     t_s : float
         Time, s.
     vo2_ml_min : float
@@ -37,24 +38,17 @@ class PointValues:
         Minute ventilation, L/min.
     """
 
-    index: Any
-    t_s: float
-    vo2_ml_min: float
-    vo2_ml_kg_min: float | None
-    pct_vo2_peak: float | None
-    hr_bpm: float | None
-    work_w: float | None
-    speed_kmh: float | None
-    grade_pct: float | None
-    rer: float | None
-    ve_l_min: float | None
-
-    def to_dict(self) -> dict[str, Any]:
-        """JSON-safe dict (``index`` as given if int/str, else its text)."""
-        d = asdict(self)
-        if not isinstance(d["index"], (int, str)):
-            d["index"] = int(d["index"]) if hasattr(d["index"], "__index__") else str(d["index"])
-        return d
+    index: int = described(description="row of the averaged data the values are read at")
+    t_s: float = described(unit="s", key="time_s", description="time of that row")
+    vo2_ml_min: float = described(unit="mL/min", description="O2 uptake")
+    vo2_ml_kg_min: float | None = described(unit="mL/kg/min", description="O2 uptake per kg body mass (null without body mass)")
+    pct_vo2_peak: float | None = described(unit="%", description="O2 uptake as % of VO2peak")
+    hr_bpm: float | None = described(unit="beats/min", description="heart rate")
+    work_w: float | None = described(unit="W", description="work rate (cycle)")
+    speed_kmh: float | None = described(unit="km/h", description="treadmill speed")
+    grade_pct: float | None = described(unit="%", description="treadmill grade")
+    rer: float | None = described(description="respiratory exchange ratio VCO2/VO2")
+    ve_l_min: float | None = described(unit="L/min", description="minute ventilation")
 
 
 def _opt(row: pd.Series, column: str) -> float | None:
@@ -110,7 +104,7 @@ def point_values(
     vo2 = float(row[C.VO2_ML_MIN])
     vco2 = _opt(row, C.VCO2_ML_MIN)
     return PointValues(
-        index=index,
+        index=int(index),
         t_s=float(row[C.T_S]),
         vo2_ml_min=vo2,
         vo2_ml_kg_min=vo2 / body_mass_kg if body_mass_kg else None,

@@ -10,6 +10,13 @@ from numpy.typing import ArrayLike
 
 from analysis.indices._arrays import as_float_array, finite_columns, need_points
 
+#: Reader-facing method sentences (shown under ``methods``).
+ENERGY_EXPENDITURE_METHOD = "abbreviated Weir equation (Weir 1949)"
+SUBSTRATE_METHOD = "Frayn 1983 equations without protein (averaged points with RER below 1.0)"
+FAT_MAX_METHOD = (
+    "averaged exercise point with the highest fat oxidation by the Frayn 1983 equations (Achten et al. 2002)"
+)
+
 #: Above this RER the Frayn equations no longer describe substrate use, because buffering of
 #: lactic acid adds non-metabolic CO2 (common practice).
 FRAYN_MAX_RER = 1.0

@@ -8,6 +8,13 @@ from numpy.typing import ArrayLike
 from analysis.indices._arrays import finite_columns, need_points
 from analysis.indices._fit import LineFit, fit_line
 
+#: Reader-facing method sentences of the slopes and the nadir (shown under ``methods``).
+VE_VCO2_SLOPE_TO_VT2_METHOD = "least-squares slope of VE on VCO2 from exercise start to VT2 (Arena et al. 2007)"
+VE_VCO2_SLOPE_WHOLE_EXERCISE_METHOD = (
+    "least-squares slope of VE on VCO2 over the whole exercise phase (Arena et al. 2007)"
+)
+VE_VCO2_NADIR_METHOD = "lowest averaged VE/VCO2 during exercise (Sun et al. 2002)"
+
 
 def ve_vco2_slope(vco2_ml_min: ArrayLike, ve_l_min: ArrayLike) -> LineFit:
     """Slope of minute ventilation against CO2 output.

@@ -8,6 +8,11 @@ from analysis.errors import require
 from analysis.indices._arrays import finite_columns, need_points
 from analysis.indices._fit import LineFit, fit_line
 
+#: Reader-facing method sentence (shown under ``methods``).
+VO2_WORK_RATE_SLOPE_METHOD = (
+    "least-squares slope of VO2 on work rate over the ramp, first 60 s left out (ATS/ACCP 2003)"
+)
+
 #: Seconds skipped at the start of the ramp while VO2 catches up with the work rate
 #: (common practice: about the VO2 response time constant, ~40-60 s).
 DEFAULT_LAG_S = 60.0

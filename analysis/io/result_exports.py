@@ -15,14 +15,17 @@ import json
 import math
 from collections.abc import Mapping
 from dataclasses import dataclass
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
-import numpy as np
 import pandas as pd
 
 from analysis import columns as C
 from analysis.exports import safe_csv_cell
+from analysis.records import to_json
 from analysis.session import Session
+
+if TYPE_CHECKING:
+    from analysis.results import TestResults
 
 #: Column added to the processed breath table: why a breath was left out ("" when kept).
 EXCLUDED_REASON = "excluded_reason"
@@ -97,42 +100,19 @@ def processed_breaths(breaths: pd.DataFrame, excluded: pd.DataFrame | None = Non
     return out
 
 
-def _json_safe(value: Any) -> Any:
-    if isinstance(value, Mapping):
-        return {str(k): _json_safe(v) for k, v in value.items()}
-    if isinstance(value, (list, tuple)):
-        return [_json_safe(v) for v in value]
-    if isinstance(value, (np.integer,)):
-        return int(value)
-    if isinstance(value, (float, np.floating)):
-        v = float(value)
-        return v if math.isfinite(v) else None
-    if isinstance(value, np.bool_):
-        return bool(value)
-    return value
-
-
 def results_json_text(results_json: Mapping[str, Any]) -> str:
     """Pretty, strict JSON text of a results dict (NaN and infinity written as ``null``)."""
-    return json.dumps(_json_safe(results_json), indent=2, sort_keys=False, allow_nan=False, ensure_ascii=False) + "\n"
+    return json.dumps(to_json(results_json), indent=2, sort_keys=False, allow_nan=False, ensure_ascii=False) + "\n"
 
 
-def _frame_attr(results: Any, names: tuple[str, ...]) -> pd.DataFrame | None:
-    for name in names:
-        value = getattr(results, name, None)
-        if isinstance(value, pd.DataFrame):
-            return value
-    return None
-
-
-def export_files(results: Any, session: Session, *, stem: str = "test") -> dict[str, ExportFile]:
+def export_files(results: TestResults, session: Session, *, stem: str = "test") -> dict[str, ExportFile]:
     """The three downloads of a test, keyed ``"breaths_csv"``, ``"averages_csv"``, ``"results_json"``.
 
     Parameters
     ----------
     results : TestResults
-        From :func:`analysis.pipeline.analyze_session`; its averaged frame and excluded-breath
-        table are used, and its ``to_json_dict()`` for the JSON.
+        From :func:`analysis.pipeline.analyze_session`; its averaged frame and excluded breaths
+        are used, and its JSON form (:func:`analysis.records.to_json`).
     session : Session
         The analysed session (its breaths).
     stem : str
@@ -140,8 +120,8 @@ def export_files(results: Any, session: Session, *, stem: str = "test") -> dict[
         letters, digits, ``-`` and ``_`` become ``_``.
     """
     safe_stem = "".join(ch if ch.isalnum() or ch in "-_" else "_" for ch in stem) or "test"
-    excluded = _frame_attr(results, ("excluded", "excluded_breaths", "excluded_frame"))
-    averaged = _frame_attr(results, ("averaged", "avg", "averages"))
+    excluded = results.excluded_table()
+    averaged = results.averaged
     files = {
         "breaths_csv": ExportFile(
             f"{safe_stem}_breaths.csv",
@@ -149,7 +129,7 @@ def export_files(results: Any, session: Session, *, stem: str = "test") -> dict[
             "text/csv",
         ),
         "results_json": ExportFile(
-            f"{safe_stem}_results.json", results_json_text(results.to_json_dict()).encode("utf-8"), "application/json"
+            f"{safe_stem}_results.json", results_json_text(to_json(results)).encode("utf-8"), "application/json"
         ),
     }
     if averaged is not None:

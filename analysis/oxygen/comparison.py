@@ -34,10 +34,9 @@ Everything here is a model estimate, not a measurement.
 
 from __future__ import annotations
 
-import math
 import warnings
 from collections.abc import Mapping, Sequence
-from dataclasses import asdict, dataclass, field, fields, replace
+from dataclasses import dataclass, field, replace
 from functools import lru_cache
 from typing import Any
 
@@ -73,6 +72,7 @@ from analysis.oxygen.states import (
     StateConditions,
     StatePoint,
 )
+from analysis.records import derived, described
 
 #: Models the comparison accepts (the Hill model has no conditions to shift).
 COMPARISON_MODELS: tuple[str, ...] = ("siggaard_andersen", "severinghaus")
@@ -158,17 +158,27 @@ class StateOxygen:
     pvo2_exercise_curve_mmhg: float | None
     pvo2_resting_curve_mmhg: float | None
     max_avo2_by_curve_ml_dl: float
-    unloading: UnloadingParts | None
-    haldane_extra_co2_ml_dl: float | None
-    conditions: StateConditions
-    arterial_conditions: StateConditions
+    unloading: UnloadingParts | None = described(
+        key="unloading_ml_dl", unit="mL/dL", description="where the unloaded oxygen comes from (parts sum to the total)"
+    )
+    haldane_extra_co2_ml_dl: float | None = described(unit="mL/dL", description="extra CO2 carried by desaturated venous blood")
+    conditions: StateConditions = described(description="blood conditions of the state's curve")
+    arterial_conditions: StateConditions = described(description="arterial blood conditions of the state")
     venous_blood: str = VENOUS_BLOOD
     notes: list[str] = field(default_factory=list)
 
-    @property
+    @derived(description="true when the a-vO2 difference rests on an estimated cardiac output")
     def estimate(self) -> bool:
         """True when the a-vO2 difference rests on an estimated cardiac output."""
         return self.q_estimated
+
+    @derived(description="same as `estimate`: the a-vO2 difference rests on an estimated cardiac output")
+    def avo2_estimated(self) -> bool:
+        return self.q_estimated
+
+    @derived(description="always true: venous values are model estimates")
+    def venous_values_estimated(self) -> bool:
+        return True
 
 
 @dataclass(frozen=True)
@@ -194,35 +204,40 @@ class OxygenComparison:
                 return s
         raise KeyError(name)
 
-    def to_json_dict(self) -> dict[str, Any]:
-        """JSON-safe dictionary (NaN/inf become ``None``) with estimate flags and the caution."""
-        return _json_safe(
-            {
-                "model": self.model,
-                "hb_g_dl": self.hb_g_dl,
-                "pao2_mmhg": self.pao2_mmhg,
-                "pao2_measured": self.pao2_mmhg is not None,
-                "pb_mmhg": self.pb_mmhg,
-                "fio2": self.fio2,
-                "cohb_fraction": self.cohb_fraction,
-                "methb_fraction": self.methb_fraction,
-                "huefner_ml_g": self.huefner_ml_g,
-                "arterial_conditions": {s.name: asdict(s.arterial_conditions) for s in self.states},
-                "resting_conditions": asdict(self.resting_conditions),
-                "venous_blood": VENOUS_BLOOD,
-                "pvo2_floor_mmhg": PVO2_FLOOR_MMHG,
-                "pvo2_floor_blood": f"{VENOUS_BLOOD} (about 15-20 mmHg at maximal exercise; femoral venous blood goes to about {FEMORAL_VENOUS_PO2_FLOOR_MMHG:g} mmHg)",
-                "decomposition_method": (
-                    "fall in PO2 along the resting curve plus curve shift at the exercise-curve venous PO2; "
-                    "shift split into temperature, pH/CO2 and 2,3-BPG parts by averaging over every order of "
-                    "applying them (Shapley values)"
-                ),
-                "estimate": True,
-                "caution": self.caution,
-                "notes": list(self.notes),
-                "states": [_state_json(s) for s in self.states],
-            }
+    @derived(description="true when PaO2 was given (else it comes from the alveolar gas equation)")
+    def pao2_measured(self) -> bool:
+        return self.pao2_mmhg is not None
+
+    @derived(description="state -> arterial blood conditions")
+    def arterial_conditions(self) -> dict[str, StateConditions]:
+        return {s.name: s.arterial_conditions for s in self.states}
+
+    @derived(description="which venous blood the venous values describe")
+    def venous_blood(self) -> str:
+        return VENOUS_BLOOD
+
+    @derived(unit="mmHg", description="venous PO2 below which the blood is implausible")
+    def pvo2_floor_mmhg(self) -> float:
+        return PVO2_FLOOR_MMHG
+
+    @derived(description="the blood the venous floor applies to, in words")
+    def pvo2_floor_blood(self) -> str:
+        return (
+            f"{VENOUS_BLOOD} (about 15-20 mmHg at maximal exercise; femoral venous blood goes to about "
+            f"{FEMORAL_VENOUS_PO2_FLOOR_MMHG:g} mmHg)"
         )
+
+    @derived(description="how the unloading is split into its parts")
+    def decomposition_method(self) -> str:
+        return (
+            "fall in PO2 along the resting curve plus curve shift at the exercise-curve venous PO2; "
+            "shift split into temperature, pH/CO2 and 2,3-BPG parts by averaging over every order of "
+            "applying them (Shapley values)"
+        )
+
+    @derived(description="always true: the comparison is a model estimate")
+    def estimate(self) -> bool:
+        return True
 
     def to_frame(self) -> pd.DataFrame:
         """One row per state, units in column names (for the dashboard table)."""
@@ -255,35 +270,6 @@ class OxygenComparison:
                 }
             )
         return pd.DataFrame(rows)
-
-
-def _json_safe(obj: Any) -> Any:
-    if isinstance(obj, dict):
-        return {str(k): _json_safe(v) for k, v in obj.items()}
-    if isinstance(obj, (list, tuple)):
-        return [_json_safe(v) for v in obj]
-    if isinstance(obj, bool) or obj is None or isinstance(obj, str):
-        return obj
-    if isinstance(obj, (int, float)):
-        value = float(obj)
-        return value if math.isfinite(value) else None
-    return str(obj)
-
-
-def _state_json(s: StateOxygen) -> dict[str, Any]:
-    # field by field (asdict would deep-copy the two nested dataclasses only to drop them)
-    out = {
-        f.name: list(v) if isinstance(v := getattr(s, f.name), list) else v
-        for f in fields(s)
-        if f.name not in ("unloading", "conditions", "arterial_conditions")
-    }
-    out["estimate"] = s.estimate
-    out["avo2_estimated"] = s.q_estimated
-    out["venous_values_estimated"] = True
-    out["conditions"] = asdict(s.conditions)
-    out["arterial_conditions"] = asdict(s.arterial_conditions)
-    out["unloading_ml_dl"] = None if s.unloading is None else asdict(s.unloading)
-    return out
 
 
 @lru_cache(maxsize=256)
@@ -588,8 +574,7 @@ def _arterial(point: StatePoint, ctx: _Context, arterial: StateConditions, notes
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always")
         reading = saturation_from_spo2(spo2)
-    for w in caught:
-        warnings.warn(w.message, w.category, stacklevel=4)
+    for _ in caught:  # the note is the value returned; the warning is not passed on
         notes.append(f"SpO2 {spo2:g} % is below 90 %: a concern; check the probe and arterial blood.")
     sao2 = min(1.0, max(0.0, (reading - ctx.cohb) / (1.0 - ctx.cohb - ctx.methb)))
     if ctx.cohb > 0:

@@ -4,6 +4,13 @@ from __future__ import annotations
 
 from analysis.reference._validate import number_in
 
+#: Reader-facing method sentences (shown under ``methods``).
+WEBER_CLASS_METHOD = "classes A-D by VO2peak per kg (Weber & Janicki 1985)"
+VENTILATORY_CLASS_METHOD = (
+    "classes I-IV by the whole-exercise VE/VCO2 slope (Arena et al. 2007; the paper's slope spans all "
+    "exercise data, from memory)"
+)
+
 #: Weber class descriptions (Weber & Janicki 1985, from memory).
 WEBER_DESCRIPTIONS: dict[str, str] = {
     "A": "none to mild impairment (peak VO2 > 20 mL/kg/min)",

@@ -6,6 +6,9 @@ from analysis.errors import require
 from analysis.reference._validate import mode_code, number_in
 from analysis.subject import reference_sex
 
+#: Reader-facing method sentence (shown under ``methods``).
+FRIEND_METHOD = "FRIEND registry equation (de Souza e Silva et al. 2018)"
+
 LB_PER_KG = 2.2046226218
 CM_PER_IN = 2.54
 

@@ -4,6 +4,9 @@ from __future__ import annotations
 
 from analysis.reference._validate import number_in
 
+#: Reader-facing method sentence (shown under ``methods``).
+TANAKA_METHOD = "208 - 0.7 × age (Tanaka et al. 2001)"
+
 
 def tanaka_hr_max_bpm(*, age_y: float) -> float:
     """Age-predicted maximal heart rate by Tanaka's equation.

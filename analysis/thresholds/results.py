@@ -1,26 +1,15 @@
-"""Result types of threshold detection: one pick, one two-line fit, the full report."""
+"""Result types of threshold detection: one pick, one two-line fit, the full report.
+
+Their JSON form is written by the one result codec (:func:`analysis.records.to_json`)."""
 
 from __future__ import annotations
 
 import math
-from dataclasses import asdict, dataclass, field
-from typing import Any, Literal
+from dataclasses import dataclass, field
+from typing import Literal
 
 ThresholdKind = Literal["vt1", "vt2"]
 Confidence = Literal["high", "moderate", "low"]
-
-
-def _clean(value: Any) -> Any:
-    """JSON-ready: NaN -> None, numpy scalars -> Python numbers."""
-    if isinstance(value, dict):
-        return {k: _clean(v) for k, v in value.items()}
-    if isinstance(value, (list, tuple)):
-        return [_clean(v) for v in value]
-    if hasattr(value, "item") and not isinstance(value, (str, bytes)):
-        value = value.item()
-    if isinstance(value, float) and not math.isfinite(value):
-        return None
-    return value
 
 
 @dataclass(frozen=True)
@@ -71,9 +60,6 @@ class ThresholdPick:
     determinable: bool = True
     reason: str = ""
 
-    def to_dict(self) -> dict[str, Any]:
-        return _clean(asdict(self))
-
 
 @dataclass(frozen=True)
 class VSlopeFit:
@@ -102,9 +88,6 @@ class VSlopeFit:
     vo2_min_ml_min: float = math.nan
     vo2_max_ml_min: float = math.nan
     ci90_vo2_ml_min: tuple[float, float] | None = None
-
-    def to_dict(self) -> dict[str, Any]:
-        return _clean(asdict(self))
 
 
 @dataclass
@@ -141,23 +124,3 @@ class ThresholdReport:
     vt2_auto: ThresholdPick | None = None
     vt1_undetermined: ThresholdPick | None = None
     vt2_undetermined: ThresholdPick | None = None
-
-    def to_dict(self) -> dict[str, Any]:
-        """JSON-ready dictionary (NaN -> None)."""
-
-        def pick(p: ThresholdPick | None) -> dict[str, Any] | None:
-            return p.to_dict() if p is not None else None
-
-        return {
-            "vt1": pick(self.vt1),
-            "vt2": pick(self.vt2),
-            "vt1_candidates": {k: pick(v) for k, v in self.vt1_candidates.items()},
-            "vt2_candidates": {k: pick(v) for k, v in self.vt2_candidates.items()},
-            "vslope": self.vslope.to_dict() if self.vslope is not None else None,
-            "agreement": dict(self.agreement),
-            "reasons": list(self.reasons),
-            "vt1_auto": pick(self.vt1_auto),
-            "vt2_auto": pick(self.vt2_auto),
-            "vt1_undetermined": pick(self.vt1_undetermined),
-            "vt2_undetermined": pick(self.vt2_undetermined),
-        }

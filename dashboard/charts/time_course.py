@@ -144,8 +144,7 @@ def time_course_figure(
 
 def time_course_from_results(results: Any, session: Any | None = None) -> go.Figure:
     """:func:`time_course_figure` for a :class:`analysis.results.TestResults` (and its session)."""
-    excluded = results.excluded_breaths
-    rows = excluded["source_row"].tolist() if excluded is not None and "source_row" in excluded.columns else []
+    rows = [e.source_row for e in results.excluded_breaths]
     return time_course_figure(
         results.averaged,
         breaths=session.breaths if session is not None else None,

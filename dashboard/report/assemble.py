@@ -62,8 +62,7 @@ def report_figures(results: Any, session: Session) -> list[tuple[str, Any]]:
 
     report = results.thresholds
     picks = {"vt1": report.vt1, "vt2": report.vt2}
-    excluded = results.excluded_breaths
-    rows = excluded["source_row"].tolist() if len(excluded) and "source_row" in excluded.columns else []
+    rows = [e.source_row for e in results.excluded_breaths]
     makers = (
         (
             "Gas exchange over time",

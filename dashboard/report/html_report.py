@@ -5,7 +5,7 @@ CDN, no external link or script source), the style sheet is inlined, and the pag
 or Letter without cutting a chart (fixed 170 mm chart width, ``break-inside: avoid``).
 
 Every number comes from the results JSON of :func:`analysis.pipeline.analyze_session`
-(``TestResults.to_json_dict()``); this module only formats them.
+(``to_json(TestResults)``); this module only formats them.
 """
 
 from __future__ import annotations
@@ -19,6 +19,7 @@ from dataclasses import dataclass, field
 from importlib import resources
 from typing import Any
 
+from analysis.records import to_json
 from analysis.session import Session
 
 #: The caution printed on every report (and on the coach view).
@@ -425,7 +426,7 @@ def build_report_html(
     Parameters
     ----------
     results : TestResults or mapping
-        The analysis results (``TestResults`` or its ``to_json_dict()``).
+        The analysis results (``TestResults`` or its JSON form, ``to_json(results)``).
     session : Session, optional
         The test's session (for protocol, date and body mass lines).
     figures : sequence of (title, plotly Figure) or mapping title -> Figure
@@ -438,7 +439,7 @@ def build_report_html(
     str
         A complete HTML document with no external script, style or link source.
     """
-    data: Mapping[str, Any] = results.to_json_dict() if hasattr(results, "to_json_dict") else dict(results)
+    data: Mapping[str, Any] = to_json(results)  # a TestResults, or its JSON form (a mapping)
     ctx = context or ReportContext()
     meta = session.meta if session is not None else {}
     items = list(figures.items()) if isinstance(figures, Mapping) else list(figures)

@@ -530,8 +530,7 @@ def _zoom_to_span(test_id: int, bounds: tuple[float, float]) -> None:
 def _charts(store: Any, test_id: int, working: state.WorkingSettings, results: Any, session: Any) -> None:
     report = results.thresholds
     picks = {"vt1": report.vt1, "vt2": report.vt2}
-    excluded = results.excluded_breaths
-    rows = excluded["source_row"].tolist() if len(excluded) and "source_row" in excluded.columns else []
+    rows = [e.source_row for e in results.excluded_breaths]
     bounds = window_bounds(results.averaged["t_s"].to_numpy(dtype=float), step_s=WINDOW_STEP_S)
     window = _time_window(test_id, bounds)
     span = _span_note(test_id, bounds)
@@ -566,7 +565,7 @@ def threshold_notes(agreement: Mapping[str, str], reasons: Sequence[str]) -> lis
 
 def _exclusions(store: Any, test_id: int, working: state.WorkingSettings, results: Any) -> None:
     st.subheader("Excluded breaths")
-    table = results.excluded_breaths
+    table = results.excluded_table()
     restored = [int(r) for r in working.settings.get("restored_rows") or []]
     if not len(table) and not restored:
         st.caption("No breath is excluded.")

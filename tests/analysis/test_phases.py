@@ -9,7 +9,7 @@ import pandas as pd
 import pytest
 
 from analysis.errors import DataQualityWarning, InvalidParameter
-from analysis.phases import detect_phases, ramp_rate_w_per_min, theil_sen_slope
+from analysis.phases import PhaseSpan, detect_phases, label_phases, ramp_rate_w_per_min, theil_sen_slope
 
 
 def cycle_test(*, warmup_s: float = 180.0, ramp_w_per_min: float = 25.0, steps_s: float = 0.0) -> pd.DataFrame:
@@ -73,11 +73,14 @@ def test_treadmill_speed_and_grade():
     assert set(ph[t >= 780]) == {"recovery"}
 
 
-def test_no_load_no_phase_warns_and_calls_everything_exercise():
+def test_no_load_no_phase_notes_and_calls_everything_exercise():
     b = pd.DataFrame({"t_s": [0.0, 3.0, 6.0], "vo2_ml_min": 1.0, "vco2_ml_min": 1.0, "ve_l_min": 1.0})
-    with pytest.warns(DataQualityWarning, match="every breath is treated as exercise"):
-        ph = detect_phases(b)
-    assert ph.tolist() == ["exercise"] * 3
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")  # the note is a value, never a warning
+        labelled = label_phases(b)
+    assert labelled.labels.tolist() == ["exercise"] * 3 == detect_phases(b).tolist()
+    assert len(labelled.notes) == 1 and "every breath is treated as exercise" in labelled.notes[0]
+    assert labelled.spans["exercise"] == PhaseSpan(0.0, 6.0)
 
 
 def test_empty():

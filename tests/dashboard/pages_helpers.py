@@ -5,6 +5,7 @@ from __future__ import annotations
 from typing import Any
 
 from analysis.pipeline import analyze_session
+from analysis.records import to_json
 from analysis.settings import AnalysisSettings
 from dashboard import state
 
@@ -21,7 +22,7 @@ def analysis_json(store: Any, test_id: int, settings: dict[str, Any] | None = No
     """What ``analysis`` computes for a stored test (the numbers a page must show)."""
     if settings is None:
         settings, _ = store.get_settings(test_id)
-    return analyze_session(store.load_session(test_id), AnalysisSettings.from_dict(settings)).to_json_dict()
+    return to_json(analyze_session(store.load_session(test_id), AnalysisSettings.from_dict(settings)))
 
 
 def parse_number(text: str) -> float:

@@ -8,6 +8,7 @@ import re
 import pytest
 
 from analysis.io.result_exports import export_files
+from analysis.records import to_json
 from dashboard import state
 from dashboard.views.review import with_override
 from dashboard.report.assemble import build_test_report
@@ -77,7 +78,7 @@ def test_report_file_matches_analysis(demo_store, first_test):
     session = store.load_session(first_test)
     results = analyze_session(session, AnalysisSettings.from_dict(settings))
     doc = build_test_report(store, first_test, results, session, version=version, show_name=False)
-    data = results.to_json_dict()
+    data = to_json(results)
     vo2 = f"{data['vo2_peak_ml_min']:,.0f}".replace(",", "\u2009")
     assert vo2 in doc
     assert "not a medical device" in doc

@@ -9,6 +9,7 @@ from __future__ import annotations
 import pytest
 
 from analysis.pipeline import analyze_session
+from analysis.records import to_json
 from analysis.settings import AnalysisSettings
 from dashboard import data
 from dashboard.views import review
@@ -45,7 +46,7 @@ def reference(demo_store):
     test_id = demo_store.test_ids[0]
     session = demo_store.store.load_session(test_id)
     settings, _ = demo_store.store.get_settings(test_id)
-    return analyze_session(session, AnalysisSettings.from_dict(settings)).to_json_dict()
+    return to_json(analyze_session(session, AnalysisSettings.from_dict(settings)))
 
 
 def test_headline_numbers_equal_analyze_session(demo_store, page_test, reference):
@@ -87,7 +88,7 @@ def test_typing_a_vt1_time_changes_vt1_marks_it_manual_and_saves_a_version(demo_
     settings, version = demo_store.store.get_settings(test_id)
     assert version == version_before + 1
     assert settings["vt1_override"] == {"t_s": new_t, "vo2_ml_min": None, "reason": "later on the V-slope chart"}
-    expected = analyze_session(demo_store.store.load_session(test_id), AnalysisSettings.from_dict(settings)).to_json_dict()
+    expected = to_json(analyze_session(demo_store.store.load_session(test_id), AnalysisSettings.from_dict(settings)))
     assert expected["vt1"]["source"] == "manual"
     assert vt1["Time"] == f"{expected['vt1']['time_s']:,.0f} s"
     assert vt1["VO2"] == f"{expected['vt1']['vo2_ml_min']:,.0f} mL/min"
@@ -212,8 +213,7 @@ def test_restoring_an_excluded_breath_puts_it_back(demo_store, page_test):
     at.run()
     settings, _ = demo_store.store.get_settings(test_id)
     results = analyze_session(demo_store.store.load_session(test_id), AnalysisSettings.from_dict(settings))
-    auto = results.excluded_breaths
-    auto_rows = sorted(auto.loc[auto["by"] == "auto", "source_row"].astype(int).unique().tolist())
+    auto_rows = sorted({e.source_row for e in results.excluded_breaths if e.by == "auto"})
     if not auto_rows:
         pytest.skip("this demo test has no automatically excluded breath")
     row = auto_rows[0]
@@ -223,7 +223,7 @@ def test_restoring_an_excluded_breath_puts_it_back(demo_store, page_test):
     stored, _ = demo_store.store.get_settings(test_id)
     assert row in stored["restored_rows"]
     after = analyze_session(demo_store.store.load_session(test_id), AnalysisSettings.from_dict(stored))
-    assert row not in after.excluded_breaths["source_row"].astype(int).tolist()
+    assert row not in [e.source_row for e in after.excluded_breaths]
 
 
 def test_typing_a_vt2_vo2_places_vt2_at_the_nearest_averaged_row(demo_store, page_test):
@@ -245,7 +245,7 @@ def test_typing_a_vt2_vo2_places_vt2_at_the_nearest_averaged_row(demo_store, pag
     data.wait_for_saves()
     stored, _ = demo_store.store.get_settings(test_id)
     assert stored["vt2_override"]["vo2_ml_min"] == float(target)
-    expected = analyze_session(demo_store.store.load_session(test_id), AnalysisSettings.from_dict(stored)).to_json_dict()
+    expected = to_json(analyze_session(demo_store.store.load_session(test_id), AnalysisSettings.from_dict(stored)))
     assert f"{expected['vt2']['vo2_ml_min']:,.0f} mL/min" in line
 
 

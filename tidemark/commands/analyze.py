@@ -26,6 +26,7 @@ from typing import Any
 from analysis.breaths import METHODS, AveragingSpec
 from analysis.errors import ImportRejected, InvalidParameter, Problem, TidemarkError
 from analysis.exports import SUMMARY_COLUMNS, error_row, safe_csv_cell, summary_row
+from analysis.records import to_json
 from analysis.session import Session
 from analysis.settings import AnalysisSettings, MetadataOverrides, ThresholdOverride
 
@@ -131,7 +132,7 @@ def analyze_path(path: str | Path, settings_dict: dict[str, Any]) -> dict[str, A
     try:
         settings = AnalysisSettings.from_dict(settings_dict)
         results = analyze_session(load_session(path), settings, with_oxygen=False)  # no oxygen column in the row
-        return summary_row(results.to_json_dict(), file=path.name)
+        return summary_row(to_json(results), file=path.name)
     except TidemarkError as exc:
         return error_row(file=path.name, error=str(exc).replace("\n", " | "))
     except Exception as exc:  # noqa: BLE001 - one bad file must not stop the batch
@@ -220,7 +221,7 @@ def _n(value: Any, digits: int = 0, unit: str = "") -> str:
 
 def format_summary(r: dict[str, Any]) -> str:
     """Readable text of a results JSON dict (numbers with their methods)."""
-    from analysis.pipeline import VE_VCO2_TO_VT2, VE_VCO2_WHOLE_EXERCISE  # kept out of the CLI start-up
+    from analysis.indices.summary import VE_VCO2_TO_VT2, VE_VCO2_WHOLE_EXERCISE  # kept out of the CLI start-up
 
     # which span the headline VE/VCO2 slope covers, in words
     spans = {VE_VCO2_TO_VT2: "to VT2", VE_VCO2_WHOLE_EXERCISE: "whole exercise"}
@@ -331,7 +332,7 @@ def run(args: argparse.Namespace) -> int:
         print(f"{len(rows)} tests analysed, {failed} failed; results in {args.out}", file=sys.stderr)
         return 0
     results = analyze_session(load_session(path), settings)
-    data = results.to_json_dict()
+    data = to_json(results)
     if args.out is not None:
         _write(args.out, summary_csv_text([summary_row(data, file=path.name)]))
     if args.json:

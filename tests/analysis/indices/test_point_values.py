@@ -5,6 +5,7 @@ import pytest
 
 from analysis.errors import InvalidParameter
 from analysis.indices import point_values
+from analysis.records import to_json
 
 
 def _avg():
@@ -28,7 +29,7 @@ def test_values_at_row():
     assert p.pct_vo2_peak == pytest.approx(50.0)
     assert p.rer == pytest.approx(0.95)
     assert (p.hr_bpm, p.work_w, p.speed_kmh, p.ve_l_min) == (140.0, 150.0, None, 50.0)
-    assert p.to_dict()["index"] == 10
+    assert to_json(p)["index"] == 10 and to_json(p)["time_s"] == p.t_s
 
 
 def test_missing_values_are_none():

@@ -15,6 +15,7 @@ from analysis.oxygen.acid_base import (
 )
 from analysis.oxygen.comparison import MIXED_VENOUS_PO2_FLOOR_MMHG, RESTING_AVO2_ML_DL
 from analysis.oxygen.states import DEFAULT_ARTERIAL_CONDITIONS, DEFAULT_CONDITIONS
+from analysis.records import to_json
 
 POINTS = [
     StatePoint("rest", 350.0, hr_bpm=70.0, pct_vo2_peak=10.0, rer=0.82),
@@ -121,7 +122,7 @@ def test_floor_is_the_mixed_venous_one():
     # not used for the Fick comparison.
     assert MIXED_VENOUS_PO2_FLOOR_MMHG == 15.0
     r = oxygen_comparison(POINTS, hb_g_dl=15.0)
-    data = r.to_json_dict()
+    data = to_json(r)
     assert data["pvo2_floor_mmhg"] == 15.0 and data["venous_blood"] == "mixed venous"
     assert "femoral venous" in data["pvo2_floor_blood"]
 

@@ -7,6 +7,7 @@ import json
 import pytest
 
 from analysis.pipeline import analyze_session
+from analysis.records import to_json
 from analysis.settings import AnalysisSettings
 from analysis.simulation import DEMO_TESTS, simulate_session
 
@@ -18,7 +19,7 @@ def session():
 
 
 def test_oxygen_block_in_results(session):
-    data = analyze_session(session).to_json_dict()
+    data = to_json(analyze_session(session))
     oxygen = data["oxygen"]
     assert oxygen is not None
     json.dumps(oxygen, allow_nan=False)
@@ -37,7 +38,7 @@ def test_oxygen_block_in_results(session):
 def test_measured_cardiac_output_from_settings(session):
     # Textbook Fick (common practice): a-vO2 = VO2 / Q.
     settings = AnalysisSettings(oxygen={"q_l_min": {"peak": 25.0}, "model": "severinghaus"})
-    oxygen = analyze_session(session, settings).to_json_dict()["oxygen"]
+    oxygen = to_json(analyze_session(session, settings))["oxygen"]
     peak = oxygen["states"][-1]
     assert peak["q_estimated"] is False and peak["q_method"] == "measured"
     assert peak["avo2_ml_dl"] == pytest.approx(peak["vo2_ml_min"] / 250.0)
@@ -47,7 +48,7 @@ def test_measured_cardiac_output_from_settings(session):
 def test_no_haemoglobin_no_comparison(session):
     meta = {k: v for k, v in session.meta.items() if k != "hb_g_dl"}
     bare = type(session)(meta=meta, breaths=session.breaths, flags=session.flags, source_name=session.source_name)
-    assert analyze_session(bare).to_json_dict()["oxygen"] is None
+    assert to_json(analyze_session(bare))["oxygen"] is None
 
 
 # --- SpO2 per state from the session's own column -------------------------------------------
@@ -68,12 +69,12 @@ def _states(data):
 def test_spo2_column_gives_each_states_saturation(desaturating):
     import numpy as np
 
-    from analysis.pipeline import SPO2_HALF_WINDOW_S
+    from analysis.oxygen.from_test import SPO2_HALF_WINDOW_S
     from analysis.simulation import HEART_FAILURE
     from analysis.simulation._model import spo2_pct as model_spo2
 
     res = analyze_session(desaturating)
-    data = res.to_json_dict()
+    data = to_json(res)
     states = _states(data)
     avg = res.averaged
     t, spo2 = avg["t_s"].to_numpy(float), avg["spo2_pct"].to_numpy(float)
@@ -96,13 +97,13 @@ def test_spo2_column_gives_each_states_saturation(desaturating):
 
 
 def test_settings_spo2_override_the_column(desaturating):
-    one = analyze_session(desaturating, AnalysisSettings(oxygen={"spo2_pct": 95.0})).to_json_dict()
+    one = to_json(analyze_session(desaturating, AnalysisSettings(oxygen={"spo2_pct": 95.0})))
     assert [s["sao2"] for s in one["oxygen"]["states"]] == pytest.approx([0.95] * len(one["oxygen"]["states"]))
     per_state = AnalysisSettings(oxygen={"spo2_pct_by_state": {"peak": 92.0}})
-    data = analyze_session(desaturating, per_state).to_json_dict()
+    data = to_json(analyze_session(desaturating, per_state))
     states = _states(data)
     assert states["peak"]["sao2"] == pytest.approx(0.92)
-    assert states["rest"]["sao2"] == pytest.approx(analyze_session(desaturating).to_json_dict()["oxygen"]["states"][0]["sao2"])
+    assert states["rest"]["sao2"] == pytest.approx(to_json(analyze_session(desaturating))["oxygen"]["states"][0]["sao2"])
 
 
 def test_without_spo2_column_the_curve_is_used(session):
@@ -110,7 +111,7 @@ def test_without_spo2_column_the_curve_is_used(session):
         meta=session.meta, breaths=session.breaths.drop(columns="spo2_pct"), flags=session.flags,
         source_name=session.source_name,
     )
-    data = analyze_session(bare).to_json_dict()
+    data = to_json(analyze_session(bare))
     assert {s["sao2_source"] for s in data["oxygen"]["states"]} == {"curve"}
     assert "oxygen_spo2" not in data["methods"]
 
@@ -119,12 +120,11 @@ def test_spo2_by_state_skips_implausible_means():
     import numpy as np
     import pandas as pd
 
-    from analysis.pipeline import spo2_by_state
+    from analysis.oxygen.from_test import spo2_by_state
 
     avg = pd.DataFrame({"t_s": np.arange(10) * 10.0, "spo2_pct": [97.0] * 5 + [30.0] * 5})
     phases = np.array(["rest"] * 5 + ["exercise"] * 5)
-    warns: list[str] = []
-    out = spo2_by_state(avg, phases, {"peak": 80.0}, warns=warns)
+    out, notes = spo2_by_state(avg, phases, {"peak": 80.0})
     assert out == {"rest": 97.0}
-    assert warns and "outside 50-100 %" in warns[0]
-    assert spo2_by_state(avg.drop(columns="spo2_pct"), phases, {"peak": 80.0}) == {}
+    assert notes and "outside 50-100 %" in notes[0]
+    assert spo2_by_state(avg.drop(columns="spo2_pct"), phases, {"peak": 80.0}) == ({}, ())

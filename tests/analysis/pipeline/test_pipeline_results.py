@@ -8,6 +8,7 @@ import pytest
 
 from analysis.errors import AnalysisError
 from analysis.pipeline import analyze_session
+from analysis.records import to_json
 from analysis.results import CAUTIONS, TOP_LEVEL_KEYS
 from analysis.session import Session
 from analysis.settings import AnalysisSettings, MetadataOverrides, ThresholdOverride
@@ -21,7 +22,7 @@ def results(cyclist):
 
 
 def test_json_has_stable_keys_and_is_strict_json(results):
-    d = results.to_json_dict()
+    d = to_json(results)
     assert list(d) == list(TOP_LEVEL_KEYS)
     text = json.dumps(d, allow_nan=False)  # raises on NaN/inf
     assert json.loads(text)["vo2_peak_ml_min"] == pytest.approx(results.vo2_peak_ml_min)
@@ -34,7 +35,7 @@ def test_json_has_stable_keys_and_is_strict_json(results):
 
 
 def test_every_headline_number_has_a_method(results):
-    d = results.to_json_dict()
+    d = to_json(results)
     for key in ("vo2_peak", "rer_peak", "hr_peak_bpm", "ve_vco2_slope", "oues", "o2_pulse", "vt1", "vt2",
                 "maximality", "predicted_vo2max", "weber_class", "ventilatory_class", "zones", "averaging",
                 "energy_expenditure", "fat_max", "mets", "breathing_reserve", "vo2_work_rate_slope"):
@@ -42,7 +43,7 @@ def test_every_headline_number_has_a_method(results):
 
 
 def test_threshold_values_read_from_averaged_rows(results):
-    d = results.to_json_dict()
+    d = to_json(results)
     avg = results.averaged
     row = avg.iloc[d["vt1"]["index"]]
     assert d["vt1"]["time_s"] == pytest.approx(row["t_s"])
@@ -51,7 +52,7 @@ def test_threshold_values_read_from_averaged_rows(results):
 
 
 def test_zones_match_threshold_hr_and_rise(results):
-    d = results.to_json_dict()
+    d = to_json(results)
     zones = d["zones"]["zones"]
     assert len(zones) == 3
     assert zones[0]["hr_high_bpm"] == pytest.approx(d["vt1"]["hr_bpm"])
@@ -64,7 +65,7 @@ def test_zones_match_threshold_hr_and_rise(results):
 
 
 def test_derived_indices_consistent(results):
-    d = results.to_json_dict()
+    d = to_json(results)
     ind = d["indices"]
     # METs = VO2 per kg / 3.5 (common practice)
     assert ind["mets_peak"] == pytest.approx(d["vo2_peak_ml_kg_min"] / 3.5)
@@ -76,12 +77,12 @@ def test_derived_indices_consistent(results):
 
 
 def test_threshold_overrides_and_metadata_overrides(cyclist, results):
-    auto = results.to_json_dict()
+    auto = to_json(results)
     s = AnalysisSettings(
         vt1_override=ThresholdOverride(t_s=600.0, reason="clear V-slope break on review"),
         metadata=MetadataOverrides(body_mass_kg=2 * cyclist.meta["body_mass_kg"]),
     )
-    d = analyze_session(cyclist, s).to_json_dict()
+    d = to_json(analyze_session(cyclist, s))
     assert d["vt1"]["source"] == "manual" and d["vt1"]["method"] == "manual"
     assert abs(d["vt1"]["time_s"] - 600.0) <= 10.0
     assert "clear V-slope break" in d["vt1"]["note"]
@@ -90,20 +91,20 @@ def test_threshold_overrides_and_metadata_overrides(cyclist, results):
 
 
 def test_manual_exclusion_and_restoring(cyclist, results):
-    auto_rows = results.excluded_breaths["source_row"].tolist()
+    auto_rows = [e.source_row for e in results.excluded_breaths]
     assert auto_rows, "the simulator injects artifacts that the outlier test should catch"
     keep_row = int(auto_rows[0])
     extra = int(cyclist.breaths["source_row"].iloc[100])
     r = analyze_session(cyclist, AnalysisSettings(excluded_rows=(extra,), restored_rows=(keep_row,)))
-    ex = r.excluded_breaths
+    ex = r.excluded_table()
     assert keep_row not in set(ex["source_row"])
     assert ex.loc[ex["source_row"] == extra, "by"].tolist() == ["reviewer"]
-    assert r.breaths_used == r.breaths_total - len(ex)
+    assert r.breaths.used == r.breaths.total - len(ex) == r.breaths.total - r.breaths.excluded
 
 
 def test_no_hb_gives_no_oxygen_section(cyclist):
     meta = {k: v for k, v in cyclist.meta.items() if k != "hb_g_dl"}
-    d = analyze_session(Session(meta, cyclist.breaths, source_name="x.csv")).to_json_dict()
+    d = to_json(analyze_session(Session(meta, cyclist.breaths, source_name="x.csv")))
     assert d["oxygen"] is None
 
 
@@ -121,7 +122,7 @@ def test_too_few_breaths():
 
 def test_without_metadata_values_are_null_and_warned(cyclist):
     meta = {"subject_id": "X"}
-    d = analyze_session(Session(meta, cyclist.breaths, source_name="anon.csv")).to_json_dict()
+    d = to_json(analyze_session(Session(meta, cyclist.breaths, source_name="anon.csv")))
     assert d["vo2_peak_ml_kg_min"] is None
     assert d["predicted"]["vo2max_friend_ml_kg_min"] is None
     assert any("Body mass unknown" in w for w in d["warnings"])
@@ -129,8 +130,8 @@ def test_without_metadata_values_are_null_and_warned(cyclist):
 
 
 def test_without_oxygen_only_the_oxygen_section_changes(cyclist, results):
-    full = results.to_json_dict()
-    lean = analyze_session(cyclist, with_oxygen=False).to_json_dict()
+    full = to_json(results)
+    lean = to_json(analyze_session(cyclist, with_oxygen=False))
     assert full["oxygen"] is not None and lean["oxygen"] is None
     for key in ("vo2_peak_ml_min", "vt1", "vt2", "indices", "zones", "maximality"):
         assert lean[key] == full[key]
@@ -141,8 +142,8 @@ def test_parallel_threads_give_the_same_results(cyclist, results):
     from concurrent.futures import ThreadPoolExecutor
 
     with ThreadPoolExecutor(max_workers=3) as pool:
-        outs = list(pool.map(lambda _: analyze_session(cyclist).to_json_dict(), range(3)))
-    expected = results.to_json_dict()
+        outs = list(pool.map(lambda _: to_json(analyze_session(cyclist)), range(3)))
+    expected = to_json(results)
     for d in outs:
         assert d["vo2_peak_ml_min"] == expected["vo2_peak_ml_min"]
         assert d["warnings"] == expected["warnings"]

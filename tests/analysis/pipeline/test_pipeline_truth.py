@@ -3,6 +3,7 @@
 import pytest
 
 from analysis.pipeline import analyze_session
+from analysis.records import to_json
 from tests.analysis.pipeline.conftest import simulated
 
 
@@ -10,7 +11,7 @@ from tests.analysis.pipeline.conftest import simulated
 @pytest.mark.parametrize("noise", [0.5, 1.5])
 def test_cyclist_peak_and_efficiency_match_truth(seed, noise):
     s = simulated("TRAINED_CYCLIST", "CYCLE_RAMP_30", seed, noise)
-    r = analyze_session(s).to_json_dict()
+    r = to_json(analyze_session(s))
     truth = s.meta
     # VO2peak of 10-s averages sits within 5 % of the model's end-exercise VO2 (ground truth;
     # averaging noise adds a small positive bias, common practice).
@@ -34,7 +35,7 @@ def test_heart_failure_slope_and_class(seed):
     # no VT2 in the model: whole-exercise slope = model slope 42 (ground truth); Arena 2007
     # class III for 36.0-44.9
     s = simulated("HEART_FAILURE", "CYCLE_RAMP_8", seed)
-    r = analyze_session(s).to_json_dict()
+    r = to_json(analyze_session(s))
     assert r["ve_vco2_slope"] == pytest.approx(s.meta["truth_ve_vco2_slope"], abs=2.5)
     assert r["classes"]["ventilatory"] == ("III" if r["ve_vco2_slope"] < 45 else "IV")
     assert r["vo2_peak_ml_min"] == pytest.approx(s.meta["truth_vo2peak_ml_min"], rel=0.06)
@@ -44,7 +45,7 @@ def test_plateau_cyclist_is_vo2max():
     # demo session of the trained cyclist (model plateau of 80 s, truth_plateau 1)
     s = simulated("TRAINED_CYCLIST", "CYCLE_RAMP_30", 1107)
     assert s.meta["truth_plateau"] == 1.0
-    m = analyze_session(s).to_json_dict()["maximality"]
+    m = to_json(analyze_session(s))["maximality"]
     assert m["verdict"] == "vo2max_plateau"
     assert m["plateau"]["plateau"] is True
 
@@ -65,7 +66,7 @@ def test_plateau_sensitivity_across_seeds():
 @pytest.mark.parametrize("seed", [5531, 41, 42])
 def test_submaximal_screen_is_not_maximal_with_rer_reason(seed):
     s = simulated("SUBMAX_SCREEN", "CYCLE_SUBMAX", seed)
-    m = analyze_session(s).to_json_dict()["maximality"]
+    m = to_json(analyze_session(s))["maximality"]
     assert m["verdict"] == "vo2peak_submaximal"
     assert m["rer_criterion_met"] is False
     assert any("RER" in reason and "below 1.10" in reason for reason in m["reasons"])

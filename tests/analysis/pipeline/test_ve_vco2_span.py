@@ -10,7 +10,9 @@ import numpy as np
 import pytest
 
 from analysis.indices import ve_vco2_slope
-from analysis.pipeline import VE_VCO2_TO_VT2, VE_VCO2_WHOLE_EXERCISE, analyze_session
+from analysis.indices.summary import VE_VCO2_TO_VT2, VE_VCO2_WHOLE_EXERCISE
+from analysis.pipeline import analyze_session
+from analysis.records import to_json
 from analysis.reference import ventilatory_class
 from tests.analysis.pipeline.conftest import simulated
 
@@ -18,7 +20,7 @@ from tests.analysis.pipeline.conftest import simulated
 @pytest.mark.parametrize("seed", [41, 42, 43, 44, 45])
 def test_headline_slope_is_the_truth_below_vt2_across_seeds(seed):
     s = simulated("TRAINED_CYCLIST", "CYCLE_RAMP_30", seed)
-    r = analyze_session(s).to_json_dict()
+    r = to_json(analyze_session(s))
     truth = s.meta["truth_ve_vco2_slope"]
     assert r["vt2"] is not None
     assert r["indices"]["ve_vco2_slope_span"] == VE_VCO2_TO_VT2
@@ -38,7 +40,7 @@ def test_headline_slope_is_the_truth_below_vt2_across_seeds(seed):
 @pytest.mark.parametrize("seed", [41, 42, 43])
 def test_ventilatory_class_uses_the_whole_exercise_slope(seed):
     s = simulated("TRAINED_CYCLIST", "CYCLE_RAMP_30", seed)
-    r = analyze_session(s).to_json_dict()
+    r = to_json(analyze_session(s))
     # Arena et al. 2007 (checked in references.md): I <= 29.9, II 30.0-35.9, III 36.0-44.9, IV >= 45.0
     assert r["classes"]["ventilatory"] == ventilatory_class(r["ve_vco2_slope_whole_exercise"])
     assert "whole-exercise" in r["methods"]["ventilatory_class"]
@@ -49,7 +51,7 @@ def test_without_vt2_the_headline_is_the_whole_exercise_slope(seed):
     # The heart-failure profile has no VT2 in the model: the whole-exercise slope is the
     # model slope (ground truth 42) and it is the headline.
     s = simulated("HEART_FAILURE", "CYCLE_RAMP_8", seed)
-    r = analyze_session(s).to_json_dict()
+    r = to_json(analyze_session(s))
     if r["vt2"] is not None:
         pytest.skip("a VT2 was read on this seed; the span rule is tested on the others")
     assert r["indices"]["ve_vco2_slope_span"] == VE_VCO2_WHOLE_EXERCISE
@@ -67,7 +69,7 @@ def test_spans_computed_on_the_averaged_exercise_rows(cyclist):
     ex = avg[avg["phase"] == "exercise"]
     t = ex["t_s"].to_numpy(float)
     vco2, ve = ex["vco2_ml_min"].to_numpy(float), ex["ve_l_min"].to_numpy(float)
-    assert res.indices["ve_vco2_slope_whole_exercise"] == pytest.approx(ve_vco2_slope(vco2, ve).slope)
+    assert res.indices.ve_vco2_slope_whole_exercise == pytest.approx(ve_vco2_slope(vco2, ve).slope)
     below = t <= res.vt2.t_s
-    assert res.indices["ve_vco2_slope_to_vt2"] == pytest.approx(ve_vco2_slope(vco2[below], ve[below]).slope)
+    assert res.indices.ve_vco2_slope_to_vt2 == pytest.approx(ve_vco2_slope(vco2[below], ve[below]).slope)
     assert np.count_nonzero(below) < len(t)

@@ -12,6 +12,7 @@ import re
 import pytest
 
 from analysis.pipeline import analyze_session
+from analysis.records import to_json
 from analysis.settings import AnalysisSettings
 from tests.analysis.pipeline.conftest import simulated
 
@@ -41,7 +42,7 @@ def user_texts(d: dict) -> list[str]:
                                         ("HEART_FAILURE", "CYCLE_RAMP_10", 3, 3.0)],
                 ids=["cyclist", "heart-failure-noisy"])
 def result_json(request):
-    return analyze_session(simulated(*request.param)).to_json_dict()
+    return to_json(analyze_session(simulated(*request.param)))
 
 
 def test_no_code_words_in_user_text(result_json):
@@ -64,7 +65,7 @@ def test_method_texts_name_methods_not_code(result_json):
 
 def test_outlier_method_quotes_the_settings(cyclist):
     # window and SD limit are the reviewer's settings; the text quotes them as set.
-    d = analyze_session(cyclist, AnalysisSettings(outlier_window_breaths=11, outlier_k_sd=2.5)).to_json_dict()
+    d = to_json(analyze_session(cyclist, AnalysisSettings(outlier_window_breaths=11, outlier_k_sd=2.5)))
     assert d["methods"]["outliers"] == (
         "breaths more than 2.5 SD from the mean of the 11 breaths around them are excluded (Lamarra et al. 1987)"
     )

@@ -5,6 +5,7 @@ import pytest
 
 from analysis.errors import InvalidParameter
 from analysis.indices import point_values
+from analysis.records import to_json
 from analysis.zones import training_zones
 
 
@@ -53,7 +54,7 @@ def test_two_zones_without_vt2():
 def test_no_zones_without_vt1():
     _, vt2, peak = _pts(_avg())
     zset = training_zones(vt1=None, vt2=vt2, peak=peak)
-    assert zset.zones == [] and "VT1" in zset.note
+    assert zset.zones == () and "VT1" in zset.note
 
 
 def test_vt2_below_vt1_rejected():
@@ -64,6 +65,6 @@ def test_vt2_below_vt1_rejected():
 
 def test_to_dict_keys_for_reports():
     vt1, vt2, peak = _pts(_avg())
-    d = training_zones(vt1=vt1, vt2=vt2, peak=peak).to_dict()
+    d = to_json(training_zones(vt1=vt1, vt2=vt2, peak=peak))
     assert set(d) == {"zones", "note"}
     assert {"name", "hr_low_bpm", "hr_high_bpm", "work_low_w", "work_high_w"} <= set(d["zones"][0])

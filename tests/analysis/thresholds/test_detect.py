@@ -115,9 +115,11 @@ def test_missing_column():
         detect_thresholds(avg)
 
 
-def test_to_dict_is_plain():
+def test_json_form_is_plain():
+    from analysis.records import to_json
+
     r = report_for(noise=0.0)
-    d = r.to_dict()
+    d = to_json(r)
     assert d["vt1"]["method"] == "consensus"
     assert set(d["vt1_candidates"]) == set(VT1_METHODS)
     assert isinstance(d["vslope"]["vo2_break_ml_min"], float)

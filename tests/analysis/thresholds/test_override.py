@@ -8,6 +8,7 @@ import numpy as np
 import pytest
 
 from analysis.errors import InvalidParameter
+from analysis.records import to_json
 from analysis.thresholds import ThresholdReport, clear_override, override_threshold, pick_from_chart_point
 
 
@@ -47,7 +48,7 @@ def test_vt1_above_vt2_is_noted(avg, report):
 
 def test_report_is_json_ready(avg, report):
     new = override_threshold(report, avg, kind="vt1", t_s=450.0)
-    text = json.dumps(new.to_dict())
+    text = json.dumps(to_json(new))
     assert '"manual"' in text
 
 

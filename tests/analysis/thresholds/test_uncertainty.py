@@ -15,6 +15,7 @@ import pytest
 from scipy import stats
 
 from analysis.breaths import DEFAULT_AVERAGING, average_breaths
+from analysis.records import to_json
 from analysis.thresholds import detect_thresholds, vslope_fit
 from analysis.thresholds import detect as D
 from analysis.thresholds import uncertainty as U
@@ -99,12 +100,12 @@ class TestPicks:
         assert u is not None and not u.determinable
         assert "90 % interval runs from" in u.reason and "no value is reported" in u.reason
         assert any(x.startswith("VT1 not determinable: ") for x in r.reasons)
-        d = r.to_dict()
+        d = to_json(r)
         assert d["vt1"] is None and d["vt1_undetermined"]["determinable"] is False
 
     def test_interval_in_the_json(self):
         r = detect_thresholds(average_breaths(ramp_test(seed=1, noise=0.5), DEFAULT_AVERAGING))
-        d = r.to_dict()["vt1"]
+        d = to_json(r)["vt1"]
         assert len(d["ci90_vo2_ml_min"]) == 2 and len(d["ci90_t_s"]) == 2
         assert d["determinable"] is True
 
