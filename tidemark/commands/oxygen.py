@@ -186,7 +186,7 @@ def _p50_with_co(curve: dict[str, Any], cohb: float, methb: float) -> float:
 
 def run_cascade(args: argparse.Namespace) -> int:
     from analysis.errors import AnalysisError
-    from analysis.oxygen.pathway import comparison_from_json, oxygen_pathway
+    from analysis.oxygen.pathway import oxygen_pathway
     from analysis.pipeline import analyze_session
     from analysis.settings import AnalysisSettings, MetadataOverrides
     from tidemark.commands.analyze import load_session
@@ -205,13 +205,12 @@ def run_cascade(args: argparse.Namespace) -> int:
         oxygen["q_l_min"] = {"peak": args.q_peak}
     meta = MetadataOverrides(hb_g_dl=args.hb) if args.hb is not None else MetadataOverrides()
     results = analyze_session(load_session(Path(args.file)), AnalysisSettings(metadata=meta, oxygen=oxygen))
-    data = results.to_json_dict()
-    if not data.get("oxygen"):
-        reasons = " ".join(w for w in data.get("warnings") or [] if w.lower().startswith("oxygen"))
+    if results.oxygen is None:
+        reasons = " ".join(w for w in results.warnings if w.lower().startswith("oxygen"))
         raise AnalysisError(
             f"no oxygen comparison for '{args.file}': the test needs haemoglobin (give --hb G_DL). {reasons}".strip()
         )
-    pathway, notes = oxygen_pathway(comparison_from_json(data["oxygen"]), p50_standard_mmhg=args.p50)
+    pathway, notes = oxygen_pathway(results.oxygen, p50_standard_mmhg=args.p50)
     if pathway is None:
         raise AnalysisError(f"{args.file}: " + " ".join(notes))
     if args.json:

@@ -8,12 +8,13 @@ import pytest
 from analysis.oxygen.pathway import comparison_from_json, explore, oxygen_pathway
 from analysis.oxygen.scenarios import SCENARIO_CODES
 from analysis.pipeline import analyze_session
+from analysis.records import to_json
 from analysis.simulation import DEMO_TESTS, simulate_session
 
 
 def _pathway(demo):
     session = simulate_session(demo.profile, demo.protocol, seed=demo.seed)
-    ox = analyze_session(session).to_json_dict()["oxygen"]
+    ox = to_json(analyze_session(session))["oxygen"]
     comparison = comparison_from_json(ox)
     # the comparison made again from its JSON is the pipeline's own (same peak values)
     peak = comparison.state("peak")
