@@ -76,6 +76,8 @@ class ResultReading:
         The headline VE/VCO2 slope.
     ve_vco2_slope_span : str or None
         ``"to_vt2"`` or ``"whole_exercise"``.
+    flag_codes : tuple of str
+        Codes of the interpretation flags raised (empty while the result has none).
     """
 
     vt1_vo2_ml_min: float | None
@@ -85,6 +87,7 @@ class ResultReading:
     vo2peak_ml_min: float | None
     ve_vco2_slope: float | None
     ve_vco2_slope_span: str | None
+    flag_codes: tuple[str, ...] = ()
 
 
 def read_result(result: Any) -> ResultReading:
@@ -98,6 +101,10 @@ def read_result(result: Any) -> ResultReading:
         picks[kind] = pick
     indices = _get(result, "indices")
     span = _get(indices, "ve_vco2_slope_span")
+    flags = _get(result, "flags")
+    if flags is None:
+        flags = _get(result, "interpretation", "flags")
+    codes = tuple(str(_get(f, "code")) for f in (flags or ()) if _get(f, "code") is not None)
     return ResultReading(
         vt1_vo2_ml_min=_number(_get(picks["vt1"], "vo2_ml_min")),
         vt2_vo2_ml_min=_number(_get(picks["vt2"], "vo2_ml_min")),
@@ -106,6 +113,7 @@ def read_result(result: Any) -> ResultReading:
         vo2peak_ml_min=_number(_get(result, "peak", "vo2_ml_min")),
         ve_vco2_slope=_number(_get(indices, "ve_vco2_slope")),
         ve_vco2_slope_span=None if span is None else str(span),
+        flag_codes=codes,
     )
 
 
@@ -136,6 +144,9 @@ class CaseScore:
         Whether the stated 90 % interval holds the truth (``None`` without an interval).
     seconds : float
         Time taken by import and analysis, s.
+    flags_expected, flags_raised : tuple of str
+        Of the interpretation flags in :data:`FLAG_CODES`, those the truth calls for and those
+        the analysis raised.
     """
 
     kind: str
@@ -155,6 +166,8 @@ class CaseScore:
     vt1_in_ci: bool | None = None
     vt2_in_ci: bool | None = None
     seconds: float = 0.0
+    flags_expected: tuple[str, ...] = ()
+    flags_raised: tuple[str, ...] = ()
 
 
 def _default_analyze(session: Any) -> Any:
@@ -169,11 +182,38 @@ def _truth_slope(truth: CaseTruth, span: str | None) -> float | None:
     return truth.ve_vco2_slope_whole_exercise
 
 
+#: Interpretation flags the simulator has truth for, and when the truth calls for them:
+#: oscillation present (>= 60 % of the exercise; Leite et al. 2003 / Corrà et al. 2006, from
+#: memory); SpO2 falling >= 4 points or to <= 88 % (ATS/ACCP 2003); breathing reserve < 15 %
+#: of MVV or < 11 L/min (ATS/ACCP 2003, from memory).
+FLAG_CODES: tuple[str, ...] = ("oscillatory_ventilation", "desaturation", "breathing_reserve_low")
+
+
+def expected_flags(truth: CaseTruth) -> tuple[str, ...]:
+    """The flags of :data:`FLAG_CODES` the truth calls for."""
+    out = []
+    if truth.oscillation_present:
+        out.append("oscillatory_ventilation")
+    if truth.spo2_rest_pct is not None and truth.spo2_min_pct is not None and (
+        truth.spo2_rest_pct - truth.spo2_min_pct >= 4.0 or truth.spo2_min_pct <= 88.0
+    ):
+        out.append("desaturation")
+    if truth.breathing_reserve_pct is not None and truth.mvv_l_min is not None and (
+        truth.breathing_reserve_pct < 15.0 or truth.breathing_reserve_pct / 100.0 * truth.mvv_l_min < 11.0
+    ):
+        out.append("breathing_reserve_low")
+    return tuple(out)
+
+
 def compare(reading: ResultReading, truth: CaseTruth) -> dict[str, Any]:
     """Errors of one reading against one truth (the fields of :class:`CaseScore` after
     ``status``)."""
     scale = truth.vo2max_ml_min
-    out: dict[str, Any] = {"vt2_truth": truth.vt2_vo2_ml_min is not None}
+    out: dict[str, Any] = {
+        "vt2_truth": truth.vt2_vo2_ml_min is not None,
+        "flags_expected": expected_flags(truth),
+        "flags_raised": tuple(c for c in FLAG_CODES if c in reading.flag_codes),
+    }
     for kind in ("vt1", "vt2"):
         found = getattr(reading, f"{kind}_vo2_ml_min")
         true = getattr(truth, f"{kind}_vo2_ml_min")
@@ -312,6 +352,31 @@ def summarise(
         if chosen:
             rows.append(summarise_group(chosen, label))
     return rows
+
+
+def summarise_flags(scores: Sequence[CaseScore]) -> list[dict[str, Any]]:
+    """Per kind and flag of :data:`FLAG_CODES`: tests where the truth calls for the flag, how many
+    of them got it, and how many other tests got it anyway."""
+    rows = []
+    kinds = list(dict.fromkeys(s.kind for s in scores))
+    for kind in kinds:
+        ok = [s for s in scores if s.kind == kind and s.status == "ok"]
+        row: dict[str, Any] = {"group": kind, "n": len(ok)}
+        for code in FLAG_CODES:
+            due = [s for s in ok if code in s.flags_expected]
+            row[code] = (sum(code in s.flags_raised for s in due), len(due),
+                         sum(code in s.flags_raised for s in ok if code not in s.flags_expected))
+        rows.append(row)
+    return rows
+
+
+def format_flags_markdown(rows: Sequence[dict[str, Any]]) -> str:
+    """:func:`summarise_flags` rows as Markdown: ``raised/due`` and ``+ false`` per flag."""
+    lines = ["| kind | n | " + " | ".join(FLAG_CODES) + " |", "|" + "---|" * (len(FLAG_CODES) + 2)]
+    for row in rows:
+        cells = [f"{row[c][0]}/{row[c][1]} (+{row[c][2]} false)" for c in FLAG_CODES]
+        lines.append(f"| {row['group']} | {row['n']} | " + " | ".join(cells) + " |")
+    return "\n".join(lines)
 
 
 _HEADERS: tuple[tuple[str, str], ...] = (

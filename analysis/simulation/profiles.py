@@ -21,6 +21,8 @@ STOP_RULES: tuple[str, ...] = ("max", "fraction", "rer")
 
 
 def _in(name: str, value: float, low: float, high: float, unit: str = "") -> None:
+    if isinstance(value, (int, float)) and low <= float(value) <= high:
+        return  # the usual case, without building the message
     unit = f" {unit}" if unit else ""
     require(
         isinstance(value, (int, float)) and low <= float(value) <= high,

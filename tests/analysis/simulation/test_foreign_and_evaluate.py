@@ -141,3 +141,24 @@ def test_summary_split_by_noise_and_layout():
     assert [r["group"] for r in summarise(scores, by="layout")] == ["direct (no export)", "tab_kpa_ml"]
     with pytest.raises(Exception, match="by"):
         summarise(scores, by="colour")
+
+
+def test_flags_expected_from_truth_and_read_from_results():
+    from analysis.simulation.evaluate import expected_flags, format_flags_markdown, summarise_flags
+
+    lung = CaseTruth.from_meta(simulate_case("lung_limited", 0, noise=0, clean=True).meta)
+    assert set(expected_flags(lung)) == {"desaturation", "breathing_reserve_low"}  # SpO2 falls 4-9, reserve < 15 %
+    eov = CaseTruth.from_meta(simulate_case("hf_oscillation", 0, noise=0, clean=True).meta)
+    assert "oscillatory_ventilation" in expected_flags(eov)
+    assert expected_flags(CaseTruth.from_meta(simulate_case("athlete", 0, noise=0, clean=True).meta)) == ()
+    # a limit at its cut point: a fall of exactly 4 points is desaturation (ATS/ACCP 2003)
+    assert expected_flags(_truth(spo2_rest_pct=97.0, spo2_min_pct=93.0)) == ("desaturation",)
+    assert expected_flags(_truth(spo2_rest_pct=97.0, spo2_min_pct=93.1)) == ()
+    reading = read_result({"flags": [{"code": "desaturation"}, {"code": "vo2peak_low"}]})
+    assert reading.flag_codes == ("desaturation", "vo2peak_low")
+    out = compare(reading, lung)
+    assert out["flags_raised"] == ("desaturation",)
+    score = CaseScore(kind="lung_limited", seed=0, noise=1.0, foreign=False, layout="", status="ok", **out)
+    rows = summarise_flags([score])
+    assert rows[0]["desaturation"] == (1, 1, 0) and rows[0]["breathing_reserve_low"] == (0, 1, 0)
+    assert "1/1 (+0 false)" in format_flags_markdown(rows)
