@@ -129,10 +129,29 @@ def report_context(
     )
 
 
-def report_file_name(summary: Any, *, show_name: bool = False) -> str:
-    """``tidemark_<code>_<date>.html`` with only safe characters (display name never used)."""
+def report_file_name(summary: Any, *, show_name: bool = False, suffix: str = ".html") -> str:
+    """``tidemark_<code>_<date>.html`` (or ``.pdf``) with only safe characters (display name never used)."""
     stem = f"tidemark_{summary.person_code}_{summary.test_date or summary.id}"
-    return "".join(ch if ch.isalnum() or ch in "-_" else "_" for ch in stem) + ".html"
+    return "".join(ch if ch.isalnum() or ch in "-_" else "_" for ch in stem) + suffix
+
+
+def appendix_sections(results: Any, session: Session) -> list[tuple[str, str]]:
+    """Further appendix sections: the oxygen path when its report module is installed.
+
+    The oxygen engineer's module (``dashboard.report.oxygen_appendix`` with
+    ``appendix_html(results, session) -> str | None``) is used when present; a failure is logged and
+    the report is built without it.
+    """
+    try:
+        from dashboard.report import oxygen_appendix  # type: ignore[attr-defined]
+    except ImportError:
+        return []
+    try:
+        body = oxygen_appendix.appendix_html(results, session)
+    except Exception:
+        log.exception("oxygen appendix could not be written")
+        return []
+    return [("Oxygen path (estimates)", body)] if body else []
 
 
 def build_test_report(
@@ -144,6 +163,14 @@ def build_test_report(
     version: int | None,
     show_name: bool = True,
 ) -> str:
-    """The complete HTML report of a stored test under the given results."""
+    """The complete HTML report of a stored test under the given results (one page + appendix)."""
+    from dashboard.report.report_charts import report_charts
+
     ctx = report_context(store, test_id, version=version, show_name=show_name)
-    return build_report_html(results, session, figures=report_figures(results, session), context=ctx)
+    data = results.to_json_dict() if hasattr(results, "to_json_dict") else dict(results)
+    try:
+        charts = report_charts(getattr(results, "averaged", None), data)
+    except Exception:
+        log.exception("report charts could not be drawn for test %s", test_id)
+        charts = []
+    return build_report_html(data, session, charts=charts, context=ctx, appendix=appendix_sections(results, session))

@@ -1,8 +1,10 @@
 """Self-contained HTML report of one test.
 
-The report is one HTML file that opens offline: plotly.js is embedded inline exactly once (no
-CDN, no external link or script source), the style sheet is inlined, and the page prints on A4
-or Letter without cutting a chart (fixed 170 mm chart width, ``break-inside: avoid``).
+The report is one HTML file that opens offline and prints on one A4 or Letter page, with a
+second page only for the appendix (methods, notes, oxygen path): no script at all, charts as
+static SVG drawn by our own writer (:mod:`dashboard.report.svg_chart`), the style sheet inlined,
+the lab's logo embedded as a ``data:`` URL. A typical report weighs well under 500 kB. The PDF
+download is the same HTML printed by the system Chromium (:mod:`dashboard.report.pdf`).
 
 Every number comes from the results JSON of :func:`analysis.pipeline.analyze_session`
 (``to_json(TestResults)``); this module only formats them.
@@ -21,6 +23,7 @@ from typing import Any
 
 from analysis.records import to_json
 from analysis.session import Session
+from dashboard.timefmt import clock_text
 
 #: The caution printed on every report (and on the coach view).
 CAUTIONS: tuple[str, ...] = (
@@ -32,9 +35,6 @@ CAUTIONS: tuple[str, ...] = (
     "staff working under local protocols and licensed practice.",
 )
 
-#: Report chart size: 170 mm at 96 px/inch fits A4 (186 mm) and Letter (192 mm) at 12 mm margins.
-CHART_WIDTH_PX = 640
-CHART_HEIGHT_PX = 300
 
 
 @dataclass(frozen=True)
@@ -199,7 +199,7 @@ def threshold_display(results: Mapping[str, Any]) -> list[dict[str, str]]:
             continue
         for label, key, unit, digits in THRESHOLD_ROWS:
             if _number(t.get(key)) is not None:
-                row[column_title(label, unit)] = format_number(t.get(key), digits)
+                row[column_title(label, "m:ss" if key == "time_s" else unit)] = _value_text(key, t.get(key), digits)
         row["Method"] = str(t.get("method") or "")
         row["Set"] = threshold_source(t)
         rows.append(row)
@@ -290,15 +290,22 @@ def _table(header: Sequence[str], rows: Sequence[Sequence[str]], *, numeric: Seq
     return f"<table><thead><tr>{head}</tr></thead><tbody>{''.join(body)}</tbody></table>"
 
 
+def _value_text(key: str, value: Any, digits: int) -> str:
+    """A threshold or headline value as printed: times as m:ss, numbers with their decimals."""
+    if key == "time_s":
+        return clock_text(value) if _number(value) is not None else "–"
+    return format_number(value, digits)
+
+
 def _threshold_table(results: Mapping[str, Any], ctx: ReportContext) -> str:
     names = [("vt1", "VT1"), ("vt2", "VT2 / RCP")]
     header = ["", *[label for _, label in names]]
     rows: list[list[str]] = []
     for label, key, unit, digits in THRESHOLD_ROWS:
-        values = [format_number(_get(results, (k, key)), digits) for k, _ in names]
+        values = [_value_text(key, _get(results, (k, key)), digits) for k, _ in names]
         if all(v == "–" for v in values):
             continue
-        rows.append([column_title(label, unit), *values])
+        rows.append([column_title(label, "m:ss" if key == "time_s" else unit), *values])
     method_row = ["Method"]
     set_row = ["Set by"]
     for k, _ in names:
@@ -318,38 +325,6 @@ def _threshold_table(results: Mapping[str, Any], ctx: ReportContext) -> str:
             set_row.append(f"automatic{conf_text}")
     rows.extend([method_row, set_row])
     return _table(header, rows, numeric=(1, 2))
-
-
-def report_chart_height(layout: Mapping[str, Any]) -> int:
-    """Height (px) of a chart in the report: room for each stacked panel (an axis that only
-    overlays another, such as work rate beside heart rate, adds none) and the legend above."""
-    stacked = sum(
-        1 for key, axis in layout.items()
-        if key.startswith("yaxis") and not (isinstance(axis, Mapping) and axis.get("overlaying"))
-    )
-    if stacked <= 1:
-        return CHART_HEIGHT_PX + 140  # one panel (V-slope): close to square, legend above
-    return CHART_HEIGHT_PX + 150 * (stacked - 1)
-
-
-def _figure_html(title: str, fig: Any, *, first: bool) -> str:
-    fig = fig.__class__(fig)  # a copy: the caller's figure keeps its own size and title
-    fig.update_layout(
-        width=CHART_WIDTH_PX,
-        height=report_chart_height(fig.layout.to_plotly_json()),
-        autosize=False,
-        title=None,
-        font={"size": 11},
-        # legend above the plot on paper: it never covers an axis title or the data
-        legend={"orientation": "h", "yanchor": "bottom", "y": 1.02, "xanchor": "left", "x": 0, "font": {"size": 10}},
-        margin={"l": 70, "r": 60, "t": 110, "b": 50},
-    )
-    div = fig.to_html(
-        include_plotlyjs=bool(first),
-        full_html=False,
-        config={"displaylogo": False, "responsive": False, "displayModeBar": False},
-    )
-    return f'<div class="figure"><h3>{_e(title)}</h3><div class="plot">{div}</div></div>'
 
 
 def _letterhead(ctx: ReportContext) -> str:
@@ -396,15 +371,32 @@ def method_text(text: str) -> str:
     return _SEE_REASONS.sub("see the threshold notes", _CODE_REFERENCE.sub("", text))
 
 
-def _methods_list(results: Mapping[str, Any]) -> list[str]:
+#: Method entries of the results behind what the one-page report shows, in the report's order.
+#: Only these are listed in the appendix (a method for a result the report does not show is not).
+SHOWN_METHODS: tuple[str, ...] = (
+    "outliers", "averaging", "phases", "vo2_peak", "predicted_vo2max", "rer_peak", "hr_peak_bpm",
+    "hr_max_predicted", "ve_vco2_slope", "oues", "o2_pulse", "maximality", "vt1", "vt2", "zones",
+)
+
+
+def _methods_list(results: Mapping[str, Any], *, shown: Sequence[str] = SHOWN_METHODS) -> list[str]:
+    """``"<name>: <method>"`` for each result the report shows, each method text once."""
     methods = results.get("methods") or {}
     items: list[str] = []
+    seen: set[str] = set()
     if isinstance(methods, Mapping):
-        for key, value in methods.items():
+        for key in shown:
+            value = methods.get(key)
+            if not value:
+                continue
             text = "; ".join(f"{k}: {v}" for k, v in value.items()) if isinstance(value, Mapping) else str(value)
-            items.append(f"{method_name(str(key))}: {method_text(text)}")
+            text = method_text(text)
+            if text in seen:
+                continue
+            seen.add(text)
+            items.append(f"{method_name(str(key))}: {text}")
     averaging = results.get("averaging")
-    if averaging and not any(str(k).startswith("averaging") for k in (methods or {})):
+    if averaging and not (isinstance(methods, Mapping) and methods.get("averaging")):
         text = (
             averaging.get("label") or ", ".join(f"{k} {v}" for k, v in averaging.items())
             if isinstance(averaging, Mapping)
@@ -414,35 +406,95 @@ def _methods_list(results: Mapping[str, Any]) -> list[str]:
     return items
 
 
+def _predicted_text(results: Mapping[str, Any]) -> str:
+    """``"140 % of 48.0 mL/kg/min (FRIEND)"`` for VO2peak, or ``""`` when there is no prediction."""
+    pred = results.get("predicted")
+    if not isinstance(pred, Mapping):
+        return ""
+    pct = _number(pred.get("pct_predicted_vo2max"))
+    ref = _number(pred.get("vo2max_friend_ml_kg_min"))
+    if pct is None:
+        return ""
+    ref_text = f" of {format_number(ref, 1)}" if ref is not None else ""
+    return f"{pct:.0f} %{ref_text} (FRIEND)"
+
+
+def _headline_table(data: Mapping[str, Any]) -> str:
+    rows = headline_rows(data)
+    pred = _predicted_text(data)
+    body = []
+    for r in rows:
+        extra = pred if r["label"] in ("VO2peak per kg",) else ""
+        if r["label"] == "VO2peak" and pred and not any(x["label"] == "VO2peak per kg" for x in rows):
+            extra = pred
+        body.append([r["label"], r["value"], r["unit"], extra])
+    return _table(["Result", "Value", "Unit", "% predicted"], body, numeric=(1,))
+
+
+def _facts(meta: Mapping[str, Any]) -> list[str]:
+    facts = []
+    for label, key in (("Test date", "test_date"), ("Protocol", "protocol"), ("Mode", "mode"), ("Operator", "operator")):
+        if meta.get(key):
+            facts.append(f"{label}: {_e(meta[key])}")
+    for label, key, unit, digits in (("Body mass", "body_mass_kg", "kg", 1), ("Height", "height_cm", "cm", 0),
+                                     ("Age", "age_y", "y", 0), ("Hb", "hb_g_dl", "g/dL", 1)):
+        if _number(meta.get(key)) is not None:
+            facts.append(f"{label}: {format_number(meta[key], digits)} {unit}")
+    if meta.get("sex"):
+        facts.append(f"Sex: {_e(meta['sex'])}")
+    if meta.get("beta_blocker"):
+        facts.append(f"Beta-blocker: {_e(meta['beta_blocker'])}")
+    return facts
+
+
+def _signature(ctx: ReportContext, version: str) -> str:
+    if ctx.signed_off_by:
+        when = f" on {_e(ctx.signed_off_at)}" if ctx.signed_off_at else ""
+        state = f"Signed off in Tidemark by {_e(ctx.signed_off_by)}{when} ({_e(version)})."
+    else:
+        state = f"Not signed off ({_e(version)}): a draft."
+    return (
+        '<div class="signature"><p>' + state + "</p>"
+        '<div class="sign-lines"><span>Signature</span><span>Name</span><span>Date</span></div></div>'
+    )
+
+
 def build_report_html(
     results: Any,
     session: Session | None = None,
     *,
-    figures: Sequence[tuple[str, Any]] | Mapping[str, Any] = (),
+    charts: Sequence[tuple[str, str]] = (),
     context: ReportContext | None = None,
+    appendix: Sequence[tuple[str, str]] = (),
 ) -> str:
-    """Build the one-file HTML report of a test.
+    """Build the report of a test: one printed page, plus one appendix page.
+
+    Page 1: the lab's letterhead, who and what was tested, headline results with % predicted,
+    VT1/VT2 (times as m:ss), the maximality verdict, four static SVG charts, training zones and
+    a signature line. Page 2 (the appendix): the methods behind the results shown (each once),
+    data-quality notes, any further appendix sections (e.g. the oxygen path) and the cautions.
 
     Parameters
     ----------
     results : TestResults or mapping
         The analysis results (``TestResults`` or its JSON form, ``to_json(results)``).
     session : Session, optional
-        The test's session (for protocol, date and body mass lines).
-    figures : sequence of (title, plotly Figure) or mapping title -> Figure
-        Charts to embed, in order. plotly.js is written inline once, with the first chart.
+        The test's session (date, protocol, body mass, ... from its metadata).
+    charts : sequence of (title, svg)
+        Static SVG charts (:func:`dashboard.report.report_charts.report_charts`).
     context : ReportContext, optional
-        Person label, version, sign-off and who set manual thresholds.
+        Letterhead, person label, version, sign-off and who set manual thresholds.
+    appendix : sequence of (title, html)
+        Further appendix sections, already HTML (their writers escape their own text).
 
     Returns
     -------
     str
-        A complete HTML document with no external script, style or link source.
+        A complete HTML document with no script and no external source.
     """
     data: Mapping[str, Any] = to_json(results)  # a TestResults, or its JSON form (a mapping)
     ctx = context or ReportContext()
     meta = session.meta if session is not None else {}
-    items = list(figures.items()) if isinstance(figures, Mapping) else list(figures)
     generated = ctx.generated_at or _dt.datetime.now(_dt.UTC).strftime("%Y-%m-%d %H:%M UTC")
 
     if ctx.signed_off_by:
@@ -450,14 +502,7 @@ def build_report_html(
     else:
         state = '<span class="badge draft">Draft — not signed off</span>'
     version = f"version {ctx.version}" if ctx.version is not None else "unsaved settings"
-
-    facts = []
-    for label, key in (("Test date", "test_date"), ("Protocol", "protocol"), ("Mode", "mode")):
-        if meta.get(key):
-            facts.append(f"{label}: {_e(meta[key])}")
-    for label, key, unit in (("Body mass", "body_mass_kg", "kg"), ("Age", "age_y", "y"), ("Hb", "hb_g_dl", "g/dL")):
-        if _number(meta.get(key)) is not None:
-            facts.append(f"{label}: {format_number(meta[key], 1 if key != 'age_y' else 0)} {unit}")
+    facts = _facts(meta)
 
     parts: list[str] = [
         "<!DOCTYPE html>",
@@ -465,63 +510,61 @@ def build_report_html(
         '<meta name="viewport" content="width=device-width, initial-scale=1">',
         f"<title>Exercise test report — {_e(ctx.person_label or 'test')}</title>",
         f"<style>{_css()}</style></head><body>",
-        "<header>",
+        '<div class="page">',
+        '<header class="head">',
         _letterhead(ctx),
+        '<div class="title">',
         f"<h1>Exercise test report{' — ' + _e(ctx.person_label) if ctx.person_label else ''}</h1>",
         f'<p class="sub">{_e(version)} · {state}</p>',
-        f'<p class="sub">{" · ".join(facts)}</p>' if facts else "",
-        "</header>",
-        '<div class="caution"><strong>Caution.</strong> ' + " ".join(_e(c) for c in CAUTIONS) + "</div>",
+        "</div></header>",
+        f'<p class="facts">{" · ".join(facts)}</p>' if facts else "",
+        '<div class="caution"><strong>Caution.</strong> ' + _e(CAUTIONS[0]) + " " + _e(CAUTIONS[1]) + "</div>",
+        '<div class="row">',
+        '<section class="col"><h2>Headline results</h2>',
+        _headline_table(data),
     ]
-
-    rows = headline_rows(data)
-    parts.append("<section><h2>Headline results</h2>")
-    parts.append(_table(["Result", "Value", "Unit", "Method"], [[r["label"], r["value"], r["unit"], r["method"]] for r in rows], numeric=(1,)))
     verdict, reasons = _maximality(data)
     if verdict:
-        parts.append(f'<p><span class="verdict">Maximality: {_e(verdict)}</span></p>')
+        parts.append(f'<p class="verdict">Maximality: {_e(verdict)}</p>')
         if reasons:
-            parts.append("<ul>" + "".join(f"<li>{_e(r)}</li>" for r in reasons) + "</ul>")
+            parts.append('<ul class="reasons">' + "".join(f"<li>{_e(r)}</li>" for r in reasons) + "</ul>")
     parts.append("</section>")
-
-    parts.append("<section><h2>Ventilatory thresholds (estimates)</h2>")
+    parts.append('<section class="col"><h2>Ventilatory thresholds (estimates)</h2>')
     parts.append(_threshold_table(data, ctx))
-    parts.append("</section>")
-
     zrows = zone_rows(data)
     if zrows:
         header = list(dict.fromkeys(k for r in zrows for k in r))
-        parts.append("<section><h2>Training zones</h2>")
+        parts.append("<h2>Training zones</h2>")
         parts.append(_table(header, [[r.get(h, "–") for h in header] for r in zrows], numeric=tuple(range(1, len(header)))))
-        note = _zone_note(data)
-        if note:
-            parts.append(f'<p class="sub">{_e(note)}</p>')
+    parts.append("</section></div>")
+
+    if charts:
+        parts.append('<section class="charts">')
+        parts.extend(f'<figure class="chart">{svg}</figure>' for _title, svg in charts)
         parts.append("</section>")
+    parts.append(_signature(ctx, version))
+    parts.append(
+        '<footer class="foot">' + (f'<span class="lab-footer">{_e(ctx.report_footer)}</span> · ' if ctx.report_footer else "")
+        + f"Made with Tidemark on {_e(generated)} from the stored {_e(version)}. Methods and notes: page 2.</footer>"
+    )
+    parts.append("</div>")
 
-    warnings = [str(w) for w in (data.get("warnings") or [])]
-    if warnings:
-        parts.append('<section><h2>Data-quality notes</h2><ul class="warnings">')
-        parts.extend(f"<li>{_e(w)}</li>" for w in warnings)
-        parts.append("</ul></section>")
-
-    if items:
-        parts.append("<section><h2>Charts</h2>")
-        for i, (title, fig) in enumerate(items):
-            parts.append(_figure_html(title, fig, first=(i == 0)))
-        parts.append("</section>")
-
+    # --- page 2: the appendix ---------------------------------------------------------------
+    parts.append('<div class="page appendix"><h2>Appendix: methods and notes</h2>')
     methods = _methods_list(data)
-    parts.append("<section><h2>Methods</h2><ul>")
-    parts.extend(f"<li>{_e(m)}</li>" for m in methods)
+    parts.append('<ul class="methods">' + "".join(f"<li>{_e(m)}</li>" for m in methods))
     excluded = data.get("excluded_breaths")
     if isinstance(excluded, list):
-        parts.append(f"<li>breaths left out of the analysis: {len(excluded)}</li>")
-    parts.append("</ul></section>")
-
-    parts.append(
-        "<footer>" + (f'<p class="lab-footer">{_e(ctx.report_footer)}</p>' if ctx.report_footer else "")
-        + f"Made with Tidemark on {_e(generated)} from the stored {_e(version)}. "
-        + " ".join(_e(c) for c in CAUTIONS[:1])
-        + "</footer></body></html>"
-    )
+        parts.append(f"<li>Breaths left out of the analysis: {len(excluded)}</li>")
+    parts.append("</ul>")
+    zone_note = _zone_note(data)
+    if zone_note:
+        parts.append(f'<p class="sub">Training zones: {_e(zone_note)}</p>')
+    warnings = [str(w) for w in (data.get("warnings") or [])]
+    if warnings:
+        parts.append('<h2>Data-quality notes</h2><ul class="warnings">' + "".join(f"<li>{_e(w)}</li>" for w in warnings) + "</ul>")
+    for title, body in appendix:
+        parts.append(f'<section class="extra"><h2>{_e(title)}</h2>{body}</section>')
+    parts.append('<div class="caution">' + " ".join(_e(c) for c in CAUTIONS) + "</div>")
+    parts.append("</div></body></html>")
     return "\n".join(p for p in parts if p)

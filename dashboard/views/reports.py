@@ -17,6 +17,7 @@ from dashboard import data, state
 from dashboard.report import CAUTIONS, headline_rows
 from dashboard.report.assemble import build_test_report, report_file_name
 from dashboard.report.html_report import threshold_display
+from dashboard.report.pdf import PAPER, html_to_pdf, unavailable_reason
 from dashboard.views._test_choice import choose_test, settings_json, test_settings
 
 log = logging.getLogger("tidemark.dashboard")
@@ -43,7 +44,7 @@ def review_state_text(record: Any, version: int | None, *, saved: bool) -> str:
 
 def render() -> None:
     st.title("Reports")
-    st.caption("Download a one-page report, the processed breath data and the results of a test.")
+    st.caption("Download a one-page report (HTML or PDF), the processed breath data and the results of a test.")
     store = data.get_store()
     summary = choose_test(store, key="reports_test")
     if summary is None:
@@ -72,10 +73,14 @@ def render() -> None:
     show_name = st.checkbox("Show the display name in the report (otherwise the pseudonymous code)", value=False, key="reports_show_name")
     report_version = version if saved else None
 
-    def report_bytes() -> bytes:  # built on click, off the page run (about 5 MB with plotly.js)
-        return build_test_report(store, test_id, results, session, version=report_version, show_name=show_name).encode("utf-8")
+    def report_html() -> str:
+        return build_test_report(store, test_id, results, session, version=report_version, show_name=show_name)
 
-    st.download_button(
+    def report_bytes() -> bytes:  # built on click, off the page run (one page plus appendix, some 40 kB)
+        return report_html().encode("utf-8")
+
+    c_html, c_pdf = st.columns(2)
+    c_html.download_button(
         "Download the report (HTML)",
         report_bytes,
         file_name=report_file_name(summary),
@@ -83,6 +88,24 @@ def render() -> None:
         type="primary",
         key="reports_html",
     )
+    no_pdf = unavailable_reason()
+    if no_pdf:
+        c_pdf.info(no_pdf)
+    else:
+        paper = c_pdf.radio("Paper", list(PAPER), horizontal=True, key="reports_paper")
+
+        def pdf_bytes() -> bytes:  # printed by the server's Chromium on click (a few seconds)
+            return html_to_pdf(report_html(), paper=str(paper))
+
+        c_pdf.download_button(
+            "Download the report (PDF)",
+            pdf_bytes,
+            file_name=report_file_name(summary, suffix=".pdf"),
+            mime="application/pdf",
+            key="reports_pdf",
+        )
+    st.caption("One page (A4 or Letter) with the lab's letterhead and a signature line; methods and notes on a "
+               "second page. Times are shown as m:ss; the CSV exports keep seconds.")
     stem = report_file_name(summary).removesuffix(".html")
     files = export_files(results, session, stem=stem)
     cols = st.columns(len(files))

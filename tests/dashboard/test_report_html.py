@@ -1,11 +1,10 @@
-"""The one-file HTML report: headline values, cautions, methods, inline plotly.js, no external sources."""
+"""The one-file HTML report: headline values, cautions, methods, static SVG charts, no script, no external source."""
 
 from __future__ import annotations
 
 import re
 from html.parser import HTMLParser
 
-import plotly.graph_objects as go
 import pytest
 
 from dashboard.report import CAUTIONS, ReportContext, build_report_html, headline_rows
@@ -56,10 +55,11 @@ SYNTHETIC = {
 
 @pytest.fixture(scope="module")
 def doc() -> str:
-    figs = [
-        ("VO2 against time", go.Figure(go.Scatter(x=[0, 60], y=[500, 900]), layout={"xaxis_title": "Time (s)"})),
-        ("V-slope", go.Figure(go.Scatter(x=[500, 900], y=[450, 880]))),
-    ]
+    from dashboard.report.svg_chart import Chart, Series
+
+    chart = Chart(300, 200, "VO2 against time", "time (m:ss)", "VO2 (mL/min)")
+    chart.add(Series([0.0, 60.0], [500.0, 900.0], "VO2 <i>", "#0072B2"))
+    charts = [("VO2 against time", chart.svg())]
     ctx = ReportContext(
         person_label="SEL-014",
         version=3,
@@ -68,7 +68,7 @@ def doc() -> str:
         threshold_setters={"vt1": "rev.amara on 2026-11-29: V-slope break clearer at 400 s"},
         generated_at="2026-12-01 09:00 UTC",
     )
-    return build_report_html(SYNTHETIC, None, figures=figs, context=ctx)
+    return build_report_html(SYNTHETIC, None, charts=charts, context=ctx)
 
 
 def test_headline_values_and_methods(doc):
@@ -101,25 +101,24 @@ def test_user_text_is_escaped(doc):
     assert "&lt;b&gt;bold&lt;/b&gt;" in doc
 
 
-def test_plotlyjs_inline_once_and_no_external_sources(doc):
+def test_static_svg_charts_no_script_and_no_external_sources(doc):
     parsed = _sources(doc)
     external = [s for s in parsed.sources if re.match(r"(?i)\s*(https?:)?//", s[2])]
     assert external == []
-    # plotly.js bundle embedded exactly once (its licence banner opens the bundle).
-    assert len(re.findall(r"plotly\.js v\d", doc)) == 1
-    assert parsed.scripts >= 3  # bundle + one script per chart
-    assert "cdn.plot.ly" not in "".join(v for _, _, v in parsed.sources)
+    assert parsed.scripts == 0  # static vector charts, no plotly.js
+    assert doc.count("<svg") == 1 and "VO2 &lt;i&gt;" in doc  # chart text escaped
 
 
 def test_print_css(doc):
     assert "@page" in doc and "size: A4" in doc
     assert "break-inside: avoid" in doc
+    assert 'class="page appendix"' in doc and "break-before: page" in doc  # methods on the second page
 
 
 def test_draft_when_not_signed():
     doc = build_report_html({"vo2_peak_ml_min": 2000.0}, None)
     assert "Draft — not signed off" in doc
-    assert "<script" not in doc  # no charts, no plotly.js
+    assert "<script" not in doc
 
 
 def test_helpers():
@@ -140,28 +139,28 @@ def test_column_titles_name_each_unit_once():
     assert column_title("% of VO2peak", "%") == "% of VO2peak"
     assert column_title("VE/VCO2 slope", "") == "VE/VCO2 slope"
     (vt1, _) = threshold_display({"vt1": {"time_s": 600.0, "pct_vo2_peak": 55.0, "source": "auto"}})
-    assert vt1["% of VO2peak"] == "55" and vt1["Time (s)"] == "600"
+    assert vt1["% of VO2peak"] == "55" and vt1["Time (m:ss)"] == "10:00"
 
 
 def test_methods_named_in_words_without_program_references():
-    from dashboard.report.html_report import _methods_list, report_chart_height
+    from dashboard.report.html_report import _methods_list
 
     items = _methods_list({"methods": {
         "hr_peak_bpm": "highest averaged heart rate during exercise",
         "oxygen": "Fick a-vO2 difference against the dissociation curve (analysis.oxygen.oxygen_comparison)",
         "vt2": "not found (see thresholds.reasons)",
         "some_new_entry": "text",
+        "ve_vco2_slope": "least squares of VE on VCO2 to VT2 (analysis.indices.x)",
+        "ve_vco2_slope_to_vt2": "least squares of VE on VCO2 to VT2",
+        "substrate_oxidation": "Frayn 1983",
     }})
+    # only results the one-page report shows, in its order, each method text once (the VE/VCO2
+    # slope is not listed twice; substrate oxidation and unknown entries are not shown, so not listed)
     assert items == [
         "Heart rate peak: highest averaged heart rate during exercise",
-        "Oxygen path: Fick a-vO2 difference against the dissociation curve",
+        "VE/VCO2 slope: least squares of VE on VCO2 to VT2",
         "VT2 / RCP: not found (see the threshold notes)",
-        "some new entry: text",
     ]
-    # three stacked panels plus an overlaying work-rate axis: room for three panels, not four
-    three = {"yaxis": {}, "yaxis2": {}, "yaxis3": {}, "yaxis4": {"overlaying": "y3"}}
-    assert report_chart_height(three) == report_chart_height({"yaxis": {}, "yaxis2": {}, "yaxis3": {}}) > 500
-    assert report_chart_height({"yaxis": {}}) >= 400  # V-slope near square with its legend above
 
 
 def test_every_method_the_analysis_names_has_a_readable_name(demo_store):

@@ -212,5 +212,5 @@ def test_coach_threshold_table_has_one_column_per_threshold():
     frame = threshold_frame({"vt1": {"time_s": 725.0, "vo2_ml_min": 2972.0, "source": "auto", "method": "consensus"}})
     assert list(frame.columns) == ["", "VT1", "VT2 / RCP"]
     rows = dict(zip(frame[""], frame["VT1"]))
-    assert rows["Time (s)"] == "725" and rows["VO2 (mL/min)"] == "2\u2009972" and rows["Set"] == "automatic"
+    assert rows["Time (m:ss)"] == "12:05" and rows["VO2 (mL/min)"] == "2\u2009972" and rows["Set"] == "automatic"
     assert dict(zip(frame[""], frame["VT2 / RCP"]))["Set"] == "not found"
