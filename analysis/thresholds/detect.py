@@ -9,8 +9,9 @@ import pandas as pd
 
 from analysis import columns as C
 from analysis.errors import InvalidParameter
+from analysis.thresholds.oscillation import average_over_period, oscillation_period_s
 from analysis.thresholds.results import ThresholdPick, ThresholdReport, VSlopeFit
-from analysis.thresholds.segments import TurnUp, best_turn_up, split_table
+from analysis.thresholds.segments import TurnUp, best_turn_up, best_two_lines, split_table
 from analysis.thresholds.uncertainty import MAX_CI_FRACTION, hull, profile_accept
 from analysis.thresholds.vslope import F_TEST_ALPHA, vslope_fit
 from analysis.thresholds.vslope import f_test_p as _f_test_p
@@ -34,10 +35,14 @@ TIE_ORDER: tuple[str, ...] = (VSLOPE, PETO2_NADIR, EQUIVALENTS, EXCESS_CO2, PETC
 #: The first minute of exercise is left out of the V-slope and VE-vs-VCO2 fits: VCO2 lags VO2
 #: while CO2 stores fill (Beaver et al. 1986 leave out the early, kinetic part).
 EARLY_EXCLUDE_S = 60.0
+ONSET_EXCLUDE_S = 60.0
+OSC_VT1 = True
 #: Threshold fits use points at least this many seconds apart: a finer averaged frame (e.g.
 #: 10 s bins) is merged into bins of this width first (weighted by breaths). Measured on the
 #: project simulator (docs/thresholds.md): 20 s points gave the most accurate VT1 at high noise.
 FIT_BIN_S = 20.0
+MIN_FIT_BIN_S = 10.0
+SHORT_TEST_POINTS = 24.0
 #: V-slope runs on a centred running mean of this many points: noise in VO2 (the x axis)
 #: flattens both least-squares lines and pulls their crossing to lower VO2 (regression
 #: dilution, common practice); measured bias -3.5 % without it, about 0 % with it.
@@ -48,15 +53,36 @@ VSLOPE_SMOOTH_POINTS = 3
 VT2_MARGIN_S = 60.0
 #: Fewest averaged points needed in the exercise phase before any threshold is sought.
 MIN_EXERCISE_POINTS = 12
-#: Picks agree when within this many mL/min of each other, or this fraction of VO2 when larger
-#: (common practice: observers' VT1 readings typically differ by 100-200 mL/min).
-AGREE_ML_MIN = 150.0
-AGREE_FRACTION = 0.05
+#: Picks agree when within this fraction of the test's VO2 range (exercise, lowest to highest
+#: averaged VO2) of each other, and at least AGREE_MIN_ML_MIN (measured on the simulator suite,
+#: docs/thresholds.md).
+AGREE_RANGE_FRACTION = 0.10
+AGREE_MIN_ML_MIN = 50.0
+#: Each method's say in the consensus: its share of picks within 5 % of VO2max of the planted
+#: threshold on the project simulator's suite of 15 kinds (docs/thresholds.md, measured after the
+#: on-transient was left out of the fits).
+RELIABILITY: dict[str, float] = {
+    "V-slope (Beaver 1986)": 0.76,
+    "PETO2 nadir": 0.76,
+    "ventilatory equivalents": 0.67,
+    "excess CO2 (Gaskill 2001)": 0.60,
+    "PETCO2 fall": 0.89,
+    "VE vs VCO2 breakpoint": 0.83,
+    "VE/VCO2 nadir-rise": 0.79,
+}
+#: An interval this wide (fraction of the test's VO2 range) gives a pick its method's reliability
+#: as its weight; narrower counts more, wider less.
+WIDTH_REFERENCE = 0.15
+EVIDENCE_CLIP = 1.5
 #: A turn in a ratio or end-tidal pressure counts when the slope after it exceeds this many
 #: standard errors (ours: a strict level, since every pair of split points is searched).
 TURN_MIN_T = 3.5
 #: ... and at least these absolute sizes (ours, chosen above the noise of 10-20 s bins).
 MIN_RISE = {"ve_vo2": 1.0, "ve_vco2": 1.0, "peto2_mmhg": 2.0, "petco2_mmhg": 1.5, "excess_co2": 30.0}
+#: VE levels off against VCO2 (ventilatory ceiling) when its upper slope is at most this share of
+#: the lower one (ours).
+CEILING_SLOPE_RATIO = 0.5
+CEILING_MARGIN_S = 120.0
 #: VE must steepen against VCO2 by at least this factor at the RCP (ours; the simulator's
 #: demo profiles steepen 1.6 times).
 VE_VCO2_STEEPENING = 1.15
@@ -125,6 +151,20 @@ def _coarsen(avg: pd.DataFrame, ph: np.ndarray, bin_s: float) -> tuple[dict[str,
     right = np.clip(np.searchsorted(t, centre), 1, n - 1)
     cols["_avg_row"] = np.where(np.abs(t[right - 1] - centre) <= np.abs(t[right] - centre), right - 1, right)
     return cols, ph[starts]
+
+
+def _fit_bin_s(avg: pd.DataFrame, labels: np.ndarray) -> float:
+    """Width of the fit bins: :data:`FIT_BIN_S`, finer for a short exercise phase.
+
+    A short steep ramp (a few minutes) gains several % of VO2max per 20 s bin, so a bin's
+    width alone would set the error; such tests are fitted on bins of
+    ``duration / SHORT_TEST_POINTS`` (at least :data:`MIN_FIT_BIN_S`).
+    """
+    t = avg[C.T_S].to_numpy(dtype=float)[labels == "exercise"]
+    t = t[np.isfinite(t)]
+    if t.size < 2:
+        return FIT_BIN_S
+    return float(np.clip((t.max() - t.min()) / SHORT_TEST_POINTS, MIN_FIT_BIN_S, FIT_BIN_S))
 
 
 def _rows(cols: dict[str, np.ndarray], keep: np.ndarray) -> _Ex:
@@ -316,8 +356,8 @@ def _vt1_window(cols: dict[str, np.ndarray], ph: np.ndarray) -> _Ex:
     keep = exer.copy()
     if warm.sum() >= 3:
         keep |= warm & (t >= t[warm].min() + EARLY_EXCLUDE_S)
-    elif exer.any():
-        keep &= t >= t[exer].min() + EARLY_EXCLUDE_S
+    if exer.any():
+        keep &= ~(exer & (t < t[exer].min() + ONSET_EXCLUDE_S))
     win = _rows(cols, keep)
     return win if win.t.size >= MIN_EXERCISE_POINTS else _rows(cols, exer)
 
@@ -369,27 +409,71 @@ def _vt1_candidates(ex: _Ex, reasons: list[str]) -> tuple[dict[str, ThresholdPic
 # ---------------------------------------------------------------- consensus
 
 
-def agreement_tolerance_ml_min(vo2_ml_min: float) -> float:
-    """Agreement window between picks: 150 mL/min or 5 % of VO2, whichever is larger."""
-    return max(AGREE_ML_MIN, AGREE_FRACTION * abs(vo2_ml_min))
+def agreement_tolerance_ml_min(vo2_range_ml_min: float) -> float:
+    """Agreement window between picks: :data:`AGREE_RANGE_FRACTION` of the test's VO2 range.
+
+    Parameters
+    ----------
+    vo2_range_ml_min : float
+        Highest minus lowest averaged VO2 of exercise, mL/min.
+
+    Returns
+    -------
+    float
+        The window in mL/min (at least :data:`AGREE_MIN_ML_MIN`).
+
+    Notes
+    -----
+    A fixed window (150 mL/min) is 4 % of VO2max in an athlete but 11 % in a patient with a
+    VO2max of 1.4 L/min, and lets late picks group together there; a share of the test's own
+    range scales with the test (common practice: observers' readings differ by a few % of
+    VO2max).
+
+    References
+    ----------
+    Common practice (no single source).
+    """
+    return max(AGREE_MIN_ML_MIN, AGREE_RANGE_FRACTION * abs(float(vo2_range_ml_min)))
 
 
-def _consensus(kind: str, cands: dict[str, ThresholdPick | None], ex: _Ex) -> tuple[ThresholdPick | None, str]:
+def _weight(p: ThresholdPick, scale_ml_min: float) -> float:
+    """A pick's say in the consensus: the method's measured reliability x the evidence of its fit.
+
+    The evidence is the narrowness of the pick's 90 % interval relative to the test's VO2 range
+    (an interval of :data:`WIDTH_REFERENCE` of the range counts 1; limited to 0.25-4).
+    """
+    reliability = RELIABILITY.get(p.method, 0.5)
+    if p.ci90_vo2_ml_min is None or scale_ml_min <= 0:
+        return reliability
+    width = max(p.ci90_vo2_ml_min[1] - p.ci90_vo2_ml_min[0], 1e-9) / scale_ml_min
+    return reliability * float(np.clip(WIDTH_REFERENCE / width, 1.0 / EVIDENCE_CLIP, EVIDENCE_CLIP))
+
+
+def _consensus(
+    kind: str, cands: dict[str, ThresholdPick | None], ex: _Ex, *, onset_end_s: float = -np.inf
+) -> tuple[ThresholdPick | None, str]:
     tried = len(cands)
-    valid = [p for p in cands.values() if p is not None]
+    found = [p for p in cands.values() if p is not None]
+    early = [p for p in found if p.t_s < onset_end_s]
+    valid = [p for p in found if p not in early]
     if not valid:
-        return None, f"none of the {tried} methods found a {kind.upper()}"
+        why = f"none of the {tried} methods found a {kind.upper()}"
+        if early:
+            why += f" after the on-transient of exercise ({', '.join(p.method for p in early)} fell inside it)"
+        return None, why
+    scale = float(np.max(ex.vo2) - np.min(ex.vo2))
+    tol = agreement_tolerance_ml_min(scale)
     vo2 = np.array([p.vo2_ml_min for p in valid])
-    support = [
-        [q for q in range(len(valid)) if abs(vo2[q] - vo2[p]) <= agreement_tolerance_ml_min(vo2[p])]
-        for p in range(len(valid))
-    ]
+    # VT2 picks count by reliability alone: weighing them by their intervals too made VT2 worse
+    # on the simulator suite (p90 5.7 against 4.8 % of VO2max)
+    w = np.array([_weight(p, scale if kind == "vt1" else 0.0) for p in valid])
+    support = [[q for q in range(len(valid)) if abs(vo2[q] - vo2[p]) <= tol] for p in range(len(valid))]
     rank = [TIE_ORDER.index(p.method) if p.method in TIE_ORDER else len(TIE_ORDER) for p in valid]
-    best = max(range(len(valid)), key=lambda p: (len(support[p]), -rank[p]))
-    cluster = [valid[q] for q in support[best]]
-    v = float(np.median([p.vo2_ml_min for p in cluster]))
-    t_s = float(np.median([p.t_s for p in cluster]))
-    tol = agreement_tolerance_ml_min(v)
+    best = max(range(len(valid)), key=lambda p: (round(float(w[support[p]].sum()), 9), -rank[p]))
+    members = support[best]
+    cluster = [valid[q] for q in members]
+    v = _weighted_median(vo2[members], w[members])
+    t_s = _weighted_median(np.array([p.t_s for p in cluster]), w[members])
     size = len(cluster)
     confidence = "high" if size >= 3 else ("moderate" if size == 2 else "low")
     names = ", ".join(p.method for p in cluster)
@@ -399,14 +483,19 @@ def _consensus(kind: str, cands: dict[str, ThresholdPick | None], ex: _Ex) -> tu
     elif len(valid) == 1:
         agree = f"only 1 of {tried} methods found a {kind.upper()} ({names})"
     else:
-        agree = f"no two of the {len(valid)} picks agree within {tol:.0f} mL/min; {names} was used (ranked most accurate on simulated tests)"
+        agree = (
+            f"no two of the {len(valid)} picks agree within {tol:.0f} mL/min; {names} was used "
+            "(most reliable on simulated tests, weighed by how sharply its fit placed the break)"
+        )
     if left:
         agree += f"; not in agreement, set aside: {', '.join(left)}"
+    if early:
+        agree += f"; inside the on-transient of exercise, not counted: {', '.join(p.method for p in early)}"
     missing = [m for m, p in cands.items() if p is None]
     if missing:
         agree += f"; found nothing: {', '.join(missing)}"
     note = (
-        f"middle value (median) of {size} agreeing methods: {names}"
+        f"middle value (weighted median) of {size} agreeing methods: {names}"
         if size > 1
         else (f"found by one method only: {names}" if len(valid) == 1 else f"one method, no other agreeing: {names}")
     )
@@ -419,6 +508,18 @@ def _consensus(kind: str, cands: dict[str, ThresholdPick | None], ex: _Ex) -> tu
         ci90_vo2_ml_min=ci_vo2, ci90_t_s=ci_t,
     )
     return pick, agree
+
+
+def _weighted_median(values: np.ndarray, weights: np.ndarray) -> float:
+    """Weighted median: the value where the cumulative weight first reaches half (mean of the two
+    middle values when it lands exactly on half, so equal weights give the ordinary median)."""
+    order = np.argsort(values, kind="stable")
+    v, c = values[order], np.cumsum(weights[order])
+    half = 0.5 * c[-1]
+    k = int(np.searchsorted(c, half - 1e-12 * c[-1]))
+    if abs(c[k] - half) <= 1e-9 * c[-1] and k + 1 < v.size:
+        return float(0.5 * (v[k] + v[k + 1]))
+    return float(v[k])
 
 
 def _cluster_interval(
@@ -499,9 +600,21 @@ def detect_thresholds(avg: pd.DataFrame, *, phases: pd.Series | np.ndarray | Non
     for c in (C.T_S, C.VO2_ML_MIN, C.VCO2_ML_MIN, C.VE_L_MIN):
         if c not in avg.columns:
             raise InvalidParameter("avg", f"an averaged frame with a '{c}' column", list(avg.columns))
-    work, ph = _coarsen(avg, _phase_labels(avg, phases), FIT_BIN_S)
+    labels = _phase_labels(avg, phases)
+    bin_s = _fit_bin_s(avg, labels)
+    work, ph = _coarsen(avg, labels, bin_s)
     ex = _rows(work, ph == "exercise")
     report = ThresholdReport()
+    exer_rows = labels == "exercise"
+    period = oscillation_period_s(avg[C.T_S].to_numpy(dtype=float)[exer_rows], avg[C.VE_L_MIN].to_numpy(dtype=float)[exer_rows])
+    ex_vt2 = ex
+    if period is not None:
+        smooth_work, smooth_ph = _coarsen(average_over_period(avg, labels, period), labels, bin_s)
+        ex_smooth = _rows(smooth_work, smooth_ph == "exercise")
+        if ex_smooth.t.size >= MIN_EXERCISE_POINTS:
+            ex_vt2 = ex_smooth
+            if OSC_VT1:
+                work, ph, ex = smooth_work, smooth_ph, ex_smooth
     if ex.t.size < MIN_EXERCISE_POINTS:
         report.reasons.append(
             f"only {ex.t.size} averaged exercise points have VO2, VCO2 and VE "
@@ -512,9 +625,20 @@ def detect_thresholds(avg: pd.DataFrame, *, phases: pd.Series | np.ndarray | Non
     reasons: list[str] = []
     # VT2 first, over the whole exercise phase; then VT1 below it (as Beaver et al. keep the
     # V-slope fit below the respiratory compensation point).
-    vt2_c = _vt2_candidates(ex, reasons)
-    vt2, agree2 = _consensus("vt2", vt2_c, ex)
+    vt2_c = _vt2_candidates(ex_vt2, reasons)
+    onset = float(ex.t[0]) + ONSET_EXCLUDE_S
+    vt2, agree2 = _consensus("vt2", vt2_c, ex, onset_end_s=onset)
     win = _vt1_window(work, ph)
+    if vt2 is None:
+        ceiling = _ventilation_ceiling_t(ex)
+        if ceiling is not None:
+            ceiling += CEILING_MARGIN_S
+        if ceiling is not None and ceiling > 0.5 * (ex.t[0] + ex.t[-1]) and (win.t < ceiling).sum() >= MIN_EXERCISE_POINTS:
+            reasons.append(
+                f"VT1: ventilation stops following VCO2 from about {ceiling:.0f} s (it levels off, as when "
+                "breathing reaches its ceiling), so VT1 was sought before then"
+            )
+            win = win.take(win.t < ceiling)
     everything = np.ones(win.t.size, dtype=bool)
     below = everything
     if vt2 is not None and vt2.confidence != "low":
@@ -526,18 +650,18 @@ def detect_thresholds(avg: pd.DataFrame, *, phases: pd.Series | np.ndarray | Non
             below = everything
     r1: list[str] = []
     vt1_c, fit = _vt1_candidates(win.take(below), r1)
-    vt1, agree1 = _consensus("vt1", vt1_c, ex)
+    vt1, agree1 = _consensus("vt1", vt1_c, ex, onset_end_s=onset)
     if vt1 is None and not below.all():
         r1 = []
         vt1_c, fit = _vt1_candidates(win, r1)
-        vt1, agree1 = _consensus("vt1", vt1_c, ex)
+        vt1, agree1 = _consensus("vt1", vt1_c, ex, onset_end_s=onset)
     elif vt1 is not None and vt2 is not None and vt1.t_s > vt2.t_s - VT2_MARGIN_S:
         # VT1 read on the rise that VT2 (even a single-method VT2) marks: read again below it
         cut = win.t < vt2.t_s - VT2_MARGIN_S
         if cut.sum() >= MIN_EXERCISE_POINTS:
             r_cut: list[str] = []
             c_cut, f_cut = _vt1_candidates(win.take(cut), r_cut)
-            v_cut, a_cut = _consensus("vt1", c_cut, ex)
+            v_cut, a_cut = _consensus("vt1", c_cut, ex, onset_end_s=onset)
             if v_cut is not None:
                 r1 = [*r_cut, f"VT1: the first reading ({vt1.vo2_ml_min:.0f} mL/min) fell on the rise at VT2; read again below VT2"]
                 vt1_c, fit, vt1, agree1 = c_cut, f_cut, v_cut, a_cut
@@ -551,17 +675,16 @@ def detect_thresholds(avg: pd.DataFrame, *, phases: pd.Series | np.ndarray | Non
             late[m] = p
         if late != vt2_c:
             vt2_c = late
-            vt2, agree2 = _consensus("vt2", vt2_c, ex)
+            vt2, agree2 = _consensus("vt2", vt2_c, ex, onset_end_s=onset)
     if vt1 is None:
         reasons.append("VT1 not found: " + agree1)
     if vt2 is None:
         reasons.append("VT2 not found: " + agree2)
-    if vt1 is not None and vt2 is not None and vt1.vo2_ml_min >= vt2.vo2_ml_min:
-        reasons.append("VT1 came out at or above VT2: both marked low confidence; check the charts")
-        vt1 = _with_confidence(vt1, "low")
-        vt2 = _with_confidence(vt2, "low")
     vt1, report.vt1_undetermined = _determinable(vt1, ex, reasons)
     vt2, report.vt2_undetermined = _determinable(vt2, ex, reasons)
+    if vt1 is not None and vt2 is not None and (vt1.vo2_ml_min >= vt2.vo2_ml_min or vt1.t_s >= vt2.t_s):
+        vt1, vt2, why = _order(vt1, vt2, win, ex, onset)
+        reasons.append(why)
     report.vt1, report.vt2 = vt1, vt2
     report.vt1_auto, report.vt2_auto = vt1, vt2
     report.vt1_candidates, report.vt2_candidates = vt1_c, vt2_c
@@ -569,6 +692,44 @@ def detect_thresholds(avg: pd.DataFrame, *, phases: pd.Series | np.ndarray | Non
     report.agreement = {"vt1": agree1, "vt2": agree2}
     report.reasons = reasons
     return report
+
+
+def _ventilation_ceiling_t(ex: _Ex) -> float | None:
+    """Time from which VE stops following VCO2 (levels off against it), or ``None``.
+
+    A two-line fit of VE on VCO2 over exercise whose upper line is at most
+    :data:`CEILING_SLOPE_RATIO` as steep as the lower one and beats one line by the F test
+    (alpha as for the breakpoints). In a ventilation-limited test (no respiratory compensation,
+    VE levelling off near its ceiling while CO2 is retained) the upper part is no longer the
+    rise in VCO2 against VO2 that V-slope looks for.
+    """
+    order = np.argsort(ex.vco2, kind="stable")
+    xs, ys = ex.vco2[order], ex.ve[order]
+    if xs.size < 2 * MIN_EXERCISE_POINTS:
+        return None
+    fit = best_two_lines(
+        xs, ys, min_segment=4, admissible=lambda s1, s2: (s1 > 0) & (s2 <= CEILING_SLOPE_RATIO * s1)
+    )
+    if fit is None or _f_test_p(fit.sse_one_line, fit.sse, xs.size) >= F_TEST_ALPHA:
+        return None
+    return time_at_level(ex.t, ex.vco2, fit.x_cross)
+
+
+def _order(
+    vt1: ThresholdPick, vt2: ThresholdPick, win: _Ex, ex: _Ex, onset: float
+) -> tuple[ThresholdPick | None, ThresholdPick | None, str]:
+    """VT1 must come before VT2: read VT1 again below VT2, else drop the less supported one."""
+    first = f"VT1 ({vt1.vo2_ml_min:.0f} mL/min at {vt1.t_s:.0f} s) came out at or above VT2 ({vt2.vo2_ml_min:.0f} mL/min at {vt2.t_s:.0f} s)"
+    cut = win.t < vt2.t_s - VT2_MARGIN_S
+    if cut.sum() >= MIN_EXERCISE_POINTS:
+        c_cut, _ = _vt1_candidates(win.take(cut), [])
+        again, _ = _consensus("vt1", c_cut, ex, onset_end_s=onset)
+        if again is not None and again.vo2_ml_min < vt2.vo2_ml_min and again.t_s < vt2.t_s:
+            return again, vt2, f"{first}; VT1 was read again below VT2 and moved to {again.vo2_ml_min:.0f} mL/min"
+    rank = {"high": 3, "moderate": 2, "low": 1}
+    if rank[vt2.confidence] > rank[vt1.confidence]:
+        return None, vt2, f"{first}; VT1 rests on fewer agreeing methods and was dropped (VT1 not found)"
+    return vt1, None, f"{first}; VT2 rests on no more agreeing methods than VT1 and was dropped (VT2 not found)"
 
 
 def _determinable(
