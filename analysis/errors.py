@@ -8,6 +8,41 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
+#: Longest piece of a file's text quoted in a message, in characters (the rest becomes "…").
+QUOTE_MAX_CHARS = 80
+
+
+def shorten(text: object, *, max_chars: int = QUOTE_MAX_CHARS) -> str:
+    """``text`` as a string of at most ``max_chars`` characters plus "…" when it was longer.
+
+    Every message that repeats text from a file or from a caller (a cell, a header, a sheet
+    name, a file name) goes through this or :func:`quoted`, so a 100,000-character cell gives
+    a message of ordinary length.
+    """
+    s = text if isinstance(text, str) else str(text)
+    return s if len(s) <= max_chars else s[:max_chars] + "…"
+
+
+def quoted(value: object, *, max_chars: int = QUOTE_MAX_CHARS) -> str:
+    """``repr``-style quotation of ``value`` (text in quotes), at most ``max_chars`` of its content."""
+    if isinstance(value, str):
+        return repr(shorten(value, max_chars=max_chars))
+    text = repr(value)
+    return text if len(text) <= max_chars else text[:max_chars] + "…"
+
+
+#: Most names listed in one message (headers, sheets); the rest are counted.
+LIST_MAX_ITEMS = 20
+
+
+def name_list(names: object, *, quote: bool = False, max_items: int = LIST_MAX_ITEMS) -> str:
+    """Comma-separated names for a message, each shortened, at most ``max_items`` then a count."""
+    items = list(names)  # type: ignore[call-overload]
+    shown = [quoted(n) if quote else shorten(n) for n in items[:max_items]]
+    if len(items) > max_items:
+        shown.append(f"and {len(items) - max_items} more")
+    return ", ".join(shown)
+
 
 class TidemarkError(Exception):
     """Base class of every error Tidemark raises on purpose."""
@@ -30,11 +65,11 @@ class Problem:
     def describe(self) -> str:
         where = []
         if self.file:
-            where.append(f"file '{self.file}'")
+            where.append(f"file '{shorten(self.file)}'")
         if self.row is not None:
             where.append(f"line {self.row}")
         if self.column:
-            where.append(f"column '{self.column}'")
+            where.append(f"column '{shorten(self.column)}'")
         head = ", ".join(where)
         text = f"{head}: {self.message}" if head else self.message
         if self.fix:
@@ -62,7 +97,7 @@ class InvalidParameter(TidemarkError, ValueError):
         self.name = name
         self.expected = expected
         self.received = received
-        super().__init__(f"'{name}' must be {expected}; received {received!r}.")
+        super().__init__(f"'{name}' must be {expected}; received {quoted(received)}.")
 
 
 class AnalysisError(TidemarkError):

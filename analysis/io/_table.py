@@ -11,6 +11,7 @@ from dataclasses import dataclass, field
 
 from analysis.errors import ImportRejected, Problem
 from analysis.io._cells import MISSING_TOKENS, VALUE_RE, is_missing, is_value
+from analysis.io._limits import RowBudget
 from analysis.io._units import unit_code
 
 Row = tuple[int, Sequence[object]]
@@ -45,18 +46,26 @@ class LocatedTable:
 class _Split:
     """csv parsing of lines with a fixed delimiter, keeping original line numbers."""
 
-    def __init__(self, delimiter: str, file_name: str) -> None:
+    def __init__(self, delimiter: str, file_name: str, *, bounded: bool = True) -> None:
         self.delimiter = delimiter
         self.file_name = file_name
+        self.bounded = bounded
 
     def rows(self, lines: Sequence[str], first_line: int = 1) -> list[TextRow]:
+        budget = RowBudget(self.file_name, active=self.bounded)
         if self.delimiter == " ":
-            return [(first_line + i, line.split()) for i, line in enumerate(lines)]
+            split: list[TextRow] = []
+            for i, line in enumerate(lines):
+                cells = line.split()
+                budget.take(first_line + i, cells)
+                split.append((first_line + i, cells))
+            return split
         out: list[TextRow] = []
         reader = csv.reader(lines, delimiter=self.delimiter, skipinitialspace=False, strict=False)
         previous = 0
         try:
             for cells in reader:
+                budget.take(first_line + previous, cells)
                 out.append((first_line + previous, cells))  # the reader gives a new list per row
                 previous = reader.line_num
         except csv.Error as exc:
@@ -190,7 +199,7 @@ def _sniff(sample: Sequence[str], file_name: str) -> tuple[str | None, str | Non
         if delim != " " and not any(delim in line for line in sample):
             continue
         try:
-            rows = _Split(delim, file_name).rows(sample)
+            rows = _Split(delim, file_name, bounded=False).rows(sample)
         except ImportRejected:
             continue
         kinds = [classify(c) for _, c in rows]

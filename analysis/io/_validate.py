@@ -16,7 +16,7 @@ import numpy as np
 import pandas as pd
 
 from analysis import columns as C
-from analysis.errors import ImportRejected, Problem
+from analysis.errors import ImportRejected, Problem, quoted, shorten
 from analysis.session import Session
 
 #: At most this many problems are listed in one rejection (the rest are counted).
@@ -116,7 +116,7 @@ def report_cells(
     problems.more += max(0, bad_idx.size - MAX_PROBLEMS)
     for i in bad_idx[:MAX_PROBLEMS]:
         problems.add(
-            f"{cell_at(int(i))!r} is not a {'time' if is_time else 'number'}",
+            f"{quoted(cell_at(int(i)))} is not a {'time' if is_time else 'number'}",
             "write times as seconds, m:ss or h:mm:ss"
             if is_time
             else "correct the cell or leave it empty (use one decimal mark, comma or point, throughout)",
@@ -153,7 +153,7 @@ def checked_meta(
     meta: dict[str, Any] = {}
     for key, value, line in items:
         if not key or any(ch.isspace() for ch in key):
-            problems.add(f"metadata key {key!r} is empty or contains spaces", "use a key like body_mass_kg", row=line)
+            problems.add(f"metadata key {quoted(key)} is empty or contains spaces", "use a key like body_mass_kg", row=line)
             continue
         numeric = key in META_FLOAT_KEYS or key.startswith("truth_")
         if numeric and not value.strip():
@@ -163,7 +163,7 @@ def checked_meta(
         if key in META_FLOAT_KEYS and not isinstance(coerced, float):
             where = "" if line is not None else " (set for the import)"
             problems.add(
-                f"metadata {key} is {value!r}{where}, not a number",
+                f"metadata {shorten(key)} is {quoted(value)}{where}, not a number",
                 f"write a number, e.g. '{key}: 72.5'",
                 row=line,
             )

@@ -15,10 +15,11 @@ import numpy as np
 import pandas as pd
 
 from analysis import columns as C
-from analysis.errors import ImportRejected, Problem, require
+from analysis.errors import ImportRejected, Problem, name_list, require, shorten
 from analysis.io._cells import TIME_FORMATS, detect_decimal, parse_numbers, parse_times, text_values
 from analysis.io._decode import DEFAULT_MAX_BYTES, check_size, container_kind, decode_text, split_lines
 from analysis.io._gc import gc_paused
+from analysis.io._limits import check_line_count
 from analysis.io._table import LocatedTable, Row, choose_delimiter, classify, locate_table, split_rows
 from analysis.io._units import CANONICAL_UNIT, UNIT_LABELS, factor
 from analysis.io._validate import ProblemLog, checked_meta, finish_session, report_cells
@@ -114,7 +115,7 @@ def _resolve_mapping(
     present = {h: n for h, n in explicit.columns.items() if h in headers}
     absent = [h for h, n in explicit.columns.items() if h not in headers and n != IGNORE]
     if absent:
-        notes.append("mapping entries for headers not in this file were not used: " + ", ".join(repr(h) for h in absent))
+        notes.append("mapping entries for headers not in this file were not used: " + name_list(absent, quote=True))
     chosen = ColumnMapping(present, dict(explicit.units), explicit.guess_rest)
     if not explicit.guess_rest:
         return chosen, notes
@@ -140,11 +141,11 @@ def _check_mapping(
         fix = "name the column(s) explicitly, e.g. --map \"Oxygen=vo2_ml_min\" (or choose them in the import page)"
         if other_sheets:
             fix = (
-                f"sheet '{sheet}' was read; if the breath table is on another sheet "
-                f"({', '.join(repr(n) for n in other_sheets)}), choose it with --sheet; otherwise {fix}"
+                f"sheet '{shorten(sheet)}' was read; if the breath table is on another sheet "
+                f"({name_list(other_sheets, quote=True)}), choose it with --sheet; otherwise {fix}"
             )
         problems.add(
-            f"required column(s) not found: {labels}; the columns are: {', '.join(repr(h) for h in headers)}",
+            f"required column(s) not found: {labels}; the columns are: {name_list(headers, quote=True)}",
             fix,
         )
 
@@ -220,12 +221,12 @@ def _locate_xlsx(
     if best is not None:
         _, name, rows, located = best
         if len(names) > 1:
-            notes.append(f"sheet '{name}' was read (the workbook has: {', '.join(names)}); choose another with --sheet")
+            notes.append(f"sheet '{shorten(name)}' was read (the workbook has: {name_list(names)}); choose another with --sheet")
         return name, rows, located
     if len(names) > 1 or first_error is None:
         raise ImportRejected(
             Problem(
-                f"none of the sheets ({', '.join(names)}) holds a table with a header row",
+                f"none of the sheets ({name_list(names)}) holds a table with a header row",
                 "check the workbook holds the breath-by-breath data",
                 file_name,
             )
@@ -257,6 +258,7 @@ def _find_table(data: bytes, *, file_name: str, sheet: str | int | None, notes: 
         return _Found(located, None, "", sheet_used, "xlsx")
     decoded = decode_text(data, file_name=file_name)
     notes.extend(decoded.notes)
+    check_line_count(decoded.text, file_name=file_name)
     lines = split_lines(decoded.text)
     if not any(line.strip() for line in lines):
         raise ImportRejected(Problem("the file holds only blank lines", "export the test again", file_name))
@@ -532,7 +534,7 @@ def import_bytes(
         if h not in used.columns and any(c is not None and str(c).strip() for c in (r[k] for _, r in body))
     ]
     if unused:
-        notes.append("columns not used: " + ", ".join(repr(h) for h in unused))
+        notes.append("columns not used: " + name_list(unused, quote=True))
 
     skipped = sorted(
         {n for n, _ in located.preamble}

@@ -467,6 +467,10 @@ def _add_tests(store: Any) -> None:
         "Breath-by-breath exports as CSV, TSV or Excel (.xlsx). Each file is checked before anything "
         "is stored: columns found, units, time format and every suspicious row."
     )
+    if not state.can_edit():
+        # the import check parses the whole upload: offered only to roles that may import
+        st.info("Your role can view the library but not import tests.")
+        return
     # The upload box's limit is server.maxUploadSize (dashboard/.streamlit/config.toml and
     # `tidemark serve`), the same number of MB (1,000,000 bytes each) as the importer's.
     uploads = st.file_uploader(

@@ -214,3 +214,15 @@ def test_mapping_saved_as_profile_is_offered_for_the_next_upload(demo_store, pag
     assert not any("cannot be imported" in e.value for e in fresh.error), [e.value for e in fresh.error] + [
         str(d.value) for d in fresh.dataframe]
     assert "Breaths" in {m.label for m in fresh.metric}
+
+
+def test_viewer_gets_no_upload_and_no_import_check(demo_store, page_test):
+    # the import check parses the whole upload, so only roles that may import are offered it
+    from dashboard import state
+    from tests.dashboard.conftest import make_user
+
+    viewer = make_user(demo_store.store, "library.viewer", "viewer")
+    at = page_test(_library_script, **{state.USER: viewer, state.DEMO_MODE: False}).run()
+    assert not at.exception
+    assert [u for u in at.get("file_uploader") if u.key == "lib_upload"] == []
+    assert any("not import tests" in str(i.value) for i in at.info)

@@ -10,7 +10,7 @@ import argparse
 import sys
 from pathlib import Path
 
-from analysis.errors import ImportRejected, InvalidParameter, Problem
+from analysis.errors import ImportRejected, InvalidParameter, Problem, name_list, quoted
 from analysis.io import (
     DEFAULT_MAX_BYTES,
     GAS_UNITS,
@@ -87,7 +87,7 @@ def _sheet(value: str | None, data: bytes, file_name: str) -> str | int | None:
         return value
     if value.isdigit() and 1 <= int(value) <= len(names):
         return int(value) - 1
-    raise ImportRejected(Problem(f"there is no sheet {value!r}", f"choose one of: {', '.join(names)}", file_name))
+    raise ImportRejected(Problem(f"there is no sheet {quoted(value)}", f"choose one of: {name_list(names)}", file_name))
 
 
 def run(args: argparse.Namespace) -> int:
