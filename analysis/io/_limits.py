@@ -119,7 +119,7 @@ def check_line_count(text: str, *, file_name: str) -> None:
 class RowBudget:
     """Counts rows and cells as they are read and rejects at the first row beyond a bound."""
 
-    def __init__(self, file_name: str, *, active: bool = True):
+    def __init__(self, file_name: str, *, active: bool = True) -> None:
         self.file_name = file_name
         self.active = active
         self.rows = 0
