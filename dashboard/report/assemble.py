@@ -11,6 +11,7 @@ import logging
 from collections.abc import Sequence
 from typing import Any
 
+from analysis.records import to_json
 from analysis.session import Session
 from dashboard.report.html_report import ReportContext, build_report_html
 
@@ -167,7 +168,7 @@ def build_test_report(
     from dashboard.report.report_charts import report_charts
 
     ctx = report_context(store, test_id, version=version, show_name=show_name)
-    data = results.to_json_dict() if hasattr(results, "to_json_dict") else dict(results)
+    data = to_json(results)  # a TestResults, or its JSON form (a mapping)
     try:
         charts = report_charts(getattr(results, "averaged", None), data)
     except Exception:

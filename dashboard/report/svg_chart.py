@@ -163,7 +163,7 @@ class Chart:
         if self.x_ticks is not None:
             xt_vals, xt_text = self.x_ticks
         else:
-            xt_vals = nice_ticks(*xr)
+            xt_vals = nice_ticks(*xr, max_ticks=max(3, int(pw / 55)))
             fmt = self.x_tick_format or _fmt_tick
             xt_text = [fmt(v) for v in xt_vals]
         for v, text in zip(xt_vals, xt_text, strict=True):

@@ -11,6 +11,7 @@ import pytest
 
 from analysis.io import read_session
 from analysis.pipeline import analyze_session
+from analysis.records import to_json
 from analysis.settings import AnalysisSettings
 from analysis.simulation.simulate import LAB_NAME
 from dashboard.report.html_report import ReportContext, build_report_html
@@ -41,7 +42,7 @@ def test_every_demo_report_prints_on_one_page_plus_the_appendix(name, paper):
         skip_or_fail("system Chromium not found (set TIDEMARK_CHROMIUM)", require_env=REQUIRE_ENV)
     session = read_session((ROOT / "demo_sessions" / name).read_bytes(), file_name=name)
     results = analyze_session(session, AnalysisSettings())
-    data = results.to_json_dict()
+    data = to_json(results)
     ctx = ReportContext(person_label="HSL-01", lab_name="Harbour Sports Lab", lab_address="2 Quay Road, Porthaven",
                         version=2, report_footer="Accredited lab no. 12", signed_off_by="rhea",
                         signed_off_at="2026-12-03 14:00")
