@@ -74,6 +74,7 @@ RELIABILITY: dict[str, float] = {
 #: as its weight; narrower counts more, wider less.
 WIDTH_REFERENCE = 0.15
 EVIDENCE_CLIP = 1.5
+MIN_POINTS_BELOW_SINGLE = 4
 #: A turn in a ratio or end-tidal pressure counts when the slope after it exceeds this many
 #: standard errors (ours: a strict level, since every pair of split points is searched).
 TURN_MIN_T = 3.5
@@ -680,7 +681,18 @@ def detect_thresholds(avg: pd.DataFrame, *, phases: pd.Series | np.ndarray | Non
         reasons.append("VT1 not found: " + agree1)
     if vt2 is None:
         reasons.append("VT2 not found: " + agree2)
-    vt1, report.vt1_undetermined = _determinable(vt1, ex, reasons)
+    if vt1 is not None and vt1.confidence == "low":
+        below_n = int(np.sum((win.t >= onset) & (win.t < vt1.t_s)))
+        if below_n < MIN_POINTS_BELOW_SINGLE:
+            why = (
+                f"found by one method only, {vt1.t_s - ex.t[0]:.0f} s into exercise with {below_n} averaged points "
+                f"between the end of the on-transient and it (at least {MIN_POINTS_BELOW_SINGLE} needed to trust a lone reading)"
+            )
+            reasons.append(f"VT1 not determinable: {why}")
+            report.vt1_undetermined = replace(vt1, determinable=False, reason=why)
+            vt1 = None
+    vt1, undetermined = _determinable(vt1, ex, reasons)
+    report.vt1_undetermined = undetermined or report.vt1_undetermined
     vt2, report.vt2_undetermined = _determinable(vt2, ex, reasons)
     if vt1 is not None and vt2 is not None and (vt1.vo2_ml_min >= vt2.vo2_ml_min or vt1.t_s >= vt2.t_s):
         vt1, vt2, why = _order(vt1, vt2, win, ex, onset)
