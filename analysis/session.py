@@ -16,6 +16,9 @@ META_FLOAT_KEYS: tuple[str, ...] = (
     "body_mass_kg",
     "hb_g_dl",
     "barometric_mmhg",
+    "ambient_c",
+    "ve_btps_factor",
+    "gas_stpd_factor",
     "mvv_l_min",
     "fev1_l",
 )

@@ -107,6 +107,9 @@ def preview_import(
     sheet: str | None = None,
     gas_unit: str = "auto",
     time_format: str = "auto",
+    ve_condition: str = "auto",
+    barometric_mmhg: float | None = None,
+    ambient_c: float | None = None,
 ) -> Any:
     """The import check of an uploaded file (:func:`analysis.io.import_bytes`, cached).
 
@@ -116,7 +119,8 @@ def preview_import(
 
     mapping = ColumnMapping.from_dict(json.loads(mapping_json)) if mapping_json else None
     return import_bytes(
-        data, file_name=file_name, mapping=mapping, sheet=sheet, gas_unit=gas_unit, time_format=time_format
+        data, file_name=file_name, mapping=mapping, sheet=sheet, gas_unit=gas_unit, time_format=time_format,
+        ve_condition=ve_condition, barometric_mmhg=barometric_mmhg, ambient_c=ambient_c,
     )
 
 

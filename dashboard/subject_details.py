@@ -130,6 +130,8 @@ def preamble_rows(items: Any) -> list[dict[str, str]]:
     """The labelled lines the importer read above the table, for the preview the reviewer confirms."""
     labels = {f.key: field_label(f) for f in FIELDS}
     labels["subject_id"] = "Person code"
+    labels["barometric_mmhg"] = "Barometric pressure (mmHg)"
+    labels["ambient_c"] = "Room temperature (°C)"
     return [
         {"Line": str(i.line), "In the file": f"{i.label}: {i.text}", "Read as": labels.get(i.key, i.key), "Value": i.value}
         for i in items

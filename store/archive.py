@@ -24,7 +24,7 @@ from store.records import ImportResult, PersonSummary, SignOffRecord, TestRecord
 #: Largest upload accepted (bytes): the importer's own limit, checked before anything else.
 MAX_UPLOAD_BYTES = DEFAULT_MAX_BYTES
 #: Keyword options of ``analysis.io.import_bytes`` that may be passed and are stored.
-IMPORT_OPTIONS = ("sheet", "gas_unit", "time_format", "meta_overrides")
+IMPORT_OPTIONS = ("sheet", "gas_unit", "time_format", "meta_overrides", "ve_condition", "barometric_mmhg", "ambient_c")
 #: Longest person code / display name / file name kept (characters).
 MAX_CODE_CHARS = 120
 MAX_NAME_CHARS = 200

@@ -5,6 +5,7 @@ See ``docs/import.md`` for what is accepted, what is rejected and what is flagge
 
 from __future__ import annotations
 
+import math
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
 from functools import partial
@@ -17,6 +18,7 @@ import pandas as pd
 from analysis import columns as C
 from analysis.errors import ImportRejected, Problem, name_list, require, shorten
 from analysis.io._cells import TIME_FORMATS, detect_decimal, parse_numbers, parse_times, text_values
+from analysis.io._conditions import VE_CONDITIONS, apply_conditions, preamble_statements
 from analysis.io._decode import DEFAULT_MAX_BYTES, check_size, container_kind, decode_text, split_lines
 from analysis.io._gc import gc_paused
 from analysis.io._limits import check_line_count
@@ -24,6 +26,7 @@ from analysis.io._table import LocatedTable, Row, choose_delimiter, classify, lo
 from analysis.io._units import CANONICAL_UNIT, UNIT_LABELS, factor
 from analysis.io._validate import ProblemLog, checked_meta, finish_session, report_cells
 from analysis.io._xlsx import list_sheets, sheet_rows
+from analysis.io.mapping import _LOOKUP as _HEADER_KEYS
 from analysis.io.mapping import IGNORE, ColumnMapping, guess_mapping, is_per_kg, split_header
 from analysis.io.preamble import PreambleItem, read_preamble_item
 from analysis.io.session_file import parse_meta_line
@@ -174,6 +177,16 @@ def _meta_from_preamble(
     return entries
 
 
+def _preamble_texts(preamble: list[Row], lines: list[str] | None) -> list[tuple[int, str]]:
+    """``(line, text)`` of the lines above the table that are not ``# key: value`` metadata."""
+    out: list[tuple[int, str]] = []
+    for number, cells in preamble:
+        text = lines[number - 1] if lines is not None else ";".join(str(c) for c in cells if c is not None)
+        if not parse_meta_line(text):
+            out.append((number, text))
+    return out
+
+
 def _gas_unit(
     name: str,
     raw: np.ndarray,
@@ -294,6 +307,9 @@ def import_bytes(
     time_format: str = "auto",
     meta_overrides: Mapping[str, Any] | None = None,
     max_bytes: int = DEFAULT_MAX_BYTES,
+    ve_condition: str = "auto",
+    barometric_mmhg: float | None = None,
+    ambient_c: float | None = None,
 ) -> ImportOutcome:
     """Import one breath-by-breath cart export.
 
@@ -320,6 +336,18 @@ def import_bytes(
         Metadata set by the user; wins over ``# key: value`` lines in the file.
     max_bytes : int
         Files larger than this are rejected (default :data:`DEFAULT_MAX_BYTES`).
+    ve_condition : {'auto', 'btps', 'stpd', 'atps'}
+        Condition the ventilation columns (VE, tidal volume) were measured in. ``'auto'``: as
+        stated in the header, a ``# ve_condition:`` line or a line above the table, else BTPS.
+        VO2/VCO2 follow their header or the lines above the table, else STPD. Values stated in
+        another condition are converted to BTPS (ventilation) and STPD (VO2/VCO2) with
+        :func:`analysis.gas_conditions.volume_factor` (ATS/ACCP 2003).
+    barometric_mmhg : float, optional
+        Barometric pressure during the test (mmHg), for that conversion; default: the file's
+        ``barometric_mmhg`` metadata.
+    ambient_c : float, optional
+        Room temperature during the test (°C), for a conversion from ATPS; default: the file's
+        ``ambient_c`` metadata.
 
     Returns
     -------
@@ -346,6 +374,12 @@ def import_bytes(
     require(gas_unit in GAS_UNITS, "gas_unit", f"one of {GAS_UNITS}", gas_unit)
     require(time_format in TIME_FORMATS, "time_format", f"one of {TIME_FORMATS}", time_format)
     require(isinstance(max_bytes, int) and max_bytes > 0, "max_bytes", "a positive whole number", max_bytes)
+    require(ve_condition in VE_CONDITIONS, "ve_condition", f"one of {', '.join(VE_CONDITIONS)}", ve_condition)
+    for option, value, low, high, unit in (("barometric_mmhg", barometric_mmhg, 400.0, 820.0, "mmHg"),
+                                           ("ambient_c", ambient_c, 0.0, 45.0, "°C")):
+        require(value is None or (isinstance(value, (int, float)) and not isinstance(value, bool)
+                                  and math.isfinite(value) and low <= value <= high),
+                option, f"a number from {low:g} to {high:g} {unit}, or nothing", value)
     data = bytes(data)
     file_name = file_name or "uploaded file"
     check_size(len(data), max_bytes=max_bytes, file_name=file_name)
@@ -510,6 +544,16 @@ def import_bytes(
     if time_format != "auto":
         kept_units[C.T_S] = time_format
 
+    preamble_items: list[PreambleItem] = []
+    meta = checked_meta(_meta_from_preamble(located.preamble, lines, preamble_items), problems, overrides=meta_overrides)
+    apply_conditions(
+        values, mapped, meta,
+        statements=preamble_statements(_preamble_texts(located.preamble, lines)),
+        ve_condition=ve_condition, barometric_mmhg=barometric_mmhg, ambient_c=ambient_c,
+        known_keys=tuple(_HEADER_KEYS), problems=problems, notes=notes,
+    )
+    problems.raise_if_any()
+
     frame = pd.DataFrame({"source_row": line_numbers})
     for name, vals in values.items():
         frame[name] = pd.Series(vals, dtype=object if name in (C.PHASE, C.MARKER) else float)
@@ -518,9 +562,6 @@ def import_bytes(
             unit_notes[name] = f"values were read as {UNIT_LABELS[gas_codes[name]]} — set the gas unit if that is wrong"
         elif name in gas_codes:
             unit_notes[name] = "values were read as mL/min — set the gas unit to L/min if that is wrong"
-
-    preamble_items: list[PreambleItem] = []
-    meta = checked_meta(_meta_from_preamble(located.preamble, lines, preamble_items), problems, overrides=meta_overrides)
 
     session = finish_session(
         frame, meta=meta, file_name=file_name, problems=problems, headers=mapped, unit_notes=unit_notes
@@ -604,6 +645,9 @@ def import_file(
     time_format: str = "auto",
     meta_overrides: Mapping[str, Any] | None = None,
     max_bytes: int = DEFAULT_MAX_BYTES,
+    ve_condition: str = "auto",
+    barometric_mmhg: float | None = None,
+    ambient_c: float | None = None,
 ) -> ImportOutcome:
     """Read ``path`` and :func:`import_bytes` it (the size is checked before reading).
 
@@ -623,4 +667,7 @@ def import_file(
         time_format=time_format,
         meta_overrides=meta_overrides,
         max_bytes=max_bytes,
+        ve_condition=ve_condition,
+        barometric_mmhg=barometric_mmhg,
+        ambient_c=ambient_c,
     )

@@ -68,6 +68,11 @@ _LABELS: dict[str, tuple[str, ...]] = {
                  "operatore"),
     "beta_blocker": ("betablocker", "betablockers", "bblocker", "betablocking", "betabloquant", "betabloqueante",
                      "betabloccante"),
+    "barometric_mmhg": ("barometricpressure", "barometer", "pb", "pbar", "airpressure", "atmosphericpressure",
+                        "ambientpressure", "luftdruck", "barometerstand", "pressionbarometrique",
+                        "pressionatmospherique", "presionbarometrica", "pressionebarometrica", "pressaobarometrica"),
+    "ambient_c": ("roomtemperature", "ambienttemperature", "labtemperature", "raumtemperatur", "umgebungstemperatur",
+                  "temperatureambiante", "temperaturaambiente", "temperaturadelasala"),
     "subject_id": ("subject", "subjectid", "subjectcode", "patientid", "id", "proband", "probandid", "athlete",
                    "athleteid"),
 }
@@ -195,6 +200,8 @@ def _value(key: str, text: str, unit: str) -> str | None:
         if low in _NO:
             return "no"
         return None
+    if key in ("barometric_mmhg", "ambient_c"):
+        return _ambient_value(key, low, unit)
     number = _number(text)
     if number is None:
         return None
@@ -217,6 +224,34 @@ def _value(key: str, text: str, unit: str) -> str | None:
     return None
 
 
+#: mmHg per kPa and per hPa (1 mmHg = 133.322387415 Pa).
+MMHG_PER_KPA = 1000.0 / 133.322387415
+_WITH_UNIT = re.compile(r"^([-+]?\d+(?:[.,]\d+)?)\s*([a-z°]*)$")
+
+
+def _ambient_value(key: str, low: str, unit: str) -> str | None:
+    """Barometric pressure (mmHg; kPa, hPa and mbar converted) or room temperature (°C; °F
+    converted) with the unit in the label or after the number; plausible ranges only."""
+    match = _WITH_UNIT.match(low.replace(" ", ""))
+    if match is None:
+        return None
+    number = float(match.group(1).replace(",", "."))
+    unit = (unit or match.group(2)).replace("°", "")
+    if key == "ambient_c":
+        if unit in ("f", "degf"):
+            number = (number - 32.0) * 5.0 / 9.0
+        elif unit not in ("", "c", "degc"):
+            return None
+        return _fmt(number) if 0 <= number <= 45 else None
+    if unit in ("kpa",):
+        number *= MMHG_PER_KPA
+    elif unit in ("hpa", "mbar", "mb"):
+        number *= MMHG_PER_KPA / 10.0
+    elif unit not in ("", "mmhg", "torr"):
+        return None
+    return _fmt(number) if 400 <= number <= 820 else None
+
+
 def read_preamble_item(line: int, cells: list[Any] | tuple[Any, ...]) -> PreambleItem | None:
     """A metadata item from one line above the table (its cells), or ``None``.
 
@@ -232,7 +267,9 @@ def read_preamble_item(line: int, cells: list[Any] | tuple[Any, ...]) -> Preambl
     'body_mass_kg'
     >>> read_preamble_item(4, ["Gewicht (lb)", "132,3"]).value
     '60.01'
-    >>> read_preamble_item(5, ["Room temperature", "21"]) is None
+    >>> read_preamble_item(5, ["Barometric pressure", "1013 hPa"]).value
+    '759.8'
+    >>> read_preamble_item(6, ["Comment", "fine"]) is None
     True
     """
     try:

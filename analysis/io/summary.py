@@ -3,6 +3,8 @@
 from __future__ import annotations
 
 from collections import Counter
+from collections.abc import Mapping
+from typing import Any
 
 from analysis import columns as C
 from analysis.io._table import DELIMITER_NAMES
@@ -25,6 +27,21 @@ def flag_counts(outcome: ImportOutcome) -> dict[str, int]:
         return {}
     unique = flags.drop_duplicates(["source_row", "reason"])
     return dict(Counter(unique["reason"]).most_common())
+
+
+def gas_conditions_text(meta: Mapping[str, Any]) -> str:
+    """Ventilation and VO2/VCO2 conditions of an imported session, and any conversion, in words."""
+    parts = []
+    for group, label, target in (("ve", "ventilation", "BTPS"), ("gas", "VO2/VCO2", "STPD")):
+        stated = str(meta.get(f"{group}_condition_stated", "")).upper()
+        factor = meta.get(f"{group}_{target.lower()}_factor")
+        if factor is not None and stated:
+            parts.append(f"{label} {target}, converted from {stated} × {float(factor):.4f}")
+        elif stated or meta.get(f"{group}_condition"):
+            parts.append(f"{label} {target}, as stated")
+        else:
+            parts.append(f"{label} taken as {target} (no condition stated)")
+    return "; ".join(parts)
 
 
 def describe_outcome(outcome: ImportOutcome) -> list[str]:
@@ -55,6 +72,7 @@ def describe_outcome(outcome: ImportOutcome) -> list[str]:
         f"read as: {source}, decimal mark '{outcome.decimal}', gas unit {UNIT_LABELS.get(outcome.gas_unit_detected, outcome.gas_unit_detected)}, "
         f"time as {outcome.time_format_detected}"
     )
+    lines.append("gas conditions: " + gas_conditions_text(s.meta))
     if outcome.preamble:
         lines.append(
             "read from the lines above the table: "

@@ -34,6 +34,9 @@ UPLOAD_TYPES = ["csv", "tsv", "txt", "xlsx"]
 IGNORE = "ignore"
 #: Choices of the gas-unit selector: code -> label (codes as the importer's mapping units).
 GAS_UNITS: dict[str, str] = {"auto": "Detect from the values", "ml_min": "mL/min", "l_min": "L/min"}
+#: Condition the ventilation was measured in (the importer converts STPD and ATPS to BTPS).
+VE_CONDITIONS: dict[str, str] = {"auto": "As the file states it (else BTPS)", "btps": "BTPS", "stpd": "STPD",
+                                 "atps": "ATPS (room conditions)"}
 GUESS = "(guess from the column headers)"
 #: Choices of the time-format selector: importer code -> label.
 TIME_FORMAT_LABELS: dict[str, str] = {
@@ -72,9 +75,18 @@ def mapping_dict(columns: Mapping[str, str], *, gas_unit: str = "auto", guess_re
     return ColumnMapping(dict(columns), units, guess_rest).to_dict()
 
 
-def import_options(*, sheet: str | None, gas_unit: str, time_format: str) -> dict[str, Any]:
+def import_options(
+    *, sheet: str | None, gas_unit: str, time_format: str, ve_condition: str = "auto",
+    barometric_mmhg: float | None = None, ambient_c: float | None = None,
+) -> dict[str, Any]:
     """The ``import_test`` options the reviewer chose (defaults left out), stored with the test."""
     options: dict[str, Any] = {}
+    if ve_condition != "auto":
+        options["ve_condition"] = ve_condition
+    if barometric_mmhg is not None:
+        options["barometric_mmhg"] = float(barometric_mmhg)
+    if ambient_c is not None:
+        options["ambient_c"] = float(ambient_c)
     if sheet is not None:
         options["sheet"] = sheet
     if gas_unit != "auto":
@@ -301,6 +313,17 @@ def _import_panel(store: Any, upload: Any, index: int) -> None:
     )
     profiles = data.list_profiles()
     profile = c3.selectbox("Column mapping", [GUESS, *profiles], key=f"{base}_profile")
+    with st.expander("Gas conditions (BTPS / STPD / ATPS)"):
+        g1, g2, g3 = st.columns(3)
+        ve_condition = g1.selectbox("Ventilation measured as", list(VE_CONDITIONS), format_func=VE_CONDITIONS.__getitem__,
+                                    key=f"{base}_vecond")
+        barometric = g2.number_input("Barometric pressure (mmHg)", min_value=400.0, max_value=820.0, value=None, step=1.0,
+                                     key=f"{base}_pb")
+        ambient = g3.number_input("Room temperature (°C)", min_value=0.0, max_value=45.0, value=None, step=0.5,
+                                  key=f"{base}_room")
+        st.caption("Ventilation is kept at BTPS and VO2/VCO2 at STPD (ATS/ACCP 2003). Values stated as STPD or ATPS "
+                   "are converted when the pressure (and for ATPS the room temperature) is known.")
+    conditions: dict[str, Any] = {"ve_condition": ve_condition, "barometric_mmhg": barometric, "ambient_c": ambient}
 
     # Widgets and edits belong to one sheet and one profile: choosing another sheet or profile
     # starts from its own guessed mapping. "Back to the guessed mapping" starts a new generation
@@ -323,7 +346,8 @@ def _import_panel(store: Any, upload: Any, index: int) -> None:
     outcome = None
     try:
         outcome = data.preview_import(
-            raw, file_name=name, mapping_json=mapping_json, sheet=sheet, gas_unit=gas_unit, time_format=time_format
+            raw, file_name=name, mapping_json=mapping_json, sheet=sheet, gas_unit=gas_unit, time_format=time_format,
+            **conditions,
         )
     except ImportRejected as exc:
         st.error(f"**{markdown_text(name)}** cannot be imported as set up. Nothing was stored.")
@@ -413,7 +437,7 @@ def _import_panel(store: Any, upload: Any, index: int) -> None:
         st.error("Check the values read from the file and tick the box before importing (or correct them in the form).")
         return
     if go:
-        options = import_options(sheet=outcome.sheet, gas_unit=gas_unit, time_format=time_format)
+        options = import_options(sheet=outcome.sheet, gas_unit=gas_unit, time_format=time_format, **conditions)
         overrides = import_overrides(session.meta, values)
         if overrides:
             options["meta_overrides"] = overrides

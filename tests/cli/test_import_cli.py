@@ -108,3 +108,33 @@ def test_unwritable_profile_is_bad_input_and_nothing_written(tmp_path, capsys):
     assert rc == EXIT_BAD_INPUT
     assert "cannot be written" in capsys.readouterr().err
     assert not (tmp_path / "o").exists()
+
+
+STPD_EXPORT = "Time;VO2 (L/min);VCO2 (L/min);VE (L/min, STPD)\n0:00;0,30;0,25;10,0\n0:03;0,32;0,27;11,0\n0:06;0,33;0,28;12,0\n".encode()
+
+
+def test_stpd_ventilation_is_refused_until_the_condition_can_be_converted(tmp_path, capsys):
+    src = tmp_path / "stpd.csv"
+    src.write_bytes(STPD_EXPORT)
+    out = tmp_path / "out"
+    assert main(["import", str(src), "--out", str(out)]) == EXIT_BAD_INPUT
+    err = capsys.readouterr().err
+    assert "column 'VE (L/min, STPD)': VE is stated as STPD" in err and "--barometric-mmhg" in err
+    assert not out.exists()
+    assert main(["import", str(src), "--out", str(out), "--barometric-mmhg", "760"]) == EXIT_OK
+    printed = capsys.readouterr().out
+    assert "gas conditions: ventilation BTPS, converted from STPD × 1.2103" in printed  # gas laws at 760 mmHg
+    session = read_session(out / "stpd.session.csv")
+    assert session.breaths["ve_l_min"].iloc[0] == pytest.approx(10.0 * 1.2103, rel=5e-5)
+    assert session.meta["ve_condition"] == "btps" and session.meta["ve_btps_factor"] == pytest.approx(1.2103, abs=5e-5)
+
+
+def test_ve_condition_option_states_atps(tmp_path, capsys):
+    src = tmp_path / "room.csv"
+    src.write_bytes(STPD_EXPORT.replace(b"VE (L/min, STPD)", b"VE"))
+    args = ["import", str(src), "--out", str(tmp_path / "o"), "--ve-condition", "atps", "--barometric-mmhg", "760"]
+    assert main(args) == EXIT_BAD_INPUT
+    assert "room temperature" in capsys.readouterr().err
+    assert main([*args, "--ambient-c", "22"]) == EXIT_OK
+    session = read_session(tmp_path / "o" / "room.session.csv")
+    assert session.breaths["ve_l_min"].iloc[0] == pytest.approx(10.0 * 1.0909, rel=5e-5)  # gas laws: ATPS 22 °C

@@ -226,3 +226,35 @@ def test_viewer_gets_no_upload_and_no_import_check(demo_store, page_test):
     assert not at.exception
     assert [u for u in at.get("file_uploader") if u.key == "lib_upload"] == []
     assert any("not import tests" in str(i.value) for i in at.info)
+
+
+def test_gas_conditions_fields_convert_stpd_ventilation(demo_store, page_test):
+    # "VE (L/min, STPD)" needs the barometric pressure: the import check refuses it until the
+    # pressure is given in the form, then stores VE at BTPS (gas laws: × 1.2103 at 760 mmHg)
+    raw = _generic_export(demo_store).replace(b",VE,", b",\"VE (L/min, STPD)\",", 1)
+    at = page_test(_library_script, tm_user=demo_store.user).run()
+    at.file_uploader(key="lib_upload").set_value(("stpd-export.csv", raw, "text/csv")).run()
+    assert not at.exception, at.exception
+    problems = _table(at, "Problem")
+    assert any("VE is stated as STPD" in p for p in problems["Problem"])
+    assert any("Gas conditions" in f for f in problems["What to do"])
+    next(n for n in at.number_input if n.label == "Barometric pressure (mmHg)").set_value(760.0).run()
+    assert not at.exception, at.exception
+    assert any("converted to BTPS × 1.2103" in c.value.replace("\\", "") for c in at.caption)  # shown escaped
+    code_key = next(t.key for t in at.text_input if t.label.startswith("Person code"))
+    at.text_input(key=code_key).input("SEL-9002")
+    next(c for c in at.checkbox if c.label == "The values read from the file are right").check()
+    at.button[[b.label for b in at.button].index("Import into the library")].click().run()
+    assert not at.exception, at.exception
+    (new,) = [t for t in demo_store.store.list_tests() if t.person_code == "SEL-9002"]
+    assert demo_store.store.get_test(new.id).import_options["barometric_mmhg"] == 760.0
+    stored = demo_store.store.load_session(new.id)
+    expected = import_bytes(_generic_export(demo_store), file_name="x.csv").session.breaths["ve_l_min"]
+    assert stored.breaths["ve_l_min"].iloc[10] == pytest.approx(expected.iloc[10] * 1.2103, rel=5e-5)
+    assert stored.meta["ve_condition"] == "btps" and stored.meta["ve_condition_stated"] == "stpd"
+
+
+def test_import_options_keep_the_gas_conditions():
+    assert library.import_options(sheet=None, gas_unit="auto", time_format="auto", ve_condition="atps",
+                                  barometric_mmhg=755, ambient_c=21.5) == {
+        "ve_condition": "atps", "barometric_mmhg": 755.0, "ambient_c": 21.5}

@@ -48,6 +48,15 @@ def add_parser(subparsers: argparse._SubParsersAction) -> argparse.ArgumentParse
     p.add_argument("--sheet", help="worksheet of an .xlsx file: its name, or its number (1 = first)")
     p.add_argument("--gas-unit", choices=GAS_UNITS, default="auto", help="unit of VO2 and VCO2 (default: auto)")
     p.add_argument("--time-format", choices=TIME_FORMATS, default="auto", help="how time is written (default: auto)")
+    p.add_argument(
+        "--ve-condition",
+        choices=("auto", "btps", "stpd", "atps"),
+        default="auto",
+        help="condition the ventilation (VE, tidal volume) was measured in; default: as the file states it, else BTPS. "
+        "STPD and ATPS values are converted to BTPS",
+    )
+    p.add_argument("--barometric-mmhg", type=float, help="barometric pressure during the test, mmHg (to convert STPD/ATPS)")
+    p.add_argument("--ambient-c", type=float, help="room temperature during the test, °C (to convert ATPS)")
     p.add_argument("--profile", type=Path, help="read column choices from a mapping profile (JSON)")
     p.add_argument("--save-profile", type=Path, help="save the column choices used as a mapping profile (JSON)")
     p.add_argument(
@@ -111,6 +120,9 @@ def run(args: argparse.Namespace) -> int:
         time_format=args.time_format,
         meta_overrides=meta,
         max_bytes=max_bytes,
+        ve_condition=args.ve_condition,
+        barometric_mmhg=args.barometric_mmhg,
+        ambient_c=args.ambient_c,
     )
     if args.save_profile:  # first: a profile that cannot be written stops before anything else is
         save_profile(outcome.mapping, args.save_profile)

@@ -34,7 +34,8 @@ def test_semicolon_export_preamble_becomes_metadata():
     assert meta["body_mass_kg"] == 58.0
     assert meta["height_cm"] == pytest.approx(168.0)  # 1.68 m = 168 cm
     assert meta["sex"] == "F" and meta["beta_blocker"] == "no"
-    assert [i.key for i in out.preamble] == ["test_date", "body_mass_kg", "height_cm", "sex", "beta_blocker"]
+    assert [i.key for i in out.preamble] == ["test_date", "body_mass_kg", "height_cm", "sex", "beta_blocker", "ambient_c"]
+    assert meta["ambient_c"] == 21.0  # the room temperature, kept for converting ATPS volumes
     assert out.preamble[0] == PreambleItem(line=1, label="Test date:", text="10.02.2026", key="test_date", value="2026-02-10")
     # German headers: Zeit, HF (Herzfrequenz), AF (Atemfrequenz) are our own documented spellings
     assert {"t_s", "hr_bpm", "rf_bpm"} <= set(out.session.breaths.columns)
@@ -58,6 +59,12 @@ def test_form_values_win_over_the_preamble():
         (["Beta-blocker", "yes"], "beta_blocker", "yes"),
         (["Protocole", "Rampe 25 W/min"], "protocol", "Rampe 25 W/min"),
         (["Datum", dt.datetime(2026, 2, 10, 9, 30)], "test_date", "2026-02-10"),  # a spreadsheet date cell
+        (["Room temperature", "21"], "ambient_c", "21"),
+        (["Raumtemperatur (°C)", "22,5"], "ambient_c", "22.5"),
+        (["Room temperature", "72 °F"], "ambient_c", "22.22"),  # (72 - 32) × 5/9 °C (definition of the scales)
+        (["Barometric pressure", "755 mmHg"], "barometric_mmhg", "755"),
+        (["Pb (kPa)", "101.3"], "barometric_mmhg", "759.8"),  # 1 mmHg = 133.322387415 Pa (definition)
+        (["Luftdruck", "1013 hPa"], "barometric_mmhg", "759.8"),
     ],
 )
 def test_labelled_lines(cells, key, value):
@@ -67,7 +74,7 @@ def test_labelled_lines(cells, key, value):
 
 @pytest.mark.parametrize(
     "cells",
-    [["Room temperature", "21"], ["Body mass (kg)", "heavy"], ["Body mass (kg)", "5800"], ["Date", "03/04/2026"],
+    [["Room temperature", "99"], ["Barometric pressure", "2 bar"], ["Body mass (kg)", "heavy"], ["Body mass (kg)", "5800"], ["Date", "03/04/2026"],
      ["Sex", "unknown"], ["Time", "VO2", "VCO2"], []],
 )
 def test_lines_that_are_not_clear_metadata_are_left_alone(cells):
