@@ -31,6 +31,17 @@ MAX_NAME_CHARS = 200
 MAX_FILE_NAME_CHARS = 255
 
 
+def stored_session_text(session_text: str, raw: bytes) -> str:
+    """What ``tests.session_text`` keeps: ``""`` when the converted session is the upload itself
+    (a Tidemark session file, kept once in ``raw_bytes``), else the converted text."""
+    return "" if session_text.encode("utf-8") == raw else session_text
+
+
+def session_text_of(stored: str, raw: bytes) -> str:
+    """The session text from what :func:`stored_session_text` kept."""
+    return stored or raw.decode("utf-8")
+
+
 def sha256_hex(data: bytes) -> str:
     return hashlib.sha256(data).hexdigest()
 
@@ -181,7 +192,7 @@ class ArchiveMixin(StoreCore):
                 raw_sha256=digest,
                 raw_size_bytes=len(data),
                 raw_bytes=data,
-                session_text=imported.session_text,
+                session_text=stored_session_text(imported.session_text, data),
                 mapping_json=None if imported.mapping is None else to_json(imported.mapping),
                 import_options_json=to_json(options),
                 flags_json=to_json(imported.flags),
@@ -324,14 +335,21 @@ class ArchiveMixin(StoreCore):
                     setattr(person, field, value)
 
     # ----------------------------------------------------------------- tests
-    def _summary_query(self) -> Select[Any]:
+    def _summary_query(self) -> Select[*tuple[Any, ...]]:
+        """The list columns only: no settings, results JSON, raw bytes or session text."""
         signed = (
             select(SignOff.test_id, func.max(SignOff.version).label("signed_version"))
             .group_by(SignOff.test_id)
             .subquery()
         )
         return (
-            select(TestRow, PersonRow, AnalysisVersion, signed.c.signed_version)
+            select(
+                TestRow.id, PersonRow.id, PersonRow.code, PersonRow.display_name, TestRow.test_date,
+                TestRow.protocol, TestRow.original_file_name, TestRow.current_version,
+                AnalysisVersion.vo2peak_ml_min, AnalysisVersion.vt1_vo2_ml_min, AnalysisVersion.ve_vco2_slope,
+                signed.c.signed_version, AnalysisVersion.results_error, TestRow.imported_at,
+                TestRow.deleted_at, PersonRow.deleted_at,
+            )
             .join(PersonRow, PersonRow.id == TestRow.person_id)
             .join(
                 AnalysisVersion,
@@ -341,18 +359,19 @@ class ArchiveMixin(StoreCore):
         )
 
     @staticmethod
-    def _summary(test: TestRow, person: PersonRow, version: AnalysisVersion, signed: int | None) -> TestSummary:
+    def _summary(row: Any) -> TestSummary:
+        """A :meth:`_summary_query` row as a :class:`TestSummary`."""
         return TestSummary(
-            id=test.id, person_id=person.id, person_code=person.code, display_name=person.display_name,
-            test_date=test.test_date, protocol=test.protocol, file_name=test.original_file_name,
-            version=test.current_version, vo2peak_ml_min=version.vo2peak_ml_min,
-            vt1_vo2_ml_min=version.vt1_vo2_ml_min, ve_vco2_slope=version.ve_vco2_slope,
-            signed_version=signed, results_error=version.results_error,
-            imported_at=aware(test.imported_at),
+            id=row[0], person_id=row[1], person_code=row[2], display_name=row[3], test_date=row[4],
+            protocol=row[5], file_name=row[6], version=row[7], vo2peak_ml_min=row[8], vt1_vo2_ml_min=row[9],
+            ve_vco2_slope=row[10], signed_version=row[11], results_error=row[12], imported_at=aware(row[13]),
         )
 
     def list_tests(self, person_id: int | None = None, *, test_ids: tuple[int, ...] | None = None) -> list[TestSummary]:
-        """Live tests (optionally of one person or a given set), oldest first, with headline numbers."""
+        """Live tests (optionally of one person or a given set), oldest first, with headline numbers.
+
+        Reads the list columns only (the index ``ix_tests_live_listing`` serves the order).
+        """
         query = self._summary_query().where(TestRow.deleted_at.is_(None), PersonRow.deleted_at.is_(None))
         if person_id is not None:
             query = query.where(TestRow.person_id == person_id)
@@ -361,19 +380,20 @@ class ArchiveMixin(StoreCore):
         with self._read() as db:
             # Undated tests last on every back end (SQLite and PostgreSQL sort NULL differently).
             rows = db.execute(query.order_by(TestRow.test_date.is_(None), TestRow.test_date, TestRow.id)).all()
-        return [self._summary(*row) for row in rows]
+        return [self._summary(row) for row in rows]
 
     def get_test(self, test_id: int, *, include_deleted: bool = False) -> TestRecord:
         """Everything about one test except raw bytes and session text (see ``raw_file``)."""
         with self._read() as db:
             row = db.execute(self._summary_query().where(TestRow.id == test_id)).first()
-            if row is None or (not include_deleted and (row[0].deleted_at is not None or row[1].deleted_at is not None)):
+            if row is None or (not include_deleted and (row[14] is not None or row[15] is not None)):
                 raise NotFound(f"No test with number {test_id} (it may have been deleted).")
-            test = row[0]
+            test = db.get(TestRow, test_id)
+            assert test is not None  # the summary row above exists
             sign_rows = db.execute(select(SignOff).where(SignOff.test_id == test_id).order_by(SignOff.version)).scalars().all()
-            names = self._usernames(db, {s.signed_by for s in sign_rows} | {test.imported_by})
+            names = self._usernames(db, set[int | None]({s.signed_by for s in sign_rows}) | {test.imported_by})
         return TestRecord(
-            summary=self._summary(*row),
+            summary=self._summary(row),
             raw_sha256=test.raw_sha256,
             raw_size_bytes=test.raw_size_bytes,
             mapping=None if test.mapping_json is None else json.loads(test.mapping_json),
@@ -402,7 +422,8 @@ class ArchiveMixin(StoreCore):
     def session_text(self, test_id: int) -> str:
         """The converted session in Tidemark's session-file format."""
         with self._read() as db:
-            return self._live_test(db, test_id).session_text
+            test = self._live_test(db, test_id)
+            return session_text_of(test.session_text, test.raw_bytes if not test.session_text else b"")
 
     def load_session(self, test_id: int) -> Session:
         """The stored session of a test, ready for :mod:`analysis` (the caller's own copy).
@@ -412,7 +433,8 @@ class ArchiveMixin(StoreCore):
         """
         with self._read() as db:
             test = self._live_test(db, test_id)
-            text, name = test.session_text, test.original_file_name
+            text = session_text_of(test.session_text, test.raw_bytes if not test.session_text else b"")
+            name = test.original_file_name
         return self._session_cache.get(
             test_id, text, lambda t: self.analysis.read_session_text(t, source_name=name)
         )

@@ -18,6 +18,7 @@ from sqlalchemy import select, update
 from analysis.errors import require
 from store.analysis_bridge import run_analysis
 from store.archive import _sex_from_file as _normalise_sex  # the one sex normaliser, lenient for edits
+from store.archive import stored_session_text
 from store.core import Actor, to_json
 from store.errors import StoreError
 from store.models import AnalysisVersion, PersonRow, SignOff, TestRow
@@ -121,7 +122,7 @@ class MetadataMixin(ReviewMixin):
                 .where(TestRow.id == test_id, TestRow.current_version == expected_version, TestRow.deleted_at.is_(None))
                 .values(
                     current_version=new_version,
-                    session_text=imported.session_text,
+                    session_text=stored_session_text(imported.session_text, raw),
                     import_options_json=to_json(new_options),
                     test_date=str(after.get("test_date") or "").strip()[:32] or None,
                     protocol=str(after.get("protocol") or "").strip()[:200] or None,

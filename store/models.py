@@ -105,6 +105,15 @@ class TestRow(Base):
             sqlite_where=text("deleted_at IS NULL"),
             postgresql_where=text("deleted_at IS NULL"),
         ),
+        # Every column the test list reads, live tests only: listing never reads a row (rows
+        # carry the upload and the session text). Migration 0004.
+        Index(
+            "ix_tests_live_listing",
+            "test_date", "id", "person_id", "current_version", "imported_at", "protocol", "original_file_name",
+            "deleted_at",
+            sqlite_where=text("deleted_at IS NULL"),
+            postgresql_where=text("deleted_at IS NULL"),
+        ),
     )
 
     id: Mapped[int] = mapped_column(Integer, primary_key=True)
@@ -117,7 +126,8 @@ class TestRow(Base):
     raw_size_bytes: Mapped[int] = mapped_column(Integer)
     #: The uploaded file byte for byte.
     raw_bytes: Mapped[bytes] = mapped_column(LargeBinary, deferred=True)
-    #: The converted session (Tidemark session-file text).
+    #: The converted session (Tidemark session-file text); empty when it is the upload itself
+    #: (a Tidemark session file), which is then kept once, in ``raw_bytes`` (migration 0004).
     session_text: Mapped[str] = mapped_column(Text, deferred=True)
     #: The column mapping used by the import (JSON), ``None`` for native session files.
     mapping_json: Mapped[str | None] = mapped_column(Text)
@@ -139,19 +149,21 @@ class AnalysisVersion(Base):
     __tablename__ = "analysis_versions"
     __table_args__ = (UniqueConstraint("test_id", "version"),)
 
+    # The list's columns first, the JSON last: on SQLite a row's first bytes sit in its page and
+    # long JSON in overflow pages, so the test list reads headline numbers without the results.
     id: Mapped[int] = mapped_column(Integer, primary_key=True)
     test_id: Mapped[int] = mapped_column(ForeignKey("tests.id"), index=True)
     version: Mapped[int] = mapped_column(Integer)
-    settings_json: Mapped[str] = mapped_column(Text)
-    results_json: Mapped[str | None] = mapped_column(Text)
-    #: Why results could not be computed (shown to the user), ``None`` when they were.
-    results_error: Mapped[str | None] = mapped_column(Text)
     vo2peak_ml_min: Mapped[float | None] = mapped_column()
     vt1_vo2_ml_min: Mapped[float | None] = mapped_column()
     ve_vco2_slope: Mapped[float | None] = mapped_column()
+    #: Why results could not be computed (shown to the user), ``None`` when they were.
+    results_error: Mapped[str | None] = mapped_column(Text)
     created_at: Mapped[datetime] = mapped_column(DateTime(timezone=True))
     created_by: Mapped[int | None] = mapped_column(ForeignKey("users.id"))
     reason: Mapped[str] = mapped_column(Text, default="")
+    settings_json: Mapped[str] = mapped_column(Text)
+    results_json: Mapped[str | None] = mapped_column(Text)
 
 
 class SignOff(Base):

@@ -104,3 +104,36 @@ def test_demo_loader_refuses_a_store_with_real_data(store_url, demo_files):
 def test_demo_loader_reports_missing_files(tmp_path):
     with pytest.raises(ImportRejected, match="does not exist"):
         load_demo_sessions([tmp_path / "nope.csv"], url=str(tmp_path / "d.sqlite"))
+
+
+def test_a_session_file_upload_is_kept_once(real_store, demo_files):
+    # the converted text of a Tidemark session file is the upload itself: one copy, in raw_bytes
+    from sqlalchemy import select
+
+    from store.models import TestRow
+
+    rhea = {u.username: u for u in real_store.list_users()}["rhea"]
+    tid = real_store.import_test(CYCLE.read_bytes(), file_name=CYCLE.name, actor=rhea).test_id
+    with real_store.engine.connect() as conn:
+        kept = conn.execute(select(TestRow.session_text).where(TestRow.id == tid)).scalar_one()
+    assert kept == ""
+    assert real_store.session_text(tid).encode("utf-8") == CYCLE.read_bytes() == real_store.raw_file(tid)[1]
+    assert real_store.load_session(tid).breaths.equals(read_session(CYCLE).breaths)
+
+
+def test_a_converted_export_keeps_its_session_text(real_store, demo_files):
+    from analysis.io import session_to_text
+
+    rhea = {u.username: u for u in real_store.list_users()}["rhea"]
+    export = read_session(REHAB).breaths.drop(columns="source_row").to_csv(sep=";", decimal=",", index=False).encode()
+    tid = real_store.import_test(export, file_name="export.csv", actor=rhea).test_id
+    text = real_store.session_text(tid)
+    assert text.encode("utf-8") != export
+    assert session_to_text(real_store.load_session(tid)) == text
+
+
+def test_the_list_reads_no_results_or_file_columns(real_store):
+    # the list's query names the summary columns only (never settings, results or file bytes)
+    sql = str(real_store._summary_query())  # noqa: SLF001
+    for heavy in ("results_json", "settings_json", "raw_bytes", "session_text", "flags_json", "mapping_json"):
+        assert heavy not in sql
