@@ -60,6 +60,8 @@ class OxygenPathway:
         A-v CO2 difference and its carriage per state.
     hyperventilation : Hyperventilation
         Resting hyperventilation (PaCO2 40 -> 30 mmHg) for this person's Hb and barometric pressure.
+    lines : CascadeLines
+        The convective and diffusive lines of the person's cascade (for charts).
     """
 
     vo2_peak_ml_min: float
@@ -74,6 +76,7 @@ class OxygenPathway:
     limiting: str
     co2: tuple[Co2Carriage, ...]
     hyperventilation: Hyperventilation
+    lines: CascadeLines
     venous_blood: str = CASCADE_VENOUS_BLOOD
     assumptions: tuple[str, ...] = ASSUMPTIONS
     notes: tuple[str, ...] = ()
@@ -211,6 +214,7 @@ def oxygen_pathway(
             hb_g_dl=comparison.hb_g_dl, pb_mmhg=comparison.pb_mmhg, fio2=comparison.fio2,
             model=comparison.model, huefner_ml_g=comparison.huefner_ml_g,
         ),
+        lines=cascade_lines(cascade.inputs, dmo2_ml_min_mmhg=cascade.dmo2_ml_min_mmhg),
         notes=tuple(notes),
     )
     return record, tuple(notes)

@@ -1,0 +1,309 @@
+"""The report's oxygen appendix: dissociation curves, Fick against the curve, the O2 cascade at
+peak and the what-if table, as one HTML section with static SVG charts (no script).
+
+:func:`oxygen_appendix_html` reads the result's ``oxygen`` part (the per-state comparison) and,
+when present, its ``oxygen_cascade`` part (:meth:`analysis.oxygen.OxygenPathway.to_json_dict`);
+without the latter it builds the pathway from the comparison with
+:func:`analysis.oxygen.pathway.oxygen_pathway`. Every data-derived text is escaped. Every figure
+is labelled a model estimate; interpretation is "consistent with", never a diagnosis.
+"""
+
+from __future__ import annotations
+
+import html
+from collections.abc import Mapping, Sequence
+from typing import Any
+
+import numpy as np
+
+from dashboard import palette
+
+#: Words above the appendix.
+APPENDIX_CAUTION = (
+    "Every figure in this appendix is a model estimate from published models (dissociation curves: "
+    "Severinghaus 1979 / Siggaard-Andersen 1984; O2 cascade: Wagner 1996), not a measurement. Results are "
+    "consistent with the inputs and the stated assumptions; none is a diagnosis. Tidemark is not a medical "
+    "device; interpretation belongs to qualified staff under local protocols and licensed practice."
+)
+
+STATE_LABEL: dict[str, str] = {"rest": "Rest", "vt1": "VT1", "vt2": "VT2", "peak": "Peak"}
+STATE_COLOUR: dict[str, str] = {
+    "rest": palette.BLACK, "vt1": palette.ORANGE, "vt2": palette.REDDISH_PURPLE, "peak": palette.VERMILLION,
+}
+STATE_DASH: dict[str, str] = {"rest": "", "vt1": "8 4", "vt2": "2 3", "peak": "10 3 2 3"}
+
+
+def _e(text: Any) -> str:
+    return html.escape("" if text is None else str(text), quote=True)
+
+
+def _num(value: Any, digits: int) -> str:
+    try:
+        v = float(value)
+    except (TypeError, ValueError):
+        return "–"
+    if not np.isfinite(v):
+        return "–"
+    return f"{v:,.{digits}f}".replace(",", "\u2009")
+
+
+# --- a small static SVG line chart --------------------------------------------------------------
+
+
+def _ticks(lo: float, hi: float, n: int = 5) -> list[float]:
+    span = hi - lo
+    raw = span / n
+    mag = 10 ** np.floor(np.log10(raw)) if raw > 0 else 1.0
+    step = min((m * mag for m in (1, 2, 2.5, 5, 10) if m * mag >= raw), default=mag * 10)
+    first = np.ceil(lo / step) * step
+    return [float(t) for t in np.arange(first, hi + step * 1e-9, step)]
+
+
+def svg_chart(
+    series: Sequence[Mapping[str, Any]],
+    *,
+    title: str,
+    x_label: str,
+    y_label: str,
+    x_range: tuple[float, float],
+    y_range: tuple[float, float],
+    width: int = 640,
+    height: int = 380,
+) -> str:
+    """A static line/point chart as inline SVG (every text escaped).
+
+    Each series: ``name``, ``x``, ``y``, ``colour``, optional ``dash`` (SVG dash array), ``mode``
+    ``"line"`` (default) or ``"points"``, ``open`` (hollow markers).
+    """
+    left, right, top, bottom = 64, 16, 34, 52
+    legend_h = 18 * len(series)
+    full_h = height + legend_h
+    pw, ph = width - left - right, height - top - bottom
+    (x0, x1), (y0, y1) = x_range, y_range
+
+    def sx(x: float) -> float:
+        return left + (float(x) - x0) / (x1 - x0) * pw
+
+    def sy(y: float) -> float:
+        return top + ph - (float(y) - y0) / (y1 - y0) * ph
+
+    out = [
+        f'<svg xmlns="http://www.w3.org/2000/svg" role="img" viewBox="0 0 {width} {full_h}" width="{width}" '
+        f'height="{full_h}" class="oxygen-chart"><title>{_e(title)}</title>',
+        f'<text x="{width / 2:.0f}" y="18" text-anchor="middle" font-size="14" font-weight="bold">{_e(title)}</text>',
+        f'<rect x="{left}" y="{top}" width="{pw}" height="{ph}" fill="none" stroke="#999"/>',
+    ]
+    for t in _ticks(x0, x1):
+        out.append(f'<line x1="{sx(t):.1f}" y1="{top + ph}" x2="{sx(t):.1f}" y2="{top + ph + 5}" stroke="#666"/>')
+        out.append(f'<text x="{sx(t):.1f}" y="{top + ph + 18}" text-anchor="middle" font-size="11">{_e(f"{t:g}")}</text>')
+    for t in _ticks(y0, y1):
+        out.append(f'<line x1="{left - 5}" y1="{sy(t):.1f}" x2="{left}" y2="{sy(t):.1f}" stroke="#666"/>')
+        out.append(f'<line x1="{left}" y1="{sy(t):.1f}" x2="{left + pw}" y2="{sy(t):.1f}" stroke="#eee"/>')
+        out.append(f'<text x="{left - 8}" y="{sy(t) + 4:.1f}" text-anchor="end" font-size="11">{_e(f"{t:g}")}</text>')
+    out.append(f'<text x="{left + pw / 2:.0f}" y="{top + ph + 40}" text-anchor="middle" font-size="12">{_e(x_label)}</text>')
+    out.append(
+        f'<text x="16" y="{top + ph / 2:.0f}" text-anchor="middle" font-size="12" '
+        f'transform="rotate(-90 16 {top + ph / 2:.0f})">{_e(y_label)}</text>'
+    )
+    for k, s in enumerate(series):
+        colour = _e(s.get("colour", palette.BLACK))
+        dash = f' stroke-dasharray="{_e(s["dash"])}"' if s.get("dash") else ""
+        pts = [
+            (sx(x), sy(y))
+            for x, y in zip(s["x"], s["y"], strict=True)
+            if x is not None and y is not None and x0 <= float(x) <= x1 and y0 <= float(y) <= y1
+        ]
+        if s.get("mode") == "points":
+            fill = "white" if s.get("open") else colour
+            out += [f'<circle cx="{px:.1f}" cy="{py:.1f}" r="5" fill="{fill}" stroke="{colour}" stroke-width="2"/>' for px, py in pts]
+        elif len(pts) > 1:
+            path = " ".join(f"{px:.1f},{py:.1f}" for px, py in pts)
+            out.append(f'<polyline points="{path}" fill="none" stroke="{colour}" stroke-width="2"{dash}/>')
+        ly = height + 14 * 0 + 18 * k + 6
+        if s.get("mode") == "points":
+            fill = "white" if s.get("open") else colour
+            out.append(f'<circle cx="{left + 10}" cy="{ly - 4}" r="5" fill="{fill}" stroke="{colour}" stroke-width="2"/>')
+        else:
+            out.append(f'<line x1="{left}" y1="{ly - 4}" x2="{left + 22}" y2="{ly - 4}" stroke="{colour}" stroke-width="2"{dash}/>')
+        out.append(f'<text x="{left + 30}" y="{ly}" font-size="11">{_e(s.get("name", ""))}</text>')
+    out.append("</svg>")
+    return "".join(out)
+
+
+# --- the parts ----------------------------------------------------------------------------------
+
+
+def _table(header: Sequence[str], rows: Sequence[Sequence[str]]) -> str:
+    head = "".join(f"<th>{_e(h)}</th>" for h in header)
+    body = "".join("<tr>" + "".join(f"<td>{_e(c)}</td>" for c in row) + "</tr>" for row in rows)
+    return f'<table class="oxygen-table"><thead><tr>{head}</tr></thead><tbody>{body}</tbody></table>'
+
+
+def curves_svg(oxygen: Mapping[str, Any]) -> str:
+    """Dissociation curves (resting and each state's mixed venous curve) with arterial and venous points."""
+    from analysis.oxygen import StateConditions, saturation
+
+    model = str(oxygen.get("model"))
+    grid = np.linspace(1.0, 120.0, 120)
+    series: list[dict[str, Any]] = []
+    curves = {"rest": oxygen.get("resting_conditions")} | {
+        s["name"]: s.get("conditions") for s in oxygen.get("states") or [] if s["name"] != "rest"
+    }
+    for name, conds in curves.items():
+        if not conds:
+            continue
+        sat = saturation(grid, model=model, **StateConditions(**conds).curve_kwargs(model))
+        series.append({
+            "name": f"{STATE_LABEL.get(name, name)} mixed venous curve", "x": grid, "y": 100.0 * np.asarray(sat),
+            "colour": STATE_COLOUR.get(name, palette.GREY), "dash": STATE_DASH.get(name, ""),
+        })
+    states = oxygen.get("states") or []
+    series.append({
+        "name": "Arterial blood (estimate)", "mode": "points", "colour": palette.BLUE,
+        "x": [s.get("pao2_mmhg") for s in states], "y": [100.0 * float(s["sao2"]) for s in states],
+    })
+    venous = [s for s in states if s.get("svo2") is not None and s.get("pvo2_exercise_curve_mmhg") is not None]
+    series.append({
+        "name": "Mixed venous blood implied by Fick (estimate)", "mode": "points", "open": True, "colour": palette.VERMILLION,
+        "x": [s["pvo2_exercise_curve_mmhg"] for s in venous], "y": [100.0 * float(s["svo2"]) for s in venous],
+    })
+    return svg_chart(
+        series, title="Haemoglobin O2 dissociation curves (model estimate)", x_label="PO2 (mmHg)",
+        y_label="O2 saturation (%)", x_range=(0.0, 120.0), y_range=(0.0, 100.0),
+    )
+
+
+def fick_table(oxygen: Mapping[str, Any]) -> str:
+    """Fick against the curve, one row per state (mixed venous blood)."""
+    q_words = {"measured": "measured", "stringer1997": "estimate (Stringer 1997)",
+               "resting_typical_avo2": "assumed (typical resting a-vO2)"}
+    rows = []
+    for s in oxygen.get("states") or []:
+        rows.append([
+            STATE_LABEL.get(s["name"], s["name"]), _num(s.get("vo2_ml_min"), 0), _num(s.get("q_l_min"), 1),
+            q_words.get(str(s.get("q_method")), str(s.get("q_method"))), _num(s.get("avo2_ml_dl"), 1),
+            _num(s.get("pao2_mmhg"), 0), _num(100.0 * float(s["sao2"]), 1), _num(s.get("cao2_ml_dl"), 1),
+            _num(s.get("cvo2_ml_dl"), 1), _num(None if s.get("svo2") is None else 100.0 * float(s["svo2"]), 1),
+            _num(s.get("pvo2_exercise_curve_mmhg"), 1),
+        ])
+    return _table(
+        ["State", "VO2 (mL/min)", "Q (L/min)", "Q source", "a-vO2 (mL/dL)", "PaO2 (mmHg)", "SaO2 (%)", "CaO2 (mL/dL)",
+         "CvO2, mixed venous (mL/dL)", "SvO2, mixed venous (%)", "PvO2, mixed venous (mmHg)"],
+        rows,
+    )
+
+
+def cascade_svg(pathway: Mapping[str, Any]) -> str:
+    """The convective and diffusive lines of the cascade and their meeting point."""
+    lines = pathway["lines"]
+    top = 1.6 * float(lines["meeting_vo2_ml_min"])
+    x_max = float(max(lines["pvo2_mmhg"]))
+    series = [
+        {"name": "Convective (Fick) line: 10 Q (CaO2 - CvO2)", "x": lines["pvo2_mmhg"], "y": lines["convective_vo2_ml_min"],
+         "colour": palette.BLUE},
+        {"name": "Diffusive line: DmO2 x mean capillary PO2 (Bohr integration)", "x": lines["pvo2_mmhg"],
+         "y": lines["diffusive_vo2_ml_min"], "colour": palette.VERMILLION, "dash": "8 4"},
+        {"name": f"Meeting point: VO2 {float(lines['meeting_vo2_ml_min']):.0f} mL/min", "mode": "points",
+         "x": [lines["meeting_pvo2_mmhg"]], "y": [lines["meeting_vo2_ml_min"]], "colour": palette.BLACK},
+    ]
+    return svg_chart(
+        series, title="O2 cascade at peak (model estimate, Wagner 1996)", x_label="Venous PO2, mixed venous (mmHg)",
+        y_label="VO2 (mL/min)", x_range=(0.0, max(10.0, x_max)), y_range=(0.0, top),
+    )
+
+
+def what_if_table(pathway: Mapping[str, Any]) -> str:
+    rows = [
+        [str(w["scenario"]), _num(w["vo2_peak_ml_min"], 0), f"{float(w['change_pct']):+.1f}", str(w["note"])]
+        for w in pathway.get("what_if") or []
+    ]
+    return _table(["Scenario", "Predicted VO2peak (mL/min, estimate)", "Change (%)", "What changes"], rows)
+
+
+def _peak_table(pathway: Mapping[str, Any]) -> str:
+    p = pathway["peak"]
+    q = "measured" if not pathway.get("q_estimated") else "estimate"
+    rows = [
+        ["Alveolar PO2 (mmHg)", _num(p["pao2_alveolar_mmhg"], 1)],
+        ["Arterial PO2 (mmHg)", _num(p["pao2_mmhg"], 1)],
+        ["SaO2 (%)", _num(100.0 * float(p["sao2"]), 1)],
+        ["CaO2 (mL/dL)", _num(p["cao2_ml_dl"], 1)],
+        [f"Cardiac output (L/min, {q})", _num(pathway["q_l_min"], 1)],
+        ["O2 delivery (mL/min)", _num(p["o2_delivery_ml_min"], 0)],
+        ["Mixed venous PO2 (mmHg)", _num(p["pvo2_mmhg"], 1)],
+        ["Mixed venous SvO2 (%)", _num(100.0 * float(p["svo2"]), 1)],
+        ["Mean capillary PO2 (mmHg)", _num(p["mean_capillary_po2_mmhg"], 1)],
+        ["Muscle O2 diffusing capacity DmO2 (mL/min/mmHg)", _num(pathway["dmo2_ml_min_mmhg"], 0)],
+    ]
+    return _table(["At peak (model estimate)", "Value"], rows)
+
+
+def _co2_table(pathway: Mapping[str, Any]) -> str:
+    rows = [
+        [STATE_LABEL.get(c["state"], c["state"]), _num(c["avco2_ml_dl"], 2), _num(c["dissolved_ml_dl"], 2),
+         _num(c["carbamino_ml_dl"], 2), _num(c["bicarbonate_ml_dl"], 2), _num(c["haldane_ml_dl"], 2)]
+        for c in pathway.get("co2") or []
+    ]
+    return _table(["State", "a-v CO2 (mL/dL)", "Dissolved", "Carbamino", "Bicarbonate", "Haldane part"], rows)
+
+
+def _pathway_json(oxygen: Mapping[str, Any]) -> tuple[dict[str, Any] | None, tuple[str, ...]]:
+    from analysis.errors import TidemarkError
+    from analysis.oxygen.pathway import comparison_from_json, oxygen_pathway
+
+    try:
+        record, notes = oxygen_pathway(comparison_from_json(dict(oxygen)))
+    except (TidemarkError, KeyError, TypeError, ValueError) as exc:
+        return None, (f"Oxygen cascade not made: {exc}",)
+    return (None if record is None else record.to_json_dict()), notes
+
+
+def oxygen_appendix_html(oxygen: Mapping[str, Any] | None, *, pathway: Mapping[str, Any] | None = None) -> str:
+    """The oxygen appendix as one ``<section>`` (empty string when the test has no oxygen comparison).
+
+    Parameters
+    ----------
+    oxygen : mapping or None
+        The result's ``oxygen`` part (per-state comparison JSON).
+    pathway : mapping, optional
+        The result's ``oxygen_cascade`` part; built from ``oxygen`` when left out.
+    """
+    if not oxygen or not oxygen.get("states"):
+        return ""
+    notes: tuple[str, ...] = ()
+    if pathway is None:
+        pathway, notes = _pathway_json(oxygen)
+    parts = [
+        '<section class="oxygen-appendix">',
+        "<h2>Appendix: oxygen path (model estimates)</h2>",
+        f'<p class="caution">{_e(APPENDIX_CAUTION)}</p>',
+        "<h3>Dissociation curves</h3>",
+        curves_svg(oxygen),
+        "<p>Filled markers: arterial blood; open markers: mixed venous blood implied by the Fick principle on each "
+        "state's curve. Estimates.</p>",
+        "<h3>Fick against the curve</h3>",
+        fick_table(oxygen),
+    ]
+    if pathway:
+        parts += [
+            "<h3>The O2 cascade at peak</h3>",
+            cascade_svg(pathway),
+            f"<p>{_e(pathway.get('caution'))}</p>",
+            _peak_table(pathway),
+            "<h3>What if</h3>",
+            what_if_table(pathway),
+            f"<p>{_e(pathway.get('limiting'))}</p>",
+            "<p>Assumptions of the model:</p><ul>"
+            + "".join(f"<li>{_e(a)}</li>" for a in pathway.get("assumptions") or [])
+            + "</ul>",
+        ]
+        if pathway.get("co2"):
+            parts += ["<h3>CO2 side (estimate)</h3>", _co2_table(pathway)]
+        hv = pathway.get("hyperventilation") or {}
+        if hv.get("note"):
+            parts.append(f"<p>Resting hyperventilation: {_e(hv['note'])}</p>")
+        notes = tuple(pathway.get("notes") or ()) + tuple(n for n in notes if n not in (pathway.get("notes") or ()))
+    if notes:
+        parts.append("<ul class=\"oxygen-notes\">" + "".join(f"<li>{_e(n)}</li>" for n in notes) + "</ul>")
+    parts.append("</section>")
+    return "\n".join(parts)
