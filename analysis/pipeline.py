@@ -25,6 +25,7 @@ from analysis.indices.summary import compute_indices, indices_methods
 from analysis.indices.threshold_values import threshold_values
 from analysis.maximality import MAXIMALITY_METHOD, assess_maximality, peak_values
 from analysis.oxygen.from_test import oxygen_from_test
+from analysis.oxygen.pathway import CASCADE_METHOD, oxygen_pathway
 from analysis.phases import PHASES_METHOD, label_phases
 from analysis.reference import mode_code
 from analysis.reference.summary import reference_methods, reference_values
@@ -236,7 +237,10 @@ def analyze_session(
         else (None, (), {})
     )
 
-    notes = [*phases.notes, *index_notes, *reference_notes, *oxygen_notes]
+    oxygen_cascade, cascade_notes = oxygen_pathway(oxygen) if oxygen is not None else (None, ())
+    if oxygen_cascade is not None:
+        oxygen_methods = {**oxygen_methods, "oxygen_cascade": CASCADE_METHOD}
+    notes = [*phases.notes, *index_notes, *reference_notes, *oxygen_notes, *(f"Oxygen: {n}" for n in cascade_notes)]
     if body_mass is None:
         notes.append("Body mass unknown: per-kg values, METs and predicted values are not given.")
     notes.extend(cleaned.notes)
@@ -275,6 +279,7 @@ def analyze_session(
         breaths=BreathCounts(total=len(breaths), used=len(cleaned.breaths), excluded=len(cleaned.excluded)),
         excluded_breaths=cleaned.excluded,
         oxygen=oxygen,
+        oxygen_cascade=oxygen_cascade,
         warnings=tuple(dict.fromkeys(notes)),
         methods=methods,
         settings=settings,

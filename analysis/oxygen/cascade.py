@@ -29,7 +29,7 @@ inside the A-a gradient.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field, replace
+from dataclasses import dataclass, replace
 from functools import lru_cache
 
 import numpy as np
@@ -41,6 +41,7 @@ from analysis.oxygen.content import DEFAULT_HUEFNER_ML_G, O2_SOLUBILITY_ML_DL_MM
 from analysis.oxygen.curves import STANDARD, _Curve, _curve, p50
 from analysis.oxygen.dyshaemoglobin import _functional_saturation_at, co_share, curve_table
 from analysis.oxygen.states import StateConditions
+from analysis.records import described
 
 #: Words shown beside every cascade figure.
 CASCADE_CAUTION = (
@@ -72,39 +73,41 @@ class CascadeInputs:
     PaO2 + offset (0 when SaO2 comes from the curve itself).
     """
 
-    q_l_min: float
-    hb_g_dl: float
-    pb_mmhg: float
-    fio2: float
-    paco2_mmhg: float
-    rer: float
-    aa_gradient_mmhg: float
-    arterial: StateConditions
-    capillary: StateConditions
-    model: str
-    huefner_ml_g: float = DEFAULT_HUEFNER_ML_G
-    cohb_fraction: float = 0.0
-    methb_fraction: float = 0.0
-    p50_standard_mmhg: float | None = None
-    sao2_offset: float = 0.0
-    ph2o_mmhg: float = PH2O_37C_MMHG
+    q_l_min: float = described(unit="L/min", description="peak cardiac output")
+    hb_g_dl: float = described(unit="g/dL", description="haemoglobin")
+    pb_mmhg: float = described(unit="mmHg", description="barometric pressure")
+    fio2: float = described(description="inspired O2 fraction")
+    paco2_mmhg: float = described(unit="mmHg", description="arterial PCO2 at peak (alveolar gas equation)")
+    rer: float = described(description="respiratory exchange ratio at peak")
+    aa_gradient_mmhg: float = described(unit="mmHg", description="alveolar-arterial PO2 gradient at peak")
+    arterial: StateConditions = described(description="arterial blood conditions at peak")
+    capillary: StateConditions = described(description="muscle capillary (= peak mixed venous) blood conditions")
+    model: str = described(description="dissociation-curve model")
+    huefner_ml_g: float = described(unit="mL/g", description="O2 bound per g Hb", default=DEFAULT_HUEFNER_ML_G)
+    cohb_fraction: float = described(description="carboxyhaemoglobin, fraction of total Hb", default=0.0)
+    methb_fraction: float = described(description="methaemoglobin, fraction of total Hb", default=0.0)
+    p50_standard_mmhg: float | None = described(
+        unit="mmHg", description="the person's standard P50 (null: the curve model's own)", default=None
+    )
+    sao2_offset: float = described(description="measured SaO2 minus the curve's value at baseline", default=0.0)
+    ph2o_mmhg: float = described(unit="mmHg", description="water vapour pressure", default=PH2O_37C_MMHG)
 
 
 @dataclass(frozen=True)
 class CascadePoint:
     """One solution of the cascade (the meeting point of the two lines)."""
 
-    vo2_ml_min: float
-    pao2_alveolar_mmhg: float
-    pao2_mmhg: float
-    sao2: float
-    cao2_ml_dl: float
-    cvo2_ml_dl: float
-    pvo2_mmhg: float
-    svo2: float
-    mean_capillary_po2_mmhg: float
-    o2_delivery_ml_min: float
-    extraction_fraction: float
+    vo2_ml_min: float = described(unit="mL/min", description="VO2 where the convective and diffusive lines meet")
+    pao2_alveolar_mmhg: float = described(unit="mmHg", description="alveolar PO2 (alveolar gas equation)")
+    pao2_mmhg: float = described(unit="mmHg", description="arterial PO2")
+    sao2: float = described(description="functional arterial O2 saturation")
+    cao2_ml_dl: float = described(unit="mL/dL", description="arterial O2 content")
+    cvo2_ml_dl: float = described(unit="mL/dL", description="mixed venous O2 content")
+    pvo2_mmhg: float = described(unit="mmHg", description="mixed venous PO2")
+    svo2: float = described(description="mixed venous functional O2 saturation")
+    mean_capillary_po2_mmhg: float = described(unit="mmHg", description="mean muscle capillary PO2 (VO2 / DmO2)")
+    o2_delivery_ml_min: float = described(unit="mL/min", description="O2 delivery, 10 Q CaO2")
+    extraction_fraction: float = described(description="VO2 / O2 delivery")
 
 
 @dataclass(frozen=True)
@@ -410,22 +413,24 @@ def oxygen_cascade(
     )
 
 
+#: What the chart's lines are, in words.
+LINE_LABELS: dict[str, str] = {
+    "convective": "Convective (Fick): 10 Q (CaO2 - CvO2)",
+    "diffusive": "Diffusive: DmO2 x mean capillary PO2 (Bohr integration)",
+    "venous_blood": CASCADE_VENOUS_BLOOD,
+}
+
+
 @dataclass(frozen=True)
 class CascadeLines:
     """The two lines of the cascade chart against venous PO2 (mmHg), VO2 in mL/min."""
 
-    pvo2_mmhg: tuple[float, ...]
-    convective_vo2_ml_min: tuple[float, ...]
-    diffusive_vo2_ml_min: tuple[float, ...]
-    meeting_pvo2_mmhg: float
-    meeting_vo2_ml_min: float
-    labels: dict[str, str] = field(
-        default_factory=lambda: {
-            "convective": "Convective (Fick): 10 Q (CaO2 - CvO2)",
-            "diffusive": "Diffusive: DmO2 x mean capillary PO2 (Bohr integration)",
-            "venous_blood": CASCADE_VENOUS_BLOOD,
-        }
-    )
+    pvo2_mmhg: tuple[float, ...] = described(unit="mmHg", description="venous (mixed venous) PO2 of each point")
+    convective_vo2_ml_min: tuple[float, ...] = described(unit="mL/min", description="convective (Fick) line")
+    diffusive_vo2_ml_min: tuple[float, ...] = described(unit="mL/min", description="diffusive line (Bohr integration)")
+    meeting_pvo2_mmhg: float = described(unit="mmHg", description="venous PO2 where the lines meet")
+    meeting_vo2_ml_min: float = described(unit="mL/min", description="VO2 where the lines meet")
+    labels: dict[str, str] = described(description="what each line is, in words", default_factory=lambda: dict(LINE_LABELS))
 
 
 def cascade_lines(inputs: CascadeInputs, *, dmo2_ml_min_mmhg: float, n: int = 60) -> CascadeLines:

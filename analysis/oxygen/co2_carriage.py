@@ -38,6 +38,7 @@ from analysis.oxygen.haldane import (
     haldane_extra_co2_ml_dl,
 )
 from analysis.oxygen.states import StateConditions
+from analysis.records import derived, described
 
 #: Carbamino CO2 per haem, mol/mol, on oxy- and deoxyhaemoglobin (from memory).
 CARBAMINO_OXY_MOL_MOL = 0.11
@@ -51,18 +52,35 @@ ML_DL_PER_MMOL_L = 2.226
 class Co2Carriage:
     """Venous-minus-arterial CO2 content at one state and how it is carried (mL CO2/dL blood)."""
 
-    state: str
-    pco2_arterial_mmhg: float
-    pco2_venous_mmhg: float
-    avco2_ml_dl: float
-    dissolved_ml_dl: float
-    carbamino_ml_dl: float
-    bicarbonate_ml_dl: float
-    haldane_ml_dl: float
+    state: str = described(description="rest, vt1, vt2 or peak")
+    pco2_arterial_mmhg: float = described(unit="mmHg", description="arterial PCO2")
+    pco2_venous_mmhg: float = described(unit="mmHg", description="mixed venous PCO2")
+    avco2_ml_dl: float = described(unit="mL/dL", description="venous minus arterial whole-blood CO2 content",
+                                   method="Douglas et al. 1988")
+    dissolved_ml_dl: float = described(unit="mL/dL", description="part carried dissolved")
+    carbamino_ml_dl: float = described(unit="mL/dL", description="part carried as carbamino CO2 on haemoglobin")
+    bicarbonate_ml_dl: float = described(unit="mL/dL", description="part carried as bicarbonate")
+    haldane_ml_dl: float = described(unit="mL/dL", description="Haldane part: extra CO2 held because venous blood is desaturated")
 
     def fraction(self, part: str) -> float:
         """Share of the a-v CO2 difference carried as ``part`` (dissolved, carbamino, bicarbonate, haldane)."""
-        return float(getattr(self, f"{part}_ml_dl")) / self.avco2_ml_dl
+        return float(getattr(self, f"{part}_ml_dl")) / self.avco2_ml_dl if self.avco2_ml_dl else float("nan")
+
+    @derived(description="share of the a-v CO2 difference carried dissolved")
+    def dissolved_fraction(self) -> float:
+        return self.fraction("dissolved")
+
+    @derived(description="share carried as carbamino CO2")
+    def carbamino_fraction(self) -> float:
+        return self.fraction("carbamino")
+
+    @derived(description="share carried as bicarbonate")
+    def bicarbonate_fraction(self) -> float:
+        return self.fraction("bicarbonate")
+
+    @derived(description="Haldane part as a share of the a-v CO2 difference")
+    def haldane_fraction(self) -> float:
+        return self.fraction("haldane")
 
 
 def carbamino_ml_dl(*, hb_g_dl: float, so2: float) -> float:
@@ -147,23 +165,23 @@ def co2_carriage(
 class Hyperventilation:
     """Resting hyperventilation: PaCO2 lowered at a constant base excess (acute respiratory alkalosis)."""
 
-    paco2_before_mmhg: float
-    paco2_after_mmhg: float
-    ph_before: float
-    ph_after: float
-    pao2_alveolar_before_mmhg: float
-    pao2_alveolar_after_mmhg: float
-    pao2_before_mmhg: float
-    pao2_after_mmhg: float
-    sao2_before: float
-    sao2_after: float
-    cao2_before_ml_dl: float
-    cao2_after_ml_dl: float
-    p50_before_mmhg: float
-    p50_after_mmhg: float
-    note: str
+    paco2_before_mmhg: float = described(unit="mmHg", description="arterial PCO2 before")
+    paco2_after_mmhg: float = described(unit="mmHg", description="arterial PCO2 while hyperventilating")
+    ph_before: float = described(description="arterial pH before (Van Slyke equation)")
+    ph_after: float = described(description="arterial pH while hyperventilating")
+    pao2_alveolar_before_mmhg: float = described(unit="mmHg", description="alveolar PO2 before")
+    pao2_alveolar_after_mmhg: float = described(unit="mmHg", description="alveolar PO2 while hyperventilating")
+    pao2_before_mmhg: float = described(unit="mmHg", description="arterial PO2 before")
+    pao2_after_mmhg: float = described(unit="mmHg", description="arterial PO2 while hyperventilating")
+    sao2_before: float = described(description="arterial O2 saturation before")
+    sao2_after: float = described(description="arterial O2 saturation while hyperventilating")
+    cao2_before_ml_dl: float = described(unit="mL/dL", description="arterial O2 content before")
+    cao2_after_ml_dl: float = described(unit="mL/dL", description="arterial O2 content while hyperventilating")
+    p50_before_mmhg: float = described(unit="mmHg", description="P50 before")
+    p50_after_mmhg: float = described(unit="mmHg", description="P50 while hyperventilating (left shift)")
+    note: str = described(description="the scenario in words")
 
-    @property
+    @derived(unit="mL/dL", description="gain in arterial O2 content")
     def cao2_gain_ml_dl(self) -> float:
         return self.cao2_after_ml_dl - self.cao2_before_ml_dl
 

@@ -58,7 +58,8 @@ def _functional_saturation_at(po2: float, curve: _Curve, share: float, scale: fl
         return _saturation_at(p, curve)
 
     def gap(y: float) -> float:
-        return y - _saturation_at(p * y / (y - share), curve)
+        # effective pressure PO2 y / (y - f), capped where every curve is saturated (keeps it finite)
+        return y - _saturation_at(min(p * y / (y - share), 1e5), curve)
 
     lo = share + 1e-12
     if gap(1.0) <= 0.0:

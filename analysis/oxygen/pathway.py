@@ -8,8 +8,7 @@ are not a diagnosis. Tidemark is not a medical device.
 
 from __future__ import annotations
 
-import math
-from dataclasses import asdict, dataclass, replace
+from dataclasses import dataclass, replace
 from typing import Any
 
 from analysis.errors import InvalidParameter
@@ -29,6 +28,14 @@ from analysis.oxygen.cascade import (
 from analysis.oxygen.co2_carriage import Co2Carriage, Hyperventilation, co2_carriage, resting_hyperventilation
 from analysis.oxygen.comparison import OxygenComparison, StateOxygen
 from analysis.oxygen.scenarios import Sensitivity, WhatIf, limiting_statement, sensitivity, what_if
+from analysis.records import derived, described
+
+#: Reader-facing method sentence of the cascade (shown under ``methods``).
+CASCADE_METHOD = (
+    "O2 cascade at peak (Wagner 1996): convective Fick line and diffusive line (muscle O2 diffusing capacity by "
+    "Bohr integration along the capillary, mitochondrial PO2 about 0) solved backward from the measured VO2peak, "
+    "then forward for each what-if scenario; model estimates"
+)
 
 #: Peak R used when the comparison has none (common practice: at or above 1.10 at a maximal test).
 DEFAULT_PEAK_RER = 1.10
@@ -64,24 +71,33 @@ class OxygenPathway:
         The convective and diffusive lines of the person's cascade (for charts).
     """
 
-    vo2_peak_ml_min: float
-    q_l_min: float
-    q_estimated: bool
-    q_method: str
-    dmo2_ml_min_mmhg: float
-    peak: CascadePoint
-    inputs: CascadeInputs
-    what_if: tuple[WhatIf, ...]
-    sensitivity: tuple[Sensitivity, ...]
-    limiting: str
-    co2: tuple[Co2Carriage, ...]
-    hyperventilation: Hyperventilation
-    lines: CascadeLines
-    venous_blood: str = CASCADE_VENOUS_BLOOD
-    assumptions: tuple[str, ...] = ASSUMPTIONS
-    notes: tuple[str, ...] = ()
-    caution: str = CASCADE_CAUTION
-    estimate: bool = True
+    vo2_peak_ml_min: float = described(unit="mL/min", description="measured VO2peak (the baseline of the scenarios)")
+    q_l_min: float = described(unit="L/min", description="peak cardiac output used")
+    q_estimated: bool = described(description="true when peak cardiac output is an estimate")
+    q_method: str = described(
+        description="measured, stringer1997 or stringer1997_raised_to_venous_floor",
+        method="Stringer et al. 1997 when not measured",
+    )
+    dmo2_ml_min_mmhg: float = described(
+        unit="mL/min/mmHg", description="muscle O2 diffusing capacity that reproduces the measured VO2peak",
+        method="Bohr integration along the muscle capillary, mitochondrial PO2 0 (Wagner 1996)",
+    )
+    peak: CascadePoint = described(description="the cascade at peak: alveolar to mixed venous values")
+    inputs: CascadeInputs = described(description="what the forward model takes (for the reviewer's own scenarios)")
+    what_if: tuple[WhatIf, ...] = described(description="what-if scenarios solved forward on the person's cascade")
+    sensitivity: tuple[Sensitivity, ...] = described(description="VO2peak after a 10 % rise in each determinant, ranked")
+    limiting: str = described(description="which step limits most, worded 'consistent with'")
+    co2: tuple[Co2Carriage, ...] = described(description="a-v CO2 difference and how it is carried, per state")
+    hyperventilation: Hyperventilation = described(description="resting hyperventilation, PaCO2 40 -> 30 mmHg")
+    lines: CascadeLines = described(description="convective and diffusive lines of the person's cascade")
+    venous_blood: str = described(description="which blood the venous figures describe", default=CASCADE_VENOUS_BLOOD)
+    assumptions: tuple[str, ...] = described(description="the model's assumptions", default=ASSUMPTIONS)
+    notes: tuple[str, ...] = described(description="notes on this cascade", default=())
+    caution: str = described(description="the caution shown beside every figure", default=CASCADE_CAUTION)
+
+    @derived(description="always true: every value here is a model estimate")
+    def estimate(self) -> bool:
+        return True
 
     @property
     def cascade(self) -> OxygenCascade:
@@ -96,28 +112,6 @@ class OxygenPathway:
             if row.scenario == code:
                 return row
         raise KeyError(code)
-
-    def to_json_dict(self) -> dict[str, Any]:
-        """JSON-safe dictionary (NaN/inf become ``None``); ``what_if`` a list of plain rows."""
-        data = asdict(self)
-        for row, c in zip(data["co2"], self.co2, strict=True):
-            for part in ("dissolved", "carbamino", "bicarbonate", "haldane"):
-                row[f"{part}_fraction"] = c.fraction(part) if c.avco2_ml_dl else None
-        data["hyperventilation"]["cao2_gain_ml_dl"] = self.hyperventilation.cao2_gain_ml_dl
-        return _json_safe(data)
-
-
-def _json_safe(obj: Any) -> Any:
-    if isinstance(obj, dict):
-        return {str(k): _json_safe(v) for k, v in obj.items()}
-    if isinstance(obj, (list, tuple)):
-        return [_json_safe(v) for v in obj]
-    if isinstance(obj, bool) or obj is None or isinstance(obj, str):
-        return obj
-    if isinstance(obj, (int, float)):
-        value = float(obj)
-        return value if math.isfinite(value) else None
-    return str(obj)
 
 
 def _total_saturation(sat: float, free: float) -> float:
@@ -224,9 +218,9 @@ def oxygen_pathway(
 class Exploration:
     """A reviewer's scenario: the solution and the two lines of the cascade chart."""
 
-    point: CascadePoint
-    lines: CascadeLines
-    change_pct: float
+    point: CascadePoint = described(description="the solution of the scenario")
+    lines: CascadeLines = described(description="the scenario's convective and diffusive lines")
+    change_pct: float = described(unit="%", description="change from the measured VO2peak")
 
 
 def explore(

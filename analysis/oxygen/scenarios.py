@@ -33,6 +33,7 @@ from dataclasses import dataclass, replace
 
 from analysis.oxygen.alveolar import barometric_pressure_mmhg
 from analysis.oxygen.cascade import CascadeInputs, OxygenCascade, solve_forward
+from analysis.records import described
 
 #: Stable scenario codes, in the order they are reported.
 SCENARIO_CODES: tuple[str, ...] = (
@@ -62,21 +63,21 @@ DETERMINANTS: dict[str, str] = {
 class WhatIf:
     """One scenario: predicted VO2peak (mL/min) and its change from the measured VO2peak (%)."""
 
-    scenario: str
-    vo2_peak_ml_min: float
-    change_pct: float
-    note: str
+    scenario: str = described(description="stable scenario code (baseline, hb_minus_10pct, ...)")
+    vo2_peak_ml_min: float = described(unit="mL/min", description="predicted VO2peak (model estimate)")
+    change_pct: float = described(unit="%", description="change from the measured VO2peak")
+    note: str = described(description="what the scenario changes and keeps, in words")
 
 
 @dataclass(frozen=True)
 class Sensitivity:
     """VO2peak after a 10 % rise in one determinant, and its rank (1 = largest change)."""
 
-    determinant: str
-    label: str
-    vo2_peak_ml_min: float
-    change_pct: float
-    rank: int
+    determinant: str = described(description="ventilation, hb, q, dmo2 or p50")
+    label: str = described(description="the determinant in words")
+    vo2_peak_ml_min: float = described(unit="mL/min", description="predicted VO2peak after a 10 % rise (model estimate)")
+    change_pct: float = described(unit="%", description="change from the measured VO2peak")
+    rank: int = described(description="1 = the largest change")
 
 
 def _forward(cascade: OxygenCascade, inputs: CascadeInputs, dmo2: float | None = None) -> float:

@@ -13,6 +13,7 @@ from analysis.indices.summary import Indices
 from analysis.indices.threshold_values import ThresholdResult
 from analysis.maximality import MaximalityReport
 from analysis.oxygen.comparison import OxygenComparison
+from analysis.oxygen.pathway import OxygenPathway
 from analysis.phases import PhaseSpan
 from analysis.records import derived, described
 from analysis.reference.summary import Classes, ReferenceValues
@@ -72,6 +73,11 @@ class TestResults:
     warnings: tuple[str, ...] = described(description="data-quality and missing-value notes of every step, in plain words")
     methods: dict[str, str] = described(description="result key -> the method behind it, in plain words")
     settings: AnalysisSettings = described(description="the settings used (re-running with them gives the same results)")
+    oxygen_cascade: OxygenPathway | None = described(
+        default=None,
+        description="O2 cascade at peak with what-if scenarios, sensitivities and the CO2 side (null without the "
+        "oxygen comparison; model estimates; docs/oxygen.md)",
+    )
     averaged: pd.DataFrame | None = described(default=None, json=False)
 
     @derived(unit="mL/min", description="VO2peak: `peak.vo2_ml_min`")

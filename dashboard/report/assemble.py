@@ -144,7 +144,7 @@ def appendix_sections(results: Any, session: Session) -> list[tuple[str, str]]:
     the report is built without it.
     """
     try:
-        from dashboard.report import oxygen_appendix  # type: ignore[attr-defined]
+        from dashboard.report import oxygen_appendix
     except ImportError:
         return []
     try:

@@ -2,7 +2,7 @@
 peak and the what-if table, as one HTML section with static SVG charts (no script).
 
 :func:`oxygen_appendix_html` reads the result's ``oxygen`` part (the per-state comparison) and,
-when present, its ``oxygen_cascade`` part (:meth:`analysis.oxygen.OxygenPathway.to_json_dict`);
+when present, its ``oxygen_cascade`` part (an :class:`analysis.oxygen.OxygenPathway` in JSON form);
 without the latter it builds the pathway from the comparison with
 :func:`analysis.oxygen.pathway.oxygen_pathway`. Every data-derived text is escaped. Every figure
 is labelled a model estimate; interpretation is "consistent with", never a diagnosis.
@@ -250,15 +250,45 @@ def _co2_table(pathway: Mapping[str, Any]) -> str:
 def _pathway_json(oxygen: Mapping[str, Any]) -> tuple[dict[str, Any] | None, tuple[str, ...]]:
     from analysis.errors import TidemarkError
     from analysis.oxygen.pathway import comparison_from_json, oxygen_pathway
+    from analysis.records import to_json
 
     try:
         record, notes = oxygen_pathway(comparison_from_json(dict(oxygen)))
     except (TidemarkError, KeyError, TypeError, ValueError) as exc:
         return None, (f"Oxygen cascade not made: {exc}",)
-    return (None if record is None else record.to_json_dict()), notes
+    return (None if record is None else to_json(record)), notes
 
 
-def oxygen_appendix_html(oxygen: Mapping[str, Any] | None, *, pathway: Mapping[str, Any] | None = None) -> str:
+def appendix_html(results: Any, session: Any = None) -> str | None:
+    """The oxygen appendix body for the report (``dashboard.report.assemble.appendix_sections``).
+
+    Parameters
+    ----------
+    results : TestResults or mapping
+        The typed result (its ``oxygen`` and ``oxygen_cascade`` parts) or its JSON form.
+    session : Session, optional
+        Not needed (kept for the report's calling convention).
+
+    Returns
+    -------
+    str or None
+        The section's HTML without its heading (the report adds "Oxygen path (estimates)"), or
+        ``None`` when the test has no oxygen comparison.
+    """
+    from analysis.records import to_json
+
+    if isinstance(results, Mapping):
+        oxygen, cascade = results.get("oxygen"), results.get("oxygen_cascade")
+    else:
+        oxygen = None if getattr(results, "oxygen", None) is None else to_json(results.oxygen)
+        cascade = None if getattr(results, "oxygen_cascade", None) is None else to_json(results.oxygen_cascade)
+    body = oxygen_appendix_html(oxygen, pathway=cascade, heading=False)
+    return body or None
+
+
+def oxygen_appendix_html(
+    oxygen: Mapping[str, Any] | None, *, pathway: Mapping[str, Any] | None = None, heading: bool = True
+) -> str:
     """The oxygen appendix as one ``<section>`` (empty string when the test has no oxygen comparison).
 
     Parameters
@@ -267,6 +297,8 @@ def oxygen_appendix_html(oxygen: Mapping[str, Any] | None, *, pathway: Mapping[s
         The result's ``oxygen`` part (per-state comparison JSON).
     pathway : mapping, optional
         The result's ``oxygen_cascade`` part; built from ``oxygen`` when left out.
+    heading : bool, default True
+        Start with the appendix heading (the report's own frame adds one when False).
     """
     if not oxygen or not oxygen.get("states"):
         return ""
@@ -275,7 +307,7 @@ def oxygen_appendix_html(oxygen: Mapping[str, Any] | None, *, pathway: Mapping[s
         pathway, notes = _pathway_json(oxygen)
     parts = [
         '<section class="oxygen-appendix">',
-        "<h2>Appendix: oxygen path (model estimates)</h2>",
+        "<h2>Appendix: oxygen path (model estimates)</h2>" if heading else "",
         f'<p class="caution">{_e(APPENDIX_CAUTION)}</p>',
         "<h3>Dissociation curves</h3>",
         curves_svg(oxygen),
@@ -306,4 +338,4 @@ def oxygen_appendix_html(oxygen: Mapping[str, Any] | None, *, pathway: Mapping[s
     if notes:
         parts.append("<ul class=\"oxygen-notes\">" + "".join(f"<li>{_e(n)}</li>" for n in notes) + "</ul>")
     parts.append("</section>")
-    return "\n".join(parts)
+    return "\n".join(p for p in parts if p)

@@ -375,7 +375,7 @@ def render() -> None:
     for note in grouped_notes(oxygen):
         st.info(note)
 
-    what_if_panel(oxygen)
+    what_if_panel(results_json)
 
     start = _start_conditions(settings)
     start_oxygen = oxygen_settings(
@@ -409,11 +409,16 @@ def what_if_key(name: str) -> str:
     return f"ox_wi_{name}"
 
 
-def pathway_for(oxygen: dict[str, Any]) -> tuple[Any, tuple[str, ...]]:
-    """The O2 pathway record of the comparison shown (from :mod:`analysis.oxygen.pathway`)."""
-    from analysis.oxygen.pathway import comparison_from_json, oxygen_pathway
+def pathway_for(results_json: dict[str, Any]) -> tuple[Any, tuple[str, ...]]:
+    """The O2 pathway record of the result shown (its ``oxygen_cascade`` part, read by the codec)."""
+    from analysis.oxygen.pathway import OxygenPathway
+    from analysis.records import from_json
 
-    return oxygen_pathway(comparison_from_json(oxygen))
+    cascade = results_json.get("oxygen_cascade")
+    if not cascade:
+        notes = [w for w in results_json.get("warnings") or [] if "cascade" in str(w).lower()]
+        return None, tuple(notes) or ("The O2 cascade could not be solved for this test.",)
+    return from_json(OxygenPathway, cascade), ()
 
 
 def what_if_table(pathway: Any) -> pd.DataFrame:
@@ -459,7 +464,7 @@ def co2_table(pathway: Any) -> pd.DataFrame:
     return pd.DataFrame(rows)
 
 
-def what_if_panel(oxygen: dict[str, Any]) -> None:
+def what_if_panel(results_json: dict[str, Any]) -> None:
     """The O2 cascade at peak with sliders for Hb, COHb, P50, altitude or PB, FIO2, Q and DmO2."""
     from analysis.oxygen.alveolar import barometric_pressure_mmhg
     from analysis.oxygen.cascade import cascade_lines
@@ -468,7 +473,7 @@ def what_if_panel(oxygen: dict[str, Any]) -> None:
     from dashboard.charts.oxygen_cascade import cascade_figure
 
     st.subheader("What if: the O2 cascade at peak")
-    pathway, notes = pathway_for(oxygen)
+    pathway, notes = pathway_for(results_json)
     if pathway is None:
         st.info(" ".join(notes))
         return

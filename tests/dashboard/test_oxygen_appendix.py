@@ -8,6 +8,7 @@ import pytest
 
 from analysis.oxygen.scenarios import SCENARIO_CODES
 from analysis.pipeline import analyze_session
+from analysis.records import to_json
 from analysis.simulation import DEMO_TESTS, simulate_session
 from dashboard.report.oxygen_appendix import APPENDIX_CAUTION, oxygen_appendix_html, svg_chart
 
@@ -15,7 +16,7 @@ from dashboard.report.oxygen_appendix import APPENDIX_CAUTION, oxygen_appendix_h
 @pytest.fixture(scope="module")
 def oxygen():
     demo = DEMO_TESTS[0]
-    return analyze_session(simulate_session(demo.profile, demo.protocol, seed=demo.seed)).to_json_dict()["oxygen"]
+    return to_json(analyze_session(simulate_session(demo.profile, demo.protocol, seed=demo.seed)))["oxygen"]
 
 
 def test_appendix_holds_every_part(oxygen):
@@ -69,3 +70,16 @@ def test_svg_chart_escapes_and_scales():
     # the line spans the plot area: from the lower left to the upper right corner
     assert 'points="64.0,98.0 184.0,34.0"' in svg
     assert APPENDIX_CAUTION.startswith("Every figure")
+
+
+def test_report_hook_reads_the_typed_result():
+    # dashboard.report.assemble calls appendix_html(results, session) with the typed result.
+    from dashboard.report.oxygen_appendix import appendix_html
+
+    demo = DEMO_TESTS[0]
+    results = analyze_session(simulate_session(demo.profile, demo.protocol, seed=demo.seed))
+    body = appendix_html(results, None)
+    assert body is not None and "<h2>" not in body and "baseline" in body
+    assert appendix_html(to_json(results)) == body  # the JSON form gives the same section
+    bare = {"oxygen": None, "oxygen_cascade": None}
+    assert appendix_html(bare) is None

@@ -188,6 +188,7 @@ def run_cascade(args: argparse.Namespace) -> int:
     from analysis.errors import AnalysisError
     from analysis.oxygen.pathway import oxygen_pathway
     from analysis.pipeline import analyze_session
+    from analysis.records import to_json
     from analysis.settings import AnalysisSettings, MetadataOverrides
     from tidemark.commands.analyze import load_session
 
@@ -210,11 +211,15 @@ def run_cascade(args: argparse.Namespace) -> int:
         raise AnalysisError(
             f"no oxygen comparison for '{args.file}': the test needs haemoglobin (give --hb G_DL). {reasons}".strip()
         )
-    pathway, notes = oxygen_pathway(results.oxygen, p50_standard_mmhg=args.p50)
+    notes: tuple[str, ...] = ()
+    pathway = results.oxygen_cascade
+    if args.p50 is not None:  # the person's measured standard P50: the cascade again with it
+        pathway, notes = oxygen_pathway(results.oxygen, p50_standard_mmhg=args.p50)
     if pathway is None:
-        raise AnalysisError(f"{args.file}: " + " ".join(notes))
+        why = notes or tuple(w for w in results.warnings if "cascade" in w.lower())
+        raise AnalysisError(f"{args.file}: " + (" ".join(why) or "the O2 cascade could not be solved"))
     if args.json:
-        json.dump({"source": str(args.file), "oxygen_cascade": pathway.to_json_dict()}, sys.stdout, indent=2)
+        json.dump({"source": str(args.file), "oxygen_cascade": to_json(pathway)}, sys.stdout, indent=2)
         sys.stdout.write("\n")
         return 0
     print(cascade_text(pathway, source=str(args.file)))

@@ -14,13 +14,17 @@ from analysis.simulation import DEMO_TESTS, simulate_session
 
 def _pathway(demo):
     session = simulate_session(demo.profile, demo.protocol, seed=demo.seed)
-    ox = to_json(analyze_session(session))["oxygen"]
+    results = analyze_session(session)
+    ox = to_json(results)["oxygen"]
     comparison = comparison_from_json(ox)
     # the comparison made again from its JSON is the pipeline's own (same peak values)
     peak = comparison.state("peak")
     assert peak.cao2_ml_dl == pytest.approx(ox["states"][-1]["cao2_ml_dl"], rel=1e-12)
     assert peak.pao2_mmhg == pytest.approx(ox["states"][-1]["pao2_mmhg"], rel=1e-12)
-    return oxygen_pathway(comparison)
+    record, notes = oxygen_pathway(comparison)
+    # the pipeline's own step gave the same record (one result, one value)
+    assert results.oxygen_cascade == record
+    return record, notes
 
 
 @pytest.fixture(scope="module", params=range(len(DEMO_TESTS)), ids=[d.stem for d in DEMO_TESTS])
@@ -49,7 +53,7 @@ def test_directions_on_every_demo_test(pathway):
 
 
 def test_json_carries_the_what_if_rows(pathway):
-    data = pathway.to_json_dict()
+    data = to_json(pathway)
     rows = data["what_if"]
     assert [r["scenario"] for r in rows] == list(SCENARIO_CODES)
     assert set(rows[0]) == {"scenario", "vo2_peak_ml_min", "change_pct", "note"}
