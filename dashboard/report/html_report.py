@@ -354,7 +354,7 @@ METHOD_NAMES: dict[str, str] = {
     "fat_max": "Peak fat oxidation", "maximality": "Maximality", "predicted_vo2max": "Predicted VO2max",
     "hr_max_predicted": "Predicted maximal heart rate", "weber_class": "Weber class",
     "ventilatory_class": "Ventilatory class", "zones": "Training zones", "vt1": "VT1", "vt2": "VT2 / RCP",
-    "oxygen": "Oxygen path", "oxygen_spo2": "Arterial saturation",
+    "oxygen": "Oxygen path", "oxygen_spo2": "Arterial saturation", "oxygen_cascade": "O2 cascade at peak",
 }
 #: Internal references in method texts and what the reader sees instead.
 _CODE_REFERENCE = re.compile(r"\s*\((?:analysis|dashboard|store)\.[\w.]+\)")
