@@ -86,7 +86,9 @@ def test_report_file_matches_analysis(demo_store, first_test):
     assert vo2 in doc
     assert "not a medical device" in doc
     assert "Gas exchange over time" in doc and "V-slope: VCO2 against VO2" in doc
-    assert "Ventilatory equivalents" in doc and doc.count("<svg") == 4
+    # four charts on the first page, two in the oxygen appendix (dissociation curves, O2 cascade)
+    assert "Ventilatory equivalents" in doc and doc.count("<svg") == 6
+    assert "O2 cascade at peak" in doc and "hb_minus_10pct" in doc
     assert "<script" not in doc and len(doc.encode("utf-8")) < 500_000
     assert re.search(r"<(script|link)[^>]+(src|href)=[\"']https?://", doc) is None
     files = export_files(results, session, stem="x")
