@@ -70,6 +70,8 @@ def extended_truth(
     if t_vt2_s is not None:
         to_vt2 = ex & (t <= t_vt2_s)
         out["truth_ve_vco2_slope_to_vt2"] = _ols_slope(vco2_l[to_vt2], ve[to_vt2])
+    last_30 = (t >= t_end_s - 30.0) & (t <= t_end_s)
+    out["truth_vo2peak_30s_ml_min"] = float(np.mean(vo2[last_30]))
     ve_peak = float(np.interp(t_end_s, t, ve))
     out["truth_ve_peak_l_min"] = ve_peak
     petco2 = plain[C.PETCO2_MMHG]

@@ -39,6 +39,9 @@ class CaseTruth:
         Noise-free VO2 at the end of exercise, mL/min (equals VO2max in maximal tests).
     ve_vco2_slope : float
         Planted VE/VCO2 slope below VT2 (model parameter).
+    vo2peak_30s_ml_min : float or None
+        Mean noise-free VO2 over the last 30 s of exercise (what a 30-s peak average of perfect
+        data gives; below ``vo2peak_ml_min`` on a ramp).
     ve_vco2_slope_to_vt2 : float or None
         Least-squares VE/VCO2 slope of the noise-free series from exercise start to VT2.
     ve_vco2_slope_whole_exercise : float or None
@@ -62,6 +65,7 @@ class CaseTruth:
     vo2max_ml_min: float
     vo2peak_ml_min: float
     ve_vco2_slope: float
+    vo2peak_30s_ml_min: float | None = None
     ve_vco2_slope_to_vt2: float | None = None
     ve_vco2_slope_whole_exercise: float | None = None
     oscillation_present: bool = False

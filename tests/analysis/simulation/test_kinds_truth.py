@@ -244,3 +244,13 @@ def test_no_simulated_breath_is_past_the_reject_limits(kind):
                 assert np.all(values >= spec.reject_below) and np.all(values <= spec.reject_above), (seed, name)
         assert np.all(b[C.VCO2_ML_MIN] / b[C.VO2_ML_MIN] <= C.RER_REJECT_ABOVE)
         assert np.all(np.diff(b[C.T_S]) > 0)
+
+
+@pytest.mark.parametrize("kind", ["athlete", "short_ramp", "lung_limited"])
+def test_thirty_second_peak_truth_is_the_mean_of_the_last_half_minute(kind):
+    course, s = _course(kind, 0, step_s=0.5, oscillation=False)
+    end = s.meta["truth_exercise_end_t_s"]
+    last = course[(course[C.T_S] >= end - 30) & (course[C.T_S] <= end)]
+    truth = CaseTruth.from_meta(s.meta)
+    assert truth.vo2peak_30s_ml_min == pytest.approx(float(last[C.VO2_ML_MIN].mean()), rel=0.002)
+    assert truth.vo2peak_30s_ml_min <= truth.vo2peak_ml_min
