@@ -92,10 +92,19 @@ class ResultReading:
 
 def read_result(result: Any) -> ResultReading:
     """Read thresholds, intervals, VO2peak and the VE/VCO2 slope from an analysis result
-    (the typed record or its JSON dictionary)."""
+    (the typed record or its JSON dictionary).
+
+    Thresholds come from ``result.vt1`` / ``result.vt2`` (the values in use, with
+    ``ci90_vo2_ml_min`` and ``determinable``), else from ``result.thresholds.vt1`` / ``.vt2``;
+    VO2peak from ``result.peak.vo2_ml_min``; the slope from ``result.indices.ve_vco2_slope`` and
+    ``ve_vco2_slope_span``; flags from ``result.flags`` (or ``result.interpretation.flags``).
+    """
     picks: dict[str, Any] = {}
     for kind in ("vt1", "vt2"):
-        pick = _get(result, "thresholds", kind)
+        # the result's own threshold record (typed result), else the detection report's pick
+        pick = _get(result, kind)
+        if _get(pick, "vo2_ml_min") is None:
+            pick = _get(result, "thresholds", kind)
         if pick is not None and _get(pick, "determinable") is False:
             pick = None
         picks[kind] = pick
