@@ -55,6 +55,22 @@ class ModelExtras:
         the CO2 that is not breathed off raises PETCO2 (CO2 retention).
     ve_knee_fraction : float
         Where the VE ceiling starts to bend the VE response, fraction of the ceiling.
+
+    Notes
+    -----
+    The equations are in ``docs/simulation.md`` ("The extra physiology"). The sizes chosen by
+    the kinds are plausible values from memory, not fitted to any data set.
+
+    References
+    ----------
+    Gaesser GA, Poole DC (1996). The slow component of oxygen uptake kinetics in humans. Exerc
+    Sport Sci Rev 24:35-71 (the extra O2 cost above the threshold, from memory).
+    Wasserman K, Hansen JE, Sue DY, et al. Principles of Exercise Testing and Interpretation
+    (textbook; CO2 kinetics slower than O2 kinetics because of the CO2 stores, from memory).
+    Leite JJ et al. (2003) J Am Coll Cardiol 41:2175-2181; Corrà U et al. (2006) Circulation
+    (oscillatory ventilation: period and duration, from memory).
+    ATS/ACCP Statement on cardiopulmonary exercise testing (2003). Am J Respir Crit Care Med
+    167:211-277 (MVV, breathing reserve and CO2 retention in ventilatory limitation).
     """
 
     slow_component_fraction: float = 0.0
