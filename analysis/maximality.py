@@ -17,12 +17,14 @@ from analysis import columns as C
 from analysis.errors import AnalysisError, require
 from analysis.indices._arrays import present_values
 from analysis.indices.point_values import PointValues, point_values
+from analysis.indices.windows import window_means
 from analysis.records import described
 
 #: Reader-facing method sentence (shown under ``methods``).
 MAXIMALITY_METHOD = (
-    "VO2 plateau below the set rise over the last minute despite more work (Taylor et al. 1955); "
-    "secondary criteria RER ≥ 1.10 and HR ≥ 90 % of Tanaka-predicted (common practice)"
+    "VO2 plateau below the set rise over the last minute despite more work (Taylor et al. 1955), "
+    "else peak RER ≥ 1.10 (Balady et al. 2010); peak HR against the Tanaka prediction is shown as "
+    "information only, and not applied under beta-blockade (Brawner et al. 2004 prediction shown)"
 )
 
 #: Plateau threshold: VO2 rising less than this over the last minute despite more work
@@ -43,7 +45,7 @@ Verdict = Literal["vo2max_plateau", "vo2peak_criteria_met", "vo2peak_submaximal"
 #: Reader-facing wording of each verdict.
 VERDICT_LABELS: dict[str, str] = {
     "vo2max_plateau": "VO2max (plateau reached)",
-    "vo2peak_criteria_met": "VO2peak (no plateau; secondary criteria met)",
+    "vo2peak_criteria_met": "VO2peak (no plateau; peak RER criterion met)",
     "vo2peak_submaximal": "VO2peak (effort may have been submaximal)",
 }
 
@@ -54,23 +56,6 @@ def _need_exercise(exercise_avg: pd.DataFrame) -> None:
             "No exercise data with VO2 were found, so peak values cannot be read — check the "
             "phase labels or the work-rate / speed column of the file."
         )
-
-
-def window_means(t_s: np.ndarray, values: np.ndarray, *, window_s: float) -> np.ndarray:
-    """Centred time-window means: for each row, the mean of the finite values within
-    ``window_s / 2`` seconds of it (``window_s`` 0 returns ``values`` unchanged)."""
-    t = np.asarray(t_s, dtype=float)
-    v = np.asarray(values, dtype=float)
-    if window_s <= 0 or v.size == 0:
-        return v.copy()
-    ok = np.isfinite(v)
-    csum = np.concatenate(([0.0], np.cumsum(np.where(ok, v, 0.0))))
-    ccnt = np.concatenate(([0], np.cumsum(ok)))
-    lo = np.searchsorted(t, t - window_s / 2.0, side="left")
-    hi = np.searchsorted(t, t + window_s / 2.0, side="right")
-    n = ccnt[hi] - ccnt[lo]
-    with np.errstate(invalid="ignore", divide="ignore"):
-        return np.where(n > 0, (csum[hi] - csum[lo]) / np.maximum(n, 1), np.nan)
 
 
 def peak_values(
@@ -98,20 +83,20 @@ def peak_values(
     Notes
     -----
     The maximum of many noisy short averages is biased upwards; a 30-s window for peak values
-    is common practice. The window is centred, so at the end of exercise it holds only the
-    last half-window of data.
+    is common practice. Only windows lying wholly inside exercise count (``window_means`` with
+    ``inside=True``): a window centred on the last row would hold only half its width.
     """
     _need_exercise(exercise_avg)
     require(math.isfinite(window_s) and 0 <= window_s <= 120, "window_s", "a window of 0-120 s", window_s)
     t = exercise_avg[C.T_S].to_numpy(dtype=float)
-    vo2w = window_means(t, exercise_avg[C.VO2_ML_MIN].to_numpy(dtype=float), window_s=window_s)
+    vo2w = window_means(t, exercise_avg[C.VO2_ML_MIN].to_numpy(dtype=float), window_s=window_s, inside=True)
     if not np.isfinite(vo2w).any():
         raise AnalysisError("No exercise VO2 could be averaged for the peak — check the VO2 column.")
     pos = int(np.nanargmax(vo2w))
     idx = exercise_avg.index[pos]
     vo2_peak = float(vo2w[pos])
     point = point_values(exercise_avg, idx, vo2_peak_ml_min=vo2_peak, body_mass_kg=body_mass_kg)
-    vco2w = window_means(t, exercise_avg[C.VCO2_ML_MIN].to_numpy(dtype=float), window_s=window_s)[pos]
+    vco2w = window_means(t, exercise_avg[C.VCO2_ML_MIN].to_numpy(dtype=float), window_s=window_s, inside=True)[pos]
     return replace(
         point,
         vo2_ml_min=vo2_peak,
@@ -124,13 +109,14 @@ def peak_values(
 def peak_rer(exercise_avg: pd.DataFrame, *, window_s: float = DEFAULT_PEAK_WINDOW_S) -> float | None:
     """Highest RER (window mean of VCO2 / window mean of VO2) during exercise, or ``None``.
 
-    Uses the same centred ``window_s`` as :func:`peak_values` (common practice).
+    Uses the same centred ``window_s`` as :func:`peak_values`, windows wholly inside exercise
+    (common practice).
     """
     if len(exercise_avg) == 0:
         return None
     t = exercise_avg[C.T_S].to_numpy(dtype=float)
-    vo2 = window_means(t, exercise_avg[C.VO2_ML_MIN].to_numpy(dtype=float), window_s=window_s)
-    vco2 = window_means(t, exercise_avg[C.VCO2_ML_MIN].to_numpy(dtype=float), window_s=window_s)
+    vo2 = window_means(t, exercise_avg[C.VO2_ML_MIN].to_numpy(dtype=float), window_s=window_s, inside=True)
+    vco2 = window_means(t, exercise_avg[C.VCO2_ML_MIN].to_numpy(dtype=float), window_s=window_s, inside=True)
     with np.errstate(invalid="ignore", divide="ignore"):
         rer = np.where(vo2 > 0, vco2 / vo2, np.nan)
     return float(np.nanmax(rer)) if np.isfinite(rer).any() else None
@@ -335,7 +321,19 @@ class MaximalityReport:
     hr_max_predicted_bpm: float | None = described(default=None, unit="beats/min", description="predicted maximal heart rate (Tanaka)")
     hr_pct_predicted: float | None = described(default=None, unit="%", description="`hr_peak_bpm` as % of `hr_max_predicted_bpm`")
     hr_criterion_met: bool | None = described(
-        default=None, description="`hr_pct_predicted` at least 90 % (null without heart rate or age)"
+        default=None,
+        description="`hr_pct_predicted` at least 90 % (information only, it does not decide the verdict; null "
+        "without heart rate or age, or when the criterion does not apply)",
+    )
+    beta_blocker: bool | None = described(
+        default=None, description="metadata `beta_blocker` (null when not recorded)"
+    )
+    hr_criterion_applies: bool = described(
+        default=True, description="false under beta-blockade: age-predicted heart rate does not apply"
+    )
+    hr_max_beta_blocker_bpm: float | None = described(
+        default=None, unit="beats/min", description="predicted maximal heart rate on a beta-blocker, 164 - 0.72·age "
+        "(given when `beta_blocker` is true and age is known)", method="Brawner et al. 2004, from memory",
     )
 
 
@@ -343,6 +341,7 @@ def assess_maximality(
     exercise_avg: pd.DataFrame,
     *,
     age_y: float | None,
+    beta_blocker: bool | None = None,
     plateau_threshold_ml_min: float = DEFAULT_PLATEAU_ML_MIN,
     rer_min: float = DEFAULT_RER_MIN,
     hr_pct_min: float = DEFAULT_HR_PCT_MIN,
@@ -355,13 +354,17 @@ def assess_maximality(
     exercise_avg : pandas.DataFrame
         Averaged exercise rows.
     age_y : float or None, keyword-only
-        Age, years, for the predicted maximal heart rate (Tanaka).
+        Age, years, for the predicted maximal heart rate (Tanaka; Brawner under beta-blockade).
+    beta_blocker : bool or None, keyword-only
+        The test's metadata ``beta_blocker`` (``None`` when not recorded). When true, the heart
+        rate is not compared with an age prediction (the criterion does not apply).
     plateau_threshold_ml_min : float, keyword-only
         See :func:`plateau_test` (default 150 mL/min).
     rer_min : float, keyword-only
-        Secondary criterion: peak RER at least this (default 1.10).
+        Peak RER at least this counts as maximal effort (default 1.10).
     hr_pct_min : float, keyword-only
-        Secondary criterion: peak HR at least this % of the predicted maximum (default 90).
+        Peak HR at least this % of the predicted maximum is reported as met (information only;
+        default 90).
     peak_window_s : float, keyword-only
         Window for the peak RER (see :func:`peak_rer`, default 30 s).
 
@@ -372,19 +375,24 @@ def assess_maximality(
     Notes
     -----
     1. A plateau (:func:`plateau_test`) gives ``"vo2max_plateau"``.
-    2. Otherwise, peak RER ≥ ``rer_min`` and — when HR and age are known — peak HR ≥
-       ``hr_pct_min`` % of predicted give ``"vo2peak_criteria_met"``.
-    3. Otherwise ``"vo2peak_submaximal"``; every unmet criterion is named in ``reasons``.
+    2. Otherwise peak RER ≥ ``rer_min`` gives ``"vo2peak_criteria_met"``.
+    3. Otherwise ``"vo2peak_submaximal"``, with the reason.
 
-    The secondary criteria are common practice; they say nothing about why a test stopped, and
-    the judgement of effort belongs to the supervising staff.
+    Peak RER ≥ 1.10 is the best non-invasive sign of maximal effort; age-predicted maximal heart
+    rate scatters widely and is unreliable under beta-blockade and in heart failure (Balady et
+    al. 2010), so the heart rate is reported beside the verdict as information and never
+    decides it. The judgement of effort belongs to the supervising staff.
 
     References
     ----------
     Taylor HL, Buskirk E, Henschel A 1955 (plateau, from memory).
+    Balady GJ, Arena R, Sietsema K, et al. Clinician's guide to cardiopulmonary exercise testing
+    in adults: a scientific statement from the American Heart Association. Circulation
+    2010;122:191-225 (RER ≥ 1.10; from memory).
     Tanaka H, Monahan KD, Seals DR 2001 (predicted maximal heart rate, from memory).
+    Brawner CA, et al. Am Heart J 2004;148:910-914 (maximal heart rate under beta-blockade, from memory).
     """
-    from analysis.reference.heart_rate import tanaka_hr_max_bpm
+    from analysis.reference.heart_rate import brawner_hr_max_bpm, tanaka_hr_max_bpm
 
     require(math.isfinite(rer_min) and 0.8 <= rer_min <= 1.5, "rer_min", "an RER between 0.8 and 1.5", rer_min)
     require(math.isfinite(hr_pct_min) and 50 <= hr_pct_min <= 100, "hr_pct_min", "a percentage 50-100", hr_pct_min)
@@ -396,31 +404,47 @@ def assess_maximality(
     if rer is None:
         reasons.append("RER could not be read.")
     elif rer_ok:
-        reasons.append(f"Peak RER {rer:.2f} meets the secondary criterion (at least {rer_min:.2f}).")
+        reasons.append(f"Peak RER {rer:.2f} reaches {rer_min:.2f}: maximal effort by the RER criterion.")
     else:
         shown = f"{rer:.2f}" if round(rer, 2) < rer_min else f"{rer:.3f}"  # 1.097 is not "1.10"
-        reasons.append(f"Peak RER {shown} is below {rer_min:.2f}, the secondary criterion.")
+        reasons.append(f"Peak RER {shown} is below {rer_min:.2f}, the RER criterion of maximal effort.")
 
     hr = peak_hr_bpm(exercise_avg)
+    applies = beta_blocker is not True
     hr_pred = tanaka_hr_max_bpm(age_y=age_y) if age_y is not None else None
+    hr_bb = brawner_hr_max_bpm(age_y=age_y) if age_y is not None and beta_blocker else None
     hr_pct = 100.0 * hr / hr_pred if hr is not None and hr_pred else None
-    hr_ok = None if hr_pct is None else hr_pct >= hr_pct_min
+    hr_ok = None if hr_pct is None or not applies else hr_pct >= hr_pct_min
     if hr is None:
-        reasons.append("No heart rate recorded, so the heart-rate criterion was not applied.")
+        reasons.append("No heart rate recorded (heart rate is information only).")
+    elif not applies:
+        bb = (
+            f"; for reference, {100.0 * hr / hr_bb:.0f} % of the {hr_bb:.0f} beats/min predicted on a beta-blocker "
+            "(Brawner et al. 2004)"
+            if hr_bb
+            else ""
+        )
+        reasons.append(
+            f"Peak HR {hr:.0f} beats/min: the heart-rate criterion does not apply, the test records a beta-blocker{bb}."
+        )
     elif hr_pred is None:
-        reasons.append("Age unknown, so the heart-rate criterion was not applied.")
+        reasons.append(f"Peak HR {hr:.0f} beats/min; age unknown, so no predicted maximum (information only).")
     elif hr_ok:
-        reasons.append(f"Peak HR {hr:.0f} beats/min is {hr_pct:.0f} % of predicted {hr_pred:.0f} (≥ {hr_pct_min:.0f} %).")
+        reasons.append(
+            f"Peak HR {hr:.0f} beats/min is {hr_pct:.0f} % of predicted {hr_pred:.0f} (≥ {hr_pct_min:.0f} %; "
+            "information only)."
+        )
     elif hr_pct is not None:
         pct = f"{hr_pct:.0f}" if round(hr_pct) < hr_pct_min else f"{hr_pct:.1f}"  # 89.7 % is not "90 %"
         reasons.append(
-            f"Peak HR {hr:.0f} beats/min is only {pct} % of predicted {hr_pred:.0f} (< {hr_pct_min:.0f} %); "
-            "this criterion does not apply under beta-blockade or chronotropic incompetence (staff judgement)."
+            f"Peak HR {hr:.0f} beats/min is {pct} % of predicted {hr_pred:.0f} (< {hr_pct_min:.0f} %); information "
+            "only: age-predicted heart rate is unreliable in heart disease and under chronotropic incompetence "
+            "(staff judgement)."
         )
 
     if plateau.plateau:
         verdict: Verdict = "vo2max_plateau"
-    elif rer_ok and hr_ok is not False:
+    elif rer_ok:
         verdict = "vo2peak_criteria_met"
     else:
         verdict = "vo2peak_submaximal"
@@ -435,4 +459,7 @@ def assess_maximality(
         hr_max_predicted_bpm=hr_pred,
         hr_pct_predicted=hr_pct,
         hr_criterion_met=hr_ok,
+        beta_blocker=beta_blocker,
+        hr_criterion_applies=applies,
+        hr_max_beta_blocker_bpm=hr_bb,
     )

@@ -19,7 +19,6 @@ from analysis.breaths import average_breaths
 from analysis.breaths.cleaning import clean_breaths, outliers_method
 from analysis.breaths.derived import with_derived_series
 from analysis.errors import AnalysisError, TidemarkError
-from analysis.indices import point_values
 from analysis.indices._arrays import present_values
 from analysis.indices.summary import compute_indices, indices_methods
 from analysis.indices.threshold_values import threshold_values
@@ -28,6 +27,7 @@ from analysis.oxygen.from_test import oxygen_from_test
 from analysis.oxygen.pathway import CASCADE_METHOD, oxygen_pathway
 from analysis.phases import PHASES_METHOD, label_phases
 from analysis.reference import mode_code
+from analysis.reference.heart_rate import BRAWNER_METHOD
 from analysis.reference.summary import reference_methods, reference_values
 from analysis.results import TestResults
 from analysis.results.session_parts import AveragingUsed, BreathCounts, subject_from_metadata
@@ -210,15 +210,22 @@ def analyze_session(
 
     report = find_thresholds(avg, phases_avg, settings)
     peak = peak_values(ex, body_mass_kg=body_mass, window_s=settings.peak_window_s)
-    vt1 = threshold_values(avg, report.vt1, vo2_peak_ml_min=peak.vo2_ml_min, body_mass_kg=body_mass)
-    vt2 = threshold_values(avg, report.vt2, vo2_peak_ml_min=peak.vo2_ml_min, body_mass_kg=body_mass)
+    vt1, vt2 = (
+        threshold_values(
+            avg, getattr(report, kind), vo2_peak_ml_min=peak.vo2_ml_min, body_mass_kg=body_mass,
+            typed_t_s=ov.t_s if ov else None, typed_vo2_ml_min=ov.vo2_ml_min if ov else None,
+        )
+        for kind, ov in (("vt1", settings.vt1_override), ("vt2", settings.vt2_override))
+    )
+    subject = subject_from_metadata(meta, source_name=session.source_name, mode=mode)
     maximality = assess_maximality(
-        ex, age_y=meta.get("age_y"), plateau_threshold_ml_min=settings.plateau_threshold_ml_min,
+        ex, age_y=meta.get("age_y"), beta_blocker=subject.beta_blocker,
+        plateau_threshold_ml_min=settings.plateau_threshold_ml_min,
         peak_window_s=settings.peak_window_s,
     )
-    vt2_point = point_values(avg, vt2.index, vo2_peak_ml_min=None, body_mass_kg=None) if vt2 is not None else None
     indices, index_notes = compute_indices(
-        avg, phases_avg=phases_avg, peak=peak, vt1_hr_bpm=vt1.hr_bpm if vt1 else None, vt2=vt2_point,
+        avg, phases_avg=phases_avg, peak=peak, vt1_hr_bpm=vt1.hr_bpm if vt1 else None,
+        vt2_t_s=vt2.t_s if vt2 else None, vt2_hr_bpm=vt2.hr_bpm if vt2 else None,
         hr_peak_bpm=maximality.hr_peak_bpm, mode=mode, body_mass_kg=body_mass,
         mvv_l_min=meta.get("mvv_l_min"), fev1_l=meta.get("fev1_l"),
     )
@@ -243,18 +250,28 @@ def analyze_session(
     notes = [*phases.notes, *index_notes, *reference_notes, *oxygen_notes, *(f"Oxygen: {n}" for n in cascade_notes)]
     if body_mass is None:
         notes.append("Body mass unknown: per-kg values, METs and predicted values are not given.")
+    if meta.get("beta_blocker") not in (None, "") and subject.beta_blocker is None:
+        notes.append(
+            f"Metadata beta_blocker '{meta['beta_blocker']}' is not yes or no, so it was not used; "
+            "set it in the subject details (yes or no)."
+        )
     notes.extend(cleaned.notes)
     notes.extend(r if r[:1].isupper() else r[:1].upper() + r[1:] for r in report.reasons if "not found" in r)
     if not zones.zones:
         notes.append(zones.note)
 
-    window = f"centred {settings.peak_window_s:g}-s mean of the" if settings.peak_window_s else "value of the"
+    window = (
+        f"centred {settings.peak_window_s:g}-s mean (windows wholly inside exercise) of the"
+        if settings.peak_window_s
+        else "value of the"
+    )
     methods = {
         "outliers": outliers_method(window_breaths=settings.outlier_window_breaths, k_sd=settings.outlier_k_sd),
         "phases": PHASES_METHOD,
         **indices_methods(indices, vt2_found=report.vt2 is not None),
         "maximality": MAXIMALITY_METHOD,
         **reference_methods(),
+        **({"hr_max_beta_blocker": BRAWNER_METHOD} if maximality.hr_max_beta_blocker_bpm is not None else {}),
         "zones": ZONES_METHOD,
         "averaging": settings.averaging.label,
         "vo2_peak": f"highest {window} averaged exercise VO2 (common practice: 30-s peak values)",
@@ -264,7 +281,7 @@ def analyze_session(
         **oxygen_methods,
     }
     return TestResults(
-        subject=subject_from_metadata(meta, source_name=session.source_name, mode=mode),
+        subject=subject,
         vt1=vt1,
         vt2=vt2,
         peak=peak,

@@ -59,19 +59,15 @@ METRICS: dict[str, Metric] = {
         Metric("vo2_peak_ml_min", "VO2peak", "mL/min", ("vo2_peak_ml_min",)),
         Metric("vo2_peak_ml_kg_min", "VO2peak per kg", "mL/kg/min", ("vo2_peak_ml_kg_min",)),
         Metric("vt1_vo2_ml_min", "VO2 at VT1", "mL/min", ("vt1", "vo2_ml_min")),
-        Metric("ve_vco2_slope", "VE/VCO2 slope", "", ("ve_vco2_slope",)),
-        Metric("o2_pulse_peak_ml_beat", "Peak O2 pulse", "mL/beat", ("o2_pulse_peak_ml_beat",)),
+        # One fixed span per metric: the whole-exercise slope exists for every test, while the
+        # headline slope's span (to VT2, or the whole exercise without a VT2) can differ
+        # between two tests of the same person.
+        Metric(
+            "ve_vco2_slope_whole_exercise", "VE/VCO2 slope (whole exercise)", "",
+            ("indices", "ve_vco2_slope_whole_exercise"),
+        ),
+        Metric("o2_pulse_peak_ml_beat", "Peak O2 pulse", "mL/beat", ("indices", "o2_pulse_peak_ml_beat")),
     )
-}
-
-#: Other places the same number may sit in the results JSON (older or extended layouts).
-_ALTERNATIVE_PATHS: dict[str, tuple[tuple[str, ...], ...]] = {
-    "o2_pulse_peak_ml_beat": (
-        ("indices", "o2_pulse_peak_ml_beat"),
-        ("o2_pulse", "peak_ml_beat"),
-        ("indices", "o2_pulse", "peak_ml_beat"),
-    ),
-    "ve_vco2_slope": (("indices", "ve_vco2_slope"),),
 }
 
 #: Typical test-retest error per followed result (% of the value). All recalled figures are
@@ -94,8 +90,8 @@ TYPICAL_ERRORS: dict[str, TypicalError] = {
         "about 6-10 % for VO2 at the first ventilatory threshold, larger than for VO2peak "
         "because the pick itself varies (from memory)",
     ),
-    "ve_vco2_slope": TypicalError(
-        "ve_vco2_slope",
+    "ve_vco2_slope_whole_exercise": TypicalError(
+        "ve_vco2_slope_whole_exercise",
         5.0,
         "about 4-6 % for the VE/VCO2 slope on repeated tests (from memory)",
     ),
@@ -133,21 +129,16 @@ def metric_value(results: Mapping[str, Any], metric: str) -> float | None:
         The value, or ``None`` when the test has no such result (e.g. no VT1 found).
     """
     require(metric in METRICS, "metric", f"one of {sorted(METRICS)}", metric)
-    for path in (METRICS[metric].path, *_ALTERNATIVE_PATHS.get(metric, ())):
-        node: Any = results
-        for key in path:
-            node = node.get(key) if isinstance(node, Mapping) else None
-            if node is None:
-                break
-        if node is None or isinstance(node, (bool, Mapping, list)):
-            continue
-        try:
-            value = float(node)
-        except (TypeError, ValueError):
-            continue
-        if math.isfinite(value):
-            return value
-    return None
+    node: Any = results
+    for key in METRICS[metric].path:
+        node = node.get(key) if isinstance(node, Mapping) else None
+    if node is None or isinstance(node, (bool, Mapping, list)):
+        return None
+    try:
+        value = float(node)
+    except (TypeError, ValueError):
+        return None
+    return value if math.isfinite(value) else None
 
 
 @dataclass(frozen=True)

@@ -89,7 +89,8 @@ class MetadataOverrides:
     """Values that replace (or fill in) the session's metadata for this analysis only.
 
     ``None`` means "use the session's own value". ``sex`` is ``'male'`` or ``'female'``;
-    ``mode`` is ``'cycle'`` or ``'treadmill'``.
+    ``mode`` is ``'cycle'`` or ``'treadmill'``; ``beta_blocker`` is ``'yes'`` or ``'no'`` (the
+    heart-rate criterion of maximality does not apply under beta-blockade).
     """
 
     body_mass_kg: float | None = None
@@ -100,6 +101,7 @@ class MetadataOverrides:
     mvv_l_min: float | None = None
     fev1_l: float | None = None
     mode: str | None = None
+    beta_blocker: str | None = None
 
     def __post_init__(self) -> None:
         from analysis.reference import mode_code
@@ -113,6 +115,8 @@ class MetadataOverrides:
             object.__setattr__(self, "sex", reference_sex(self.sex))
         if self.mode is not None:
             object.__setattr__(self, "mode", mode_code(self.mode))
+        if self.beta_blocker is not None:
+            object.__setattr__(self, "beta_blocker", yes_no(self.beta_blocker, name="beta_blocker"))
 
     def to_dict(self) -> dict[str, Any]:
         """Only the values that are set."""
@@ -131,6 +135,29 @@ class MetadataOverrides:
         out = dict(meta)
         out.update(self.to_dict())
         return out
+
+
+#: Spellings read as yes / no for a metadata flag such as ``beta_blocker`` (common practice).
+YES_WORDS = frozenset({"yes", "y", "true", "1", "ja", "oui", "si", "sí"})
+NO_WORDS = frozenset({"no", "n", "false", "0", "nein", "non"})
+
+
+def yes_no(value: Any, *, name: str) -> str:
+    """``'yes'`` or ``'no'`` from the usual spellings (also ``True`` / ``False``).
+
+    Raises
+    ------
+    InvalidParameter
+        Any other value, naming the key.
+    """
+    if isinstance(value, bool):
+        return "yes" if value else "no"
+    text = str(value).strip().lower()
+    if text in YES_WORDS:
+        return "yes"
+    if text in NO_WORDS:
+        return "no"
+    raise InvalidParameter(name, "yes or no", value)
 
 
 def _rows(name: str, values: Any) -> tuple[int, ...]:

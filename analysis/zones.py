@@ -3,9 +3,9 @@
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import Protocol
 
 from analysis.errors import InvalidParameter
-from analysis.indices.point_values import PointValues
 from analysis.records import described
 
 #: Reader-facing method sentence (shown under ``methods``).
@@ -56,7 +56,22 @@ class ZoneSet:
     note: str = described(default="", description="how the zones were made, or why fewer than three")
 
 
-def _between(number: int, name: str, description: str, low: PointValues | None, high: PointValues) -> Zone:
+class ZoneBound(Protocol):
+    """What a zone boundary is read from: a threshold's or the peak's values."""
+
+    @property
+    def vo2_ml_min(self) -> float: ...
+    @property
+    def hr_bpm(self) -> float | None: ...
+    @property
+    def work_w(self) -> float | None: ...
+    @property
+    def speed_kmh(self) -> float | None: ...
+    @property
+    def grade_pct(self) -> float | None: ...
+
+
+def _between(number: int, name: str, description: str, low: ZoneBound | None, high: ZoneBound) -> Zone:
     def lo(attr: str) -> float | None:
         return getattr(low, attr) if low is not None else None
 
@@ -77,14 +92,14 @@ def _between(number: int, name: str, description: str, low: PointValues | None, 
     )
 
 
-def training_zones(*, vt1: PointValues | None, vt2: PointValues | None, peak: PointValues) -> ZoneSet:
+def training_zones(*, vt1: ZoneBound | None, vt2: ZoneBound | None, peak: ZoneBound) -> ZoneSet:
     """Training zones from the values read at VT1, VT2 and peak in the averaged data.
 
     Parameters
     ----------
-    vt1, vt2 : PointValues or None, keyword-only
+    vt1, vt2 : ZoneBound or None, keyword-only
         Values at the thresholds (:func:`analysis.indices.point_values`).
-    peak : PointValues, keyword-only
+    peak : ZoneBound, keyword-only
         The top of the test: the pipeline passes the peak HR and the highest load reached
         during exercise (with VO2peak).
 

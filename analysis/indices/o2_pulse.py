@@ -8,7 +8,9 @@ from numpy.typing import ArrayLike, NDArray
 from analysis.indices._arrays import finite_columns, need_points
 
 #: Reader-facing method sentence (shown under ``methods``).
-O2_PULSE_METHOD = "VO2/HR, highest averaged value during exercise (Wasserman et al.)"
+O2_PULSE_METHOD = (
+    "VO2/HR: highest ratio of 30-s means of VO2 and HR within exercise; at peak, VO2peak / peak HR (Wasserman et al.)"
+)
 
 #: Heart rates below this (beats/min) are treated as missing for O2 pulse (common practice:
 #: a dropped or implausible HR signal would give an absurd O2 pulse).

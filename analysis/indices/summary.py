@@ -22,7 +22,7 @@ from analysis.indices.heart_rate import (
     pct_hr_reserve,
 )
 from analysis.indices.mets import METS_METHOD, mets
-from analysis.indices.o2_pulse import O2_PULSE_METHOD, o2_pulse_peak_ml_beat
+from analysis.indices.o2_pulse import MIN_HR_BPM, O2_PULSE_METHOD, o2_pulse_peak_ml_beat
 from analysis.indices.oues import OUES_METHOD, oues
 from analysis.indices.point_values import PointValues
 from analysis.indices.substrate import (
@@ -39,8 +39,13 @@ from analysis.indices.ventilatory_efficiency import (
     ve_vco2_nadir,
     ve_vco2_slope,
 )
+from analysis.indices.windows import window_means
 from analysis.indices.work_efficiency import VO2_WORK_RATE_SLOPE_METHOD, vo2_work_rate_slope
 from analysis.records import described
+
+#: Width of the windows over which the VE/VCO2 nadir and the peak O2 pulse are read, s (common
+#: practice: 30-s values, as for VO2peak).
+INDEX_WINDOW_S = 30.0
 
 #: Values of :attr:`Indices.ve_vco2_slope_span`: which span the headline VE/VCO2 slope covers.
 VE_VCO2_TO_VT2 = "to_vt2"
@@ -83,14 +88,22 @@ class Indices:
     ve_vco2_slope_whole_exercise: float | None = described(
         description="least-squares slope of VE on VCO2 over the whole exercise phase", method="Arena et al. 2007"
     )
-    ve_vco2_nadir: float | None = described(description="lowest averaged VE/VCO2 during exercise", method="Sun et al. 2002, from memory")
+    ve_vco2_nadir: float | None = described(
+        description="lowest VE/VCO2 during exercise, as the ratio of 30-s means of VE and VCO2 (windows wholly "
+        "inside exercise)", method="Sun et al. 2002, from memory",
+    )
     oues: float | None = described(
         unit="mL/min per log10(L/min)", description="slope of VO2 on log10 VE over the whole exercise phase",
         method="Baba et al. 1996, from memory",
     )
     oues_per_kg: float | None = described(unit="mL/min per log10(L/min) per kg", description="`oues` per kg body mass")
-    o2_pulse_peak_ml_beat: float | None = described(unit="mL/beat", description="highest averaged VO2/HR during exercise (HR < 30 ignored)")
-    o2_pulse_at_peak_ml_beat: float | None = described(unit="mL/beat", description="VO2peak / HR at the peak row")
+    o2_pulse_peak_ml_beat: float | None = described(
+        unit="mL/beat", description="highest O2 pulse during exercise, as the ratio of 30-s means of VO2 and HR "
+        "(windows wholly inside exercise; HR < 30 ignored)", method="Wasserman et al., from memory",
+    )
+    o2_pulse_at_peak_ml_beat: float | None = described(
+        unit="mL/beat", description="VO2peak / peak HR", method="Wasserman et al., from memory"
+    )
     vo2_work_rate_slope_ml_min_w: float | None = described(
         unit="mL/min/W",
         description="ΔVO2/ΔWR: least-squares slope of averaged VO2 on work rate over the ramp, first 60 s left out "
@@ -145,7 +158,8 @@ def compute_indices(
     phases_avg: np.ndarray,
     peak: PointValues,
     vt1_hr_bpm: float | None,
-    vt2: PointValues | None,
+    vt2_t_s: float | None,
+    vt2_hr_bpm: float | None,
     hr_peak_bpm: float | None,
     mode: str | None,
     body_mass_kg: float | None,
@@ -164,8 +178,8 @@ def compute_indices(
         Values at the VO2 peak.
     vt1_hr_bpm : float or None, keyword-only
         Heart rate at VT1.
-    vt2 : PointValues or None, keyword-only
-        Time and heart rate at VT2 (``t_s``, ``hr_bpm``); ``None`` without VT2.
+    vt2_t_s, vt2_hr_bpm : float or None, keyword-only
+        Time and heart rate at VT2 (``None`` without VT2).
     hr_peak_bpm : float or None, keyword-only
         Peak heart rate.
     mode : {"cycle", "treadmill"} or None, keyword-only
@@ -189,14 +203,20 @@ def compute_indices(
 
     whole = _safe(ve_vco2_slope, vco2, ve)
     to_vt2 = None
-    if vt2 is not None:
-        below = t <= vt2.t_s
+    if vt2_t_s is not None:
+        below = t <= vt2_t_s
         to_vt2 = _safe(ve_vco2_slope, vco2[below], ve[below])
     # Headline slope: to VT2 when a VT2 was found (the span below respiratory compensation,
     # where VE follows VCO2 alone), else the whole exercise phase (docs/results.md).
     fit, span = (to_vt2, VE_VCO2_TO_VT2) if to_vt2 is not None else (whole, VE_VCO2_WHOLE_EXERCISE)
     ou = _safe(oues, vo2, ve)
     hr = present_values(ex, C.HR_BPM)
+    # Nadir VE/VCO2 and peak O2 pulse from 30-s means (windows wholly inside exercise): the
+    # extreme of single short bins is biased by their noise (common practice, as for VO2peak).
+    ve_w, vco2_w, vo2_w = (window_means(t, x, window_s=INDEX_WINDOW_S, inside=True) for x in (ve, vco2, vo2))
+    hr_w = None
+    if hr is not None:
+        hr_w = window_means(t, np.where(hr >= MIN_HR_BPM, hr, np.nan), window_s=INDEX_WINDOW_S, inside=True)
     work = present_values(ex, C.WORK_W)
     wr = _safe(vo2_work_rate_slope, t, vo2, work) if mode == "cycle" and work is not None else None
 
@@ -225,18 +245,18 @@ def compute_indices(
         ve_vco2_slope_span=span if fit else None,  # type: ignore[arg-type]
         ve_vco2_slope_to_vt2=to_vt2.slope if to_vt2 else None,
         ve_vco2_slope_whole_exercise=whole.slope if whole else None,
-        ve_vco2_nadir=_safe(ve_vco2_nadir, vco2, ve),
+        ve_vco2_nadir=_safe(ve_vco2_nadir, vco2_w, ve_w),
         oues=ou.slope if ou else None,
         oues_per_kg=ou.slope / body_mass_kg if ou and body_mass_kg else None,
-        o2_pulse_peak_ml_beat=_safe(o2_pulse_peak_ml_beat, vo2, hr) if hr is not None else None,
-        o2_pulse_at_peak_ml_beat=peak.vo2_ml_min / peak.hr_bpm if peak.hr_bpm else None,
+        o2_pulse_peak_ml_beat=_safe(o2_pulse_peak_ml_beat, vo2_w, hr_w) if hr_w is not None else None,
+        o2_pulse_at_peak_ml_beat=peak.vo2_ml_min / hr_peak_bpm if hr_peak_bpm else None,
         vo2_work_rate_slope_ml_min_w=wr.slope if wr else None,
         work_peak_w=float(np.nanmax(work)) if mode == "cycle" and work is not None else None,
         mets_peak=float(mets(peak.vo2_ml_kg_min)) if peak.vo2_ml_kg_min else None,
         hr_rest_bpm=hr_rest,
         hr_reserve_bpm=hr_reserve_bpm(hr_max_bpm=hr_peak_bpm, hr_rest_bpm=hr_rest) if reserve else None,  # type: ignore[arg-type]
         pct_hr_reserve_vt1=pct_reserve(vt1_hr_bpm),
-        pct_hr_reserve_vt2=pct_reserve(vt2.hr_bpm if vt2 is not None else None),
+        pct_hr_reserve_vt2=pct_reserve(vt2_hr_bpm),
         hr_recovery_1min_bpm=(
             hr_recovery_1min_bpm(avg[C.T_S].to_numpy(dtype=float), hr_all, t_end_exercise_s=float(t.max()))
             if hr_all is not None and (phases_avg == "recovery").any()
@@ -251,7 +271,7 @@ def compute_indices(
     )
     if indices.ve_vco2_slope is None:
         notes.append("The VE/VCO2 slope could not be computed from the exercise data.")
-    elif vt2 is not None and to_vt2 is None:
+    elif vt2_t_s is not None and to_vt2 is None:
         notes.append(
             "The VE/VCO2 slope to VT2 could not be computed (too few points below VT2): the whole-exercise slope is given."
         )

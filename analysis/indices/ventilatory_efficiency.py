@@ -13,7 +13,9 @@ VE_VCO2_SLOPE_TO_VT2_METHOD = "least-squares slope of VE on VCO2 from exercise s
 VE_VCO2_SLOPE_WHOLE_EXERCISE_METHOD = (
     "least-squares slope of VE on VCO2 over the whole exercise phase (Arena et al. 2007)"
 )
-VE_VCO2_NADIR_METHOD = "lowest averaged VE/VCO2 during exercise (Sun et al. 2002)"
+VE_VCO2_NADIR_METHOD = (
+    "lowest VE/VCO2 during exercise, as the ratio of 30-s means of VE and VCO2 within exercise (Sun et al. 2002)"
+)
 
 
 def ve_vco2_slope(vco2_ml_min: ArrayLike, ve_l_min: ArrayLike) -> LineFit:

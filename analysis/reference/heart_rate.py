@@ -34,3 +34,37 @@ def tanaka_hr_max_bpm(*, age_y: float) -> float:
     """
     age = number_in("age_y", age_y, 5, 110, "years")
     return 208.0 - 0.7 * age
+
+
+#: Reader-facing method sentence of the beta-blocker prediction (shown under ``methods``).
+BRAWNER_METHOD = "164 - 0.72 × age for patients taking a beta-blocker (Brawner et al. 2004)"
+
+
+def brawner_hr_max_bpm(*, age_y: float) -> float:
+    """Predicted maximal heart rate of a patient taking a beta-blocker (Brawner's equation).
+
+    Parameters
+    ----------
+    age_y : float, keyword-only
+        Age, years.
+
+    Returns
+    -------
+    float
+        ``164 - 0.72 * age``, beats/min: an estimate for patients with coronary heart disease
+        on beta-adrenergic blockade, where age-predicted equations for the general population
+        overestimate the maximum.
+
+    References
+    ----------
+    Brawner CA, Ehrman JK, Schairer JR, Cao JJ, Keteyian SJ. Predicting maximum heart rate
+    among patients with coronary heart disease receiving beta-adrenergic blockade therapy.
+    Am Heart J 2004;148:910-914 (equation from memory).
+
+    Examples
+    --------
+    >>> round(brawner_hr_max_bpm(age_y=61), 1)
+    120.1
+    """
+    age = number_in("age_y", age_y, 5, 110, "years")
+    return 164.0 - 0.72 * age

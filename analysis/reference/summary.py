@@ -48,8 +48,16 @@ class Classes:
         method="Weber & Janicki 1985, from memory",
     )
     ventilatory: str | None = described(
-        default=None, description="I < 30.0, II 30.0–35.9, III 36.0–44.9, IV ≥ 45.0, from `ve_vco2_slope_whole_exercise`",
+        default=None, description="I ≤ 29.9, II 30.0–35.9, III 36.0–44.9, IV ≥ 45.0, read from `ventilatory_slope`",
         method="Arena et al. 2007",
+    )
+    ventilatory_slope: float | None = described(
+        default=None, description="the VE/VCO2 slope the ventilatory class was read from (show the class beside it)"
+    )
+    ventilatory_slope_span: str = described(
+        default="whole_exercise",
+        description="span of that slope: `whole_exercise` (Arena et al. 2007 computed the slope from all exercise data, "
+        "from memory)",
     )
 
 
@@ -126,6 +134,8 @@ def reference_values(
             if ve_vco2_slope_whole_exercise is not None
             else None
         ),
+        ventilatory_slope=ve_vco2_slope_whole_exercise,
+        ventilatory_slope_span="whole_exercise",
     )
     return ReferenceValues(friend, pct_vo2, hr_pred, pct_hr), classes, tuple(notes)
 

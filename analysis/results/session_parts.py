@@ -55,15 +55,16 @@ class AveragingUsed:
 
 
 def _flag(value: object) -> bool | None:
-    """``beta_blocker`` metadata as true/false (``yes``/``no``, ``true``/``false``, ``1``/``0``)."""
-    if value is None or isinstance(value, bool):
-        return value
-    text = str(value).strip().lower()
-    if text in ("yes", "y", "true", "1"):
-        return True
-    if text in ("no", "n", "false", "0"):
-        return False
-    return None
+    """``beta_blocker`` metadata as true/false (``None`` when missing or not a yes/no word)."""
+    from analysis.errors import InvalidParameter
+    from analysis.settings import yes_no
+
+    if value is None or (isinstance(value, str) and not value.strip()):
+        return None
+    try:
+        return yes_no(value, name="beta_blocker") == "yes"
+    except InvalidParameter:
+        return None
 
 
 def subject_from_metadata(meta: dict[str, Any], *, source_name: str, mode: str | None) -> Subject:

@@ -197,7 +197,7 @@ CYCLE_SUBMAX = ProtocolSpec(mode="cycle", warmup_w=25, ramp_w_per_min=20, recove
 
 
 class DemoTest(NamedTuple):
-    """One demo session: file stem, who, how, random seed, date and a note."""
+    """One demo session: file stem, who, how, random seed, date, a note and extra metadata."""
 
     stem: str
     profile: SubjectProfile
@@ -205,6 +205,7 @@ class DemoTest(NamedTuple):
     seed: int
     test_date: str
     notes: str
+    meta_extra: tuple[tuple[str, str], ...] = ()
 
 
 def _stem(profile: SubjectProfile, test_date: str, kind: str) -> str:
@@ -223,6 +224,7 @@ DEMO_TESTS: tuple[DemoTest, ...] = (
     DemoTest(
         _stem(REHAB_BASELINE, "2025-11-12", "rehab-baseline"), REHAB_BASELINE, CYCLE_RAMP_10, 3318, "2025-11-12",
         "Cardiac rehabilitation entry test, on beta-blocker. Simulated demo data (fictional person).",
+        (("beta_blocker", "yes"),),
     ),
     DemoTest(
         _stem(REHAB_FOLLOWUP, "2026-02-04", "rehab-week12"), REHAB_FOLLOWUP, CYCLE_RAMP_12, 3319, "2026-02-04",
@@ -261,7 +263,8 @@ def generate_demo(out_dir: str | Path) -> list[Path]:
     paths = []
     for demo in DEMO_TESTS:
         session = simulate_session(
-            demo.profile, demo.protocol, seed=demo.seed, noise=1.0, artifacts=3, test_date=demo.test_date, notes=demo.notes
+            demo.profile, demo.protocol, seed=demo.seed, noise=1.0, artifacts=3, test_date=demo.test_date, notes=demo.notes,
+            meta_extra=dict(demo.meta_extra) or None,
         )
         paths.append(write_session(session, out / f"{demo.stem}.session.csv"))
     return paths

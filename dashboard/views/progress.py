@@ -28,7 +28,7 @@ DIGITS: dict[str, int] = {
     "vo2_peak_ml_min": 0,
     "vo2_peak_ml_kg_min": 1,
     "vt1_vo2_ml_min": 0,
-    "ve_vco2_slope": 1,
+    "ve_vco2_slope_whole_exercise": 1,
     "o2_pulse_peak_ml_beat": 1,
 }
 

@@ -27,8 +27,7 @@ def _results(vo2: float, vt1: float | None, slope: float, o2p: float) -> dict:
         "vo2_peak_ml_min": vo2,
         "vo2_peak_ml_kg_min": vo2 / 70.0,
         "vt1": None if vt1 is None else {"vo2_ml_min": vt1, "time_s": 300.0},
-        "ve_vco2_slope": slope,
-        "o2_pulse_peak_ml_beat": o2p,
+        "indices": {"ve_vco2_slope_whole_exercise": slope, "o2_pulse_peak_ml_beat": o2p},
     }
 
 
@@ -69,12 +68,15 @@ class TestMetricValue:
         assert metric_value(r, "vt1_vo2_ml_min") is None
         assert metric_value({"vt1": {"vo2_ml_min": 1500}}, "vt1_vo2_ml_min") == 1500.0
 
-    def test_alternative_location(self):
+    def test_one_fixed_location(self):
+        # the slope followed is always the whole-exercise one, never the headline (whose span varies)
         assert metric_value({"indices": {"o2_pulse_peak_ml_beat": 15.5}}, "o2_pulse_peak_ml_beat") == 15.5
+        r = {"ve_vco2_slope": 25.0, "indices": {"ve_vco2_slope": 25.0, "ve_vco2_slope_whole_exercise": 28.0}}
+        assert metric_value(r, "ve_vco2_slope_whole_exercise") == 28.0
 
     def test_non_numbers_are_missing(self):
-        assert metric_value({"ve_vco2_slope": "n/a"}, "ve_vco2_slope") is None
-        assert metric_value({"ve_vco2_slope": float("nan")}, "ve_vco2_slope") is None
+        assert metric_value({"indices": {"ve_vco2_slope_whole_exercise": "n/a"}}, "ve_vco2_slope_whole_exercise") is None
+        assert metric_value({"indices": {"ve_vco2_slope_whole_exercise": float("nan")}}, "ve_vco2_slope_whole_exercise") is None
 
     def test_unknown_metric(self):
         with pytest.raises(InvalidParameter, match="metric"):
@@ -105,8 +107,8 @@ class TestProgressTable:
         assert t.loc[2, "change_pct"] == pytest.approx(100 * 500 / 3000)
 
     def test_choosing_another_baseline_changes_changes(self):
-        a = progress_table(TESTS, metrics=["ve_vco2_slope"]).set_index("test_id")
-        b = progress_table(TESTS, baseline_test_id=2, metrics=["ve_vco2_slope"]).set_index("test_id")
+        a = progress_table(TESTS, metrics=["ve_vco2_slope_whole_exercise"]).set_index("test_id")
+        b = progress_table(TESTS, baseline_test_id=2, metrics=["ve_vco2_slope_whole_exercise"]).set_index("test_id")
         assert a.loc[3, "change"] == pytest.approx(27.5 - 28.0)
         assert b.loc[3, "change"] == pytest.approx(27.5 - 26.0)
         assert b.loc[2, "is_baseline"] and not a.loc[2, "is_baseline"]

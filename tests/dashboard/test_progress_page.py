@@ -77,12 +77,12 @@ def test_choosing_another_baseline_changes_the_changes(rehab_store, page_test):
     store, ids = rehab_store
     at = page_test(_progress, **signed_in(store.demo_user()))
     at.run()
-    before = parse_number(_rows(at)[("2026-02-04", "VE/VCO2 slope")]["Change from baseline"])
+    before = parse_number(_rows(at)[("2026-02-04", "VE/VCO2 slope (whole exercise)")]["Change from baseline"])
     at.selectbox(key="progress_baseline").set_value(ids[1]).run()
     assert not at.exception
     rows = _rows(at)
-    assert rows[("2026-02-04", "VE/VCO2 slope")]["Change from baseline"] == "baseline"
-    after = parse_number(rows[("2025-11-12", "VE/VCO2 slope")]["Change from baseline"])
+    assert rows[("2026-02-04", "VE/VCO2 slope (whole exercise)")]["Change from baseline"] == "baseline"
+    after = parse_number(rows[("2025-11-12", "VE/VCO2 slope (whole exercise)")]["Change from baseline"])
     assert after == pytest.approx(-before, abs=0.11)
 
 

@@ -256,10 +256,12 @@ def format_summary(r: dict[str, Any]) -> str:
         "",
         "Indices",
         f"  VE/VCO2 slope    to VT2 {_n(ind.get('ve_vco2_slope_to_vt2'), 1)}, whole exercise "
-        f"{_n(ind.get('ve_vco2_slope_whole_exercise'), 1)} (headline: {spans.get(ind.get('ve_vco2_slope_span'), 'none')}), "
-        f"nadir {_n(ind.get('ve_vco2_nadir'), 1)}  — {m.get('ve_vco2_slope', '')}",
+        f"{_n(ind.get('ve_vco2_slope_whole_exercise'), 1)} (ventilatory class {r['classes'].get('ventilatory') or '–'}) "
+        f"(headline: {spans.get(ind.get('ve_vco2_slope_span'), 'none')}), "
+        f"nadir (30 s) {_n(ind.get('ve_vco2_nadir'), 1)}  — {m.get('ve_vco2_slope', '')}",
         f"  OUES             {_n(r['oues'], 0)}  — {m.get('oues', '')}",
-        f"  O2 pulse peak    {_n(r['o2_pulse_peak_ml_beat'], 1, 'mL/beat')}  — {m.get('o2_pulse', '')}",
+        f"  O2 pulse peak    {_n(r['o2_pulse_peak_ml_beat'], 1, 'mL/beat')} (30 s); at peak (VO2peak/HRpeak) "
+        f"{_n(ind.get('o2_pulse_at_peak_ml_beat'), 1, 'mL/beat')}  — {m.get('o2_pulse', '')}",
         f"  ΔVO2/ΔWR         {_n(ind.get('vo2_work_rate_slope_ml_min_w'), 1, 'mL/min/W')}  — {m.get('vo2_work_rate_slope', '')}",
         f"  METs peak        {_n(ind.get('mets_peak'), 1)}  — {m.get('mets', '')}",
         f"  HR recovery 1min {_n(ind.get('hr_recovery_1min_bpm'), 0, 'beats/min')}  — {m.get('hr_recovery_1min', '')}",
@@ -279,7 +281,8 @@ def format_summary(r: dict[str, Any]) -> str:
         "Reference values (population estimates)",
         f"  Predicted VO2max {_n(pred.get('vo2max_friend_ml_kg_min'), 1, 'mL/kg/min')} ({_n(pred.get('pct_predicted_vo2max'), 0, '%')} achieved)  — {m.get('predicted_vo2max', '')}",
         f"  Predicted HRmax  {_n(pred.get('hr_max_tanaka_bpm'), 0, 'beats/min')}  — {m.get('hr_max_predicted', '')}",
-        f"  Weber class      {cls.get('weber') or '–'}; ventilatory class {cls.get('ventilatory') or '–'}",
+        f"  Weber class      {cls.get('weber') or '–'}; ventilatory class {cls.get('ventilatory') or '–'} "
+        f"(from the whole-exercise VE/VCO2 slope {_n(cls.get('ventilatory_slope'), 1)})",
         "",
         "Training zones  — " + m.get("zones", ""),
     ]

@@ -31,10 +31,13 @@ def test_peak_values_at_highest_vo2():
     p0 = peak_values(df, body_mass_kg=70.0, window_s=0)
     assert p0.index == df.index[-1]
     assert p0.vo2_ml_min == pytest.approx(800 + 10 * 25 / 60 * 595)
-    # default centred 30-s window: at the last row it holds the rows at 585 and 595 s
+    # default 30-s window lying wholly inside exercise: the last whole window is centred on the
+    # row at 585 s and holds the rows at 575, 585 and 595 s (a window at the last row, 595 s,
+    # would hold only 585 and 595 s, 20 s of data)
     p = peak_values(df, body_mass_kg=70.0)
-    assert p.index == df.index[-1]
-    assert p.vo2_ml_min == pytest.approx(800 + 10 * 25 / 60 * 590)
+    assert p.index == df.index[-2]
+    assert p.t_s == 585.0
+    assert p.vo2_ml_min == pytest.approx(800 + 10 * 25 / 60 * 585)
     assert p.vo2_ml_kg_min == pytest.approx(p.vo2_ml_min / 70)
     assert p.pct_vo2_peak == pytest.approx(100.0)
     assert peak_rer(df, window_s=0) == pytest.approx(1.15)
@@ -53,7 +56,7 @@ def test_peak_window_damps_a_single_high_row():
     df = ramp()
     df.loc[30, "vo2_ml_min"] += 3000.0  # one spuriously high averaged row mid-test
     assert peak_values(df, body_mass_kg=None, window_s=0).index == 30
-    assert peak_values(df, body_mass_kg=None).index == df.index[-1]
+    assert peak_values(df, body_mass_kg=None).index == df.index[-2]  # last whole window
 
 
 def test_peak_values_without_exercise():
@@ -127,6 +130,7 @@ def test_verdict_secondary_criteria():
 
 
 def test_verdict_submaximal_names_rer_and_hr():
+    # RER below 1.10 decides; HR below 90 % is named beside it as information
     rep = assess_maximality(ramp(rer_end=1.02, hr_end=150.0), age_y=30)
     assert rep.verdict == "vo2peak_submaximal"
     assert rep.rer_criterion_met is False and rep.hr_criterion_met is False
@@ -138,4 +142,34 @@ def test_hr_criterion_skipped_without_age():
     rep = assess_maximality(ramp(), age_y=None)
     assert rep.hr_criterion_met is None
     assert rep.verdict == "vo2peak_criteria_met"
-    assert any("Age unknown" in r for r in rep.reasons)
+    assert any("age unknown" in r for r in rep.reasons)
+
+
+def test_low_heart_rate_does_not_make_a_test_submaximal():
+    # RER 1.15 ≥ 1.10 decides (Balady et al. 2010, from memory); HR 150 is 80 % of 187 (Tanaka)
+    # and is reported as information only
+    rep = assess_maximality(ramp(hr_end=150.0), age_y=30)
+    assert rep.verdict == "vo2peak_criteria_met"
+    assert rep.hr_criterion_met is False and rep.rer_criterion_met is True
+    assert any("information only" in r for r in rep.reasons)
+
+
+def test_beta_blocker_makes_the_hr_criterion_not_applicable():
+    # Brawner et al. 2004 (equation from memory): HRmax = 164 - 0.72 x age; age 61 -> 120.08
+    rep = assess_maximality(ramp(hr_end=112.0), age_y=61, beta_blocker=True)
+    assert rep.hr_criterion_applies is False and rep.hr_criterion_met is None
+    assert rep.hr_max_beta_blocker_bpm == pytest.approx(120.08)
+    assert rep.verdict == "vo2peak_criteria_met"
+    assert any("does not apply" in r and "beta-blocker" in r and "Brawner" in r for r in rep.reasons)
+    no = assess_maximality(ramp(hr_end=112.0), age_y=61, beta_blocker=False)
+    assert no.hr_criterion_applies is True and no.hr_max_beta_blocker_bpm is None
+
+
+def test_brawner_at_61_years():
+    from analysis.reference.heart_rate import brawner_hr_max_bpm
+
+    # Brawner et al. 2004, from memory: 164 - 0.72 x 61 = 120.1, about 120 beats/min
+    assert brawner_hr_max_bpm(age_y=61) == pytest.approx(120.0, abs=0.5)
+    assert brawner_hr_max_bpm(age_y=40) == pytest.approx(164 - 28.8)
+    with pytest.raises(InvalidParameter, match="age_y"):
+        brawner_hr_max_bpm(age_y=200)

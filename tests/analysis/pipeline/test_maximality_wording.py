@@ -17,14 +17,15 @@ def test_rer_just_below_the_limit_is_not_shown_as_the_limit():
     df["vco2_ml_min"] = df["vo2_ml_min"] * 1.097  # constant RER 1.097
     rep = assess_maximality(df, age_y=30)
     assert rep.rer_criterion_met is False
-    assert "Peak RER 1.097 is below 1.10, the secondary criterion." in rep.reasons
+    assert "Peak RER 1.097 is below 1.10, the RER criterion of maximal effort." in rep.reasons
+    assert rep.verdict == "vo2peak_submaximal"
 
 
 def test_hr_just_below_the_limit_is_not_shown_as_the_limit():
     # predicted 208 - 0.7 x 30 = 187 (Tanaka 2001); 89.7 % of it is 167.7 beats/min
     rep = assess_maximality(ramp(hr_end=0.897 * 187.0), age_y=30)
     assert rep.hr_criterion_met is False and rep.hr_pct_predicted == pytest.approx(89.7)
-    assert any(r.startswith("Peak HR 168 beats/min is only 89.7 % of predicted 187 (< 90 %)") for r in rep.reasons)
+    assert any(r.startswith("Peak HR 168 beats/min is 89.7 % of predicted 187 (< 90 %); information only") for r in rep.reasons)
 
 
 def test_rer_well_below_keeps_two_decimals():

@@ -42,13 +42,26 @@ def test_every_headline_number_has_a_method(results):
         assert d["methods"].get(key), key
 
 
-def test_threshold_values_read_from_averaged_rows(results):
+def test_threshold_values_are_the_estimate_and_30s_means_at_its_time(results):
     d = to_json(results)
     avg = results.averaged
-    row = avg.iloc[d["vt1"]["index"]]
-    assert d["vt1"]["time_s"] == pytest.approx(row["t_s"])
-    assert d["vt1"]["hr_bpm"] == pytest.approx(row["hr_bpm"])
-    assert d["vt1"]["pct_vo2_peak"] == pytest.approx(100 * row["vo2_ml_min"] / d["vo2_peak_ml_min"])
+    pick = results.thresholds.vt1
+    # VO2 and time: the consensus estimate itself, one value everywhere
+    assert d["vt1"]["vo2_ml_min"] == d["thresholds"]["vt1"]["vo2_ml_min"] == pick.vo2_ml_min
+    assert d["vt1"]["time_s"] == pick.t_s
+    assert d["vt1"]["pct_vo2_peak"] == pytest.approx(100 * pick.vo2_ml_min / d["vo2_peak_ml_min"])
+    # HR, work rate and RER: 30-s means centred on that time; each 10-s bin counts for the
+    # seconds of it inside pick.t_s ± 15 s (by hand: a bin centred at c covers c ± 5 s)
+    t = avg["t_s"].to_numpy(float)
+    w = np.clip(np.minimum(t + 5, pick.t_s + 15) - np.maximum(t - 5, pick.t_s - 15), 0, None)
+    assert w.sum() == pytest.approx(30.0)
+
+    def mean(col):
+        return float(np.average(avg[col].to_numpy(float), weights=w))
+
+    assert d["vt1"]["hr_bpm"] == pytest.approx(mean("hr_bpm"))
+    assert d["vt1"]["work_w"] == pytest.approx(mean("work_w"))
+    assert d["vt1"]["rer"] == pytest.approx(mean("vco2_ml_min") / mean("vo2_ml_min"))
 
 
 def test_zones_match_threshold_hr_and_rise(results):

@@ -30,7 +30,7 @@ def demo_dir(tmp_path_factory) -> Path:
 
 def _demo_session(demo):
     return simulate_session(demo.profile, demo.protocol, seed=demo.seed, noise=1.0, artifacts=3,
-                            test_date=demo.test_date, notes=demo.notes)
+                            test_date=demo.test_date, notes=demo.notes, meta_extra=dict(demo.meta_extra) or None)
 
 
 def _parse(path: Path) -> tuple[dict, pd.DataFrame, int]:
