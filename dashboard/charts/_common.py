@@ -114,15 +114,60 @@ def phase_legend(frame: pd.DataFrame | None) -> list[dict]:
     ]
 
 
+#: The 90 % interval of a threshold, by the axis the threshold is drawn on.
+_BAND_KEY = {"t_s": "ci90_t_s", "vo2_ml_min": "ci90_vo2_ml_min"}
+#: Opacity of a threshold's interval band (its line colour, faint enough for data to show).
+BAND_OPACITY = 0.13
+
+
+def shown_thresholds(report: Any) -> dict[str, Any]:
+    """``{"vt1": pick, "vt2": pick}`` to draw: the threshold in use, else the one not determinable."""
+    out = {}
+    for kind in ("vt1", "vt2"):
+        pick = getattr(report, kind, None)
+        out[kind] = pick if pick is not None else getattr(report, f"{kind}_undetermined", None)
+    return out
+
+
+def threshold_band(pick: Any, *, key: str = "t_s") -> tuple[float, float] | None:
+    """The pick's 90 % interval on the axis of ``key`` (``None`` when it has none)."""
+    band = pick_value(pick, _BAND_KEY.get(key, ""))
+    if not isinstance(band, (list, tuple)) or len(band) != 2:
+        return None
+    lo, hi = (float(v) if v is not None else float("nan") for v in band)
+    return (lo, hi) if np.isfinite(lo) and np.isfinite(hi) and hi > lo else None
+
+
 def threshold_shapes(thresholds: Mapping[str, Any] | None, *, key: str = "t_s") -> tuple[list[dict], list[dict]]:
-    """Vertical VT1/VT2 lines through every panel (``key`` = ``"t_s"`` or ``"vo2_ml_min"``), labelled at the top."""
+    """VT1/VT2 through every panel (``key`` = ``"t_s"`` or ``"vo2_ml_min"``), labelled at the top.
+
+    Each threshold is a vertical line with its 90 % interval as a faint band of the same colour;
+    a threshold marked not determinable (``determinable`` false) is drawn as its band alone,
+    labelled "VT1 not determinable".
+    """
     shapes: list[dict] = []
     labels: list[dict] = []
     for kind, pick in (thresholds or {}).items():
+        if pick is None:
+            continue
+        style = palette.THRESHOLD.get(kind, palette.THRESHOLD["vt1"])
+        band = threshold_band(pick, key=key)
+        if band is not None:
+            shapes.append(
+                {"type": "rect", "xref": "x", "yref": "paper", "x0": band[0], "x1": band[1], "y0": 0, "y1": 1,
+                 "fillcolor": style["color"], "opacity": BAND_OPACITY, "line": {"width": 0}, "layer": "below"}
+            )
+        if pick_value(pick, "determinable") is False:
+            if band is not None:
+                labels.append(
+                    {"x": 0.5 * (band[0] + band[1]), "y": 1, "xref": "x", "yref": "paper",
+                     "text": f"{THRESHOLD_LABEL.get(kind, kind.upper())} not determinable", "showarrow": False,
+                     "xanchor": "center", "yanchor": "top", "font": {"color": style["color"]}}
+                )
+            continue
         x = pick_value(pick, key)
         if x is None:
             continue
-        style = palette.THRESHOLD.get(kind, palette.THRESHOLD["vt1"])
         shapes.append(
             {"type": "line", "xref": "x", "yref": "paper", "x0": float(x), "x1": float(x), "y0": 0, "y1": 1,
              "line": {"color": style["color"], "dash": style["dash"], "width": 2}}

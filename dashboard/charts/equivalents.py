@@ -10,7 +10,17 @@ import plotly.graph_objects as go
 
 from analysis import columns as C
 from dashboard import palette
-from dashboard.charts._common import BOTTOM_LEGEND, axis_title, build_figure, column, decorations, figure_title, has, phase_legend
+from dashboard.charts._common import (
+    BOTTOM_LEGEND,
+    axis_title,
+    build_figure,
+    column,
+    decorations,
+    figure_title,
+    has,
+    phase_legend,
+    shown_thresholds,
+)
 from dashboard.charts.linking import TimeSpan, span_legend, span_shapes, window_range, y_range_in_window
 
 #: Columns of the equivalents frame (computed in analysis, not here).
@@ -119,4 +129,4 @@ def equivalents_figure(
 def equivalents_from_results(results: Any, session: Any | None = None) -> go.Figure:
     """:func:`equivalents_figure` for a :class:`analysis.results.TestResults`."""
     report = results.thresholds
-    return equivalents_figure(results.averaged, thresholds={"vt1": report.vt1, "vt2": report.vt2})
+    return equivalents_figure(results.averaged, thresholds=shown_thresholds(report))

@@ -11,7 +11,17 @@ import plotly.graph_objects as go
 
 from analysis import columns as C
 from dashboard import palette
-from dashboard.charts._common import axis_title, build_figure, column, decorations, figure_title, has, nice_step, phase_legend
+from dashboard.charts._common import (
+    axis_title,
+    build_figure,
+    column,
+    decorations,
+    figure_title,
+    has,
+    nice_step,
+    phase_legend,
+    shown_thresholds,
+)
 from dashboard.charts.linking import TimeSpan, span_legend, span_shapes, window_range, y_range_in_window
 
 #: The clickable trace (averaged VO2) is named so the page can find it in a selection.
@@ -149,6 +159,6 @@ def time_course_from_results(results: Any, session: Any | None = None) -> go.Fig
         results.averaged,
         breaths=session.breaths if session is not None else None,
         excluded_rows=rows,
-        thresholds={"vt1": results.thresholds.vt1, "vt2": results.thresholds.vt2},
+        thresholds=shown_thresholds(results.thresholds),
         averaging_label=results.settings.averaging.label,
     )

@@ -141,6 +141,6 @@ def vslope_from_results(results: Any, session: Any | None = None) -> go.Figure:
         exercise_rows(results.averaged),
         fit=report.vslope,
         candidates=report.vt1_candidates,
-        vt1=report.vt1,
-        vt2=report.vt2,
+        vt1=report.vt1 if report.vt1 is not None else getattr(report, "vt1_undetermined", None),
+        vt2=report.vt2 if report.vt2 is not None else getattr(report, "vt2_undetermined", None),
     )
