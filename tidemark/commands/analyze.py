@@ -18,8 +18,7 @@ import io
 import json
 import os
 import sys
-from collections.abc import Iterable, Sequence
-from concurrent.futures import ProcessPoolExecutor
+from collections.abc import Iterable, Iterator, Sequence
 from pathlib import Path
 from typing import Any
 
@@ -66,6 +65,10 @@ def add_parser(subparsers: argparse._SubParsersAction) -> argparse.ArgumentParse
     p.add_argument("--out", type=Path, metavar="CSV", help="write the one-row-per-test summary CSV here")
     p.add_argument("--workers", type=int, default=None, metavar="N", help="parallel processes for a folder (default: CPU count)")
     p.add_argument("--no-progress", action="store_true", help="no progress bar on stderr")
+    p.add_argument(
+        "--resume", action="store_true",
+        help="folder: keep the rows already in --out and analyse only the files not yet in it",
+    )
     p.set_defaults(func=run)
     return p
 
@@ -139,8 +142,43 @@ def analyze_path(path: str | Path, settings_dict: dict[str, Any]) -> dict[str, A
         return error_row(file=path.name, error=f"internal error ({type(exc).__name__}: {exc}); please report it with the file")
 
 
-def _analyze_path_star(job: tuple[str, dict[str, Any]]) -> dict[str, Any]:
-    return analyze_path(*job)
+#: Files handed to a worker at a time: small, so rows (and the progress bar) arrive every
+#: second or so even when one file takes a few seconds, and an interruption loses little.
+BATCH_CHUNK_FILES = 4
+
+_worker_settings: dict[str, Any] = {}
+
+
+def _init_worker(settings_dict: dict[str, Any]) -> None:
+    """Process-pool initialiser: the settings are sent to each worker once, not with every file."""
+    _worker_settings.clear()
+    _worker_settings.update(settings_dict)
+
+
+def _analyze_in_worker(path: str) -> dict[str, Any]:
+    return analyze_path(path, _worker_settings)
+
+
+def iter_batch(
+    paths: Iterable[str | Path], *, settings: AnalysisSettings | None = None, workers: int | None = None
+) -> Iterator[dict[str, Any]]:
+    """Analyse files in parallel, yielding one summary row per file as soon as it is ready.
+
+    Rows come in the order of ``paths`` (a row waits only for the files before it, which are
+    at most a few chunks of :data:`BATCH_CHUNK_FILES` away). Nothing is kept: memory does not
+    grow with the number of files. ``workers`` = 1 analyses in this process.
+    """
+    settings_dict = (settings or AnalysisSettings()).to_dict()
+    names = (str(p) for p in paths)
+    n_workers = max(1, workers or os.cpu_count() or 1)
+    if n_workers == 1:
+        for name in names:
+            yield analyze_path(name, settings_dict)
+        return
+    import multiprocessing
+
+    with multiprocessing.Pool(n_workers, initializer=_init_worker, initargs=(settings_dict,)) as pool:
+        yield from pool.imap(_analyze_in_worker, names, chunksize=BATCH_CHUNK_FILES)
 
 
 def analyze_batch(
@@ -167,28 +205,16 @@ def analyze_batch(
     -------
     list of dict
         Rows with the keys :data:`analysis.exports.SUMMARY_COLUMNS`; failed files have
-        ``status="error"`` and the reason in ``error``.
+        ``status="error"`` and the reason in ``error``. (``tidemark analyze DIR`` streams the
+        rows to its CSV instead, see :func:`write_batch`.)
     """
     from tqdm import tqdm
 
-    settings_dict = (settings or AnalysisSettings()).to_dict()
-    jobs = [(str(p), settings_dict) for p in paths]
-    n_workers = max(1, min(workers or os.cpu_count() or 1, len(jobs) or 1))
-    bar = tqdm(total=len(jobs), file=sys.stderr, disable=not progress, unit="test", desc="analyse")
-    rows: list[dict[str, Any]] = []
-    try:
-        if n_workers == 1:
-            for job in jobs:
-                rows.append(_analyze_path_star(job))
-                bar.update()
-        else:
-            chunk = max(1, len(jobs) // (n_workers * 8))
-            with ProcessPoolExecutor(max_workers=n_workers) as pool:
-                for row in pool.map(_analyze_path_star, jobs, chunksize=chunk):
-                    rows.append(row)
-                    bar.update()
-    finally:
-        bar.close()
+    with tqdm(total=len(paths), file=sys.stderr, disable=not progress, unit="test", desc="analyse") as bar:
+        rows = []
+        for row in iter_batch(paths, settings=settings, workers=min(workers or os.cpu_count() or 1, len(paths) or 1)):
+            rows.append(row)
+            bar.update()
     return rows
 
 
@@ -198,8 +224,64 @@ def summary_csv_text(rows: Iterable[dict[str, Any]]) -> str:
     w = csv.writer(buf, lineterminator="\n")
     w.writerow(SUMMARY_COLUMNS)
     for row in rows:
-        w.writerow([safe_csv_cell(row.get(c)) for c in SUMMARY_COLUMNS])
+        w.writerow(_csv_cells(row))
     return buf.getvalue()
+
+
+def _csv_cells(row: dict[str, Any]) -> list[str]:
+    return [safe_csv_cell(row.get(c)) for c in SUMMARY_COLUMNS]
+
+
+def files_in_output(out: Path) -> set[str]:
+    """The ``file`` cells of an existing summary CSV (as written), for ``--resume``.
+
+    A last line cut off by an interruption is removed from the file first, so the rerun
+    writes that file's row again. Raises InvalidParameter when ``out`` is not such a CSV.
+    """
+    data = out.read_bytes()
+    if data and not data.endswith(b"\n"):
+        data = data[: data.rfind(b"\n") + 1]
+        out.write_bytes(data)
+    reader = csv.reader(io.StringIO(data.decode("utf-8")))
+    header = next(reader, None)
+    if header is None:
+        return set()
+    if header != list(SUMMARY_COLUMNS):
+        raise InvalidParameter("--resume", f"an --out file written by 'tidemark analyze' (columns {', '.join(SUMMARY_COLUMNS[:3])}, ...)", str(out))
+    return {cells[0] for cells in reader if cells}
+
+
+def write_batch(
+    files: Sequence[Path], out: Path, *, settings: AnalysisSettings, workers: int | None, resume: bool, progress: bool
+) -> tuple[int, int, int]:
+    """Analyse ``files`` into the summary CSV ``out``, one row written (and flushed) per file.
+
+    An interrupted run keeps every row written; with ``resume`` the files already in ``out``
+    are skipped and new rows appended. Returns ``(rows written, of them failed, skipped)``.
+    """
+    from tqdm import tqdm
+
+    done = files_in_output(out) if resume and out.exists() and out.stat().st_size else set()
+    todo = [f for f in files if safe_csv_cell(f.name) not in done]
+    written = failed = 0
+    try:
+        handle = out.open("a" if done else "w", encoding="utf-8", newline="")
+    except OSError as exc:
+        raise InvalidParameter("--out", "a CSV file path that can be written", f"{out} ({exc.strerror})") from None
+    with handle, tqdm(
+        total=len(files), initial=len(files) - len(todo), file=sys.stderr, disable=not progress, unit="test", desc="analyse"
+    ) as bar:
+        w = csv.writer(handle, lineterminator="\n")
+        if not done:
+            w.writerow(SUMMARY_COLUMNS)
+        workers = min(workers or os.cpu_count() or 1, len(todo) or 1)
+        for row in iter_batch(todo, settings=settings, workers=workers):
+            w.writerow(_csv_cells(row))
+            handle.flush()  # an interruption keeps every finished row
+            written += 1
+            failed += row["status"] != "ok"
+            bar.update()
+    return written, failed, len(files) - len(todo)
 
 
 def batch_files(folder: Path) -> list[Path]:
@@ -329,10 +411,15 @@ def run(args: argparse.Namespace) -> int:
             raise ImportRejected(
                 Problem(f"no files ending in {', '.join(BATCH_SUFFIXES)} were found", "check the folder", str(path))
             )
-        rows = analyze_batch(files, settings=settings, workers=args.workers, progress=not args.no_progress)
-        _write(args.out, summary_csv_text(rows))
-        failed = sum(r["status"] != "ok" for r in rows)
-        print(f"{len(rows)} tests analysed, {failed} failed; results in {args.out}", file=sys.stderr)
+        try:
+            written, failed, skipped = write_batch(
+                files, args.out, settings=settings, workers=args.workers, resume=args.resume, progress=not args.no_progress
+            )
+        except KeyboardInterrupt:
+            print(f"interrupted; the rows finished so far are in {args.out} (add --resume to continue)", file=sys.stderr)
+            return 1
+        kept = f", {skipped} already in the file" if skipped else ""
+        print(f"{written} tests analysed, {failed} failed{kept}; results in {args.out}", file=sys.stderr)
         return 0
     results = analyze_session(load_session(path), settings)
     data = to_json(results)
