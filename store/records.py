@@ -154,6 +154,8 @@ class ShareScope:
     sections: tuple[str, ...]
     show_name: bool
     expires_at: datetime
+    #: True for a link made for all tests of one person (the coach sees progress across them).
+    for_person: bool = False
 
 
 @dataclass(frozen=True)

@@ -122,7 +122,7 @@ class SharingMixin(ReviewMixin):
                 db.add(ShareView(share_id=link.id, viewed_at=now))
             return ShareScope(
                 share_id=link.id, test_ids=test_ids, sections=tuple(json.loads(link.sections_json)),
-                show_name=link.show_name, expires_at=aware(link.expires_at),
+                show_name=link.show_name, expires_at=aware(link.expires_at), for_person=link.person_id is not None,
             )
 
     def log_share_view(self, share_id: int) -> None:

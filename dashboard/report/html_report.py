@@ -48,9 +48,13 @@ class Headline:
     method_keys: tuple[str, ...] = ()
 
 
+#: The headline row of VO2peak as % of the predicted VO2max (an estimate from a reference equation).
+PCT_PREDICTED_LABEL = "VO2peak, % predicted"
+
 HEADLINES: tuple[Headline, ...] = (
     Headline("VO2peak", ("vo2_peak_ml_min",), "mL/min", 0, ("vo2_peak", "vo2_peak_ml_min", "peak")),
     Headline("VO2peak per kg", ("vo2_peak_ml_kg_min",), "mL/kg/min", 1, ("vo2_peak", "vo2_peak_ml_kg_min", "peak")),
+    Headline(PCT_PREDICTED_LABEL, ("predicted", "pct_predicted_vo2max"), "%", 0, ("predicted_vo2max",)),
     Headline("RER peak", ("rer_peak",), "", 2, ("rer_peak", "peak")),
     Headline("Heart rate peak", ("hr_peak_bpm",), "beats/min", 0, ("hr_peak_bpm", "hr_peak", "peak")),
     Headline("VE/VCO2 slope", ("ve_vco2_slope",), "", 1, ("ve_vco2_slope",)),
@@ -420,7 +424,7 @@ def _predicted_text(results: Mapping[str, Any]) -> str:
 
 
 def _headline_table(data: Mapping[str, Any]) -> str:
-    rows = headline_rows(data)
+    rows = [r for r in headline_rows(data) if r["label"] != PCT_PREDICTED_LABEL]  # its own column here
     pred = _predicted_text(data)
     body = []
     for r in rows:

@@ -112,8 +112,9 @@ def render_scope(store: Any, scope: Any) -> None:
     st.title(f"Exercise test results — {_coach_label(summaries[0], show_name=show_name)}")
     st.caption(shared_by_text(lab.read_identity(store)))
     st.warning(" ".join(CAUTIONS))
-    if len(summaries) > 1 and _allowed(scope, "headline"):
-        render_progress(store, summaries, charts=_allowed(scope, "charts"))
+    person_link = bool(getattr(scope, "for_person", False)) or len(summaries) > 1
+    if person_link and _allowed(scope, "headline"):  # progress across the shared tests (one test: its baseline)
+        render_progress(store, summaries, charts=_allowed(scope, "charts") and len(summaries) > 1)
         st.subheader("One test in detail")
     if len(summaries) > 1:
         test_id = st.selectbox(
@@ -190,7 +191,8 @@ def render_progress(store: Any, summaries: list[Any], *, charts: bool = True) ->
     from dashboard.charts.progress import progress_figure
     from dashboard.views.progress import change_display
 
-    st.subheader(f"Progress across the {len(summaries)} shared tests")
+    st.subheader(f"Progress across the {len(summaries)} shared tests" if len(summaries) > 1
+                 else "Progress: one shared test so far")
     table = progress_table(progress_records(store, summaries))
     st.caption(f"Change from the first shared test. Band: {BAND_METHOD}. Estimates, not measurements of biology.")
     st.dataframe(change_display(table), hide_index=True, width="stretch")
