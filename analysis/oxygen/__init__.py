@@ -47,6 +47,7 @@ from analysis.oxygen.content import (
     O2_SOLUBILITY_ML_DL_MMHG,
     o2_content_ml_dl,
     saturation_from_spo2,
+    spo2_note,
 )
 from analysis.oxygen.curves import MODEL_CONDITIONS, MODELS, STANDARD, p50, po2_at_saturation, saturation
 from analysis.oxygen.dyshaemoglobin import functional_saturation
@@ -126,6 +127,7 @@ __all__ = [
     "po2_at_saturation",
     "saturation",
     "saturation_from_spo2",
+    "spo2_note",
     "stringer_avo2_difference_ml_dl",
     "stringer_cardiac_output_l_min",
     "stroke_volume_ml",

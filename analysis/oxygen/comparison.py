@@ -34,7 +34,6 @@ Everything here is a model estimate, not a measurement.
 
 from __future__ import annotations
 
-import warnings
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field, replace
 from functools import lru_cache
@@ -59,6 +58,7 @@ from analysis.oxygen.content import (
     O2_SOLUBILITY_ML_DL_MMHG,
     free_haemoglobin_fraction,
     saturation_from_spo2,
+    spo2_note,
 )
 from analysis.oxygen.curves import STANDARD, _Curve, _curve
 from analysis.oxygen.decomposition import shapley_parts
@@ -373,7 +373,7 @@ def oxygen_comparison(
         PCO2 and RER) minus the alveolar-arterial gradient.
     spo2_pct : float, optional
         Pulse-oximeter saturation (%) used for every state that has none of its own; below
-        90 % adds a warning. The oximeter reads COHb as oxyhaemoglobin, so with
+        90 % adds a note. The oximeter reads COHb as oxyhaemoglobin, so with
         ``cohb_fraction`` the functional saturation is (SpO2 - FCOHb) / (1 - FCOHb - FMetHb).
     conditions : mapping of str to StateConditions, optional
         Mixed venous blood conditions per state; missing states take :data:`DEFAULT_CONDITIONS`.
@@ -571,11 +571,10 @@ def _arterial(point: StatePoint, ctx: _Context, arterial: StateConditions, notes
     spo2 = point.spo2_pct if point.spo2_pct is not None else ctx.spo2_pct
     if spo2 is None:
         return pao2, pao2_source, alveolar, _saturation_on(pao2, arterial, model=model, blood=blood), "curve"
-    with warnings.catch_warnings(record=True) as caught:
-        warnings.simplefilter("always")
-        reading = saturation_from_spo2(spo2)
-    for _ in caught:  # the note is the value returned; the warning is not passed on
-        notes.append(f"SpO2 {spo2:g} % is below 90 %: a concern; check the probe and arterial blood.")
+    reading = saturation_from_spo2(spo2)
+    low = spo2_note(spo2)
+    if low:
+        notes.append(low)
     sao2 = min(1.0, max(0.0, (reading - ctx.cohb) / (1.0 - ctx.cohb - ctx.methb)))
     if ctx.cohb > 0:
         notes.append(

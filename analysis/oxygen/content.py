@@ -2,11 +2,9 @@
 
 from __future__ import annotations
 
-import warnings
-
 import numpy as np
 
-from analysis.errors import DataQualityWarning, InvalidParameter
+from analysis.errors import InvalidParameter
 from analysis.oxygen import _checks
 
 #: Hüfner factor used by default, mL O2 per g Hb (common practice: 1.34; sources use 1.34-1.39).
@@ -106,20 +104,36 @@ def free_haemoglobin_fraction(*, cohb_fraction: float = 0.0, methb_fraction: flo
 def saturation_from_spo2(spo2_pct: float) -> float:
     """Arterial saturation fraction from a pulse-oximeter reading in percent.
 
-    Warns with :class:`~analysis.errors.DataQualityWarning` below 90 % (common practice: a
-    reading below 90 % is a concern and needs checking against arterial blood).
+    A reading below 90 % is a concern (common practice): :func:`spo2_note` gives the note to
+    return beside the result.
 
     Raises
     ------
     InvalidParameter
         SpO2 outside 50-100 % (a fraction such as 0.97 is refused: give percent).
+
+    Examples
+    --------
+    >>> saturation_from_spo2(97.0)
+    0.97
+    """
+    return _checks.scalar("spo2_pct", spo2_pct) / 100.0
+
+
+def spo2_note(spo2_pct: float) -> str | None:
+    """The note on a low pulse-oximeter reading (below 90 %, common practice), else ``None``.
+
+    Examples
+    --------
+    >>> spo2_note(97.0) is None
+    True
+    >>> spo2_note(86.0).startswith("SpO2 86 % is below 90 %")
+    True
     """
     value = _checks.scalar("spo2_pct", spo2_pct)
-    if value < SPO2_CONCERN_PCT:
-        warnings.warn(
-            f"SpO2 {value:g} % is below {SPO2_CONCERN_PCT:g} %: arterial desaturation or a poor "
-            "oximeter signal; check probe position and, where available, arterial blood.",
-            DataQualityWarning,
-            stacklevel=2,
-        )
-    return value / 100.0
+    if value >= SPO2_CONCERN_PCT:
+        return None
+    return (
+        f"SpO2 {value:g} % is below {SPO2_CONCERN_PCT:g} %: a concern (arterial desaturation or a poor oximeter "
+        "signal); check the probe and, where available, arterial blood."
+    )

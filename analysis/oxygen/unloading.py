@@ -5,7 +5,7 @@ from __future__ import annotations
 import numpy as np
 
 from analysis.oxygen import _checks
-from analysis.oxygen.content import DEFAULT_HUEFNER_ML_G, o2_content_ml_dl, saturation_from_spo2
+from analysis.oxygen.content import DEFAULT_HUEFNER_ML_G, o2_content_ml_dl, saturation_from_spo2, spo2_note
 from analysis.oxygen.curves import saturation
 from analysis.oxygen.states import ARTERIAL_CONDITIONS, StateConditions
 
@@ -18,26 +18,29 @@ def arterial_content_ml_dl(
     arterial_conditions: StateConditions = ARTERIAL_CONDITIONS,
     model: str = "siggaard_andersen",
     huefner_ml_g: float = DEFAULT_HUEFNER_ML_G,
-) -> tuple[float, float, str]:
-    """Arterial O2 content (mL/dL), the saturation used, and where it came from.
+) -> tuple[float, float, str, tuple[str, ...]]:
+    """Arterial O2 content (mL/dL), the saturation used, where it came from, and notes.
 
-    SaO2 comes from ``spo2_pct`` when given (a ``DataQualityWarning`` below 90 %), else from
-    ``pao2_mmhg`` on the curve at ``arterial_conditions``.
+    SaO2 comes from ``spo2_pct`` when given (a note below 90 %), else from ``pao2_mmhg`` on the
+    curve at ``arterial_conditions``.
 
     Returns
     -------
-    (cao2_ml_dl, sao2, source)
+    (cao2_ml_dl, sao2, source, notes)
         ``source`` is ``"spo2"`` or ``"curve"``.
     """
     pao2 = _checks.scalar("po2_mmhg", pao2_mmhg)
+    notes: tuple[str, ...] = ()
     if spo2_pct is not None:
         sao2, source = saturation_from_spo2(spo2_pct), "spo2"
+        low = spo2_note(spo2_pct)
+        notes = (low,) if low else ()
     else:
         arterial = arterial_conditions.resolved(hb_g_dl=hb_g_dl)
         sao2 = float(saturation(pao2, **arterial.curve_kwargs(model), model=model))
         source = "curve"
     cao2 = float(o2_content_ml_dl(saturation=sao2, po2_mmhg=pao2, hb_g_dl=hb_g_dl, huefner_ml_g=huefner_ml_g))
-    return cao2, sao2, source
+    return cao2, sao2, source, notes
 
 
 def curve_unloading_ml_dl(
@@ -81,7 +84,7 @@ def curve_unloading_ml_dl(
     >>> round(curve_unloading_ml_dl(40.0, conditions=DEFAULT_CONDITIONS["rest"], hb_g_dl=15.0), 1)
     5.1
     """
-    cao2, _, _ = arterial_content_ml_dl(
+    cao2, _, _, _ = arterial_content_ml_dl(
         hb_g_dl=hb_g_dl,
         pao2_mmhg=pao2_mmhg,
         spo2_pct=spo2_pct,

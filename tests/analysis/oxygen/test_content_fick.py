@@ -2,15 +2,18 @@
 
 from __future__ import annotations
 
+import warnings
+
 import numpy as np
 import pytest
 
-from analysis.errors import DataQualityWarning, InvalidParameter
+from analysis.errors import InvalidParameter
 from analysis.oxygen import (
     avo2_difference_ml_dl,
     cardiac_output_l_min,
     o2_content_ml_dl,
     saturation_from_spo2,
+    spo2_note,
     stringer_avo2_difference_ml_dl,
     stringer_cardiac_output_l_min,
     stroke_volume_ml,
@@ -49,10 +52,13 @@ class TestSpO2:
     def test_normal_reading(self):
         assert saturation_from_spo2(97.0) == pytest.approx(0.97)
 
-    def test_warns_below_90(self):
-        # Common practice: SpO2 below 90 % is a concern.
-        with pytest.warns(DataQualityWarning, match="below 90"):
+    def test_note_below_90(self):
+        # Common practice: SpO2 below 90 % is a concern; the note is a value, not a warning.
+        with warnings.catch_warnings():
+            warnings.simplefilter("error")
             assert saturation_from_spo2(86.0) == pytest.approx(0.86)
+        assert "below 90 %" in spo2_note(86.0)
+        assert spo2_note(90.0) is None
 
     def test_fraction_refused(self):
         with pytest.raises(InvalidParameter, match="spo2_pct"):
