@@ -88,6 +88,8 @@ def peak_values(
     """
     _need_exercise(exercise_avg)
     require(math.isfinite(window_s) and 0 <= window_s <= 120, "window_s", "a window of 0-120 s", window_s)
+    require(body_mass_kg is None or (math.isfinite(body_mass_kg) and body_mass_kg > 0),
+            "body_mass_kg", "a body mass above 0 kg, or nothing", body_mass_kg)
     t = exercise_avg[C.T_S].to_numpy(dtype=float)
     vo2w = window_means(t, exercise_avg[C.VO2_ML_MIN].to_numpy(dtype=float), window_s=window_s, inside=True)
     if not np.isfinite(vo2w).any():
@@ -112,6 +114,7 @@ def peak_rer(exercise_avg: pd.DataFrame, *, window_s: float = DEFAULT_PEAK_WINDO
     Uses the same centred ``window_s`` as :func:`peak_values`, windows wholly inside exercise
     (common practice).
     """
+    require(math.isfinite(window_s) and 0 <= window_s <= 120, "window_s", "a window of 0-120 s", window_s)
     if len(exercise_avg) == 0:
         return None
     t = exercise_avg[C.T_S].to_numpy(dtype=float)

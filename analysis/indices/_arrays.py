@@ -19,8 +19,16 @@ def present_values(frame: pd.DataFrame, name: str) -> NDArray[np.float64] | None
     return values if (~np.isnan(values)).any() else None
 
 
+#: Name endings of quantities that are never negative (flows, rates, masses; units in names).
+NON_NEGATIVE_ENDINGS: tuple[str, ...] = ("_ml_min", "_l_min", "_ml_kg_min", "_bpm", "_kg", "_ml_beat", "_w")
+
+
 def as_float_array(name: str, values: ArrayLike) -> NDArray[np.float64]:
-    """``values`` as a 1-D float array, or :class:`InvalidParameter` naming ``name``."""
+    """``values`` as a 1-D float array, or :class:`InvalidParameter` naming ``name``.
+
+    Missing values (NaN) are kept; a negative value of a quantity that cannot be negative (its
+    name ends in a flow, rate or mass unit, :data:`NON_NEGATIVE_ENDINGS`) is refused.
+    """
     try:
         arr = np.asarray(values, dtype=float)
     except (TypeError, ValueError) as exc:
@@ -29,6 +37,25 @@ def as_float_array(name: str, values: ArrayLike) -> NDArray[np.float64]:
         arr = arr.reshape(1)
     if arr.ndim != 1:
         raise InvalidParameter(name, "a one-dimensional sequence", f"shape {arr.shape}")
+    if name.endswith(NON_NEGATIVE_ENDINGS):
+        negative = np.flatnonzero(arr < 0)
+        if negative.size:
+            raise InvalidParameter(name, "values of zero or more (a negative value is not a measurement)", float(arr[negative[0]]))
+    return arr
+
+
+def measured(name: str, values: ArrayLike) -> NDArray[np.float64]:
+    """A measured quantity (a number or an array of any shape) as floats; missing values (NaN)
+    are kept, a negative value of a never-negative quantity is :class:`InvalidParameter`."""
+    try:
+        arr = np.asarray(values, dtype=float)
+    except (TypeError, ValueError) as exc:
+        raise InvalidParameter(name, "a number or a sequence of numbers", type(values).__name__) from exc
+    if name.endswith(NON_NEGATIVE_ENDINGS):
+        negative = np.flatnonzero(arr.reshape(-1) < 0)
+        if negative.size:
+            raise InvalidParameter(name, "values of zero or more (a negative value is not a measurement)",
+                                   float(arr.reshape(-1)[negative[0]]))
     return arr
 
 

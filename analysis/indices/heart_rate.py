@@ -2,11 +2,13 @@
 
 from __future__ import annotations
 
+import math
+
 import numpy as np
 from numpy.typing import ArrayLike
 
 from analysis.errors import require
-from analysis.indices._arrays import finite_columns
+from analysis.indices._arrays import finite_columns, measured
 
 #: Reader-facing method sentences (shown under ``methods``).
 HR_RESERVE_METHOD = "peak HR - resting HR; % of reserve by Karvonen et al. 1957"
@@ -70,7 +72,7 @@ def pct_hr_reserve(hr_bpm: ArrayLike, *, hr_max_bpm: float, hr_rest_bpm: float) 
     50.0
     """
     reserve = hr_reserve_bpm(hr_max_bpm=hr_max_bpm, hr_rest_bpm=hr_rest_bpm)
-    out = 100.0 * (np.asarray(hr_bpm, dtype=float) - hr_rest_bpm) / reserve
+    out = 100.0 * (measured("hr_bpm", hr_bpm) - hr_rest_bpm) / reserve
     return float(out) if out.ndim == 0 else out
 
 
@@ -106,6 +108,7 @@ def hr_recovery_1min_bpm(t_s: ArrayLike, hr_bpm: ArrayLike, *, t_end_exercise_s:
     >>> hr_recovery_1min_bpm([0, 60, 120], [150, 170, 140], t_end_exercise_s=60)
     30.0
     """
+    require(math.isfinite(t_end_exercise_s), "t_end_exercise_s", "the time exercise ended, s", t_end_exercise_s)
     t, hr = finite_columns(("t_s", "hr_bpm"), t_s, hr_bpm)
     if t.size < 2:
         return None

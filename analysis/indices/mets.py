@@ -5,6 +5,8 @@ from __future__ import annotations
 import numpy as np
 from numpy.typing import ArrayLike
 
+from analysis.indices._arrays import measured
+
 #: Reader-facing method sentence (shown under ``methods``).
 METS_METHOD = "VO2peak per kg / 3.5 mL/kg/min (common practice)"
 
@@ -36,5 +38,5 @@ def mets(vo2_ml_kg_min: ArrayLike) -> float | np.ndarray:
     >>> mets(35.0)
     10.0
     """
-    out = np.asarray(vo2_ml_kg_min, dtype=float) / ML_KG_MIN_PER_MET
+    out = measured("vo2_ml_kg_min", vo2_ml_kg_min) / ML_KG_MIN_PER_MET
     return float(out) if out.ndim == 0 else out

@@ -5,7 +5,7 @@ from __future__ import annotations
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
-from analysis.indices._arrays import finite_columns, need_points
+from analysis.indices._arrays import finite_columns, measured, need_points
 
 #: Reader-facing method sentence (shown under ``methods``).
 O2_PULSE_METHOD = (
@@ -42,8 +42,8 @@ def o2_pulse_ml_beat(vo2_ml_min: ArrayLike, hr_bpm: ArrayLike) -> NDArray[np.flo
     >>> o2_pulse_ml_beat([1500.0], [150.0]).tolist()
     [10.0]
     """
-    vo2 = np.asarray(vo2_ml_min, dtype=float)
-    hr = np.asarray(hr_bpm, dtype=float)
+    vo2 = measured("vo2_ml_min", vo2_ml_min)
+    hr = measured("hr_bpm", hr_bpm)
     if vo2.shape != hr.shape:
         finite_columns(("vo2_ml_min", "hr_bpm"), vo2, hr)  # raises the standard message
     with np.errstate(invalid="ignore", divide="ignore"):

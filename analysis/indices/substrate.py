@@ -2,13 +2,15 @@
 
 from __future__ import annotations
 
+import math
 from collections.abc import Callable
 from dataclasses import dataclass
 
 import numpy as np
 from numpy.typing import ArrayLike
 
-from analysis.indices._arrays import as_float_array, finite_columns, need_points
+from analysis.errors import require
+from analysis.indices._arrays import as_float_array, finite_columns, measured, need_points
 
 #: Reader-facing method sentences (shown under ``methods``).
 ENERGY_EXPENDITURE_METHOD = "abbreviated Weir equation (Weir 1949)"
@@ -26,8 +28,8 @@ def _in_litres(
     vo2_ml_min: ArrayLike, vco2_ml_min: ArrayLike, equation: Callable[[np.ndarray, np.ndarray], np.ndarray]
 ) -> float | np.ndarray:
     """``equation(VO2, VCO2)`` with both gases in L/min; a float for scalar input, else an array."""
-    vo2 = np.asarray(vo2_ml_min, dtype=float) / 1000.0
-    vco2 = np.asarray(vco2_ml_min, dtype=float) / 1000.0
+    vo2 = measured("vo2_ml_min", vo2_ml_min) / 1000.0
+    vco2 = measured("vco2_ml_min", vco2_ml_min) / 1000.0
     out = np.asarray(equation(vo2, vco2))
     return float(out) if out.ndim == 0 else out
 
@@ -173,6 +175,8 @@ def fat_max(
     Achten J, Gleeson M, Jeukendrup AE. Determination of the exercise intensity that elicits
     maximal fat oxidation. Med Sci Sports Exerc 2002;34:92-97 (from memory).
     """
+    require(vo2_peak_ml_min is None or (math.isfinite(vo2_peak_ml_min) and vo2_peak_ml_min > 0),
+            "vo2_peak_ml_min", "a peak VO2 above 0 mL/min, or nothing", vo2_peak_ml_min)
     t, vo2, vco2 = (as_float_array(n, a) for n, a in (("t_s", t_s), ("vo2_ml_min", vo2_ml_min), ("vco2_ml_min", vco2_ml_min)))
     finite_columns(("t_s", "vo2_ml_min", "vco2_ml_min"), t, vo2, vco2)  # equal lengths
     usable = np.isfinite(t) & np.isfinite(vo2) & np.isfinite(vco2)

@@ -8,6 +8,9 @@ atmosphere. Everything here is a model estimate for a person breathing steadily.
 
 from __future__ import annotations
 
+import math
+
+from analysis.errors import require
 from analysis.oxygen import _checks
 
 #: O2 fraction of dry air (common practice: 20.93 %).
@@ -94,7 +97,9 @@ def arterial_po2_mmhg(*, pao2_alveolar_mmhg: float, aa_gradient_mmhg: float) -> 
     91.3
     """
     gradient = _checks.scalar("aa_gradient_mmhg", aa_gradient_mmhg)
-    return max(1.0, float(pao2_alveolar_mmhg) - gradient)
+    alveolar = float(pao2_alveolar_mmhg)
+    require(math.isfinite(alveolar) and alveolar >= 0, "pao2_alveolar_mmhg", "an alveolar PO2 of 0 mmHg or more", pao2_alveolar_mmhg)
+    return max(1.0, alveolar - gradient)
 
 
 def barometric_pressure_mmhg(*, altitude_m: float) -> float:

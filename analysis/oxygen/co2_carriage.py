@@ -231,6 +231,7 @@ def resting_hyperventilation(
     30:1646-1651. Siggaard-Andersen O (1977). Van Slyke equation (from memory).
     """
     hb = _checks.scalar("hb_g_dl", hb_g_dl)
+    huefner = _checks.scalar("huefner_ml_g", huefner_ml_g)
     values = {}
     for when, paco2 in (("before", paco2_before_mmhg), ("after", paco2_after_mmhg)):
         ph, _, be = complete_blood_gas(hb_g_dl=hb, pco2_mmhg=paco2, base_excess_mmol_l=base_excess_mmol_l)
@@ -244,7 +245,7 @@ def resting_hyperventilation(
         s = float(saturation(pao2, model=model, **kwargs))
         values[when] = {
             "paco2": float(paco2), "ph": ph, "alv": alv, "pao2": pao2, "s": s,
-            "c": huefner_ml_g * hb * s + O2_SOLUBILITY_ML_DL_MMHG * pao2, "p50": p50(model=model, **kwargs),
+            "c": huefner * hb * s + O2_SOLUBILITY_ML_DL_MMHG * pao2, "p50": p50(model=model, **kwargs),
         }
     b, a = values["before"], values["after"]
     note = (

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass, replace
 
 import numpy as np
@@ -434,7 +435,10 @@ def agreement_tolerance_ml_min(vo2_range_ml_min: float) -> float:
     ----------
     Common practice (no single source).
     """
-    return max(AGREE_MIN_ML_MIN, AGREE_RANGE_FRACTION * abs(float(vo2_range_ml_min)))
+    span = float(vo2_range_ml_min)
+    if not (math.isfinite(span) and span >= 0):
+        raise InvalidParameter("vo2_range_ml_min", "a VO2 range of 0 mL/min or more", vo2_range_ml_min)
+    return max(AGREE_MIN_ML_MIN, AGREE_RANGE_FRACTION * span)
 
 
 def _weight(p: ThresholdPick, scale_ml_min: float) -> float:

@@ -93,6 +93,8 @@ def vslope_fit(
     """
     x = np.asarray(vo2_ml_min, dtype=float).ravel()
     y = np.asarray(vco2_ml_min, dtype=float).ravel()
+    for name, values in (("vo2_ml_min", x), ("vco2_ml_min", y)):
+        require(not np.any(values < 0), name, "gas flows of 0 mL/min or more", float(np.min(values[values < 0], initial=0.0)))
     if x.shape != y.shape:
         raise InvalidParameter("vco2_ml_min", f"the same length as vo2_ml_min ({x.size})", y.size)
     require(isinstance(min_segment, (int, np.integer)) and min_segment >= 2, "min_segment", "a whole number of at least 2", min_segment)
