@@ -3,10 +3,12 @@
 - :func:`get_store` — one store handle per server process (``st.cache_resource``), opened from
   the URL in the ``TIDEMARK_STORE`` environment variable (``tidemark serve --store`` sets it;
   unset means the store's own default).
-- :func:`load_session` — a test's breaths from the store (``st.cache_data``, keyed by test id).
-- :func:`analyze` — :func:`analysis.pipeline.analyze_session` keyed by (test id, settings JSON),
-  so moving a threshold back to an earlier position, or any rerun that does not change the
-  settings, costs a cache look-up instead of a new analysis.
+- :func:`load_session` — a test's breaths from the store (the store keeps parsed sessions per
+  test and hash of the stored text, so a change made through another server is never missed).
+- :func:`analyze` — :func:`analysis.pipeline.analyze_session` keyed by (test id, hash of the
+  stored session, settings JSON), so moving a threshold back to an earlier position, or any
+  rerun that does not change the settings, costs a cache look-up instead of a new analysis,
+  and a session edited on another server is analysed afresh.
 - :func:`preview_import` — the import check of an uploaded file, keyed by its bytes and options.
 
 Nothing here computes a number itself.
@@ -52,14 +54,9 @@ def get_store() -> Any:
     return _open_store(store_url())
 
 
-@st.cache_data(show_spinner=False, max_entries=32)
-def _load_session(test_id: int, url: str | None) -> Session:
-    return _open_store(url).load_session(int(test_id))
-
-
 def load_session(test_id: int) -> Session:
-    """The session of a stored test (cached; treat the returned object as read-only)."""
-    return _load_session(int(test_id), store_url())
+    """The session of a stored test (the store's own copy for this caller)."""
+    return get_store().load_session(int(test_id))
 
 
 def settings_from_dict(settings: dict[str, Any] | None) -> Any:
@@ -76,26 +73,26 @@ def default_settings_dict() -> dict[str, Any]:
 
 
 @st.cache_data(show_spinner=False, max_entries=64)
-def _analyze(test_id: int, settings_json: str, url: str | None) -> Any:
+def _analyze(test_id: int, settings_json: str, session_digest: str, url: str | None) -> Any:
     from analysis.pipeline import analyze_session
 
-    session = _load_session(int(test_id), url)
+    session = _open_store(url).load_session(int(test_id))
     return analyze_session(session, settings_from_dict(json.loads(settings_json)))
 
 
 def analyze(test_id: int, settings_json: str) -> Any:
     """:class:`analysis.results.TestResults` of a stored test under the given settings JSON."""
-    return _analyze(int(test_id), settings_json, store_url())
+    return _analyze(int(test_id), settings_json, get_store().session_digest(int(test_id)), store_url())
 
 
 @st.cache_data(show_spinner=False, max_entries=64)
-def _results_json(test_id: int, settings_json: str, url: str | None) -> dict[str, Any]:
-    return to_json(_analyze(int(test_id), settings_json, url))
+def _results_json(test_id: int, settings_json: str, session_digest: str, url: str | None) -> dict[str, Any]:
+    return to_json(_analyze(int(test_id), settings_json, session_digest, url))
 
 
 def results_json(test_id: int, settings_json: str) -> dict[str, Any]:
     """``to_json(analyze(...))``, cached separately (pages mostly read this dict)."""
-    return _results_json(int(test_id), settings_json, store_url())
+    return _results_json(int(test_id), settings_json, get_store().session_digest(int(test_id)), store_url())
 
 
 @st.cache_data(show_spinner=False, max_entries=16)
@@ -137,7 +134,6 @@ def clear_test_caches() -> None:
     """Forget cached analyses (after a store change that alters what a test id holds)."""
     _analyze.clear()
     _results_json.clear()
-    _load_session.clear()
 
 
 @st.cache_data(show_spinner=False, max_entries=16)

@@ -425,6 +425,13 @@ class ArchiveMixin(StoreCore):
             test = self._live_test(db, test_id)
             return session_text_of(test.session_text, test.raw_bytes if not test.session_text else b"")
 
+    def session_digest(self, test_id: int) -> str:
+        """SHA-256 of the test's session text: it changes exactly when the stored session does
+        (a metadata edit on any server), so it is a safe cache key for anything computed from it."""
+        from store.session_cache import text_digest
+
+        return text_digest(self.session_text(test_id))
+
     def load_session(self, test_id: int) -> Session:
         """The stored session of a test, ready for :mod:`analysis` (the caller's own copy).
 

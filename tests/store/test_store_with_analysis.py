@@ -137,3 +137,21 @@ def test_the_list_reads_no_results_or_file_columns(real_store):
     sql = str(real_store._summary_query())  # noqa: SLF001
     for heavy in ("results_json", "settings_json", "raw_bytes", "session_text", "flags_json", "mapping_json"):
         assert heavy not in sql
+
+
+def test_a_second_server_sees_a_session_edited_through_the_first(store_url, clock, demo_files):
+    # two store handles on one database stand for two dashboard servers: a metadata edit made
+    # through one changes the session digest the other keys its cached analyses by
+    first, second = open_store(store_url, clock=clock), open_store(store_url, clock=clock)
+    try:
+        rhea = {u.username: u for u in first.list_users()}["rhea"]
+        tid = first.import_test(CYCLE.read_bytes(), file_name=CYCLE.name, actor=rhea).test_id
+        before = second.session_digest(tid)
+        assert second.load_session(tid).meta["body_mass_kg"] != 91.5
+        _, version = first.get_settings(tid)
+        first.update_test_metadata(tid, {"body_mass_kg": 91.5}, actor=rhea, expected_version=version, reason="scale")
+        assert second.session_digest(tid) != before
+        assert second.load_session(tid).meta["body_mass_kg"] == 91.5
+    finally:
+        first.close()
+        second.close()
