@@ -140,3 +140,15 @@ def test_cascade_needs_a_file(capsys):
     assert main(["oxygen", "cascade"]) == EXIT_BAD_INPUT
     assert "cascade FILE" in capsys.readouterr().err
     assert main(["oxygen"]) == EXIT_BAD_INPUT
+
+
+def test_analyze_json_shows_the_what_if_rows(capsys, demo_file):
+    # Issue 15: `tidemark analyze --json` carries oxygen_cascade.what_if with the stable codes.
+    from analysis.oxygen.scenarios import SCENARIO_CODES
+
+    assert main(["analyze", demo_file, "--json"]) == EXIT_OK
+    data = json.loads(capsys.readouterr().out)
+    rows = data["oxygen_cascade"]["what_if"]
+    assert [r["scenario"] for r in rows] == list(SCENARIO_CODES)
+    assert rows[0]["vo2_peak_ml_min"] == pytest.approx(data["vo2_peak_ml_min"], rel=1e-9)
+    assert "oxygen_cascade" in data["methods"]
