@@ -81,20 +81,18 @@ def saturation_vapour_pressure_mmhg(temperature_c: float) -> float:
 
 def _temperature(value: object) -> float:
     low, high = AMBIENT_C_RANGE
-    try:
-        t = float(value)  # type: ignore[arg-type]
-    except (TypeError, ValueError):
-        raise InvalidParameter("temperature_c", f"a room temperature from {low:g} to {high:g} °C", value) from None
+    if not isinstance(value, (int, float)) or isinstance(value, bool):
+        raise InvalidParameter("temperature_c", f"a room temperature from {low:g} to {high:g} °C", value)
+    t = float(value)
     require(math.isfinite(t) and low <= t <= high, "temperature_c", f"a room temperature from {low:g} to {high:g} °C", value)
     return t
 
 
 def _pressure(value: object) -> float:
     low, high = BAROMETRIC_MMHG_RANGE
-    try:
-        p = float(value)  # type: ignore[arg-type]
-    except (TypeError, ValueError):
-        raise InvalidParameter("barometric_mmhg", f"a barometric pressure from {low:g} to {high:g} mmHg", value) from None
+    if not isinstance(value, (int, float)) or isinstance(value, bool):
+        raise InvalidParameter("barometric_mmhg", f"a barometric pressure from {low:g} to {high:g} mmHg", value)
+    p = float(value)
     require(
         math.isfinite(p) and low <= p <= high, "barometric_mmhg", f"a barometric pressure from {low:g} to {high:g} mmHg", value
     )
