@@ -168,9 +168,20 @@ def chart_pick(event: Any, *, chart: ChartName, avg: pd.DataFrame) -> dict[str, 
 # --- state: the settings the reviewer is working on -----------------------------------------
 
 
-def ensure_working(store: Any, test_id: int) -> state.WorkingSettings:
-    """The working settings of ``test_id``, loaded from the store the first time."""
+def ensure_working(store: Any, test_id: int, *, refresh: bool = False) -> state.WorkingSettings:
+    """The working settings of ``test_id``, loaded from the store the first time.
+
+    With ``refresh`` (once per page run), saved working settings are replaced by the store's
+    when someone saved a newer version meanwhile (another reviewer, possibly on another server
+    of a shared deployment), so every rerun shows the others' saved work. Unsaved changes are
+    kept; saving them is then refused as a conflict (no lost update).
+    """
     working = state.working_settings(test_id)
+    if refresh and working is not None and working.saved and not state.save_tracker().status(test_id)[0]:
+        stored_settings, stored_version = store.get_settings(test_id)
+        if stored_version != working.version:
+            working = state.WorkingSettings(dict(stored_settings or data.default_settings_dict()), stored_version, True)
+            state.set_working_settings(test_id, working)
     if working is None:
         settings, version = store.get_settings(test_id)
         working = state.WorkingSettings(dict(settings or data.default_settings_dict()), version, True)
@@ -718,7 +729,7 @@ def render() -> None:
     test_id = _choose_test(store)
     if test_id is None:
         return
-    ensure_working(store, test_id)
+    ensure_working(store, test_id, refresh=True)
     pending, failed = sync_saves(test_id)
     working = ensure_working(store, test_id)
     record = _header(store, test_id, working)

@@ -378,3 +378,26 @@ def test_highlighted_span_is_drawn_on_all_three_charts_and_can_be_cleared(demo_s
     assert review.span_key(test_id) not in at.session_state
     charts = _charts(at)
     assert not [s for s in charts["Time course"]["layout"]["shapes"] if s.get("fillcolor") == SPAN_FILL]
+
+
+def test_a_version_saved_elsewhere_shows_after_a_rerun(demo_store, page_test):
+    # another reviewer (here: another store handle, as on a second server) saves a VT1 placement;
+    # this page had the test open with nothing unsaved and shows the new version on its next run
+    from store import open_store
+
+    test_id = demo_store.test_ids[1]
+    at = page_test(_review_script, tm_user=demo_store.user, tm_test_id=test_id).run()
+    assert not at.exception, at.exception
+    assert "manual" not in _threshold_table(at).iloc[0]["Threshold"]
+    other = open_store(demo_store.url)
+    try:
+        settings, version = other.get_settings(test_id)
+        settings["vt1_override"] = {"t_s": 600.0, "vo2_ml_min": None, "reason": "set on the other server"}
+        other.save_settings(test_id, settings, actor=demo_store.user, reason="other server", expected_version=version)
+    finally:
+        other.close()
+    at.run()
+    assert not at.exception, at.exception
+    vt1 = _threshold_table(at)
+    vt1 = vt1[vt1["Threshold"].str.startswith("VT1")].iloc[0]
+    assert "manual" in vt1["Threshold"] or vt1["Set by"] not in ("", "automatic")
