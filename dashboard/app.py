@@ -160,6 +160,15 @@ def sign_in_subtitle(name: str) -> str:
     return f"{base} — {name}" if name else base
 
 
+def sign_in_client() -> str | None:
+    """Who is signing in, for the per-client limit: the browser's address as the server sees it."""
+    try:
+        address = st.context.ip_address
+    except Exception:  # noqa: BLE001 - not every Streamlit context knows it
+        address = None
+    return f"ip:{address}" if address else None
+
+
 def sign_in_form(store: Any) -> None:
     """Render the staff sign-in form; on success store the user and rerun."""
     st.title("Tidemark")
@@ -174,7 +183,7 @@ def sign_in_form(store: Any) -> None:
         submitted = st.form_submit_button("Sign in", type="primary")
     if submitted:
         try:
-            user = store.authenticate(username.strip(), password)
+            user = store.authenticate(username.strip(), password, client=sign_in_client())
         except Exception as exc:  # noqa: BLE001 - throttling and other refusals are shown plainly
             show_error(exc, context="Sign-in")
             return

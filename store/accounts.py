@@ -3,16 +3,17 @@
 from __future__ import annotations
 
 import re
-from datetime import timedelta
-from typing import ClassVar
+import threading
+from datetime import datetime, timedelta
+from typing import Any, ClassVar
 
-from sqlalchemy import func, select
+from sqlalchemy import func, select, update
 from sqlalchemy.orm import Session as DbSession
 
 from analysis.errors import require
 from store.core import Actor, StoreCore, aware, user_record
 from store.errors import AccountLocked, LoginRefused, NotFound, StoreError
-from store.models import LoginAttempt, UserRow
+from store.models import LoginAttempt, StoreInfo, UserRow
 from store.passwords import (
     DEFAULT_PARAMS,
     ScryptParams,
@@ -28,7 +29,21 @@ MAX_FAILED_LOGINS = 5
 THROTTLE_WINDOW = timedelta(minutes=15)
 #: ... for this long after the last counted failure.
 LOCKOUT = timedelta(minutes=15)
-_FAILURES = ("bad_password", "unknown_user", "disabled")
+#: Failed sign-ins from one client (a browser's address or session) within ``THROTTLE_WINDOW``,
+#: whatever names were typed, that lock that client for ``LOCKOUT`` (name guessing).
+MAX_FAILED_PER_CLIENT = 20
+#: Password checks running at once in one server process: each scrypt check needs about
+#: 128 MiB, so parallel attempts cannot drive the server's memory beyond a few of them.
+MAX_CONCURRENT_CHECKS = 2
+#: How long an attempt waits for a free check before it is refused as "busy", in seconds.
+CHECK_WAIT_S = 30.0
+_CHECKS = threading.BoundedSemaphore(MAX_CONCURRENT_CHECKS)
+#: Outcome of an attempt recorded before its password is checked; it counts as a failure until
+#: the check replaces it (an attempt cut short by a crash stays counted).
+PENDING = "pending"
+_FAILURES = ("bad_password", "unknown_user", "disabled", PENDING)
+#: Key of the ``store_info`` row locked (``SELECT ... FOR UPDATE``) while an attempt is recorded.
+SIGN_IN_LOCK_KEY = "sign_in_lock"
 #: Outcomes after which earlier failures no longer count.
 _RESETS = ("ok", "unlocked")
 USERNAME_RE = re.compile(r"^[a-z0-9][a-z0-9._@-]{1,119}$")
@@ -167,49 +182,104 @@ class AccountsMixin(StoreCore):
             cache[self.password_params] = hash_password("not-a-real-password", params=self.password_params)
         return cache[self.password_params]
 
-    def login_locked_for(self, username: str) -> float:
-        """Seconds until ``username`` may try again (0 when not locked)."""
-        name = normalise_username(username)
-        now = self.now()
-        with self._read() as db:
-            times = db.execute(
-                select(LoginAttempt.at)
-                .where(LoginAttempt.username == name, LoginAttempt.outcome.in_(_FAILURES),
-                       LoginAttempt.at > now - THROTTLE_WINDOW)
-                .order_by(LoginAttempt.at.desc())
-            ).scalars().all()
-            last_ok = db.execute(
-                select(func.max(LoginAttempt.at)).where(LoginAttempt.username == name, LoginAttempt.outcome.in_(_RESETS))
-            ).scalar_one_or_none()
-        last_ok = aware(last_ok)
-        recent = [aware(t) for t in times if last_ok is None or aware(t) > last_ok]
-        if len(recent) < MAX_FAILED_LOGINS:
+    def _wait_s(self, db: DbSession, column: Any, value: str, limit: int, now: datetime) -> float:
+        """Seconds until ``value`` (a user name or a client) may try again (0 when not locked)."""
+        last_reset = aware(db.execute(
+            select(func.max(LoginAttempt.at)).where(column == value, LoginAttempt.outcome.in_(_RESETS))
+        ).scalar_one_or_none())
+        since = now - THROTTLE_WINDOW if last_reset is None else max(now - THROTTLE_WINDOW, last_reset)
+        failures = db.execute(
+            select(func.count(LoginAttempt.id), func.max(LoginAttempt.at))
+            .where(column == value, LoginAttempt.outcome.in_(_FAILURES), LoginAttempt.at > since)
+        ).one()
+        if failures[0] < limit:
             return 0.0
-        until = recent[0] + LOCKOUT
+        last = aware(failures[1])
+        if last is None:
+            return 0.0
+        until = last + LOCKOUT
         return max(0.0, (until - now).total_seconds())
 
-    def authenticate(self, username: str, password: str) -> User:
+    def login_locked_for(self, username: str, *, client: str | None = None) -> float:
+        """Seconds until ``username`` (or ``client``) may try again (0 when not locked)."""
+        name = normalise_username(username)[:120]
+        now = self.now()
+        with self._read() as db:
+            wait = self._wait_s(db, LoginAttempt.username, name, MAX_FAILED_LOGINS, now)
+            if client:
+                wait = max(wait, self._wait_s(db, LoginAttempt.client, client[:64], MAX_FAILED_PER_CLIENT, now))
+            return wait
+
+    def _lock_sign_in(self, db: DbSession) -> None:
+        """Serialise the recording of sign-in attempts across processes.
+
+        SQLite: the writing transaction already began with ``BEGIN IMMEDIATE`` (one writer at a
+        time). PostgreSQL: ``SELECT ... FOR UPDATE`` on one ``store_info`` row (created when
+        missing), held until this short transaction ends.
+        """
+        if self.dialect != "postgresql":
+            return
+        from sqlalchemy.dialects.postgresql import insert as pg_insert
+
+        db.execute(pg_insert(StoreInfo).values(key=SIGN_IN_LOCK_KEY, value="").on_conflict_do_nothing())
+        db.execute(select(StoreInfo.value).where(StoreInfo.key == SIGN_IN_LOCK_KEY).with_for_update()).scalar_one()
+
+    def _begin_attempt(self, name: str, client: str | None) -> tuple[int | None, float, str]:
+        """Record an attempt before its password is checked, in one locking transaction.
+
+        Returns ``(attempt id, 0, "")``, or ``(None, seconds to wait, whose lock)`` when the
+        name or the client is locked (then a ``locked`` attempt is recorded instead).
+        """
+        with self._tx() as db:
+            self._lock_sign_in(db)
+            now = self.now()
+            wait = self._wait_s(db, LoginAttempt.username, name, MAX_FAILED_LOGINS, now)
+            whose = "name"
+            if client and wait <= 0:
+                wait = self._wait_s(db, LoginAttempt.client, client, MAX_FAILED_PER_CLIENT, now)
+                whose = "client"
+            row = LoginAttempt(username=name, at=now, outcome="locked" if wait > 0 else PENDING, client=client)
+            db.add(row)
+            db.flush()
+            return (None, wait, whose) if wait > 0 else (row.id, 0.0, "")
+
+    def _finish_attempt(self, attempt_id: int, outcome: str) -> None:
+        with self._tx() as db:
+            db.execute(update(LoginAttempt).where(LoginAttempt.id == attempt_id).values(outcome=outcome))
+
+    def authenticate(self, username: str, password: str, *, client: str | None = None) -> User:
         """Check a local user name and password; every attempt is logged.
 
-        After ``MAX_FAILED_LOGINS`` failures for one user name within ``THROTTLE_WINDOW`` (whether or
-        not the account exists), that name is locked for ``LOCKOUT``: :class:`AccountLocked`.
-        Otherwise a wrong name, wrong password or disabled account all give the same
-        :class:`LoginRefused` message, and take the same time (a hash is always computed).
+        The attempt is recorded (as ``pending``, counted as a failure) before the password is
+        checked, in one locking transaction, so parallel attempts cannot all pass the count:
+        after ``MAX_FAILED_LOGINS`` failures for one user name within ``THROTTLE_WINDOW``
+        (whether or not the account exists), or ``MAX_FAILED_PER_CLIENT`` from one ``client``
+        (the browser's address or session, as the dashboard passes it), the name or the client
+        is locked for ``LOCKOUT``: :class:`AccountLocked`. At most ``MAX_CONCURRENT_CHECKS``
+        password checks run at once. A wrong name, wrong password or disabled account all
+        give the same :class:`LoginRefused` message and take the same time.
         """
         name = normalise_username(username)[:120]
-        wait_s = self.login_locked_for(name)
-        if wait_s > 0:
-            self._log_attempt(name, "locked")
+        client = (client or "").strip()[:64] or None
+        attempt_id, wait_s, whose = self._begin_attempt(name, client)
+        if attempt_id is None:
             minutes = max(1, round(wait_s / 60))
+            where = "for this user name" if whose == "name" else "from this computer"
             raise AccountLocked(
-                f"Too many failed sign-ins for this user name. Try again in about {minutes} minute(s), "
+                f"Too many failed sign-ins {where}. Try again in about {minutes} minute(s), "
                 "or ask an administrator.",
                 retry_after_s=wait_s,
             )
-        with self._read() as db:
-            row = db.execute(select(UserRow).where(UserRow.username == name)).scalar_one_or_none()
-            stored = row.password_hash if row is not None and row.auth_source == "local" else None
-        ok = verify_password(password or "", stored or self._dummy())
+        if not _CHECKS.acquire(timeout=CHECK_WAIT_S):
+            self._finish_attempt(attempt_id, "busy")
+            raise LoginRefused("The server is busy checking other sign-ins. Try again in a minute.")
+        try:
+            with self._read() as db:
+                row = db.execute(select(UserRow).where(UserRow.username == name)).scalar_one_or_none()
+                stored = row.password_hash if row is not None and row.auth_source == "local" else None
+            ok = verify_password(password or "", stored or self._dummy())
+        finally:
+            _CHECKS.release()
         if row is None or stored is None:
             outcome = "unknown_user"
         elif not ok:
@@ -218,7 +288,7 @@ class AccountsMixin(StoreCore):
             outcome = "disabled"
         else:
             outcome = "ok"
-        self._log_attempt(name, outcome)
+        self._finish_attempt(attempt_id, outcome)
         if outcome != "ok" or row is None or stored is None:  # "ok" has both; the checks tell the type checker
             raise LoginRefused("The user name or password is not correct, or the account is disabled.")
         if needs_rehash(stored, params=self.password_params):

@@ -15,6 +15,7 @@ from sqlalchemy.orm import Session as DbSession
 from sqlalchemy.orm import sessionmaker
 
 from store.analysis_bridge import AnalysisBridge
+from store.audit_chain import AUDIT_HEAD_KEY, GENESIS, ChainReport, decode_head, encode_head, hash_of, verify_rows
 from store.config import READ_ONLY_OPTION
 from store.errors import PermissionDenied
 from store.models import AuditEvent, StoreInfo, UserRow
@@ -22,6 +23,8 @@ from store.records import ROLE_ORDER, Operator, User
 from store.session_cache import SessionCache
 
 Clock = Callable[[], datetime]
+#: Key in a database session's ``info`` holding the audit chain head read in that transaction.
+_HEAD_CACHE = "tidemark_audit_head"
 
 
 def utc_now() -> datetime:
@@ -155,20 +158,55 @@ class StoreCore:
         new: Any = None,
         reason: str = "",
     ) -> None:
-        db.add(
-            AuditEvent(
-                at=self.now(),
-                actor_id=actor_row.id if actor_row is not None else None,
-                actor_name=self._actor_name(actor, actor_row),
-                action=action,
-                test_id=test_id,
-                person_id=person_id,
-                field=field,
-                old_value=None if old is None else to_json(old),
-                new_value=None if new is None else to_json(new),
-                reason=reason or "",
-            )
+        rows, prev = self._audit_head(db)
+        event = AuditEvent(
+            at=self.now(),
+            actor_id=actor_row.id if actor_row is not None else None,
+            actor_name=self._actor_name(actor, actor_row),
+            action=action,
+            test_id=test_id,
+            person_id=person_id,
+            field=field,
+            old_value=None if old is None else to_json(old),
+            new_value=None if new is None else to_json(new),
+            reason=reason or "",
+            prev_hash=prev,
         )
+        event.row_hash = hash_of(event, prev)
+        db.add(event)
+        db.info[_HEAD_CACHE] = (rows + 1, event.row_hash)
+        self._set_info(db, AUDIT_HEAD_KEY, encode_head(rows + 1, event.row_hash))
+
+    def _audit_head(self, db: DbSession) -> tuple[int, str]:
+        """The chain head ``(rows, last hash)``, locked for this transaction on first use.
+
+        SQLite: writing transactions begin with ``BEGIN IMMEDIATE``, so the head cannot move
+        under us. PostgreSQL: ``SELECT ... FOR UPDATE`` on the head row (created when missing),
+        so that concurrent writers extend one chain instead of forking it.
+        """
+        cached = db.info.get(_HEAD_CACHE)
+        if cached is not None:
+            return cached  # type: ignore[no-any-return]
+        if self.dialect == "postgresql":
+            from sqlalchemy.dialects.postgresql import insert as pg_insert
+
+            db.execute(pg_insert(StoreInfo).values(key=AUDIT_HEAD_KEY, value=encode_head(0, GENESIS))
+                       .on_conflict_do_nothing())
+        value = db.execute(
+            select(StoreInfo.value).where(StoreInfo.key == AUDIT_HEAD_KEY).with_for_update()
+        ).scalar_one_or_none()
+        head = decode_head(value)
+        db.info[_HEAD_CACHE] = head
+        return head
+
+    def verify_audit_chain(self) -> ChainReport:
+        """Walk the audit trail's hash chain and report the first broken link (``tidemark audit verify``)."""
+        with self._read() as db:
+            value = self._info(db, AUDIT_HEAD_KEY)
+            rows = db.execute(
+                select(AuditEvent).order_by(AuditEvent.id).execution_options(yield_per=2000)
+            ).scalars()
+            return verify_rows(rows, None if value is None else decode_head(value))
 
     # ----------------------------------------------------------------- store facts
     def _info(self, db: DbSession, key: str) -> str | None:

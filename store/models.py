@@ -1,7 +1,8 @@
 """Database tables of the store (SQLAlchemy 2 typed models).
 
 Nothing is deleted in place: tests and people carry ``deleted_at``; analysis versions, audit
-events, sign-offs, login attempts and share views are append-only. Times are stored in UTC.
+events, sign-offs, login attempts and share views are append-only; for audit events, analysis
+versions and sign-offs database triggers refuse UPDATE and DELETE (migration ``0006``). Times are stored in UTC.
 The schema is created and upgraded by the Alembic migrations in ``store/migrations``; a test
 checks that the migrations and these models agree.
 """
@@ -74,8 +75,11 @@ class LoginAttempt(Base):
     #: As typed (normalised to lower case); kept even when no such account exists.
     username: Mapped[str] = mapped_column(String(120))
     at: Mapped[datetime] = mapped_column(DateTime(timezone=True))
-    #: ``ok``, ``bad_password``, ``unknown_user``, ``disabled``, ``locked`` or ``unlocked`` (by an admin).
+    #: ``pending`` (recorded before the check), ``ok``, ``bad_password``, ``unknown_user``,
+    #: ``disabled``, ``locked``, ``busy`` or ``unlocked`` (by an admin).
     outcome: Mapped[str] = mapped_column(String(16))
+    #: Who tried, as the dashboard knows it (the browser's address or session); ``None`` otherwise.
+    client: Mapped[str | None] = mapped_column(String(64), index=True)
 
 
 class PersonRow(Base):
@@ -194,6 +198,9 @@ class AuditEvent(Base):
     old_value: Mapped[str | None] = mapped_column(Text)
     new_value: Mapped[str | None] = mapped_column(Text)
     reason: Mapped[str] = mapped_column(Text, default="")
+    #: The hash chain (``store/audit_chain.py``): ``row_hash`` of the row before, and this row's.
+    prev_hash: Mapped[str | None] = mapped_column(String(64))
+    row_hash: Mapped[str | None] = mapped_column(String(64))
 
 
 class ShareLink(Base):

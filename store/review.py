@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import json
+from datetime import datetime
 from typing import Any, cast
 
 from sqlalchemy import CursorResult, select, update
@@ -146,6 +147,15 @@ class ReviewMixin(ArchiveMixin):
             ))
             if bumped.rowcount != 1:
                 raise self._conflict(db, test_id, expected_version)
+            # Checked again here: a sign-off may have landed while the results were computed
+            # (the row lock taken by the UPDATE above makes a concurrent sign-off wait or be seen).
+            if not reason and db.execute(
+                select(SignOff.id).where(SignOff.test_id == test_id, SignOff.version == expected_version)
+            ).first() is not None:
+                raise StoreError(
+                    f"Version {expected_version} of test {test_id} was signed off while you were editing; give a "
+                    "reason for the change (it starts a new, unsigned version)."
+                )
             now = self.now()
             db.add(
                 AnalysisVersion(
@@ -191,7 +201,11 @@ class ReviewMixin(ArchiveMixin):
         with self._tx() as db:
             actor_row = self._check_actor(db, actor, "reviewer", "sign off tests")
             test = self._live_test(db, test_id)
-            current = test.current_version
+            # Lock the test row (PostgreSQL; SQLite's BEGIN IMMEDIATE already serialises writers) so
+            # that a save running at the same time either waits for this sign-off or is seen here.
+            current = db.execute(
+                select(TestRow.current_version).where(TestRow.id == test_id).with_for_update()
+            ).scalar_one()
             if version is not None and version != current:
                 raise self._conflict(db, test_id, version)
             exists = db.execute(
@@ -206,7 +220,28 @@ class ReviewMixin(ArchiveMixin):
                 db, actor=actor, actor_row=actor_row, action="sign_off", test_id=test_id,
                 person_id=test.person_id, field="version", new=current, reason=note,
             )
+            reset = self._password_set_by_other(db, actor_row.username)
+            if reset is not None:
+                by, at = reset
+                self._audit(
+                    db, actor=actor, actor_row=actor_row, action="sign_off_after_reset", test_id=test_id,
+                    person_id=test.person_id, field="version", new=current,
+                    reason=(f"{actor_row.username}'s password was set by {by} at {at:%Y-%m-%d %H:%M} UTC and "
+                            f"{actor_row.username} has not changed it since: check that {actor_row.username} "
+                            "signed this off in person"),
+                )
             return current
+
+    def _password_set_by_other(self, db: DbSession, username: str) -> tuple[str, datetime] | None:
+        """Who set ``username``'s password last and when, when that was somebody else."""
+        last = db.execute(
+            select(AuditEvent.actor_name, AuditEvent.at)
+            .where(AuditEvent.action == "user_password", AuditEvent.field == username)
+            .order_by(AuditEvent.id.desc()).limit(1)
+        ).first()
+        if last is None or last.actor_name == username:
+            return None
+        return last.actor_name, aware(last.at)
 
     def audit_log(self, test_id: int | None = None, *, person_id: int | None = None, limit: int = 1000) -> list[AuditEntry]:
         """Audit events, oldest first: of one test, one person, or (both ``None``) the whole store."""

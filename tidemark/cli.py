@@ -44,6 +44,7 @@ COMMANDS: dict[str, Command] = {
     "oxygen": Command("oxygen", "saturation, O2 content and P50 on a dissociation curve"),
     "serve": Command("serve", "start the dashboard in the browser"),
     "users": Command("users", "manage staff accounts (add, list, set-role, disable)"),
+    "audit": Command("audit", "check the store's audit trail (verify: the first broken link of its hash chain)"),
 }
 
 EXIT_OK = 0

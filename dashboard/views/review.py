@@ -673,6 +673,7 @@ AUDIT_ACTIONS = {
     "import": "imported", "settings_change": "setting changed", "sign_off": "signed off",
     "person_edit": "person edited", "soft_delete": "deleted", "restore": "restored",
     "share_create": "share link created", "share_revoke": "share link revoked",
+    "sign_off_after_reset": "CAUTION: signed off with a password an administrator set",
 }
 AUDIT_FIELDS = {
     "vt1_override": "VT1 placed by a reviewer", "vt2_override": "VT2 placed by a reviewer",
