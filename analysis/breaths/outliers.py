@@ -74,6 +74,21 @@ def _neighbour_stats(values: np.ndarray, half: int) -> tuple[np.ndarray, np.ndar
     return mean, sd
 
 
+def _beyond_limits(values: np.ndarray, columns: Sequence[str]) -> np.ndarray:
+    """Per column (row of ``values``), the breaths outside that column's physical limits."""
+    out = np.zeros(values.shape, dtype=bool)
+    for j, col in enumerate(columns):
+        spec = C.COLUMNS.get(col)
+        if spec is None:
+            continue
+        with np.errstate(invalid="ignore"):
+            if spec.reject_below is not None:
+                out[j] |= values[j] < spec.reject_below
+            if spec.reject_above is not None:
+                out[j] |= values[j] > spec.reject_above
+    return out
+
+
 def _neighbour_mean(values: np.ndarray, half: int) -> np.ndarray:
     """Trimmed mean of the ``half`` breaths on each side of every breath (see :func:`_neighbour_stats`)."""
     return _neighbour_stats(values, half)[0]
@@ -218,6 +233,11 @@ def outlier_columns(
     half = window_breaths // 2
     spread_window = max(31, _SPREAD_WINDOW_FACTOR * window_breaths)
     V = np.vstack([breaths[col].to_numpy(dtype=float) for col in columns])
+    # Breaths beyond the physical limits of a column (analysis.columns; the importer keeps a
+    # few isolated ones as artefacts) are excluded whatever their neighbours say, and are left
+    # out of their neighbours' statistics.
+    beyond = _beyond_limits(V, columns)
+    V = np.where(beyond, np.nan, V)
     M, neighbour_sd = _neighbour_stats(V, half)
     S = _local_spread(V - M, spread_window)
     # Floors: the spread of the neighbours themselves (where the signal itself changes
@@ -228,9 +248,11 @@ def outlier_columns(
     with np.errstate(invalid="ignore", divide="ignore"):
         Z = np.abs(V - M) / S
     Z[~np.isfinite(Z)] = 0.0
+    Z[beyond] = np.inf
     worst = np.argmax(Z, axis=0)
     zmax = Z[worst, np.arange(n)]
     hit = np.flatnonzero(zmax > k_sd)
+    raw = np.vstack([breaths[col].to_numpy(dtype=float) for col in columns])
     src = (
         breaths["source_row"].to_numpy()
         if "source_row" in breaths.columns
@@ -238,7 +260,7 @@ def outlier_columns(
     )
     t = breaths[C.T_S].to_numpy(dtype=float) if C.T_S in breaths.columns else np.full(n, np.nan)
     wj = worst[hit]
-    value, local_mean, local_sd = V[wj, hit], M[wj, hit], S[wj, hit]
+    value, local_mean, local_sd = raw[wj, hit], M[wj, hit], S[wj, hit]
     names = [columns[j] for j in wj]
     reasons = []
     for q, i in enumerate(hit):
@@ -247,6 +269,13 @@ def outlier_columns(
         direction = "above" if value[q] > local_mean[q] else "below"
         unit = C.COLUMNS[col].unit if col in C.COLUMNS else ""
         label = C.COLUMNS[col].label if col in C.COLUMNS else col
+        if beyond[j, i]:
+            spec = C.COLUMNS[col]
+            reasons.append(
+                f"{label} {value[q]:.6g} {unit} is beyond physical limits ({spec.reject_below:g} to "
+                f"{spec.reject_above:g} {unit}): an artefact such as a cough or a mask re-seat"
+            )
+            continue
         reason = (
             f"{label} {value[q]:.4g} {unit} is {zmax[i]:.1f} SD {direction} the neighbouring "
             f"breaths (mean {local_mean[q]:.4g} {unit})"

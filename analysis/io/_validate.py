@@ -33,6 +33,7 @@ REASON_DUPLICATE_TIME = "duplicate time"
 REASON_GAP = "gap over 15 s"
 REASON_MISSING = "missing value"
 REASON_PHASE = "unknown phase label"
+REASON_ARTEFACT = "beyond physical limits (artefact)"
 FLAG_REASONS: tuple[str, ...] = (
     REASON_BELOW,
     REASON_ABOVE,
@@ -41,7 +42,37 @@ FLAG_REASONS: tuple[str, ...] = (
     REASON_GAP,
     REASON_MISSING,
     REASON_PHASE,
+    REASON_ARTEFACT,
 )
+
+#: Columns where an isolated value beyond the physical limits is kept as an artefact breath
+#: (a cough, a swallow, a mask re-seat) for the analysis to exclude, instead of refusing the
+#: file: the columns the outlier rule tests (``analysis.breaths.outliers``).
+ARTEFACT_COLUMNS: tuple[str, ...] = (C.VO2_ML_MIN, C.VCO2_ML_MIN, C.VE_L_MIN)
+#: At most this many artefact breaths (or 1 % of the breaths, whichever is more) are kept;
+#: more, or a run of more than :data:`ARTEFACT_MAX_RUN` in a row, is systematic (a unit error)
+#: and the file is refused (common practice: artefact breaths are rare and scattered).
+ARTEFACT_MAX_COUNT = 3
+ARTEFACT_MAX_FRACTION = 0.01
+ARTEFACT_MAX_RUN = 2
+#: Files with fewer breaths than this keep today's rule (every impossible value refused): a
+#: handful of rows with an impossible one is not "an otherwise fine test".
+ARTEFACT_MIN_BREATHS = 60
+
+
+def artefact_rows(impossible: np.ndarray) -> bool:
+    """True when the breaths in ``impossible`` (bool per breath) are few and isolated."""
+    count = int(impossible.sum())
+    if count == 0:
+        return True
+    if impossible.size < ARTEFACT_MIN_BREATHS:
+        return False
+    if count > max(ARTEFACT_MAX_COUNT, int(np.ceil(ARTEFACT_MAX_FRACTION * impossible.size))):
+        return False
+    padded = np.concatenate([[0], impossible.astype(np.int8), [0]])
+    edges = np.flatnonzero(np.diff(padded))
+    runs = edges[1::2] - edges[::2]
+    return bool(runs.max() <= ARTEFACT_MAX_RUN)
 
 #: Column name used in flags for the respiratory exchange ratio (derived, VCO2/VO2).
 RER_COLUMN = "rer"
@@ -194,6 +225,28 @@ def normalise_phase(values: pd.Series) -> pd.Series:
     return pd.Series(out, index=values.index, name=values.name, dtype=object)
 
 
+def _beyond_limits(v: np.ndarray, name: str) -> np.ndarray:
+    """Values outside the physical limits of column ``name`` (:mod:`analysis.columns`)."""
+    spec = C.COLUMNS[name]
+    out = np.zeros(len(v), dtype=bool)
+    if spec.reject_below is not None:
+        out |= v < spec.reject_below
+    if spec.reject_above is not None:
+        out |= v > spec.reject_above
+    return out
+
+
+def _rer_beyond(frame: pd.DataFrame) -> np.ndarray:
+    """Breaths whose RER (VCO2/VO2) is above :data:`analysis.columns.RER_REJECT_ABOVE`."""
+    if C.VO2_ML_MIN not in frame.columns or C.VCO2_ML_MIN not in frame.columns:
+        return np.zeros(len(frame), dtype=bool)
+    vo2 = frame[C.VO2_ML_MIN].to_numpy(dtype=float)
+    vco2 = frame[C.VCO2_ML_MIN].to_numpy(dtype=float)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        rer = np.where(vo2 > 0, vco2 / vo2, np.nan)
+    return np.asarray(rer > C.RER_REJECT_ABOVE)
+
+
 def check_and_flag(
     frame: pd.DataFrame | Mapping[str, Any],
     *,
@@ -221,25 +274,33 @@ def check_and_flag(
     def header(name: str) -> str:
         return headers.get(name, name)
 
+    artefact_cols = [n for n in ARTEFACT_COLUMNS if n in frame.columns]
+    beyond = {n: _beyond_limits(frame[n].to_numpy(dtype=float), n) for n in artefact_cols}
+    rer_beyond = _rer_beyond(frame)
+    any_beyond = np.logical_or.reduce([*beyond.values(), rer_beyond]) if artefact_cols else rer_beyond
+    # A few isolated impossible breaths are artefacts (kept, flagged, excluded by the analysis);
+    # many, or a run of them, are systematic and refused with the hint to check the unit.
+    tolerated = artefact_rows(any_beyond)
     for name in C.NUMERIC:
         if name not in frame:
             continue
         spec = C.COLUMNS[name]
         v = np.asarray(frame[name], dtype=float)
         lo, hi = spec.reject_below, spec.reject_above
-        impossible = np.zeros(len(v), dtype=bool)
-        if lo is not None:
-            impossible |= v < lo
-        if hi is not None:
-            impossible |= v > hi
+        impossible = _beyond_limits(v, name)
         unit_hint = f"; {unit_notes[name]}" if name in unit_notes else ""
-        for i in np.flatnonzero(impossible):
-            problems.add(
-                f"{spec.label} {_fmt(v[i])} {spec.unit} is impossible (allowed {_fmt(lo)} to {_fmt(hi)} {spec.unit})",
-                f"correct or delete this row, or check the column's unit{unit_hint}",
-                row=int(rows[i]),
-                column=header(name),
-            )
+        if tolerated and name in beyond:
+            flags += [(int(rows[i]), name, REASON_ARTEFACT) for i in np.flatnonzero(impossible)]
+        else:
+            many = f" ({int(impossible.sum())} breaths)" if impossible.sum() > 1 else ""
+            for i in np.flatnonzero(impossible):
+                problems.add(
+                    f"{spec.label} {_fmt(v[i])} {spec.unit} is impossible (allowed {_fmt(lo)} to {_fmt(hi)} {spec.unit})"
+                    + (f"; too many such breaths to be artefacts{many}" if name in beyond else ""),
+                    f"correct or delete this row, or check the column's unit{unit_hint}",
+                    row=int(rows[i]),
+                    column=header(name),
+                )
         usable = ~impossible & ~np.isnan(v)
         if spec.flag_below is not None:
             flags.append((rows[usable & (v < spec.flag_below)], name, REASON_BELOW))
@@ -254,6 +315,9 @@ def check_and_flag(
         with np.errstate(divide="ignore", invalid="ignore"):
             rer = np.where(vo2 > 0, vco2 / vo2, np.nan)
         for i in np.flatnonzero(rer > C.RER_REJECT_ABOVE):
+            if tolerated:
+                flags.append((int(rows[i]), RER_COLUMN, REASON_ARTEFACT))
+                continue
             problems.add(
                 f"RER (VCO2/VO2) is {rer[i]:.2f}, above {C.RER_REJECT_ABOVE:g}: not a human breath",
                 "check that VO2 and VCO2 are not swapped and are in the same unit",
