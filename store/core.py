@@ -186,7 +186,7 @@ class StoreCore:
         """
         cached = db.info.get(_HEAD_CACHE)
         if cached is not None:
-            return cached  # type: ignore[no-any-return]
+            return (int(cached[0]), str(cached[1]))
         if self.dialect == "postgresql":
             from sqlalchemy.dialects.postgresql import insert as pg_insert
 

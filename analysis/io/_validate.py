@@ -236,12 +236,12 @@ def _beyond_limits(v: np.ndarray, name: str) -> np.ndarray:
     return out
 
 
-def _rer_beyond(frame: pd.DataFrame) -> np.ndarray:
+def _rer_beyond(frame: pd.DataFrame | Mapping[str, Any], n: int) -> np.ndarray:
     """Breaths whose RER (VCO2/VO2) is above :data:`analysis.columns.RER_REJECT_ABOVE`."""
-    if C.VO2_ML_MIN not in frame.columns or C.VCO2_ML_MIN not in frame.columns:
-        return np.zeros(len(frame), dtype=bool)
-    vo2 = frame[C.VO2_ML_MIN].to_numpy(dtype=float)
-    vco2 = frame[C.VCO2_ML_MIN].to_numpy(dtype=float)
+    if C.VO2_ML_MIN not in frame or C.VCO2_ML_MIN not in frame:
+        return np.zeros(n, dtype=bool)
+    vo2 = np.asarray(frame[C.VO2_ML_MIN], dtype=float)
+    vco2 = np.asarray(frame[C.VCO2_ML_MIN], dtype=float)
     with np.errstate(divide="ignore", invalid="ignore"):
         rer = np.where(vo2 > 0, vco2 / vo2, np.nan)
     return np.asarray(rer > C.RER_REJECT_ABOVE)
@@ -274,9 +274,9 @@ def check_and_flag(
     def header(name: str) -> str:
         return headers.get(name, name)
 
-    artefact_cols = [n for n in ARTEFACT_COLUMNS if n in frame.columns]
-    beyond = {n: _beyond_limits(frame[n].to_numpy(dtype=float), n) for n in artefact_cols}
-    rer_beyond = _rer_beyond(frame)
+    artefact_cols = [n for n in ARTEFACT_COLUMNS if n in frame]
+    beyond = {n: _beyond_limits(np.asarray(frame[n], dtype=float), n) for n in artefact_cols}
+    rer_beyond = _rer_beyond(frame, len(rows))
     any_beyond = np.logical_or.reduce([*beyond.values(), rer_beyond]) if artefact_cols else rer_beyond
     # A few isolated impossible breaths are artefacts (kept, flagged, excluded by the analysis);
     # many, or a run of them, are systematic and refused with the hint to check the unit.
@@ -290,7 +290,7 @@ def check_and_flag(
         impossible = _beyond_limits(v, name)
         unit_hint = f"; {unit_notes[name]}" if name in unit_notes else ""
         if tolerated and name in beyond:
-            flags += [(int(rows[i]), name, REASON_ARTEFACT) for i in np.flatnonzero(impossible)]
+            flags.append((rows[impossible], name, REASON_ARTEFACT))
         else:
             many = f" ({int(impossible.sum())} breaths)" if impossible.sum() > 1 else ""
             for i in np.flatnonzero(impossible):
@@ -314,10 +314,9 @@ def check_and_flag(
         vco2 = np.asarray(frame[C.VCO2_ML_MIN], dtype=float)
         with np.errstate(divide="ignore", invalid="ignore"):
             rer = np.where(vo2 > 0, vco2 / vo2, np.nan)
-        for i in np.flatnonzero(rer > C.RER_REJECT_ABOVE):
-            if tolerated:
-                flags.append((int(rows[i]), RER_COLUMN, REASON_ARTEFACT))
-                continue
+        if tolerated:
+            flags.append((rows[rer > C.RER_REJECT_ABOVE], RER_COLUMN, REASON_ARTEFACT))
+        for i in np.flatnonzero(rer > C.RER_REJECT_ABOVE) if not tolerated else ():
             problems.add(
                 f"RER (VCO2/VO2) is {rer[i]:.2f}, above {C.RER_REJECT_ABOVE:g}: not a human breath",
                 "check that VO2 and VCO2 are not swapped and are in the same unit",
