@@ -10,7 +10,7 @@ import math
 from dataclasses import dataclass
 from typing import Any
 
-from analysis.errors import AnalysisError
+from analysis.errors import AnalysisError, InvalidParameter
 from analysis.session import Session
 
 
@@ -107,3 +107,7 @@ def run_analysis(bridge: AnalysisBridge, session: Session, settings: dict[str, A
         return bridge.analyze(session, settings), None
     except AnalysisError as exc:
         return None, str(exc)
+    except InvalidParameter as exc:
+        # data the importer accepted but a method cannot use (e.g. no ventilation at all): the
+        # test is still stored and the reason shown, as for AnalysisError
+        return None, f"The analysis could not be carried out on these data ({exc}) Check the flagged rows."

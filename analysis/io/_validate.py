@@ -32,7 +32,7 @@ REASON_RER = "RER outside 0.6-1.6"
 REASON_DUPLICATE_TIME = "duplicate time"
 REASON_GAP = "gap over 15 s"
 REASON_MISSING = "missing value"
-REASON_PHASE = "unknown phase label"
+REASON_PHASE = "unknown phase label (left without a phase)"
 REASON_ARTEFACT = "beyond physical limits (artefact)"
 FLAG_REASONS: tuple[str, ...] = (
     REASON_BELOW,
@@ -207,14 +207,39 @@ def _fmt(value: float | None) -> str:
     return "no limit" if value is None else f"{value:.6g}"
 
 
+#: Words inside a phase label that name its phase ("Recovery 2", "Stage 3", "Rest phase"),
+#: tried in this order ("unloaded" before "load").
+_PHASE_WORDS: tuple[tuple[str, str], ...] = (
+    ("recover", "recovery"), ("cool", "recovery"), ("warm", "warmup"), ("unload", "warmup"),
+    ("rest", "rest"), ("baseline", "rest"), ("exercise", "exercise"), ("ramp", "exercise"),
+    ("stage", "exercise"), ("step", "exercise"), ("load", "exercise"),
+)
+
+
+def map_phase_label(label: str) -> str | None:
+    """The phase of :data:`analysis.columns.PHASES` a written label names, or ``None``."""
+    key = label.strip().lower()
+    if key in C.PHASES:
+        return key
+    if key in _PHASE_SYNONYMS:
+        return _PHASE_SYNONYMS[key]
+    return next((phase for word, phase in _PHASE_WORDS if word in key), None)
+
+
+def unknown_phase_labels(values: Any) -> list[str]:
+    """Distinct labels (as written) that :func:`map_phase_label` cannot place."""
+    seen = pd.unique(np.asarray(values, dtype=object))
+    return [v for v in seen if isinstance(v, str) and v.strip() and map_phase_label(v) is None]
+
+
 def normalise_phase(values: pd.Series) -> pd.Series:
-    """Map phase synonyms to :data:`analysis.columns.PHASES`; other text is kept as written."""
+    """Map phase labels to :data:`analysis.columns.PHASES` (synonyms and words such as
+    "Stage 3" or "Recovery 2"); other text is kept as written (flagged, then left out)."""
 
     def one(v: Any) -> Any:
         if not isinstance(v, str):
             return v
-        key = v.strip().lower()
-        return _PHASE_SYNONYMS.get(key, v.strip())
+        return map_phase_label(v) or v.strip()
 
     codes, uniques = pd.factorize(values)  # a handful of labels: map each once; None/NaN kept as they are
     mapped = np.empty(len(uniques), dtype=object)
@@ -394,5 +419,14 @@ def finish_session(
     data["source_row"] = np.asarray(frame["source_row"], dtype=np.int64)
     flags = check_and_flag(data, problems=problems, headers=headers, unit_notes=unit_notes)
     problems.raise_if_any()
+    if C.PHASE in data:
+        # flagged above; left without a phase so that the analysis (which knows only
+        # analysis.columns.PHASES) finds the phases from the data instead of refusing the test
+        phase = np.asarray(data[C.PHASE], dtype=object)
+        known = np.array([not isinstance(v, str) or v in C.PHASES for v in phase], dtype=bool)
+        if not known.all():
+            phase = phase.copy()
+            phase[~known] = None
+            data[C.PHASE] = pd.Series(phase, dtype=object)
     frame = pd.DataFrame(data)
     return Session(meta=meta, breaths=frame, flags=flags, source_name=file_name)

@@ -24,7 +24,7 @@ from analysis.io._gc import gc_paused
 from analysis.io._limits import check_line_count
 from analysis.io._table import LocatedTable, Row, choose_delimiter, classify, locate_table, split_rows
 from analysis.io._units import CANONICAL_UNIT, UNIT_LABELS, factor
-from analysis.io._validate import ProblemLog, checked_meta, finish_session, report_cells
+from analysis.io._validate import ProblemLog, checked_meta, finish_session, report_cells, unknown_phase_labels
 from analysis.io._xlsx import list_sheets, sheet_rows
 from analysis.io.mapping import _LOOKUP as _HEADER_KEYS
 from analysis.io.mapping import IGNORE, ColumnMapping, guess_mapping, is_per_kg, split_header
@@ -563,6 +563,13 @@ def import_bytes(
         elif name in gas_codes:
             unit_notes[name] = "values were read as mL/min — set the gas unit to L/min if that is wrong"
 
+    if C.PHASE in values:
+        strange = unknown_phase_labels(values[C.PHASE])
+        if strange:
+            notes.append(
+                f"phase label(s) {name_list(strange, quote=True)} name no phase Tidemark knows (rest, warm-up, "
+                "exercise, recovery); those rows were left without a phase and the phases found from the data"
+            )
     session = finish_session(
         frame, meta=meta, file_name=file_name, problems=problems, headers=mapped, unit_notes=unit_notes
     )

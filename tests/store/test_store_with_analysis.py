@@ -155,3 +155,33 @@ def test_a_second_server_sees_a_session_edited_through_the_first(store_url, cloc
     finally:
         first.close()
         second.close()
+
+
+def _edited(column: str, rows: range, value: str) -> bytes:
+    lines = CYCLE.read_text().splitlines()
+    header = next(i for i, line in enumerate(lines) if not line.startswith("#"))
+    k = lines[header].split(",").index(column)
+    for r in rows:
+        if header + r >= len(lines):
+            break
+        cells = lines[header + r].split(",")
+        cells[k] = value
+        lines[header + r] = ",".join(cells)
+    return ("\n".join(lines) + "\n").encode()
+
+
+def test_importer_and_analysis_agree_on_accepted_files(real_store, demo_files):
+    rhea = {u.username: u for u in real_store.list_users()}["rhea"]
+    # one impossible breath: an artefact, excluded with its reason; the test is analysed
+    cough = real_store.import_test(_edited("vo2_ml_min", range(200, 201), "11800"), file_name="cough.csv", actor=rhea)
+    assert cough.results_error is None
+    excluded = real_store.get_results(cough.test_id)["excluded_breaths"]
+    assert any("beyond physical limits" in e["reason"] for e in excluded)
+    # phase labels Tidemark does not know: mapped where a word names the phase, else left out
+    phases = real_store.import_test(_edited("phase", range(100, 140), "Zone X"), file_name="phases.csv", actor=rhea)
+    assert phases.results_error is None
+    assert real_store.get_results(phases.test_id)["vo2_peak_ml_min"] > 0
+    # no ventilation recorded at all: accepted by the importer (flagged), stored with the reason
+    flat = real_store.import_test(_edited("ve_l_min", range(1, 100_000), "0"), file_name="no-ve.csv", actor=rhea)
+    assert flat.results_error and "could not be carried out" in flat.results_error
+    assert real_store.get_test(flat.test_id).summary.results_error == flat.results_error

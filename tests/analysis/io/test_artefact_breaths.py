@@ -78,3 +78,19 @@ def test_cli_analyses_a_session_file_with_one_artefact(tmp_path, capsys):
     assert main(["analyze", str(path), "--json"]) == EXIT_OK
     result = json.loads(capsys.readouterr().out)
     assert any(e["source_row"] == line for e in result["excluded_breaths"])
+
+
+def test_phase_labels_are_mapped_by_their_words_and_unknown_ones_left_out_with_a_note():
+    from analysis.io._validate import REASON_PHASE, map_phase_label
+
+    assert [map_phase_label(x) for x in ("Stage 3", "Recovery 2", "Rest phase", "unloaded", "Zone X")] == [
+        "exercise", "recovery", "rest", "warmup", None]
+    rows = {r: "Stage 2" for r in range(100, 110)} | {r: "Zone X" for r in range(110, 120)}
+    data, lines = _with_values(rows, column="phase")
+    out = import_bytes(data, file_name="phases.csv")
+    phase = out.session.breaths.set_index("source_row")["phase"]
+    assert set(phase.loc[lines[:10]]) == {"exercise"}
+    assert phase.loc[lines[10:]].isna().all()
+    assert out.session.flags[out.session.flags.reason == REASON_PHASE]["source_row"].tolist() == lines[10:]
+    assert any("'Zone X'" in n and "left without a phase" in n for n in out.notes)
+    analyze_session(out.session, AnalysisSettings())  # no longer refused
