@@ -15,6 +15,7 @@ from analysis.errors import ImportRejected
 from analysis.io import import_bytes
 from analysis.io._validate import REASON_ARTEFACT
 from analysis.pipeline import analyze_session
+from analysis.records import to_json
 from analysis.settings import AnalysisSettings
 from tests.support import ROOT
 from tidemark.cli import EXIT_OK, main
@@ -42,8 +43,8 @@ def test_one_impossible_breath_is_excluded_with_its_reason_and_results_hold():
     out = import_bytes(data, file_name="one-cough.csv")
     flags = out.session.flags
     assert flags[flags.reason == REASON_ARTEFACT][["source_row", "column"]].values.tolist() == [[line, "vo2_ml_min"]]
-    res = analyze_session(out.session, AnalysisSettings()).to_json_dict()
-    ref = analyze_session(clean.session, AnalysisSettings()).to_json_dict()
+    res = to_json(analyze_session(out.session, AnalysisSettings()))
+    ref = to_json(analyze_session(clean.session, AnalysisSettings()))
     excluded = [e for e in res["excluded_breaths"] if e["source_row"] == line]
     assert len(excluded) == 1 and excluded[0]["value"] == 11800.0
     assert "beyond physical limits (0 to 10000 mL/min)" in excluded[0]["reason"]
@@ -53,7 +54,7 @@ def test_one_impossible_breath_is_excluded_with_its_reason_and_results_hold():
 def test_artefact_in_the_first_breaths_is_excluded_too():
     data, (line,) = _with_values({1: "-50"}, column="ve_l_min")
     out = import_bytes(data, file_name="first.csv")
-    res = analyze_session(out.session, AnalysisSettings()).to_json_dict()
+    res = to_json(analyze_session(out.session, AnalysisSettings()))
     assert [e["column"] for e in res["excluded_breaths"] if e["source_row"] == line] == ["ve_l_min"]
 
 
