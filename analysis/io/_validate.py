@@ -267,7 +267,7 @@ def _rer_beyond(frame: pd.DataFrame | Mapping[str, Any], n: int) -> np.ndarray:
         return np.zeros(n, dtype=bool)
     vo2 = np.asarray(frame[C.VO2_ML_MIN], dtype=float)
     vco2 = np.asarray(frame[C.VCO2_ML_MIN], dtype=float)
-    with np.errstate(divide="ignore", invalid="ignore"):
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         rer = np.where(vo2 > 0, vco2 / vo2, np.nan)
     return np.asarray(rer > C.RER_REJECT_ABOVE)
 
