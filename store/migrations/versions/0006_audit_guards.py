@@ -1,7 +1,7 @@
 """Audit guards: append-only triggers, a hash chain over audit rows, sign-in attempts by client.
 
 Revision ID: 0006
-Revises: 0005
+Revises: 0004
 Create Date: 2026-12-03 15:00:00
 
 * ``audit_events`` gains ``prev_hash`` and ``row_hash`` (the chain, see ``store/audit_chain.py``);
@@ -18,7 +18,7 @@ import sqlalchemy as sa
 from alembic import op
 
 revision = "0006"
-down_revision = "0005"
+down_revision = "0004"
 branch_labels = None
 depends_on = None
 
