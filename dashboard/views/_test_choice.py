@@ -32,6 +32,32 @@ def test_label(summary: Any, *, show_name: bool = True) -> str:
     return " · ".join(bits)
 
 
+def default_test_id(ids: Any, current: int | None) -> int | None:
+    """The test every page opens with: the current test when there is one, else the newest
+    import (highest test number). One rule for Library, Review, Oxygen path, Progress, Reports
+    and Share links, so each page starts on the same test.
+
+    Examples
+    --------
+    >>> default_test_id([3, 1, 7], None)
+    7
+    >>> default_test_id([3, 1, 7], 1)
+    1
+    """
+    ids = [int(i) for i in ids]
+    if not ids:
+        return None
+    return int(current) if current is not None and int(current) in ids else max(ids)
+
+
+def current_or_default(ids: Any) -> int | None:
+    """:func:`default_test_id` for this browser session; the default becomes the current test."""
+    chosen = default_test_id(ids, state.current_test_id())
+    if chosen is not None and chosen != state.current_test_id():
+        state.set_current_test(chosen)
+    return chosen
+
+
 def choose_test(store: Any, *, key: str, label: str = "Test") -> Any | None:
     """A select box of the stored tests (current test first); returns the chosen summary.
 
@@ -42,7 +68,7 @@ def choose_test(store: Any, *, key: str, label: str = "Test") -> Any | None:
         st.info("No tests in the library yet. Import one on the Library page.")
         return None
     ids = [t.id for t in tests]
-    current = state.current_test_id()
+    current = current_or_default(ids)
     index = ids.index(current) if current in ids else 0
     by_id = {t.id: t for t in tests}
     chosen = st.selectbox(label, ids, index=index, format_func=lambda i: test_label(by_id[i]), key=key)

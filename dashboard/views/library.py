@@ -27,6 +27,7 @@ from dashboard.lab import markdown_text
 from dashboard.subject_details import form_defaults, import_overrides, preamble_rows
 from dashboard.timefmt import clock_text
 from dashboard.views._subject_panel import detail_inputs
+from dashboard.views._test_choice import default_test_id
 
 log = logging.getLogger("tidemark.dashboard")
 
@@ -240,8 +241,8 @@ def _test_list(store: Any) -> None:
     )
     st.caption("Headline numbers are from each test's current stored version.")
     by_id = {t.id: t for t in tests}
-    current = state.current_test_id()
     ids = list(by_id)
+    current = default_test_id(ids, state.current_test_id())  # filtering by person does not change it
     c1, c2 = st.columns([3, 1])
     chosen = c1.selectbox(
         "Open a test",

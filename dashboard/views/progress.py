@@ -14,10 +14,10 @@ import pandas as pd
 import streamlit as st
 
 from analysis.progress import BAND_METHOD, METRICS, OVERLAYS, TYPICAL_ERRORS, TestRecord, aligned_series, progress_table
-from dashboard import data, state
+from dashboard import data
 from dashboard.charts.progress import overlay_figure, progress_figure
 from dashboard.report.html_report import format_number
-from dashboard.views._test_choice import person_label, settings_json, test_settings
+from dashboard.views._test_choice import current_or_default, person_label, settings_json, test_settings
 
 log = logging.getLogger("tidemark.dashboard")
 
@@ -82,7 +82,7 @@ def render() -> None:
         st.info("No people in the library yet. Import a test on the Library page.")
         return
     by_id = {p.id: p for p in people}
-    current = state.current_test_id()
+    current = current_or_default([t.id for t in store.list_tests()])
     default_person = None
     if current is not None:
         try:

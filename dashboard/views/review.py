@@ -38,6 +38,7 @@ from dashboard.charts.time_course import VO2_TRACE
 from dashboard.charts.vslope import DATA_TRACE, exercise_rows
 from dashboard.errors import show_error
 from dashboard.views._subject_panel import details_panel
+from dashboard.views._test_choice import current_or_default
 
 log = logging.getLogger("tidemark.dashboard")
 
@@ -710,8 +711,8 @@ def _choose_test(store: Any) -> int | None:
         st.info("No tests yet. Import one on the Library page.")
         return None
     by_id = {t.id: t for t in tests}
-    current = state.current_test_id()
     ids = list(by_id)
+    current = current_or_default(ids)
     chosen = st.selectbox(
         "Test", ids, index=ids.index(current) if current in ids else 0, key="review_test",
         format_func=lambda i: f"{by_id[i].person_code} · {by_id[i].test_date or 'no date'} · {by_id[i].protocol or by_id[i].file_name}",

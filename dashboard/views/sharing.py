@@ -15,7 +15,7 @@ import pandas as pd
 import streamlit as st
 
 from dashboard import data, lab, state
-from dashboard.views._test_choice import person_label, test_label
+from dashboard.views._test_choice import current_or_default, person_label, test_label
 
 log = logging.getLogger("tidemark.dashboard")
 
@@ -143,7 +143,7 @@ def create_form(store: Any, user: Any, *, tests: dict[int, Any], people: dict[in
     with st.form("new_share"):
         if kind == SCOPE_TEST:
             ids = list(tests)
-            current = state.current_test_id()
+            current = current_or_default(ids)
             target = st.selectbox(
                 "Test", ids, index=ids.index(current) if current in ids else 0, format_func=lambda i: test_label(tests[i])
             )
