@@ -564,18 +564,23 @@ def detect_thresholds(avg: pd.DataFrame, *, phases: pd.Series | np.ndarray | Non
 
     Notes
     -----
-    Averaged rows closer than 15 s are first merged into 20 s bins (weighted by breaths), so
-    every fit sees the same resolution whatever averaging the reviewer chose for display. Only
-    exercise rows are used. VT2 is sought first, over the whole exercise phase:
+    Averaged rows closer than 15 s are first merged into fit bins (20 s; exercise duration / 24,
+    at least 10 s, for a short test), weighted by breaths, so every fit sees the same resolution
+    whatever averaging the reviewer chose for display. When ventilation oscillates
+    (:func:`analysis.thresholds.oscillation.oscillation_period_s`), the series are first averaged
+    over one period. Only exercise rows are used. VT2 is sought first, over the whole exercise
+    phase:
 
     * VE vs VCO2 breakpoint: two-line fit of VE on VCO2; VE must steepen by 15 %.
     * VE/VCO2 nadir-rise: three-line fit of VE/VCO2 on time, the last line rising.
     * PETCO2 fall: the same fit on -PETCO2.
 
-    VT1 is then sought below the VT2 time (unless VT2 rests on a single method); a VT1 that
-    lands within 60 s of VT2 is read again in a window ending 60 s before VT2 (as Beaver et al. restrict V-slope to the part
-    below the respiratory compensation point), over the warm-up after its first minute plus
-    the exercise phase (without a warm-up: the exercise phase after its first minute):
+    VT1 is then sought below the VT2 time (unless VT2 rests on a single method), over the
+    warm-up after its first minute plus the exercise phase after its first minute (the
+    on-transient, Beaver et al. 1986), ending where ventilation levels off against VCO2 when
+    there is no VT2; a VT1 that lands within 60 s of VT2 is read again in a window ending 60 s
+    before VT2 (as Beaver et al. restrict V-slope to the part below the respiratory
+    compensation point):
 
     * V-slope: :func:`vslope_fit` of VCO2 on VO2 (3-point running means, against regression
       dilution by VO2 noise).
@@ -583,13 +588,19 @@ def detect_thresholds(avg: pd.DataFrame, *, phases: pd.Series | np.ndarray | Non
     * PETO2 nadir: PETO2 turns up.
     * Excess CO2: VCO2^2/VO2 - VCO2 turns up.
 
-    VT2 picks at or below the VT1 consensus are then set aside. A turn is a three-line fit whose last line rises after a line at most 0.3 times as steep;
-    it counts when the last line's slope is at least 3.5 standard errors and its rise
-    exceeds a minimum size. The consensus is
-    the median of the largest group of picks within 150 mL/min (or 5 %) of each other (ties
-    go to the group holding the more accurate method, :data:`TIE_ORDER`);
-    confidence is high with 3 or more agreeing methods, moderate with 2, low with 1. "None
-    found" is a valid result (common in patients and in tests stopped early).
+    VT2 picks at or below the VT1 consensus are then set aside. A turn is a three-line fit whose
+    last line rises after a line at most 0.3 times as steep; it counts when the last line's
+    slope is at least 3.5 standard errors and its rise exceeds a minimum size. Picks inside the
+    on-transient do not count. The consensus is the weighted median of the group of picks
+    within :func:`agreement_tolerance_ml_min` (10 % of the test's VO2 range) of each other with
+    the largest summed weight (:data:`RELIABILITY`, times the sharpness of each VT1 fit); ties
+    go to the more accurate method (:data:`TIE_ORDER`). Confidence is high with 3 or more
+    agreeing methods, moderate with 2, low with 1. Every pick carries a 90 % interval
+    (:mod:`analysis.thresholds.uncertainty`); too wide an interval, or a lone VT1 reading right
+    after the on-transient, is "not determinable" (the pick moves to ``vt1_undetermined``).
+    VT1 comes before VT2 in the result (read again, else the less supported one is dropped,
+    with the reason). "None found" is a valid result (common in patients and in tests stopped
+    early).
 
     These are estimates for qualified staff to review against the charts; they are not a
     diagnosis.
@@ -601,6 +612,8 @@ def detect_thresholds(avg: pd.DataFrame, *, phases: pd.Series | np.ndarray | Non
     methods to determine ventilatory threshold. Med Sci Sports Exerc 33:1841-1848 (excess CO2;
     from memory).
     Ventilatory equivalents and end-tidal pressures: common practice.
+    Lerman PM (1980). Fitting segmented regression models by grid search. Appl Stat 29:77-84
+    (the profile intervals; from memory).
     """
     for c in (C.T_S, C.VO2_ML_MIN, C.VCO2_ML_MIN, C.VE_L_MIN):
         if c not in avg.columns:

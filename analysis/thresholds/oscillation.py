@@ -102,7 +102,29 @@ def oscillation_period_s(t_s: np.ndarray, ve_l_min: np.ndarray) -> float | None:
 def average_over_period(avg: pd.DataFrame, labels: np.ndarray, period_s: float) -> pd.DataFrame:
     """A copy of ``avg`` whose gas and ventilation columns are centred means over one period.
 
-    The mean runs within each phase (a period never mixes exercise with recovery).
+    Parameters
+    ----------
+    avg : pandas.DataFrame
+        Averaged rows with ``t_s`` (sorted) and any of VO2, VCO2, VE, PETO2, PETCO2.
+    labels : numpy.ndarray
+        One phase label per row; the mean runs within each phase (a period never mixes
+        exercise with recovery).
+    period_s : float
+        The oscillation period, s (:func:`oscillation_period_s`).
+
+    Returns
+    -------
+    pandas.DataFrame
+
+    Notes
+    -----
+    A mean over exactly one period of a sinusoid is zero whatever its phase, so the trend
+    underneath is kept and the swing removed (the mean over a whole number of periods; common
+    practice).
+
+    References
+    ----------
+    Common practice (moving average over one period of a periodic component).
     """
     out = avg.copy()
     t = avg[C.T_S].to_numpy(dtype=float)
