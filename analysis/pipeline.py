@@ -22,6 +22,7 @@ from analysis.errors import AnalysisError, TidemarkError
 from analysis.indices._arrays import present_values
 from analysis.indices.summary import compute_indices, indices_methods
 from analysis.indices.threshold_values import threshold_values
+from analysis.interpretation.summary import interpret_test, interpretation_methods, interpretation_reference_method
 from analysis.maximality import MAXIMALITY_METHOD, assess_maximality, peak_values
 from analysis.oxygen.from_test import oxygen_from_test
 from analysis.oxygen.pathway import CASCADE_METHOD, oxygen_pathway
@@ -245,9 +246,15 @@ def analyze_session(
     )
 
     oxygen_cascade, cascade_notes = oxygen_pathway(oxygen) if oxygen is not None else (None, ())
+    interpretation, interpretation_notes = interpret_test(
+        cleaned.breaths, avg, breath_phases=phases.labels.to_numpy(dtype=str), phases_avg=phases_avg, meta=meta,
+        mode=mode, beta_blocker=subject.beta_blocker, indices=indices, maximality=maximality,
+        vo2_peak_ml_min=peak.vo2_ml_min, vt1=vt1, vt2=vt2, reference_set=settings.reference_set,
+    )
     if oxygen_cascade is not None:
         oxygen_methods = {**oxygen_methods, "oxygen_cascade": CASCADE_METHOD}
-    notes = [*phases.notes, *index_notes, *reference_notes, *oxygen_notes, *(f"Oxygen: {n}" for n in cascade_notes)]
+    notes = [*phases.notes, *index_notes, *reference_notes, *oxygen_notes, *(f"Oxygen: {n}" for n in cascade_notes),
+             *interpretation_notes]
     if body_mass is None:
         notes.append("Body mass unknown: per-kg values, METs and predicted values are not given.")
     if meta.get("beta_blocker") not in (None, "") and subject.beta_blocker is None:
@@ -279,6 +286,8 @@ def analyze_session(
         "vt1": threshold_method(report.vt1),
         "vt2": threshold_method(report.vt2),
         **oxygen_methods,
+        **interpretation_methods(),
+        "interpretation_reference_set": interpretation_reference_method(settings.reference_set),
     }
     return TestResults(
         subject=subject,
@@ -297,6 +306,7 @@ def analyze_session(
         excluded_breaths=cleaned.excluded,
         oxygen=oxygen,
         oxygen_cascade=oxygen_cascade,
+        interpretation=interpretation,
         warnings=tuple(dict.fromkeys(notes)),
         methods=methods,
         settings=settings,

@@ -172,6 +172,11 @@ def _rows(name: str, values: Any) -> tuple[int, ...]:
     return tuple(sorted({int(v) for v in floats}))
 
 
+#: Reference sets of the interpretation's predicted values (analysis.interpretation.predicted).
+REFERENCE_SET_CODES: tuple[str, ...] = ("friend2018", "hansen1984", "jones1985")
+DEFAULT_REFERENCE_SET = "friend2018"
+
+
 @dataclass(frozen=True)
 class AnalysisSettings:
     """Everything that shapes one analysis of a session.
@@ -200,6 +205,9 @@ class AnalysisSettings:
     oxygen : dict
         Conditions for the oxygen-transport comparison, interpreted by :mod:`analysis.oxygen`
         (for example temperature and pH per state). Must be JSON-safe.
+    reference_set : {"friend2018", "hansen1984", "jones1985"}
+        The reference equations of the interpretation's predicted peak values (default
+        FRIEND 2018); named beside every % predicted (:mod:`analysis.interpretation.predicted`).
     """
 
     averaging: AveragingSpec = DEFAULT_AVERAGING
@@ -213,6 +221,7 @@ class AnalysisSettings:
     peak_window_s: float = DEFAULT_PEAK_WINDOW_S
     metadata: MetadataOverrides = field(default_factory=MetadataOverrides)
     oxygen: dict[str, Any] = field(default_factory=dict)
+    reference_set: str = DEFAULT_REFERENCE_SET
 
     def __post_init__(self) -> None:
         require(isinstance(self.averaging, AveragingSpec), "averaging", "an AveragingSpec", self.averaging)
@@ -237,6 +246,7 @@ class AnalysisSettings:
         object.__setattr__(self, "peak_window_s", _finite("peak_window_s", self.peak_window_s, 0, 120, "s"))
         require(isinstance(self.metadata, MetadataOverrides), "metadata", "a MetadataOverrides", self.metadata)
         require(isinstance(self.oxygen, dict), "oxygen", "a mapping of oxygen conditions", self.oxygen)
+        require(self.reference_set in REFERENCE_SET_CODES, "reference_set", f"one of {', '.join(REFERENCE_SET_CODES)}", self.reference_set)
 
     def to_dict(self) -> dict[str, Any]:
         """JSON-safe dict with a ``version`` key; :meth:`from_dict` reads it back."""
@@ -252,6 +262,8 @@ class AnalysisSettings:
             "peak_window_s": self.peak_window_s,
             "metadata": self.metadata.to_dict(),
             "oxygen": dict(self.oxygen),
+            # written only when changed, so settings saved before the field existed keep their form
+            **({"reference_set": self.reference_set} if self.reference_set != DEFAULT_REFERENCE_SET else {}),
         }
 
     @classmethod
@@ -267,6 +279,7 @@ class AnalysisSettings:
         known = {
             "version", "averaging", "outliers", "excluded_rows", "restored_rows",
             "vt1_override", "vt2_override", "plateau_threshold_ml_min", "peak_window_s", "metadata", "oxygen",
+            "reference_set",
         }
         unknown = set(data) - known
         require(not unknown, "settings", f"keys from {sorted(known)}", sorted(unknown))
@@ -300,4 +313,6 @@ class AnalysisSettings:
             kw["metadata"] = MetadataOverrides.from_dict(data["metadata"])
         if data.get("oxygen"):
             kw["oxygen"] = dict(data["oxygen"])
+        if data.get("reference_set") is not None:
+            kw["reference_set"] = data["reference_set"]
         return cls(**kw)

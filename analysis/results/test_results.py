@@ -11,6 +11,8 @@ from analysis.breaths.cleaning import ExcludedBreath, excluded_frame
 from analysis.indices.point_values import PointValues
 from analysis.indices.summary import Indices
 from analysis.indices.threshold_values import ThresholdResult
+from analysis.interpretation.flags import Flag
+from analysis.interpretation.summary import Interpretation
 from analysis.maximality import MaximalityReport
 from analysis.oxygen.comparison import OxygenComparison
 from analysis.oxygen.pathway import OxygenPathway
@@ -78,7 +80,17 @@ class TestResults:
         description="O2 cascade at peak with what-if scenarios, sensitivities and the CO2 side (null without the "
         "oxygen comparison; model estimates; docs/oxygen.md)",
     )
+    interpretation: Interpretation | None = described(
+        default=None,
+        description="flags read against published limits, the values behind them and the patterns they are consistent "
+        "with (never a diagnosis; docs/interpretation.md)",
+    )
     averaged: pd.DataFrame | None = described(default=None, json=False)
+
+    @derived(description="every interpretation flag `{code, severity, text, value, limit, source, unit, sport_relevant}` "
+             "(`interpretation.flags`; empty without an interpretation)")
+    def flags(self) -> tuple[Flag, ...]:
+        return self.interpretation.flags if self.interpretation is not None else ()
 
     @derived(unit="mL/min", description="VO2peak: `peak.vo2_ml_min`")
     def vo2_peak_ml_min(self) -> float:
