@@ -100,6 +100,11 @@ class InvalidParameter(TidemarkError, ValueError):
         super().__init__(f"'{name}' must be {expected}; received {quoted(received)}.")
 
 
+class OutsideDerivationRange(InvalidParameter):
+    """A reference equation asked about a person or test outside what it was derived from (an
+    age outside its range, another exercise mode): refused, never extrapolated."""
+
+
 class AnalysisError(TidemarkError):
     """The analysis cannot be carried out on this session (with the reason and a remedy)."""
 

@@ -71,6 +71,7 @@ OUT_OF_RANGE_EXACT: dict[str, tuple[Any, ...]] = {
     "time_format": (UNKNOWN,),
     "from_condition": (UNKNOWN,),
     "to_condition": (UNKNOWN,),
+    "reference_set": (UNKNOWN,),
 }
 OUT_OF_RANGE_SUFFIX: dict[str, tuple[Any, ...]] = {
     "_kg": (-1.0, 0.0, NAN),
@@ -123,6 +124,7 @@ def valid(name: str) -> tuple[Any, ...]:
     series = {
         "t_s": ex["t_s"].to_numpy(), "vo2_ml_min": ex["vo2_ml_min"].to_numpy(), "vco2_ml_min": ex["vco2_ml_min"].to_numpy(),
         "ve_l_min": ex["ve_l_min"].to_numpy(), "hr_bpm": ex["hr_bpm"].to_numpy(), "work_w": ex["work_w"].to_numpy(),
+        "spo2_pct": np.full(len(ex), 97.0), "phases": np.full(len(ex), "exercise"),
     }
     scalars: dict[str, Any] = {
         "age_y": 40.0, "body_mass_kg": 70.0, "height_cm": 175.0, "sex": "male", "mode": "cycle",
@@ -141,6 +143,8 @@ def valid(name: str) -> tuple[Any, ...]:
         "measured": 30.0, "predicted": 40.0, "vo2_range_ml_min": 2500.0, "value": "male",
         "data": b"Time;VO2 (L/min);VCO2 (L/min);VE\n0:00;0,30;0,25;10\n0:03;0,32;0,27;11\n0:06;0,33;0,28;12\n",
         "file_name": "ramp.csv", "gas_unit": "auto", "time_format": "auto", "ve_condition": "auto",
+        "hr_predicted_bpm": 180.0, "beta_blocker": False, "ve_vco2": 28.0, "vd_vt": 0.2, "vt1_t_s": 300.0,
+        "reference_set": "friend2018", "o2_pulse_peak_ml_beat": 17.0,
     }
     out = []
     if name in scalars:
@@ -152,6 +156,9 @@ def valid(name: str) -> tuple[Any, ...]:
 
 #: Public functions not walked, with the reason (they take records, files, or no range-named value).
 NOT_WALKED: dict[str, str] = {
+    "analysis.interpretation.heart_rate_recovery": "a heart-rate fall may be negative (HR still rising after exercise)",
+    "analysis.interpretation.interpret_test": "takes the records of the same analysis",
+    "analysis.interpretation.lag_correction": "takes loads of either unit (W or km/h) by the test's mode",
     "analysis.indices.point_values": "takes a row index of the averaged frame (checked in tests/analysis/indices)",
     "analysis.io.import_file": "reads a file: the same checks as import_bytes, which is walked",
     "analysis.oxygen.co2_carriage": "takes blood-point records (arterial, venous)",

@@ -20,7 +20,7 @@ CI_LIMIT_BETA_BLOCKER = 0.62
 CI_SOURCE = "Lauer et al. 1996/1999; Khan et al. 2005 (from memory)"
 
 CHRONOTROPIC_METHOD = (
-    "(HRpeak − HRrest) / (HRpredicted − HRrest); HRpredicted 208 − 0.7·age (Tanaka 2001) or 164 − 0.72·age on a "
+    "(HRpeak - HRrest) / (HRpredicted - HRrest); HRpredicted 208 - 0.7·age (Tanaka 2001) or 164 - 0.72·age on a "
     f"beta-blocker (Brawner 2004); abnormal < {CI_LIMIT:.2f}, < {CI_LIMIT_BETA_BLOCKER:.2f} on a beta-blocker ({CI_SOURCE})"
 )
 
@@ -33,9 +33,9 @@ class ChronotropicResponse:
     hr_peak_bpm: float = described(unit="beats/min", description="peak HR of exercise")
     hr_predicted_bpm: float = described(unit="beats/min", description="age-predicted maximal HR")
     prediction: Literal["tanaka2001", "brawner2004"] = described(
-        description="`tanaka2001` (208 − 0.7·age) or `brawner2004` (164 − 0.72·age, on a beta-blocker; from memory)"
+        description="`tanaka2001` (208 - 0.7·age) or `brawner2004` (164 - 0.72·age, on a beta-blocker; from memory)"
     )
-    chronotropic_index: float = described(description="(HRpeak − HRrest) / (HRpredicted − HRrest)", method=CI_SOURCE)
+    chronotropic_index: float = described(description="(HRpeak - HRrest) / (HRpredicted - HRrest)", method=CI_SOURCE)
     limit: float = described(description="the index below which the response is abnormal for this subject")
     beta_blocker: bool | None = described(description="metadata `beta_blocker` (null when not recorded)")
 
@@ -121,7 +121,8 @@ def chronotropic_flag(response: ChronotropicResponse | None, *, effort_adequate:
     With an effort that may have been submaximal the flag is a ``caution``: a low index then
     may reflect the effort, not the heart-rate response.
     """
-    if response is None or response.chronotropic_index >= response.limit:
+    # compared at 6 decimals: an index at the published cut point (0.62, 0.80) is not below it
+    if response is None or round(response.chronotropic_index, 6) >= response.limit:
         return None
     r = response
     on = " (on a beta-blocker)" if r.beta_blocker else ""

@@ -13,7 +13,7 @@ from analysis.interpretation.flags import Flag, flag
 from analysis.records import described
 
 #: The constant of the dead-space equation: VE (L/min BTPS) / VCO2 (L/min STPD) =
-#: 863 / (PaCO2 × (1 − VD/VT)) (ATS/ACCP 2003, from memory).
+#: 863 / (PaCO2 × (1 - VD/VT)) (ATS/ACCP 2003, from memory).
 K_VE_VCO2 = 863.0
 #: VE/VCO2 slope from which Arena's class III–IV begins (Arena et al. 2007, checked).
 VE_VCO2_SLOPE_HIGH = 36.0
@@ -27,7 +27,7 @@ HALF_WINDOW_S = 15.0
 
 GAS_EXCHANGE_METHOD = (
     "PETCO2 at rest (mean of the rest phase) and at VT1 (30-s mean); VE/VCO2 at VT1 as the ratio of 30-s means; "
-    "VD/VT = 1 − 863 / (PaCO2 × VE/VCO2 at peak) when an arterial PCO2 is entered (ATS/ACCP 2003, from memory)"
+    "VD/VT = 1 - 863 / (PaCO2 × VE/VCO2 at peak) when an arterial PCO2 is entered (ATS/ACCP 2003, from memory)"
 )
 
 
@@ -42,7 +42,7 @@ class GasExchange:
     ve_vco2_peak: float | None = described(description="VE/VCO2 over the last 30 s of exercise")
     paco2_mmhg: float | None = described(unit="mmHg", description="arterial PCO2 entered (metadata `paco2_mmhg`, at peak)")
     vd_vt_peak: float | None = described(
-        description="dead space to tidal volume at peak: 1 − 863 / (PaCO2 · VE/VCO2)", method="ATS/ACCP 2003, from memory"
+        description="dead space to tidal volume at peak: 1 - 863 / (PaCO2 · VE/VCO2)", method="ATS/ACCP 2003, from memory"
     )
 
 
@@ -68,7 +68,7 @@ def vd_vt_from_ve_vco2(ve_vco2: float, *, paco2_mmhg: float) -> float:
 
     Notes
     -----
-    From ``VE/VCO2 = 863 / (PaCO2 · (1 − VD/VT))``; 863 converts the units (VE BTPS, VCO2 STPD,
+    From ``VE/VCO2 = 863 / (PaCO2 · (1 - VD/VT))``; 863 converts the units (VE BTPS, VCO2 STPD,
     PCO2 in mmHg) at 37 °C.
 
     References
@@ -89,7 +89,7 @@ def vd_vt_from_ve_vco2(ve_vco2: float, *, paco2_mmhg: float) -> float:
 
 
 def ve_vco2_from_vd_vt(vd_vt: float, *, paco2_mmhg: float) -> float:
-    """``863 / (PaCO2 · (1 − VD/VT))`` (ATS/ACCP 2003, from memory).
+    """``863 / (PaCO2 · (1 - VD/VT))`` (ATS/ACCP 2003, from memory).
 
     Examples
     --------

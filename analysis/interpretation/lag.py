@@ -17,7 +17,7 @@ MRT_RANGE_S: tuple[float, float] = (5.0, 150.0)
 RAMP_RISING_SHARE = 0.8
 
 LAG_METHOD = (
-    "steady-state equivalent on a ramp = load − ramp rate × mean response time (Whipp et al. 1981); the mean "
+    "steady-state equivalent on a ramp = load - ramp rate × mean response time (Whipp et al. 1981); the mean "
     "response time is where the line of VO2 on time (from 1 min into the ramp to VT1) meets the VO2 of the minute "
     "before the ramp"
 )

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import itertools
 from dataclasses import dataclass
 
 import numpy as np
@@ -160,6 +161,7 @@ def exercise_oscillation(t_s: ArrayLike, ve_l_min: ArrayLike, phases: ArrayLike)
     ve = np.asarray(ve_l_min, dtype=float)
     labels = np.asarray(phases).astype(str)
     require(t.shape == ve.shape == labels.shape, "ve_l_min", f"one value and one phase per time ({t.size})", ve.size)
+    require(not bool(np.any(ve[np.isfinite(ve)] < 0)), "ve_l_min", "ventilations ≥ 0 L/min", ve_l_min)
     ex = span_of(t, labels, "exercise")
     if ex is None or ex[1] - ex[0] < 120.0:
         return None
@@ -174,7 +176,7 @@ def exercise_oscillation(t_s: ArrayLike, ve_l_min: ArrayLike, phases: ArrayLike)
     rel = smooth / trend - 1.0
     peaks, _ = find_peaks(rel, distance=int(EOV_PERIOD_RANGE_S[0] * 0.8), prominence=EOV_AMPLITUDE_FRACTION / 2)
     found: list[tuple[float, float, float, float, float] | None] = []
-    for a, b in zip(peaks, peaks[1:], strict=False):
+    for a, b in itertools.pairwise(peaks):
         length = float(grid[b] - grid[a])
         trough = a + int(np.argmin(rel[a:b]))
         swing = 0.5 * float(rel[a] + rel[b]) - float(rel[trough])

@@ -5,13 +5,15 @@ from __future__ import annotations
 from dataclasses import dataclass
 from typing import Any, Literal
 
-from analysis.errors import InvalidParameter, TidemarkError
+from analysis.errors import InvalidParameter, OutsideDerivationRange
 from analysis.interpretation.flags import Flag, flag
 from analysis.records import described
+from analysis.reference._validate import mode_code, number_in
 from analysis.reference.friend import FRIEND_METHOD, friend_vo2max_ml_kg_min
 from analysis.reference.hansen1984 import HANSEN_METHOD, hansen1984_hr_max_bpm, hansen1984_vo2max_ml_min
 from analysis.reference.heart_rate import tanaka_hr_max_bpm
 from analysis.reference.jones1985 import JONES_METHOD, jones1985_hr_max_bpm, jones1985_vo2max_ml_min
+from analysis.subject import normalise_sex
 
 ReferenceSet = Literal["friend2018", "hansen1984", "jones1985"]
 
@@ -22,7 +24,7 @@ REFERENCE_SETS: dict[str, str] = {
     "jones1985": "Jones et al. 1985 (from memory)",
 }
 REFERENCE_METHODS: dict[str, str] = {
-    "friend2018": f"{FRIEND_METHOD}; HRmax 208 − 0.7·age (Tanaka et al. 2001)",
+    "friend2018": f"{FRIEND_METHOD}; HRmax 208 - 0.7·age (Tanaka et al. 2001)",
     "hansen1984": HANSEN_METHOD,
     "jones1985": JONES_METHOD,
 }
@@ -97,16 +99,38 @@ def predicted_peak(
     """
     if reference_set not in REFERENCE_SETS:
         raise InvalidParameter("reference_set", f"one of {', '.join(REFERENCE_SETS)}", reference_set)
+    # impossible inputs are refused; a person or test outside an equation's derivation is a note
+    for name, v, low, high, unit in (("age_y", age_y, 5, 110, "years"), ("body_mass_kg", body_mass_kg, 20, 300, "kg"),
+                                     ("height_cm", height_cm, 120, 230, "cm")):
+        if v is not None:
+            number_in(name, v, low, high, unit)
+    number_in("vo2_peak_ml_min", vo2_peak_ml_min, 1, 10000, "mL/min")
+    for name, v in (("hr_peak_bpm", hr_peak_bpm), ("o2_pulse_peak_ml_beat", o2_pulse_peak_ml_beat)):
+        if v is not None:
+            number_in(name, v, 0.1, 260, "")
+    sex_code = normalise_sex(sex)
+    if mode is not None:
+        mode_code(mode)
     notes: list[str] = []
     vo2 = hr = None
-    try:
-        vo2 = _vo2(reference_set, age_y=age_y, sex=sex, body_mass_kg=body_mass_kg, height_cm=height_cm, mode=mode)
-    except TidemarkError as exc:
-        notes.append(f"Predicted peak VO2 not given: {exc}")
-    try:
-        hr = _hr(reference_set, age_y=age_y)
-    except TidemarkError as exc:
-        notes.append(f"Predicted peak HR not given: {exc}")
+    missing = [n for n, v in (("age", age_y), ("sex (male or female)", sex_code if sex_code != "other" else None),
+                              ("height", height_cm), ("mode", mode)) if v is None]
+    if reference_set != "jones1985" and body_mass_kg is None:
+        missing.append("body mass")
+    if missing:
+        notes.append(f"Predicted peak VO2 not given: it needs {', '.join(missing)}.")
+    else:
+        try:
+            vo2 = _vo2(reference_set, age_y=age_y, sex=sex, body_mass_kg=body_mass_kg, height_cm=height_cm, mode=mode)
+        except OutsideDerivationRange as exc:
+            notes.append(f"Predicted peak VO2 not given: {exc}")
+    if age_y is None:
+        notes.append("Predicted peak HR not given: it needs the age.")
+    else:
+        try:
+            hr = _hr(reference_set, age_y=age_y)
+        except OutsideDerivationRange as exc:
+            notes.append(f"Predicted peak HR not given: {exc}")
     pulse = vo2 / hr if vo2 is not None and hr else None
     return PredictedPeak(
         reference_set=reference_set,

@@ -48,7 +48,7 @@ class O2PulseTrajectory:
 class HeartRateRecovery:
     """Heart-rate recovery at 1 min with the cool-down posture it was measured in."""
 
-    hr_recovery_1min_bpm: float = described(unit="beats/min", description="HR at the end of exercise − HR 60 s later")
+    hr_recovery_1min_bpm: float = described(unit="beats/min", description="HR at the end of exercise - HR 60 s later")
     cooldown_posture: str | None = described(
         description="metadata `cooldown_posture`: upright_active, upright_passive, seated or supine (null when not recorded)"
     )

@@ -69,7 +69,7 @@ def spo2_summary(
     -----
     SpO2 is interpolated on a 1-s grid; the minimum and the peak value are means of
     ``window_s`` wholly inside the exercise phase; the rest value is the mean of the rest
-    phase. Desaturation: rest − minimum ≥ 4 points, or minimum ≤ 88 %.
+    phase. Desaturation: rest - minimum ≥ 4 points, or minimum ≤ 88 %.
 
     References
     ----------
@@ -88,6 +88,8 @@ def spo2_summary(
     y = np.asarray(spo2_pct, dtype=float)
     labels = np.asarray(phases).astype(str)
     require(t.shape == y.shape == labels.shape, "spo2_pct", f"one value and one phase per time ({t.size})", y.size)
+    finite = y[np.isfinite(y)]
+    require(bool(np.all((finite >= 0) & (finite <= 100))), "spo2_pct", "saturations from 0 to 100 %", spo2_pct)
     require(np.isfinite(window_s) and 5 <= window_s <= 120, "window_s", "a window from 5 to 120 s", window_s)
     ex = span_of(t, labels, "exercise")
     if ex is None:
@@ -96,7 +98,7 @@ def spo2_summary(
     if ex_mask.sum() < 3:
         return None
     grid, values = on_grid(t[ex_mask], y[ex_mask], t_from_s=ex[0], t_to_s=ex[1])
-    width = int(round(window_s))
+    width = round(window_s)
     means = inside_means(values, width_n=width)
     if means.size == 0:
         return None

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import dataclasses
 from dataclasses import dataclass
 from typing import Any
 
@@ -155,7 +156,7 @@ def interpret_test(
         notes.append(f"Dead space not given: {exc}")
         gas = gas_exchange(avg, phases_avg=phases_avg, vt1_t_s=vt1.t_s if vt1 else None, paco2_mmhg=None)
     vent = ventilation(avg, phases_avg=phases_avg, reserve=indices.breathing_reserve)
-    pulse = o2_pulse_trajectory(avg, phases_avg=phases_avg, vo2_plateau=maximality.plateau.plateau)
+    pulse = o2_pulse_trajectory(avg, phases_avg=phases_avg, vo2_plateau=bool(maximality.plateau and maximality.plateau.plateau))
     recovery = heart_rate_recovery(indices.hr_recovery_1min_bpm, cooldown_posture=meta.get("cooldown_posture"))
     load = "work_w" if mode == "cycle" else "speed_kmh"
     lag, lag_notes = lag_correction(
@@ -163,11 +164,19 @@ def interpret_test(
         vt1_load=getattr(vt1, load) if vt1 else None, vt2_load=getattr(vt2, load) if vt2 else None, mode=mode,
     )
     notes.extend(lag_notes)
-    predicted = predicted_peak(
-        reference_set, age_y=age, sex=meta.get("sex"), body_mass_kg=_number(meta.get("body_mass_kg")),
-        height_cm=_number(meta.get("height_cm")), mode=mode, vo2_peak_ml_min=vo2_peak_ml_min, hr_peak_bpm=hr_peak,
-        o2_pulse_peak_ml_beat=indices.o2_pulse_at_peak_ml_beat,
-    )
+    o2_pulse_peak = indices.o2_pulse_at_peak_ml_beat
+    try:
+        predicted = predicted_peak(
+            reference_set, age_y=age, sex=meta.get("sex"), body_mass_kg=_number(meta.get("body_mass_kg")),
+            height_cm=_number(meta.get("height_cm")), mode=mode, vo2_peak_ml_min=vo2_peak_ml_min, hr_peak_bpm=hr_peak,
+            o2_pulse_peak_ml_beat=o2_pulse_peak,
+        )
+    except TidemarkError as exc:  # a recorded value the equations cannot use (e.g. an unknown sex spelling)
+        predicted = predicted_peak(
+            reference_set, age_y=None, sex=None, body_mass_kg=None, height_cm=None, mode=None,
+            vo2_peak_ml_min=vo2_peak_ml_min, hr_peak_bpm=hr_peak, o2_pulse_peak_ml_beat=o2_pulse_peak,
+        )
+        predicted = dataclasses.replace(predicted, note=f"Predicted values not given: {exc}")
     if predicted.note:
         notes.append(f"{predicted.reference_name}: {predicted.note}")
 

@@ -22,7 +22,7 @@ END_WINDOW_S = 30.0
 VT_PLATEAU_SHARE = 0.95
 
 VENTILATION_METHOD = (
-    f"breathing reserve MVV − peak VE (MVV measured or FEV1 × 40), low when < {RESERVE_LOW_PCT:g} % of MVV or < "
+    f"breathing reserve MVV - peak VE (MVV measured or FEV1 × 40), low when < {RESERVE_LOW_PCT:g} % of MVV or < "
     f"{RESERVE_LOW_L_MIN:g} L/min (ATS/ACCP 2003, from memory); breathing frequency and tidal volume as 30-s means at "
     f"the end of exercise; VE where the tidal volume first reached {VT_PLATEAU_SHARE:.0%} of its highest 30-s mean"
 )
@@ -32,7 +32,7 @@ VENTILATION_METHOD = (
 class Ventilation:
     """What limits ventilation: reserve, breathing pattern at peak, tidal volume against VE."""
 
-    reserve_l_min: float | None = described(unit="L/min", description="MVV − peak VE (null without MVV or FEV1)")
+    reserve_l_min: float | None = described(unit="L/min", description="MVV - peak VE (null without MVV or FEV1)")
     reserve_pct: float | None = described(unit="%", description="breathing reserve as % of MVV")
     mvv_l_min: float | None = described(unit="L/min", description="MVV used")
     mvv_source: str | None = described(description="`measured` or `fev1_x40`")

@@ -6,7 +6,7 @@ paper before a clinical lab relies on them.
 
 from __future__ import annotations
 
-from analysis.errors import InvalidParameter
+from analysis.errors import OutsideDerivationRange
 from analysis.reference._validate import mode_code, number_in
 from analysis.subject import reference_sex
 
@@ -16,9 +16,9 @@ HANSEN_AGE_RANGE_Y: tuple[float, float] = (34.0, 74.0)
 
 #: Reader-facing method sentence (shown beside every value predicted by this set).
 HANSEN_METHOD = (
-    "Hansen, Sue & Wasserman 1984 (cycle; from memory): men wt × (50.72 − 0.372·age), women (wt + 43) × "
-    "(22.78 − 0.17·age) mL/min, wt = the lower of actual and ideal body weight (men 0.79·height − 60.7, "
-    "women 0.65·height − 42.8 kg); HRmax 210 − 0.65·age"
+    "Hansen, Sue & Wasserman 1984 (cycle; from memory): men wt × (50.72 - 0.372·age), women (wt + 43) × "
+    "(22.78 - 0.17·age) mL/min, wt = the lower of actual and ideal body weight (men 0.79·height - 60.7, "
+    "women 0.65·height - 42.8 kg); HRmax 210 - 0.65·age"
 )
 
 
@@ -55,7 +55,7 @@ def _checked_age(age_y: float) -> float:
     age = number_in("age_y", age_y, 5, 110, "years")
     low, high = HANSEN_AGE_RANGE_Y
     if not low <= age <= high:
-        raise InvalidParameter(
+        raise OutsideDerivationRange(
             "age_y",
             f"an age within {low:g}–{high:g} years, the ages Hansen et al. 1984 were derived from (no "
             "extrapolation; choose another reference set)",
@@ -84,8 +84,8 @@ def hansen1984_vo2max_ml_min(*, age_y: float, sex: str, body_mass_kg: float, hei
 
     Raises
     ------
-    InvalidParameter
-        Age outside the derivation range, a treadmill test, or values out of range.
+    OutsideDerivationRange
+        (an InvalidParameter) Age outside the derivation range, a treadmill test, or values out of range.
 
     Notes
     -----
@@ -106,7 +106,7 @@ def hansen1984_vo2max_ml_min(*, age_y: float, sex: str, body_mass_kg: float, hei
     """
     age = _checked_age(age_y)
     if mode_code(mode) != "cycle":
-        raise InvalidParameter("mode", "a cycle test (Hansen et al. 1984 were derived on a cycle ergometer)", mode)
+        raise OutsideDerivationRange("mode", "a cycle test (Hansen et al. 1984 were derived on a cycle ergometer)", mode)
     mass = number_in("body_mass_kg", body_mass_kg, 20, 300, "kg")
     s = reference_sex(sex)
     wt = min(mass, ideal_body_mass_kg(height_cm=height_cm, sex=s))

@@ -6,7 +6,7 @@ paper before a clinical lab relies on them.
 
 from __future__ import annotations
 
-from analysis.errors import InvalidParameter
+from analysis.errors import OutsideDerivationRange
 from analysis.reference._validate import mode_code, number_in
 from analysis.subject import reference_sex
 
@@ -15,8 +15,8 @@ JONES_AGE_RANGE_Y: tuple[float, float] = (15.0, 71.0)
 
 #: Reader-facing method sentence.
 JONES_METHOD = (
-    "Jones et al. 1985 (cycle; from memory): VO2max (L/min) = 0.046·height(cm) − 0.021·age − 0.62·sex(m 0, f 1) "
-    "− 4.31; HRmax 202 − 0.72·age"
+    "Jones et al. 1985 (cycle; from memory): VO2max (L/min) = 0.046·height(cm) - 0.021·age - 0.62·sex(m 0, f 1) "
+    "- 4.31; HRmax 202 - 0.72·age"
 )
 
 
@@ -24,7 +24,7 @@ def _checked_age(age_y: float) -> float:
     age = number_in("age_y", age_y, 5, 110, "years")
     low, high = JONES_AGE_RANGE_Y
     if not low <= age <= high:
-        raise InvalidParameter(
+        raise OutsideDerivationRange(
             "age_y",
             f"an age within {low:g}–{high:g} years, the ages Jones et al. 1985 were derived from (no "
             "extrapolation; choose another reference set)",
@@ -52,8 +52,8 @@ def jones1985_vo2max_ml_min(*, age_y: float, sex: str, height_cm: float, mode: s
 
     Raises
     ------
-    InvalidParameter
-        Age outside the derivation range, a treadmill test, or values out of range.
+    OutsideDerivationRange
+        (an InvalidParameter) Age outside the derivation range, a treadmill test, or values out of range.
 
     Notes
     -----
@@ -73,7 +73,7 @@ def jones1985_vo2max_ml_min(*, age_y: float, sex: str, height_cm: float, mode: s
     """
     age = _checked_age(age_y)
     if mode_code(mode) != "cycle":
-        raise InvalidParameter("mode", "a cycle test (Jones et al. 1985 were derived on a cycle ergometer)", mode)
+        raise OutsideDerivationRange("mode", "a cycle test (Jones et al. 1985 were derived on a cycle ergometer)", mode)
     h = number_in("height_cm", height_cm, 120, 230, "cm")
     female = 1.0 if reference_sex(sex) == "female" else 0.0
     return 1000.0 * (0.046 * h - 0.021 * age - 0.62 * female - 4.31)
