@@ -7,7 +7,6 @@ from dataclasses import dataclass
 
 import numpy as np
 from numpy.typing import ArrayLike
-from scipy.signal import find_peaks
 
 from analysis.errors import require
 from analysis.interpretation._series import centred_mean, on_grid, span_of
@@ -67,6 +66,34 @@ class Oscillation:
     series_ve_l_min: tuple[float, ...] = described(unit="L/min", description=f"VE, {EOV_SMOOTH_S:g}-s centred means")
     series_trend_l_min: tuple[float, ...] = described(unit="L/min", description="the slow trend of VE")
     cycle_spans_s: tuple[tuple[float, float], ...] = described(unit="s", description="start and end of each counted cycle")
+
+
+def _peaks(y: np.ndarray, *, distance_n: int, prominence: float) -> np.ndarray:
+    """Indices of the local maxima of ``y`` that stand out by ``prominence`` (the drop to the
+    lowest point before a higher value, or the edge, on the lower of its two sides), at least
+    ``distance_n`` points apart (the higher kept), in time order."""
+    if y.size < 3:
+        return np.empty(0, dtype=int)
+    inner = np.flatnonzero((y[1:-1] > y[:-2]) & (y[1:-1] >= y[2:])) + 1
+    kept: list[int] = []
+    for i in inner:
+        left = i - 1
+        low_left = y[i]
+        while left >= 0 and y[left] <= y[i]:
+            low_left = min(low_left, y[left])
+            left -= 1
+        right = i + 1
+        low_right = y[i]
+        while right < y.size and y[right] <= y[i]:
+            low_right = min(low_right, y[right])
+            right += 1
+        if y[i] - max(low_left, low_right) >= prominence:
+            kept.append(int(i))
+    chosen: list[int] = []
+    for i in sorted(kept, key=lambda k: -y[k]):
+        if all(abs(i - j) >= distance_n for j in chosen):
+            chosen.append(i)
+    return np.array(sorted(chosen), dtype=int)
 
 
 def _regular_runs(
@@ -174,7 +201,7 @@ def exercise_oscillation(t_s: ArrayLike, ve_l_min: ArrayLike, phases: ArrayLike)
     trend = np.polynomial.polynomial.polyval(x, np.polynomial.polynomial.polyfit(x, values, EOV_TREND_DEGREE))
     trend = np.maximum(trend, 0.05 * float(np.mean(values)))
     rel = smooth / trend - 1.0
-    peaks, _ = find_peaks(rel, distance=int(EOV_PERIOD_RANGE_S[0] * 0.8), prominence=EOV_AMPLITUDE_FRACTION / 2)
+    peaks = _peaks(rel, distance_n=int(EOV_PERIOD_RANGE_S[0] * 0.8), prominence=EOV_AMPLITUDE_FRACTION / 2)
     found: list[tuple[float, float, float, float, float] | None] = []
     for a, b in itertools.pairwise(peaks):
         length = float(grid[b] - grid[a])
