@@ -90,9 +90,9 @@ def _peaks(y: np.ndarray, *, distance_n: int, prominence: float) -> np.ndarray:
         if y[i] - max(low_left, low_right) >= prominence:
             kept.append(int(i))
     chosen: list[int] = []
-    for i in sorted(kept, key=lambda k: -y[k]):
-        if all(abs(i - j) >= distance_n for j in chosen):
-            chosen.append(i)
+    for k in sorted(kept, key=lambda k: -y[k]):
+        if all(abs(k - j) >= distance_n for j in chosen):
+            chosen.append(k)
     return np.array(sorted(chosen), dtype=int)
 
 
