@@ -359,6 +359,10 @@ METHOD_NAMES: dict[str, str] = {
     "hr_max_predicted": "Predicted maximal heart rate", "weber_class": "Weber class",
     "ventilatory_class": "Ventilatory class", "zones": "Training zones", "vt1": "VT1", "vt2": "VT2 / RCP",
     "oxygen": "Oxygen path", "oxygen_spo2": "Arterial saturation", "oxygen_cascade": "O2 cascade at peak",
+    "interpretation_chronotropic": "Chronotropic index", "interpretation_saturation": "SpO2 and desaturation",
+    "interpretation_oscillation": "Oscillatory ventilation", "interpretation_gas_exchange": "End-tidal CO2 and dead space",
+    "interpretation_ventilation": "Ventilatory limitation", "interpretation_response": "Efficiency and response",
+    "interpretation_lag": "Lag-corrected loads", "interpretation_reference_set": "Reference set of the flags",
 }
 #: Internal references in method texts and what the reader sees instead.
 _CODE_REFERENCE = re.compile(r"\s*\((?:analysis|dashboard|store)\.[\w.]+\)")
