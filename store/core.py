@@ -11,12 +11,14 @@ from typing import Any, Self, overload
 
 from sqlalchemy import select
 from sqlalchemy.engine import Engine
+from sqlalchemy.exc import DBAPIError
 from sqlalchemy.orm import Session as DbSession
 from sqlalchemy.orm import sessionmaker
 
 from store.analysis_bridge import AnalysisBridge
 from store.audit_chain import AUDIT_HEAD_KEY, GENESIS, ChainReport, decode_head, encode_head, hash_of, verify_rows
 from store.config import READ_ONLY_OPTION
+from store.db_errors import plain_store_error
 from store.errors import PermissionDenied
 from store.models import AuditEvent, StoreInfo, UserRow
 from store.records import ROLE_ORDER, Operator, User
@@ -104,15 +106,31 @@ class StoreCore:
 
     @contextmanager
     def _tx(self) -> Iterator[DbSession]:
-        """One transaction: committed when the block ends, rolled back on any exception."""
-        with self._sessions.begin() as db:
-            yield db
+        """One transaction: committed when the block ends, rolled back on any exception.
+
+        Driver failures a user can act on (read-only store, full disk, server unreachable)
+        become :class:`~store.errors.StoreError` with a plain message.
+        """
+        try:
+            with self._sessions.begin() as db:
+                yield db
+        except (DBAPIError, OSError) as exc:
+            plain = plain_store_error(exc)
+            if plain is None:
+                raise
+            raise plain from None
 
     @contextmanager
     def _read(self) -> Iterator[DbSession]:
         """A read-only transaction (on SQLite it does not wait for writers)."""
-        with self._read_sessions.begin() as db:
-            yield db
+        try:
+            with self._read_sessions.begin() as db:
+                yield db
+        except (DBAPIError, OSError) as exc:
+            plain = plain_store_error(exc)
+            if plain is None:
+                raise
+            raise plain from None
 
     def now(self) -> datetime:
         return self.clock()

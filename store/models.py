@@ -237,6 +237,20 @@ class ShareView(Base):
     id: Mapped[int] = mapped_column(Integer, primary_key=True)
     share_id: Mapped[int] = mapped_column(ForeignKey("share_links.id"), index=True)
     viewed_at: Mapped[datetime] = mapped_column(DateTime(timezone=True))
+    #: ``open`` (the link opened), ``test`` (another test chosen inside a person link) or
+    #: ``report`` (the report downloaded).
+    kind: Mapped[str] = mapped_column(String(16), default="open", server_default="open")
+    #: The test looked at, when known (a plain number: the view log outlives nothing it points to).
+    test_id: Mapped[int | None] = mapped_column(Integer)
+
+
+class ShareMiss(Base):
+    """How many times a link that does not open was tried, per UTC day (counts, never tokens)."""
+
+    __tablename__ = "share_misses"
+
+    day: Mapped[str] = mapped_column(String(10), primary_key=True)
+    attempts: Mapped[int] = mapped_column(Integer)
 
 
 class LabIdentityRow(Base):

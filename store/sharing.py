@@ -19,10 +19,12 @@ from sqlalchemy import func, select
 from analysis.errors import require
 from store.core import Actor, aware, to_json
 from store.errors import NotFound, StoreError
-from store.models import PersonRow, ShareLink, ShareLinkTest, ShareView, TestRow
+from store.models import PersonRow, ShareLink, ShareLinkTest, ShareMiss, ShareView, TestRow
 from store.records import ShareInfo, ShareScope
 from store.review import ReviewMixin
 
+#: Kinds of logged share-link view.
+VIEW_KINDS: tuple[str, ...] = ("open", "test", "report")
 #: What a link may show; the default is all four (the display name is a separate choice).
 SHARE_SECTIONS: tuple[str, ...] = ("headline", "zones", "charts", "report")
 #: Longest a link may live (days); common practice for coach follow-up is weeks to a season.
@@ -91,6 +93,28 @@ class SharingMixin(ReviewMixin):
                              "expires_at": link.expires_at.isoformat()})
             return token, link.id
 
+    def _count_miss(self) -> None:
+        """Count one attempt with a link that does not open (per UTC day; the token is not kept)."""
+        day = self.now().strftime("%Y-%m-%d")
+        with self._tx() as db:
+            row = db.get(ShareMiss, day, with_for_update=True)
+            if row is None:
+                if self.dialect == "postgresql":
+                    from sqlalchemy.dialects.postgresql import insert as pg_insert
+
+                    db.execute(pg_insert(ShareMiss).values(day=day, attempts=1).on_conflict_do_update(
+                        index_elements=["day"], set_={"attempts": ShareMiss.attempts + 1}))
+                else:
+                    db.add(ShareMiss(day=day, attempts=1))
+            else:
+                row.attempts += 1
+
+    def share_miss_counts(self, *, days: int = 30) -> list[tuple[str, int]]:
+        """``(UTC day, attempts)`` with links that did not open, newest first (for administrators)."""
+        with self._read() as db:
+            rows = db.execute(select(ShareMiss.day, ShareMiss.attempts).order_by(ShareMiss.day.desc()).limit(days))
+            return [(str(d), int(n)) for d, n in rows]
+
     def resolve_share(self, token: str, *, log_view: bool = True) -> ShareScope | None:
         """The scope of a valid link, else ``None``.
 
@@ -99,6 +123,12 @@ class SharingMixin(ReviewMixin):
         which case it was. The lookup is by hash of the token, followed by a constant-time
         comparison. A successful resolution is logged as a view unless ``log_view=False``.
         """
+        scope = self._resolve_share(token, log_view=log_view)
+        if scope is None:
+            self._count_miss()
+        return scope
+
+    def _resolve_share(self, token: str, *, log_view: bool) -> ShareScope | None:
         candidate = token if isinstance(token, str) else ""
         well_formed = bool(_TOKEN_RE.match(candidate))
         digest = token_hash(candidate if well_formed else "!" + candidate[:100])
@@ -125,12 +155,23 @@ class SharingMixin(ReviewMixin):
                 show_name=link.show_name, expires_at=aware(link.expires_at), for_person=link.person_id is not None,
             )
 
-    def log_share_view(self, share_id: int) -> None:
-        """Record one more view of a link (when ``resolve_share(..., log_view=False)`` was used)."""
+    def log_share_view(self, share_id: int, *, kind: str = "open", test_id: int | None = None) -> None:
+        """Record one more view of a link: ``open`` (when ``resolve_share(..., log_view=False)``
+        was used), ``test`` (another test chosen inside a person link) or ``report`` (downloaded)."""
+        require(kind in VIEW_KINDS, "kind", f"one of {', '.join(VIEW_KINDS)}", kind)
         with self._tx() as db:
             if db.get(ShareLink, share_id) is None:
                 raise NotFound(f"No share link with number {share_id}.")
-            db.add(ShareView(share_id=share_id, viewed_at=self.now()))
+            db.add(ShareView(share_id=share_id, viewed_at=self.now(), kind=kind, test_id=test_id))
+
+    def share_views(self, share_id: int) -> list[tuple[str, int | None, object]]:
+        """Every logged use of a link ``(kind, test id, when)``, oldest first."""
+        with self._read() as db:
+            rows = db.execute(
+                select(ShareView.kind, ShareView.test_id, ShareView.viewed_at)
+                .where(ShareView.share_id == share_id).order_by(ShareView.id)
+            ).all()
+            return [(str(k), t, aware(at)) for k, t, at in rows]
 
     def revoke_share(self, share_id: int, *, actor: Actor, reason: str = "") -> None:
         """Revoke a link at once (reviewer or admin). Revoking twice is harmless."""

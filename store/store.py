@@ -2,9 +2,13 @@
 
 from __future__ import annotations
 
+from sqlalchemy.exc import DBAPIError
+
 from store.accounts import AccountsMixin
-from store.config import make_engine, resolve_url
+from store.config import describe_url, make_engine, resolve_url
 from store.core import Clock
+from store.db_errors import plain_store_error
+from store.errors import StoreError
 from store.lab import LabMixin
 from store.metadata import MetadataMixin
 from store.migrate import upgrade_to_head
@@ -39,9 +43,21 @@ def open_store(url: str | None = None, *, clock: Clock | None = None) -> Store:
     >>> store.close()
     """
     resolved = resolve_url(url)
-    engine = make_engine(resolved)
+    try:
+        engine = make_engine(resolved)
+    except OSError as exc:  # the SQLite folder cannot be created
+        raise StoreError(
+            f"The store's folder cannot be created ({exc.strerror or exc}). Check the path "
+            f"{describe_url(resolved)} and the permissions of its parent folder."
+        ) from None
     try:
         upgrade_to_head(engine)
+    except (DBAPIError, OSError) as exc:
+        engine.dispose()
+        plain = plain_store_error(exc)
+        if plain is None:
+            raise
+        raise StoreError(f"{plain} (store: {describe_url(resolved)})") from None
     except Exception:
         engine.dispose()
         raise

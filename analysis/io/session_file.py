@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import io
 import math
+import re
 from collections.abc import Sequence
 from functools import partial
 from pathlib import Path
@@ -32,6 +33,18 @@ _NEAREST_DOUBLE: Literal["round_trip"] | None = None if int(pd.__version__.split
 COLUMN_ORDER: tuple[str, ...] = tuple(C.COLUMNS)
 
 
+#: Text starting with one of these is run as a formula by spreadsheet programs (common practice).
+_FORMULA_START = ("=", "+", "-", "@", "\t", "\r")
+#: A cell of a metadata line's value (after a comma) that starts, after spaces, like a formula:
+#: ``=`` or ``@``, or ``+``/``-`` before a letter or bracket (``+0.5 km/h`` is a number, kept).
+_FORMULA_AFTER_COMMA = re.compile(r",(\s*)(?=[=@]|[+\-][^\d\s.,])")
+
+
+def _neutral_text(value: Any) -> Any:
+    """Text that a spreadsheet would run as a formula gets a leading apostrophe (as exports do)."""
+    return "'" + value if isinstance(value, str) and value.startswith(_FORMULA_START) else value
+
+
 def _format_meta_value(value: Any) -> str:
     if isinstance(value, float):
         if math.isnan(value):
@@ -39,7 +52,9 @@ def _format_meta_value(value: Any) -> str:
         if math.isinf(value):
             return repr(value)
         return repr(round(value, 6)).rstrip("0").rstrip(".") if value != int(value) else str(int(value))
-    return str(value).replace("\r", " ").replace("\n", " ")
+    text = str(value).replace("\r", " ").replace("\n", " ")
+    # the line itself starts with '#'; a comma starts a new cell when a spreadsheet opens the file
+    return _FORMULA_AFTER_COMMA.sub(r",\1'", text)
 
 
 def session_to_text(session: Session) -> str:
@@ -51,7 +66,9 @@ def session_to_text(session: Session) -> str:
     if text_cols:  # one breath per line: line breaks inside a marker become spaces
         table = table.copy()
         for c in text_cols:
-            table[c] = table[c].map(lambda v: v.replace("\r", " ").replace("\n", " ") if isinstance(v, str) else v)
+            table[c] = table[c].map(
+                lambda v: _neutral_text(v.replace("\r", " ").replace("\n", " ")) if isinstance(v, str) else v
+            )
     buf = io.StringIO()
     table.to_csv(buf, index=False, float_format="%.6g", lineterminator="\n")
     return ("\n".join(lines) + "\n" if lines else "") + buf.getvalue()

@@ -60,6 +60,21 @@ def resolve_scope(store: Any, token: Any, *, log_view: bool = True) -> Any | Non
     return scope
 
 
+#: Session-state key of the test last shown under a link (a change is logged as a view).
+LOGGED_TEST_KEY = "tm_coach_logged_test"
+
+
+def log_use(store: Any, scope: Any, kind: str, test_id: int) -> None:
+    """Log one use of a link (``test``: another test chosen; ``report``: report downloaded).
+
+    A failure is logged for the server and never shown on the public page.
+    """
+    try:
+        store.log_share_view(scope.share_id, kind=kind, test_id=test_id)
+    except Exception:  # the coach still sees the page; the server log has the details
+        log.exception("share link use could not be logged")
+
+
 def render_invalid() -> None:
     """The one page every unusable link gets."""
     st.title("Tidemark")
@@ -109,7 +124,7 @@ def render_scope(store: Any, scope: Any) -> None:
     summaries.sort(key=lambda s: (str(s.test_date or ""), s.id))
     by_id = {s.id: s for s in summaries}
 
-    st.title(f"Exercise test results — {_coach_label(summaries[0], show_name=show_name)}")
+    st.title(f"Exercise test results — {lab.markdown_text(_coach_label(summaries[0], show_name=show_name))}")
     st.caption(shared_by_text(lab.read_identity(store)))
     st.warning(" ".join(CAUTIONS))
     person_link = bool(getattr(scope, "for_person", False)) or len(summaries) > 1
@@ -126,9 +141,12 @@ def render_scope(store: Any, scope: Any) -> None:
         )
     else:
         test_id = summaries[0].id
+    if st.session_state.get(LOGGED_TEST_KEY) not in (None, test_id):
+        log_use(store, scope, "test", test_id)  # another test chosen inside a person link
+    st.session_state[LOGGED_TEST_KEY] = test_id
     summary = by_id[test_id]
     if len(summaries) == 1:
-        st.subheader(" · ".join(x for x in (str(summary.test_date or ""), summary.protocol or "") if x) or "Test")
+        st.subheader(lab.markdown_text(" · ".join(x for x in (str(summary.test_date or ""), summary.protocol or "") if x) or "Test"))
 
     settings, version = stored_settings(store, test_id)
     results = data.analyze(test_id, state.settings_key(settings))
@@ -156,6 +174,7 @@ def render_scope(store: Any, scope: Any) -> None:
             st.plotly_chart(fig, width="stretch", key=f"coach_chart_{title}")
     if _allowed(scope, "report"):
         def report_bytes() -> bytes:  # built on click, off the page run
+            log_use(store, scope, "report", test_id)
             return build_test_report(store, test_id, results, session, version=version, show_name=show_name).encode("utf-8")
 
         st.download_button(

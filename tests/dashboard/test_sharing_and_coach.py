@@ -214,3 +214,26 @@ def test_coach_threshold_table_has_one_column_per_threshold():
     rows = dict(zip(frame[""], frame["VT1"]))
     assert rows["Time (m:ss)"] == "12:05" and rows["VO2 (mL/min)"] == "2\u2009972" and rows["Set"] == "automatic"
     assert dict(zip(frame[""], frame["VT2 / RCP"]))["Set"] == "not found"
+
+
+def test_person_link_logs_test_switches_and_report_downloads(demo_store):
+    from dashboard.views.coach import log_use
+
+    store, first = demo_store.store, demo_store.test_ids[0]
+    code = store.get_test(first).summary.person_code
+    again = demo_store.files[0].read_bytes().replace(b"# test_date: 2026-02-03", b"# test_date: 2026-03-03")
+    second = store.import_test(again, file_name="second.csv", actor=demo_store.user, person_code=code).test_id
+    person_id = store.get_test(first).summary.person_id
+    token, share_id = store.create_share(actor=demo_store.user, person_id=person_id, expires_in_days=2)
+    at = _coach_run(token)
+    assert not at.exception
+    box = at.selectbox(key="coach_test")
+    shown = box.value
+    other = first if shown == second else second
+    box.set_value(other).run()
+    assert at.selectbox(key="coach_test").value == other
+    at.run()  # a rerun without a change logs nothing more
+    assert [(k, t) for k, t, _ in store.share_views(share_id)] == [("open", None), ("test", other)]
+    log_use(store, store.resolve_share(token, log_view=False), "report", other)  # what the download button calls
+    assert [k for k, _, _ in store.share_views(share_id)][-1] == "report"
+    assert {s.id: s for s in store.list_shares()}[share_id].n_views == 3

@@ -11,6 +11,7 @@ import pytest
 from sqlalchemy import text
 from sqlalchemy.exc import DBAPIError
 
+from analysis.errors import InvalidParameter
 from store import AccountLocked, LoginRefused, StoreError
 from store import accounts
 from tests.store.helpers import PASSWORD
@@ -219,3 +220,24 @@ class TestSignOffRace:
         assert [x["signed"] for x in store.list_versions(res.test_id)] == [True]
         assert store.save_settings(res.test_id, {**settings, "smoothing": {"window_s": 20}}, actor=users["rhea"],
                                    reason="smoother after sign-off", expected_version=v) == v + 1
+
+
+class TestShareLinkCounts:
+    def test_links_that_do_not_open_are_counted_per_day_without_the_token(self, store, users, clock):
+        res = store.import_test(csv_bytes(3000.0), file_name="t.csv", actor=users["rhea"])
+        token, share_id = store.create_share(actor=users["rhea"], test_id=res.test_id, expires_in_days=1)
+        for bad in ("nonsense", "x" * 43, token[:-1] + ("A" if token[-1] != "A" else "B")):
+            assert store.resolve_share(bad) is None
+        assert store.resolve_share(token) is not None
+        clock.advance(days=2)
+        assert store.resolve_share(token) is None  # expired
+        assert store.share_miss_counts() == [("2026-03-16", 1), ("2026-03-14", 3)]
+        assert [k for k, _, _ in store.share_views(share_id)] == ["open"]
+
+    def test_views_are_logged_by_kind_and_test(self, store, users):
+        res = store.import_test(csv_bytes(3000.0), file_name="t.csv", actor=users["rhea"])
+        _, share_id = store.create_share(actor=users["rhea"], test_id=res.test_id, expires_in_days=1)
+        store.log_share_view(share_id, kind="report", test_id=res.test_id)
+        with pytest.raises(InvalidParameter):
+            store.log_share_view(share_id, kind="peek")
+        assert [(k, t) for k, t, _ in store.share_views(share_id)] == [("report", res.test_id)]
