@@ -23,6 +23,7 @@ import streamlit as st
 
 from dashboard import data, state
 from dashboard.errors import show_error, user_errors
+from dashboard.lab import markdown_text
 
 log = logging.getLogger("tidemark.dashboard")
 
@@ -201,7 +202,7 @@ def sidebar(store: Any) -> None:
         if state.in_demo_mode():
             st.warning("**Demo mode** — fictional people of a fictional lab; signed in as the demo reviewer.")
         elif user is not None:
-            st.caption(f"Signed in as **{state.user_name()}** ({state.user_role()})")
+            st.caption(f"Signed in as **{markdown_text(state.user_name())}** ({state.user_role()})")
             if st.button("Sign out", key="sign_out"):
                 state.sign_out()
                 st.rerun()

@@ -46,8 +46,19 @@ def show_error(exc: BaseException, *, context: str = "") -> str:
         ref = uuid.uuid4().hex[:8]
         log.error("internal error [%s] %s", ref, head, exc_info=exc)
         text = f"{head}{describe(exc)} (reference {ref} in the server log)"
-    st.error(text)
+    st.error(_escaped(exc, text, head=head))
     return text
+
+
+def _escaped(exc: BaseException, text: str, *, head: str) -> str:
+    """``text`` as markdown with everything that came from data escaped (a rejected file's
+    problems quote its cells and names); the list of problems stays a list."""
+    from dashboard.lab import markdown_text
+
+    if isinstance(exc, ImportRejected):
+        items = "\n".join(f"- {markdown_text(p.describe())}" for p in exc.problems)
+        return f"{markdown_text(head)}\n\n{items}" if head else items
+    return markdown_text(text)
 
 
 @contextmanager

@@ -375,7 +375,7 @@ def _import_panel(store: Any, upload: Any, index: int) -> None:
                 st.rerun()
             if outcome is not None:
                 for line in conversion_notes(outcome.mapping):
-                    st.caption(line)
+                    st.caption(markdown_text(line))
             if (columns is not None or generation) and st.button("Back to the guessed mapping", key=f"{key}_reset"):
                 st.session_state.pop(edits_key, None)
                 st.session_state[f"{base}_gen"] = generation + 1
@@ -503,7 +503,7 @@ def _add_tests(store: Any) -> None:
         key="lib_upload",
     )
     for i, upload in enumerate(uploads or []):
-        with st.expander(upload.name, expanded=True):
+        with st.expander(markdown_text(upload.name), expanded=True):
             _import_panel(store, upload, i)
 
 

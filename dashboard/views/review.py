@@ -37,6 +37,7 @@ from dashboard.charts.linking import (
 from dashboard.charts.time_course import VO2_TRACE
 from dashboard.charts.vslope import DATA_TRACE, exercise_rows
 from dashboard.errors import show_error
+from dashboard.lab import markdown_text
 from dashboard.views._subject_panel import details_panel
 from dashboard.views._test_choice import current_or_default
 
@@ -362,14 +363,14 @@ def _header(store: Any, test_id: int, working: state.WorkingSettings) -> Any:
     record = store.get_test(test_id)
     s = record.summary
     who = s.person_code + (f" ({s.display_name})" if s.display_name else "")
-    st.subheader(f"{who} — {s.test_date or 'no date'}")
+    st.subheader(markdown_text(f"{who} — {s.test_date or 'no date'}"))
     signed = record.current_version_signed
     bits = [s.protocol or "", f"file {s.file_name}",
             f"version {working.version if working.version is not None else '–'}"]
     if signed and working.saved:
         sign = next((x for x in record.sign_offs if x.version == s.version), None)
         bits.append(f"signed off by {sign.signed_by}" if sign else "signed off")
-    st.caption(" · ".join(b for b in bits if b))
+    st.caption(markdown_text(" · ".join(b for b in bits if b)))
     pending, _, failed, _ = state.save_tracker().status(test_id)
     if not working.saved and not pending and not failed and not st.session_state.get(SAVE_QUEUE):
         st.warning("Unsaved changes: what you see differs from the stored version.")
@@ -615,7 +616,7 @@ def _zones(results_json: Mapping[str, Any]) -> None:
     zones = results_json.get("zones") or {}
     note = zones.get("note") if isinstance(zones, Mapping) else None
     if note:
-        st.caption(str(note))
+        st.caption(markdown_text(note))
     if not rows:
         st.caption("No zones: they need at least VT1.")
 
@@ -750,7 +751,7 @@ def render() -> None:
     results_json = data.results_json(test_id, working.key)
     session = data.load_session(test_id)
     for w in results_json.get("warnings") or []:
-        st.warning(str(w))
+        st.warning(markdown_text(w))
     _headline(results_json)
     details_panel(store, test_id)
     st.subheader("Thresholds")
