@@ -162,11 +162,19 @@ def sign_in_subtitle(name: str) -> str:
 
 
 def sign_in_client() -> str | None:
-    """Who is signing in, for the per-client limit: the browser's address as the server sees it."""
+    """Who is signing in, for the per-client limit: the browser's address.
+
+    Behind a reverse proxy on the same machine every request comes from loopback; then the last
+    address the proxy appended to ``X-Forwarded-For`` is the browser's (the entries before it
+    are whatever the browser sent, so they are not trusted).
+    """
     try:
         address = st.context.ip_address
+        forwarded = st.context.headers.get("X-Forwarded-For") if address in ("127.0.0.1", "::1") else None
     except Exception:  # noqa: BLE001 - not every Streamlit context knows it
-        address = None
+        address, forwarded = None, None
+    if forwarded:
+        address = forwarded.split(",")[-1].strip() or address
     return f"ip:{address}" if address else None
 
 
