@@ -115,7 +115,7 @@ def phase_legend(frame: pd.DataFrame | None) -> list[dict]:
 
 
 #: The 90 % interval of a threshold, by the axis the threshold is drawn on.
-_BAND_KEY = {"t_s": "ci90_t_s", "vo2_ml_min": "ci90_vo2_ml_min"}
+_BAND_KEY = {"t_s": "ci90_t_s", "vo2_ml_min": "ci90_vo2_ml_min", "ve_l_min": "ci90_ve_l_min"}
 #: Opacity of a threshold's interval band (its line colour, faint enough for data to show).
 BAND_OPACITY = 0.13
 

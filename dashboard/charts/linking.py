@@ -21,6 +21,7 @@ from typing import Any
 import numpy as np
 
 from dashboard import palette
+from dashboard.timefmt import clock_text
 
 #: A time span in seconds from the start of the recording: ``(start_s, end_s)``.
 TimeSpan = tuple[float, float]
@@ -118,7 +119,7 @@ def span_shapes(span: TimeSpan | None) -> list[dict[str, Any]]:
 
 
 def span_legend(span: TimeSpan | None) -> list[dict[str, Any]]:
-    """A legend-only entry naming the band: ``"Selected span 420–610 s"``."""
+    """A legend-only entry naming the band: ``"Selected span 7:00–10:10"``."""
     if span is None:
         return []
     return [
@@ -130,8 +131,8 @@ def span_legend(span: TimeSpan | None) -> list[dict[str, Any]]:
 
 
 def span_text(span: TimeSpan) -> str:
-    """``(420.0, 610.4)`` -> ``"420–610 s"``."""
-    return f"{span[0]:.0f}–{span[1]:.0f} s"
+    """``(420.0, 610.4)`` -> ``"7:00–10:10"`` (m:ss, :func:`dashboard.timefmt.clock_text`)."""
+    return f"{clock_text(span[0])}–{clock_text(span[1])}"
 
 
 def in_span(t_s: np.ndarray, span: TimeSpan | None) -> np.ndarray:

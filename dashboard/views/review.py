@@ -13,7 +13,7 @@ import dataclasses
 import functools
 import logging
 from collections.abc import Mapping, Sequence
-from typing import Any, Literal, cast
+from typing import Any, Literal
 
 import pandas as pd
 import streamlit as st
@@ -24,7 +24,6 @@ from analysis.errors import TidemarkError
 from analysis.settings import AnalysisSettings, ThresholdOverride
 from analysis.thresholds import pick_from_chart_point
 from dashboard import data, state
-from dashboard.charts import equivalents_figure, time_course_figure, vslope_figure
 from dashboard.charts.linking import (
     clamp_window,
     is_area_selection,
@@ -34,10 +33,12 @@ from dashboard.charts.linking import (
     window_bounds,
     window_range,
 )
+from dashboard.charts.overview_grid import overview_figure
 from dashboard.charts.time_course import VO2_TRACE
-from dashboard.charts.vslope import DATA_TRACE, exercise_rows
+from dashboard.charts.vslope import DATA_TRACE
 from dashboard.errors import show_error
 from dashboard.lab import markdown_text
+from dashboard.timefmt import clock_text
 from dashboard.views._subject_panel import details_panel
 from dashboard.views._test_choice import current_or_default
 
@@ -77,12 +78,12 @@ def span_key(test_id: int) -> str:
 
 
 def window_key(test_id: int) -> str:
-    """Session-state key (and widget key) of the time window shared by the two time charts."""
+    """Session-state key of the time window shared by every time panel (``(start_s, end_s)``)."""
     return f"time_window_{test_id}"
 
 
-#: The two charts a threshold can be picked on.
-ChartName = Literal["vslope", "time"]
+#: The charts a threshold can be picked on ("grid": any averaged point of the overview grid).
+ChartName = Literal["vslope", "time", "grid"]
 
 # --- pure helpers: user input -> settings --------------------------------------------------
 
@@ -158,8 +159,28 @@ def selected_point(event: Any, *, trace_names: Sequence[str]) -> dict[str, Any] 
     return None
 
 
+def grid_point(event: Any) -> dict[str, Any] | None:
+    """The first selected point of the overview grid that carries ``[t_s, row]`` in its customdata
+    (an averaged point of any panel); ``None`` for a click on a breath dot or a reference line."""
+    if not event:
+        return None
+    selection = event.get("selection") if isinstance(event, Mapping) else getattr(event, "selection", None)
+    points = (selection.get("points") if isinstance(selection, Mapping) else getattr(selection, "points", None)) or []
+    for point in points:
+        custom = point.get("customdata") if isinstance(point, Mapping) else None
+        if isinstance(custom, Sequence) and not isinstance(custom, str) and len(custom) >= 2:
+            return {k: point.get(k) for k in ("x", "y", "point_index", "customdata") if k in point}
+    return None
+
+
 def chart_pick(event: Any, *, chart: ChartName, avg: pd.DataFrame) -> dict[str, Any] | None:
-    """A chart selection turned into ``{"t_s", "vo2_ml_min", "index"}`` (or ``None``)."""
+    """A chart selection turned into ``{"t_s", "vo2_ml_min", "index"}`` (or ``None``).
+
+    On the overview grid every averaged point carries its time first, so a click on any panel
+    places the threshold at that point's time."""
+    if chart == "grid":
+        point = grid_point(event)
+        return None if point is None else pick_from_chart_point(point, chart="time", avg=avg)
     names = (DATA_TRACE,) if chart == "vslope" else (VO2_TRACE,)
     point = selected_point(event, trace_names=names)
     if point is None:
@@ -464,8 +485,9 @@ def _on_threshold(store: Any, test_id: int, *, clear: bool) -> None:
 
 def _threshold_controls(store: Any, test_id: int, working: state.WorkingSettings, results: Any) -> None:
     st.subheader("Set a threshold")
-    st.caption("Type a time or a VO2, or pick the threshold below and click a point on the V-slope or time-course "
-               "chart (a click moves the threshold; a box or lasso only highlights breaths).")
+    st.caption("Type a time or a VO2, or pick the threshold below and click an averaged point on any panel of the "
+               "overview above (a click moves the threshold to that point's time; a box or lasso only highlights "
+               "breaths).")
     c1, c2, c3 = st.columns([1, 1, 2])
     kind = c1.radio("Threshold", ["vt1", "vt2"], format_func=THRESHOLD_NAMES.get, horizontal=True, key=f"thr_kind_{test_id}")
     by = c2.radio("Place by", ["time", "VO2"], horizontal=True, key=f"thr_by_{test_id}")
@@ -496,7 +518,8 @@ def _on_chart_select(store: Any, test_id: int, *, chart: ChartName) -> None:
         return
     kind = st.session_state.get(f"thr_kind_{test_id}", "vt1")
     reason = (st.session_state.get(f"thr_reason_{test_id}") or "").strip() or (
-        f"{THRESHOLD_NAMES[kind]} picked on the {'V-slope' if chart == 'vslope' else 'time-course'} chart"
+        f"{THRESHOLD_NAMES[kind]} picked on the "
+        + {"vslope": "V-slope chart", "time": "time-course chart", "grid": "overview"}[chart]
     )
     apply_change(store, test_id, with_override(working.settings, kind=kind, t_s=float(pick["t_s"]), reason=reason),
                  reason=reason)
@@ -508,26 +531,56 @@ def _select_callback(store: Any, test_id: int, chart: ChartName) -> Any:
 
 
 def _time_window(test_id: int, bounds: tuple[float, float]) -> tuple[float, float] | None:
-    """The "Time window (s)" slider shared by the time course and the equivalents chart
-    (``None`` when it spans the whole test: each chart then fits its own data)."""
+    """The "Time window" range slider shared by every time panel, labelled in m:ss (``None`` when
+    it spans the whole test: the panels then fit the whole recording).
+
+    The chosen window is kept under :func:`window_key`; the slider itself is made anew (its own
+    key) whenever the page moves the window (zoom to a span) or the test's time span changes, and
+    starts from the kept window — a range slider given its value through the widget's own state
+    would come back as a single value after a keyboard change.
+    """
     key = window_key(test_id)
-    st.session_state[key] = clamp_window(st.session_state.get(key, bounds), bounds)
-    window = st.slider("Time window (s)", min_value=bounds[0], max_value=bounds[1], step=WINDOW_STEP_S, key=key,
-                       format="%.0f", help="Zooms the time course and the ventilatory-equivalents chart together.")
-    lo, hi = cast(tuple[float, float], window)  # a range slider (its key holds a pair) returns a pair
+    options = window_options(bounds, step_s=WINDOW_STEP_S)
+    lo, hi = clamp_window(st.session_state.get(key, bounds), bounds)
+    start = (snap(lo, options), snap(hi, options))
+    generation = int(st.session_state.get(f"{key}_gen", 0))
+    widget = f"{key}_slider_{generation}_{bounds[0]:.0f}_{bounds[1]:.0f}"
+    window = st.select_slider("Time window", options=options, value=start, key=widget, format_func=clock_text,
+                              help="Zooms every time panel of the overview together (m:ss from the start).")
+    if isinstance(window, (tuple, list)) and len(window) == 2:
+        st.session_state[key] = (float(window[0]), float(window[1]))
+    lo, hi = st.session_state.get(key, start)
     rng = window_range((float(lo), float(hi)), bounds=bounds)
     return (rng[0], rng[1]) if rng else None
+
+
+def move_window(test_id: int, window: tuple[float, float]) -> None:
+    """Set the shared time window from the page (the slider is made anew at that window)."""
+    key = window_key(test_id)
+    st.session_state[key] = (float(window[0]), float(window[1]))
+    st.session_state[f"{key}_gen"] = int(st.session_state.get(f"{key}_gen", 0)) + 1
+
+
+def window_options(bounds: tuple[float, float], *, step_s: float) -> list[float]:
+    """The slider's positions: every ``step_s`` from the start to the end of ``bounds`` (s)."""
+    n = round((bounds[1] - bounds[0]) / step_s)
+    return [float(bounds[0] + i * step_s) for i in range(n + 1)]
+
+
+def snap(value: float, options: Sequence[float]) -> float:
+    """The option nearest ``value`` (a remembered window always lands on a slider position)."""
+    return min(options, key=lambda o: abs(o - float(value)))
 
 
 def _span_note(test_id: int, bounds: tuple[float, float]) -> tuple[float, float] | None:
     span = st.session_state.get(span_key(test_id))
     if span is None:
-        st.caption("To see where breaths sit in time, pick the box or lasso tool (top right of the V-slope or "
-                   "time-course chart) and draw round them: their span is shaded on the time charts.")
+        st.caption("To see where breaths sit in time, pick the box or lasso tool (top right of the overview) and "
+                   "draw round them on any panel: their span is shaded on the time panels and ringed on the others.")
         return None
     a, b, c = st.columns([2, 1, 1])
     a.caption(f"Highlighted on all charts: breaths selected at {span_text(span)}.")
-    b.button("Zoom the time charts to it", key=f"zoom_span_{test_id}", on_click=_zoom_to_span, args=(test_id, bounds))
+    b.button("Zoom the time panels to it", key=f"zoom_span_{test_id}", on_click=_zoom_to_span, args=(test_id, bounds))
     if c.button("Clear the highlight", key=f"clear_span_{test_id}"):
         st.session_state.pop(span_key(test_id), None)
         st.rerun()
@@ -537,32 +590,45 @@ def _span_note(test_id: int, bounds: tuple[float, float]) -> tuple[float, float]
 def _zoom_to_span(test_id: int, bounds: tuple[float, float]) -> None:
     span = st.session_state.get(span_key(test_id))
     if span is not None:
-        st.session_state[window_key(test_id)] = window_around(span, bounds, step_s=WINDOW_STEP_S)
+        move_window(test_id, window_around(span, bounds, step_s=WINDOW_STEP_S))
 
 
-def _charts(store: Any, test_id: int, working: state.WorkingSettings, results: Any, session: Any) -> None:
+#: Less space above the page's first line, so the overview grid fits a laptop screen (1440x900)
+#: under the test's header. A style rule of this page only (no outside request).
+COMPACT_TOP_CSS = "<style>[data-testid='stMainBlockContainer']{padding-top:2rem}</style>"
+
+
+def _overview(store: Any, test_id: int, results: Any, session: Any, lines: Sequence[str], *, n_notes: int = 0) -> None:
+    """The overview grid: every relationship at a glance, linked by one time window and one
+    highlighted span, VT1/VT2 and their 90 % bands on every panel. Above it, in one row, the two
+    thresholds and the time window; the analysis' notes follow under it."""
     report = results.thresholds
-    picks = {"vt1": report.vt1, "vt2": report.vt2}
-    rows = [e.source_row for e in results.excluded_breaths]
     bounds = window_bounds(results.averaged["t_s"].to_numpy(dtype=float), step_s=WINDOW_STEP_S)
-    window = _time_window(test_id, bounds)
-    span = _span_note(test_id, bounds)
-    fig_t = time_course_figure(results.averaged, breaths=session.breaths, excluded_rows=rows, thresholds=picks,
-                               averaging_label=results.settings.averaging.label, time_window=window, highlight=span)
-    st.plotly_chart(fig_t, on_select=_select_callback(store, test_id, "time"), selection_mode=("points", "box", "lasso"),
-                    key=f"chart_time_{test_id}")
-    left, right = st.columns(2)
-    with left:
-        ex = exercise_rows(results.averaged)
-        fig_v = vslope_figure(ex, fit=report.vslope, candidates=report.vt1_candidates, vt1=report.vt1, vt2=report.vt2,
-                              highlight=span)
-        st.plotly_chart(fig_v, on_select=_select_callback(store, test_id, "vslope"),
-                        selection_mode=("points", "box", "lasso"), key=f"chart_vslope_{test_id}")
-        if report.vslope is not None and not report.vslope.valid:
-            st.caption(f"V-slope fit not accepted: {report.vslope.reason}")
-    with right:
-        st.plotly_chart(equivalents_figure(results.averaged, thresholds=picks, time_window=window, highlight=span),
-                        key=f"chart_eq_{test_id}")
+    c1, c2, c3 = st.columns([1, 1, 2], vertical_alignment="center")
+    for col, line in zip((c1, c2), lines, strict=False):
+        col.markdown(line)
+    with c3:
+        window = _time_window(test_id, bounds)
+    if n_notes:
+        st.caption(f"⚠ {n_notes} {'note' if n_notes == 1 else 'notes'} on this analysis under the overview.")
+    span = st.session_state.get(span_key(test_id))
+    span = (float(span[0]), float(span[1])) if span is not None else None
+    fig = overview_figure(
+        results.averaged,
+        thresholds={"vt1": results.vt1, "vt2": results.vt2},
+        fit=report.vslope,
+        breaths=session.breaths,
+        excluded_rows=[e.source_row for e in results.excluded_breaths],
+        time_window=window,
+        highlight=span,
+    )
+    st.plotly_chart(fig, on_select=_select_callback(store, test_id, "grid"), selection_mode=("points", "box", "lasso"),
+                    key=f"chart_grid_{test_id}", config={"displaylogo": False})
+    st.caption(f"VT1 orange dashed, VT2 purple dotted, each with its 90 % interval as a faint band; shaded: rest, "
+               f"warm-up, recovery; times in m:ss. Lines averaged: {results.settings.averaging.label}.")
+    _span_note(test_id, bounds)
+    if report.vslope is not None and not report.vslope.valid:
+        st.caption(f"V-slope fit not accepted: {report.vslope.reason}")
     for line in threshold_notes(report.agreement or {}, report.reasons or []):
         st.caption(line)
 
@@ -725,6 +791,7 @@ def _choose_test(store: Any) -> int | None:
 
 def render() -> None:
     """The Review page."""
+    st.html(COMPACT_TOP_CSS)
     for kind, message in state.pop_flashes():
         getattr(st, kind, st.info)(message)
     st.title("Review")
@@ -743,25 +810,24 @@ def render() -> None:
             st.rerun()
     elif pending or st.session_state.get(SAVE_QUEUE):
         _save_status(test_id)
+    results = data.analyze(test_id, working.key)
+    results_json = data.results_json(test_id, working.key)
+    session = data.load_session(test_id)
+    warnings = [str(w) for w in results_json.get("warnings") or []]
+    _overview(store, test_id, results, session, threshold_lines(results_json), n_notes=len(warnings))
     st.caption(
         "Estimates for review by qualified staff; not a medical device. Thresholds and zones are "
         "estimates and should be checked on the charts."
     )
-    results = data.analyze(test_id, working.key)
-    results_json = data.results_json(test_id, working.key)
-    session = data.load_session(test_id)
-    for w in results_json.get("warnings") or []:
+    for w in warnings:
         st.warning(markdown_text(w))
     _headline(results_json)
     details_panel(store, test_id)
     st.subheader("Thresholds")
-    for line in threshold_lines(results_json):
-        st.markdown(line)
     st.dataframe(pd.DataFrame(threshold_rows(results_json)), hide_index=True)
     _averaging_selector(store, test_id, working)
     st.caption(f"Averaging in use: {results.settings.averaging.label}")
     _threshold_controls(store, test_id, working, results)
-    _charts(store, test_id, working, results, session)
     _zones(results_json)
     _exclusions(store, test_id, working, results)
     _history_and_sign_off(store, test_id, working, record)

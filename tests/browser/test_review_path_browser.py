@@ -12,7 +12,7 @@ import re
 
 import pytest
 
-from tests.browser.conftest import wait_for_app
+from tests.browser.conftest import SCREENSHOTS, wait_for_app
 from tests.support import ROOT
 
 UPLOAD = ROOT / "demo_sessions" / "SEL-0425_2026-01-21_cycle-ramp.session.csv"
@@ -40,9 +40,37 @@ def _wait_vt1_change(page, before: tuple[int, int, str], timeout_ms: int = 60_00
     return _vt1(page)
 
 
+#: Time panels of the grid: their x axes are "x" or match it.
+_TIME_AXES_JS = """Object.keys(el.layout).filter(k => k.startsWith('xaxis')
+    && (k === 'xaxis' || el.layout[k].matches === 'x'))"""
+_N_TIME_PANELS = f"el => ({_TIME_AXES_JS}).length"
+_TIME_RANGES = f"el => ({_TIME_AXES_JS}).map(k => el.layout[k].range)"
+
+
+def _vslope_subplot(grid) -> str:  # noqa: ANN001 - Playwright Locator
+    """``"x4y4"``: the plotly subplot class of the grid's V-slope panel."""
+    i = grid.evaluate("el => el.layout.meta.panels.indexOf('vslope')")
+    assert i >= 0
+    return "xy" if i == 0 else f"x{i + 1}y{i + 1}"
+
+
+def _vslope_trace(grid) -> int:  # noqa: ANN001
+    """Index of the V-slope panel's averaged points (the first trace on its axes)."""
+    return grid.evaluate(
+        """el => { const i = el.layout.meta.panels.indexOf('vslope'); const ax = i === 0 ? 'x' : 'x' + (i + 1);
+                   return el.data.findIndex(t => (t.xaxis || 'x') === ax && t.customdata); }"""
+    )
+
+
+def _seconds(text: str) -> int:
+    m, s = text.split(":")
+    return int(m) * 60 + int(s)
+
+
 def test_upload_review_override_and_report(app_server, page, screenshot, tmp_path):
     if not UPLOAD.is_file():
         pytest.fail(f"demo file missing: {UPLOAD}")
+    page.set_viewport_size({"width": 1440, "height": 900})  # a laptop screen: the overview fits it
     page.goto(app_server)
     page.get_by_role("heading", name="Library", exact=True).wait_for()
     wait_for_app(page)
@@ -62,10 +90,19 @@ def test_upload_review_override_and_report(app_server, page, screenshot, tmp_pat
     # --- Review: read VT1
     page.get_by_role("heading", name=re.compile("SEL-0425 — 2026-01-21")).wait_for(timeout=60_000)
     page.locator("[data-testid='stMarkdownContainer']", has_text="VT1:").first.wait_for(timeout=60_000)
-    page.locator(".js-plotly-plot").nth(1).wait_for(timeout=60_000)
+    grid = page.locator(".js-plotly-plot").first
+    grid.wait_for(timeout=60_000)
     wait_for_app(page)
     first = _vt1(page)
     assert "automatic" in first[2]
+    # the overview grid fits one 1440x900 screen: its bottom edge is above the fold
+    page.evaluate("() => (document.querySelector('[data-testid=\"stMain\"]') || document.body).scrollTo(0, 0)")
+    page.wait_for_timeout(300)
+    page.screenshot(path=str(SCREENSHOTS / "review-first-screen.png"))  # what the reviewer sees on opening
+    box = grid.bounding_box()
+    assert box["y"] + box["height"] <= 900, box
+    panels = grid.evaluate("el => el.layout.meta.panels")
+    assert {"gas_time", "gas_work", "vslope", "equivalents", "end_tidal", "rer", "ve_vco2"} <= set(panels)
     screenshot(page, "review")
 
     # --- type a new VT1 time
@@ -78,15 +115,17 @@ def test_upload_review_override_and_report(app_server, page, screenshot, tmp_pat
     assert abs(typed[1] - typed_t) <= 10  # nearest 10 s averaged row
     screenshot(page, "review-typed-vt1")
 
-    # --- click a point on the V-slope chart
+    # --- click a point on the V-slope panel of the grid
     page.get_by_label("Reason (kept in the audit trail)").fill("")
-    chart = page.locator(".js-plotly-plot").nth(1)
-    chart.scroll_into_view_if_needed()
-    points = chart.locator(".scatterlayer .trace").first.locator("path.point")
+    grid = page.locator(".js-plotly-plot").first
+    grid.scroll_into_view_if_needed()
+    sub = _vslope_subplot(grid)
+    points = grid.locator(f".subplot.{sub} .scatterlayer .trace").first.locator("path.point")
     n = points.count()
     assert n > 10
     target = n // 3
-    t_clicked = chart.evaluate(f"el => el.data[0].customdata[{target}][0]")
+    trace = _vslope_trace(grid)
+    t_clicked = grid.evaluate(f"el => el.data[{trace}].customdata[{target}][0]")
     box = points.nth(target).bounding_box()
     page.mouse.click(box["x"] + box["width"] / 2, box["y"] + box["height"] / 2)
     clicked = _wait_vt1_change(page, typed)
@@ -94,62 +133,64 @@ def test_upload_review_override_and_report(app_server, page, screenshot, tmp_pat
     assert abs(clicked[1] - float(t_clicked)) <= 1
     screenshot(page, "review-clicked-vt1")
 
-    # --- box-select breaths on the V-slope chart: their span is shaded on both time charts
-    chart = page.locator(".js-plotly-plot").nth(1)
-    chart.scroll_into_view_if_needed()
-    chart.hover()
-    chart.locator(".modebar-btn[data-title='Box Select']").click()
-    points = chart.locator(".scatterlayer .trace").first.locator("path.point")
+    # --- box-select breaths on the V-slope panel: their span is shaded on every time panel
+    grid = page.locator(".js-plotly-plot").first
+    grid.scroll_into_view_if_needed()
+    grid.hover()
+    grid.locator(".modebar-btn[data-title='Box Select']").click()
+    sub, trace = _vslope_subplot(grid), _vslope_trace(grid)
+    points = grid.locator(f".subplot.{sub} .scatterlayer .trace").first.locator("path.point")
     n = points.count()
     a, b = points.nth(n // 4).bounding_box(), points.nth(n // 2).bounding_box()
-    t_lo, t_hi = chart.evaluate(f"el => [el.data[0].customdata[{n // 4}][0], el.data[0].customdata[{n // 2}][0]]")
-    x0, x1 = min(a["x"], b["x"]) - 4, max(a["x"], b["x"]) + b["width"] + 4
-    y0, y1 = min(a["y"], b["y"]) - 30, max(a["y"], b["y"]) + b["height"] + 30
+    t_lo, t_hi = grid.evaluate(f"el => [el.data[{trace}].customdata[{n // 4}][0], el.data[{trace}].customdata[{n // 2}][0]]")
+    x0, x1 = min(a["x"], b["x"]) - 3, max(a["x"], b["x"]) + b["width"] + 3
+    y0, y1 = min(a["y"], b["y"]) - 3, max(a["y"], b["y"]) + b["height"] + 3
     page.mouse.move(x0, y1)
     page.mouse.down()
     page.mouse.move((x0 + x1) / 2, (y0 + y1) / 2, steps=5)
     page.mouse.move(x1, y0, steps=5)
     page.mouse.up()
-    note = page.get_by_text(re.compile(r"Highlighted on all charts: breaths selected at \d+–\d+ s"))
+    note = page.get_by_text(re.compile(r"Highlighted on all charts: breaths selected at \d+:\d\d–\d+:\d\d"))
     note.wait_for(timeout=60_000)
     wait_for_app(page)
-    lo, hi = (int(v) for v in re.findall(r"(\d+)–(\d+) s", note.inner_text())[0])
+    lo, hi = (_seconds(v) for v in re.findall(r"(\d+:\d\d)–(\d+:\d\d)", note.inner_text())[0])
     assert lo <= round(float(t_lo)) and hi >= round(float(t_hi))  # the box took in at least those breaths
     assert _vt1(page) == clicked  # a box selection moves no threshold
-    for i in (0, 2):  # time course and equivalents: one band at the selected span
-        bands = page.locator(".js-plotly-plot").nth(i).evaluate(
-            "el => (el.layout.shapes || []).filter(s => s.fillcolor === 'rgba(127, 127, 127, 0.20)').map(s => [s.x0, s.x1])"
-        )
-        assert len(bands) == 1 and round(bands[0][0]) == lo and round(bands[0][1]) == hi
+    grid = page.locator(".js-plotly-plot").first
+    bands = grid.evaluate(
+        "el => (el.layout.shapes || []).filter(s => s.fillcolor === 'rgba(127, 127, 127, 0.20)').map(s => [s.xref, s.x0, s.x1])"
+    )
+    n_time = grid.evaluate(_N_TIME_PANELS)
+    assert len(bands) == n_time and len({b[0] for b in bands}) == n_time  # one band on each time panel
+    assert all(abs(b[1] - lo) <= 1 and abs(b[2] - hi) <= 1 for b in bands)
     screenshot(page, "review-highlighted-span")
 
-    # --- narrow the time window: both time charts follow
+    # --- narrow the time window: every time panel follows
     thumb = page.get_by_role("slider").first
     thumb.focus()
     for _ in range(30):
         thumb.press("ArrowRight")
     page.wait_for_function(
-        """() => { const p = document.querySelectorAll('.js-plotly-plot');
-                   return p.length > 2 && [p[0], p[2]].every(el => el.layout.xaxis.range && el.layout.xaxis.range[0] >= 200); }""",
+        """() => { const el = document.querySelector('.js-plotly-plot');
+                   return el && el.layout.xaxis.range && el.layout.xaxis.range[0] >= 200; }""",
         timeout=60_000,
     )
     wait_for_app(page)
-    r0, r2 = (page.locator(".js-plotly-plot").nth(i).evaluate("el => el.layout.xaxis.range") for i in (0, 2))
-    assert r0 == r2
+    ranges = page.locator(".js-plotly-plot").first.evaluate(_TIME_RANGES)
+    assert len(ranges) >= 4 and all(r == ranges[0] for r in ranges)
     screenshot(page, "review-time-window")
 
-    # --- zoom both time charts to the highlighted span (one 10 s step of margin each side)
-    page.get_by_role("button", name="Zoom the time charts to it").click()
+    # --- zoom every time panel to the highlighted span (one 10 s step of margin each side)
+    page.get_by_role("button", name="Zoom the time panels to it").click()
     page.wait_for_function(
-        """(lo) => { const p = document.querySelectorAll('.js-plotly-plot');
-                     return p.length > 2 && [p[0], p[2]].every(el => el.layout.xaxis.range && el.layout.xaxis.range[0] < lo); }""",
+        """(lo) => { const el = document.querySelector('.js-plotly-plot');
+                     return el && el.layout.xaxis.range && el.layout.xaxis.range[0] < lo; }""",
         arg=lo, timeout=60_000,
     )
     wait_for_app(page)
-    for i in (0, 2):
-        r = page.locator(".js-plotly-plot").nth(i).evaluate("el => el.layout.xaxis.range")
+    for r in page.locator(".js-plotly-plot").first.evaluate(_TIME_RANGES):
         assert lo - 20 <= r[0] < lo and hi < r[1] <= hi + 20
-    page.locator(".js-plotly-plot").nth(0).scroll_into_view_if_needed()
+    page.locator(".js-plotly-plot").first.scroll_into_view_if_needed()
     screenshot(page, "review-zoomed-to-span")
 
     # --- the other pages, then the report

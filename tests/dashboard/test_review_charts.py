@@ -179,7 +179,7 @@ def test_a_box_selection_becomes_the_span_of_the_selected_breaths():
     ]
     assert selected_time_span(_box_event(points)) == (190.0, 240.0)
     assert selected_time_span(_box_event(points, tool="lasso")) == (190.0, 240.0)
-    assert span_text((190.0, 240.4)) == "190–240 s"
+    assert span_text((190.0, 240.4)) == "3:10–4:00"  # m:ss, the one formatter (dashboard.timefmt)
 
 
 def test_a_click_or_an_empty_selection_is_not_a_span():
@@ -216,7 +216,7 @@ def test_both_time_charts_show_the_same_window_and_the_same_band(avg):
         assert list(layout["xaxis"]["range"]) == [120.0, 400.0]
         bands = [s for s in layout["shapes"] if s.get("fillcolor") == SPAN_FILL]
         assert [(b["x0"], b["x1"], b["yref"]) for b in bands] == [(200.0, 260.0, "paper")]
-        assert any(t.name == f"{SPAN_TRACE} 200–260 s" for t in fig.data)
+        assert any(t.name == f"{SPAN_TRACE} 3:20–4:20" for t in fig.data)
     plain = time_course_figure(avg).to_plotly_json()["layout"]
     assert "range" not in plain["xaxis"] and not [s for s in plain["shapes"] if s.get("fillcolor") == SPAN_FILL]
 

@@ -6,14 +6,15 @@ session (the page must show the number computed in analysis, nothing of its own)
 
 from __future__ import annotations
 
+import pandas as pd
 import pytest
 
 from analysis.pipeline import analyze_session
 from analysis.records import to_json
 from analysis.settings import AnalysisSettings
 from dashboard import data
-from dashboard.views import review
 from dashboard.report.html_report import format_number
+from dashboard.views import review
 
 
 def _review_script() -> None:
@@ -298,33 +299,113 @@ def test_threshold_notes_are_not_repeated():
     ]
 
 
-# --- linked charts: one time window, one highlighted span ---------------------------------------
+# --- the overview grid: one time window, one highlighted span, VT1/VT2 on every panel -----------
 
 
-def _charts(at) -> dict[str, dict]:
+def _grid(at) -> dict:
     import json
 
     specs = [json.loads(c.proto.spec) for c in at.get("plotly_chart")]
-    by_title = {s["layout"]["title"]["text"].split(" — ")[0]: s for s in specs}
-    assert {"Time course", "V-slope: VCO2 against VO2", "Ventilatory equivalents and end-tidal pressures"} <= set(by_title)
-    return by_title
+    grids = [s for s in specs if "panels" in (s["layout"].get("meta") or {})]
+    assert len(grids) == 1, [s["layout"].get("meta") for s in specs]
+    return grids[0]
 
 
-def test_time_window_zooms_both_time_charts_together(demo_store, page_test):
+def _window_slider(at):
+    (slider,) = [s for s in at.select_slider if s.label == "Time window"]
+    return slider
+
+
+def _time_axes(spec) -> list[str]:
+    """Layout names of the time panels' x axes (``xaxis``, ``xaxis3``, ...)."""
+    from dashboard.charts.overview_grid import PANEL_BY_KEY, axis_ids
+
+    return [f"xaxis{axis_ids(i)[0][1:]}" for i, k in enumerate(spec["layout"]["meta"]["panels"])
+            if PANEL_BY_KEY[k].over_time]
+
+
+def _axis_of(spec, key: str) -> tuple[str, str]:
+    from dashboard.charts.overview_grid import axis_ids
+
+    return axis_ids(spec["layout"]["meta"]["panels"].index(key))
+
+
+def _band(ci) -> list[tuple[float, float]]:
+    return [] if ci is None else [(float(ci[0]), float(ci[1]))]
+
+
+def test_overview_grid_draws_every_threshold_at_the_results_value(demo_store, page_test):
+    from dashboard import palette
+    from dashboard.charts._common import BAND_OPACITY
+    from dashboard.charts.overview_grid import PANEL_BY_KEY, axis_ids
+
+    for test_id in demo_store.test_ids:  # a cycle ramp (work rate) and a treadmill ramp (none)
+        at = page_test(_review_script, tm_user=demo_store.user, tm_test_id=test_id).run()
+        assert not at.exception, at.exception
+        session = demo_store.store.load_session(test_id)
+        settings, _ = demo_store.store.get_settings(test_id)
+        result = analyze_session(session, AnalysisSettings.from_dict(settings))
+        spec = _grid(at)
+        panels = spec["layout"]["meta"]["panels"]
+        assert ("gas_work" in panels) == bool(result.averaged["work_w"].notna().any() if "work_w" in result.averaged
+                                              else False)
+        assert {"gas_time", "vslope", "equivalents", "rer", "ve_vco2", "hr_pulse"} <= set(panels)
+        shapes = spec["layout"]["shapes"]
+        for kind in ("vt1", "vt2"):
+            pick = getattr(result, kind)
+            if pick is None:
+                continue
+            colour = palette.THRESHOLD[kind]["color"]
+            for i, key in enumerate(panels):
+                xa, ya = axis_ids(i)
+                lines = [s for s in shapes if s["type"] == "line" and s.get("line", {}).get("color") == colour
+                         and (s.get("xref") == xa or s.get("yref") == ya)]
+                bands = [s for s in shapes if s["type"] == "rect" and s.get("opacity") == BAND_OPACITY
+                         and s.get("fillcolor") == colour and (s.get("xref") == xa or s.get("yref") == ya)]
+                if PANEL_BY_KEY[key].over_time:
+                    assert [(s["x0"], s["x1"]) for s in lines] == [(pick.t_s, pick.t_s)], (kind, key)
+                    assert [(s["x0"], s["x1"]) for s in bands] == _band(pick.ci90_t_s), (kind, key)
+                elif key == "vslope":
+                    assert [s["x0"] for s in lines] == [pick.vo2_ml_min], (kind, key)
+                    assert [(s["x0"], s["x1"]) for s in bands] == _band(pick.ci90_vo2_ml_min), (kind, key)
+                elif key == "gas_work":
+                    assert [s["y0"] for s in lines] == [pick.vo2_ml_min], (kind, key)
+                    assert [(s["y0"], s["y1"]) for s in bands] == _band(pick.ci90_vo2_ml_min), (kind, key)
+                    (marker,) = [t for t in spec["data"] if t.get("name") == f"{kind.upper()} marker"]
+                    assert marker["x"] == [pick.work_w] and marker["y"] == [pick.vo2_ml_min]
+                elif key == "ve_vco2":
+                    assert [s["y0"] for s in lines] == [pick.ve_l_min], (kind, key)
+                    assert len(bands) == len(_band(pick.ci90_t_s))  # VE over the time interval
+                    assert all(b["y0"] <= pick.ve_l_min <= b["y1"] for b in bands)
+                elif key == "vt_ve":
+                    assert [s["x0"] for s in lines] == [pick.ve_l_min], (kind, key)
+                    assert len(bands) == len(_band(pick.ci90_t_s))
+                    assert all(b["x0"] <= pick.ve_l_min <= b["x1"] for b in bands)
+
+
+def test_time_window_zooms_every_time_panel_together(demo_store, page_test):
     test_id = demo_store.test_ids[0]
     at = page_test(_review_script, tm_user=demo_store.user, tm_test_id=test_id).run()
     assert not at.exception, at.exception
-    slider = at.slider(key=review.window_key(test_id))
-    assert slider.label == "Time window (s)"
+    slider = _window_slider(at)
     lo, hi = slider.value
-    charts = _charts(at)
-    assert "range" not in charts["Time course"]["layout"]["xaxis"]  # whole test: autorange
-    slider.set_value((lo + 300.0, lo + 600.0)).run()
+    spec = _grid(at)
+    axes = _time_axes(spec)
+    assert len(axes) >= 4 and all("range" not in spec["layout"][a] for a in axes)  # whole test: autorange
+    assert all(spec["layout"][a].get("matches") == "x" for a in axes[1:])  # linked in the browser too
+    tick = spec["layout"][axes[0]]
+    assert all(":" in str(t) for t in tick["ticktext"])  # m:ss labels, values in seconds
+    # a window chosen on the slider (AppTest cannot move a select_slider range with formatted
+    # labels; the page reads the slider's key, so a run that starts with it set is the same)
+    at = page_test(_review_script, tm_user=demo_store.user, tm_test_id=test_id,
+                   **{review.window_key(test_id): (lo + 300.0, lo + 600.0)}).run()
+    assert _window_slider(at).value == (lo + 300.0, lo + 600.0)
     assert not at.exception, at.exception
-    charts = _charts(at)
-    for title in ("Time course", "Ventilatory equivalents and end-tidal pressures"):
-        assert charts[title]["layout"]["xaxis"]["range"] == [lo + 300.0, lo + 600.0]
-    assert "range" not in charts["V-slope: VCO2 against VO2"]["layout"]["xaxis"]  # VO2 axis, not time
+    spec = _grid(at)
+    for a in axes:
+        assert spec["layout"][a]["range"] == [lo + 300.0, lo + 600.0]
+    xa, _ = _axis_of(spec, "vslope")
+    assert spec["layout"][f"xaxis{xa[1:]}"]["range"][1] > 1000.0  # VO2 axis, not time
 
 
 def _box_select_script() -> None:
@@ -334,13 +415,13 @@ def _box_select_script() -> None:
     from dashboard.views import review
 
     test_id = st.session_state["tm_test_id"]
-    st.session_state[f"chart_vslope_{test_id}"] = st.session_state["tm_event"]
-    review._on_chart_select(data.get_store(), test_id, chart="vslope")
+    st.session_state[f"chart_grid_{test_id}"] = st.session_state["tm_event"]
+    review._on_chart_select(data.get_store(), test_id, chart="grid")
 
 
-def test_box_selection_on_vslope_highlights_without_moving_a_threshold(demo_store, page_test):
+def test_box_selection_on_the_grid_highlights_without_moving_a_threshold(demo_store, page_test):
     test_id = demo_store.test_ids[0]
-    points = [{"curve_number": 0, "point_index": i, "x": 1000.0 + i, "y": 900.0 + i, "customdata": [t, 1000.0 + i, i]}
+    points = [{"curve_number": 3, "point_index": i, "x": 1000.0 + i, "y": 900.0 + i, "customdata": [t, i]}
               for i, t in enumerate((400.0, 430.0, 460.0))]
     event = {"selection": {"points": points, "point_indices": [0, 1, 2], "box": [{"x": [0, 1], "y": [0, 1]}], "lasso": []}}
     _, version_before = demo_store.store.get_settings(test_id)
@@ -352,32 +433,41 @@ def test_box_selection_on_vslope_highlights_without_moving_a_threshold(demo_stor
     assert demo_store.store.get_settings(test_id)[1] == version_before
 
 
-def test_highlighted_span_is_drawn_on_all_three_charts_and_can_be_cleared(demo_store, page_test):
+def test_a_click_on_a_grid_point_is_a_threshold_time():
+    avg = pd.DataFrame({"t_s": [100.0, 110.0, 120.0], "vo2_ml_min": [1000.0, 1100.0, 1200.0]})
+    click = {"selection": {"points": [{"curve_number": 2, "point_index": 0, "x": 80.0, "y": 1.0},  # a breath dot
+                                      {"curve_number": 9, "point_index": 1, "x": 55.0, "y": 60.0,
+                                       "customdata": [110.0, 1.0]}], "box": [], "lasso": []}}
+    assert review.chart_pick(click, chart="grid", avg=avg) == {"t_s": 110.0, "vo2_ml_min": 1100.0, "index": 1}
+    assert review.chart_pick({"selection": {"points": [{"x": 1.0, "y": 2.0}]}}, chart="grid", avg=avg) is None
+
+
+def test_highlighted_span_is_drawn_on_every_panel_and_can_be_cleared(demo_store, page_test):
     from dashboard.charts.linking import SPAN_FILL, SPAN_TRACE
 
     test_id = demo_store.test_ids[1]
     at = page_test(_review_script, tm_user=demo_store.user, tm_test_id=test_id,
                    **{review.span_key(test_id): (400.0, 460.0)}).run()
     assert not at.exception, at.exception
-    assert any("Highlighted on all charts: breaths selected at 400–460 s" in c.value for c in at.caption)
-    charts = _charts(at)
-    for title in ("Time course", "Ventilatory equivalents and end-tidal pressures"):
-        bands = [s for s in charts[title]["layout"]["shapes"] if s.get("fillcolor") == SPAN_FILL]
-        assert [(b["x0"], b["x1"]) for b in bands] == [(400.0, 460.0)]
-    vslope = charts["V-slope: VCO2 against VO2"]
-    assert vslope["data"][0]["name"] == "Averaged breaths"
-    assert any(t.get("name", "").startswith(SPAN_TRACE) for t in vslope["data"])
+    assert any("Highlighted on all charts: breaths selected at 6:40–7:40" in c.value for c in at.caption)
+    spec = _grid(at)
+    axes = _time_axes(spec)
+    bands = [s for s in spec["layout"]["shapes"] if s.get("fillcolor") == SPAN_FILL]
+    assert sorted(b["xref"] for b in bands) == sorted(f"x{a[5:]}" for a in axes)  # one band per time panel
+    assert {(b["x0"], b["x1"]) for b in bands} == {(400.0, 460.0)}
+    xa, _ = _axis_of(spec, "vslope")
+    assert any(t.get("name", "").startswith(SPAN_TRACE) and t.get("xaxis") == xa for t in spec["data"])
     at.button(key=f"zoom_span_{test_id}").click().run()  # the shared window moves to the span
     assert not at.exception, at.exception
-    assert at.slider(key=review.window_key(test_id)).value == (390.0, 470.0)
-    charts = _charts(at)
-    for title in ("Time course", "Ventilatory equivalents and end-tidal pressures"):
-        assert charts[title]["layout"]["xaxis"]["range"] == [390.0, 470.0]
+    assert _window_slider(at).value == (390.0, 470.0)
+    assert at.session_state[review.window_key(test_id)] == (390.0, 470.0)
+    spec = _grid(at)
+    for a in axes:
+        assert spec["layout"][a]["range"] == [390.0, 470.0]
     at.button(key=f"clear_span_{test_id}").click().run()
     assert not at.exception, at.exception
     assert review.span_key(test_id) not in at.session_state
-    charts = _charts(at)
-    assert not [s for s in charts["Time course"]["layout"]["shapes"] if s.get("fillcolor") == SPAN_FILL]
+    assert not [s for s in _grid(at)["layout"]["shapes"] if s.get("fillcolor") == SPAN_FILL]
 
 
 def test_a_version_saved_elsewhere_shows_after_a_rerun(demo_store, page_test):
