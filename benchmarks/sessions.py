@@ -25,17 +25,20 @@ def _one_test():
 
 def session_of(n_breaths: int):
     """A :class:`analysis.session.Session` of exactly ``n_breaths`` breaths (the first 2,000 are
-    the plain simulated test of ``bench_analysis.long_session``)."""
+    the plain simulated test of ``bench_analysis.long_session``; beyond about 24,000 breaths the
+    copies are squeezed in time to stay within a day)."""
     from analysis.session import Session
 
     one = _one_test()
     b = one.breaths
     copies = -(-n_breaths // len(b))
     span = float(b["t_s"].iloc[-1]) + float(np.median(np.diff(b["t_s"].to_numpy())))
+    # a session file holds at most 24 h: very long series are squeezed in time to fit 22 h
+    squeeze = min(1.0, 22 * 3600 / (copies * span))
     parts = []
     for k in range(copies):
         part = b.copy()
-        part["t_s"] = part["t_s"] + k * span
+        part["t_s"] = (part["t_s"] + k * span) * squeeze
         parts.append(part)
     breaths = pd.concat(parts, ignore_index=True).iloc[:n_breaths].reset_index(drop=True)
     breaths["source_row"] = np.arange(len(breaths), dtype=np.int64) + 2
