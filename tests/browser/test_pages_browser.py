@@ -2,7 +2,7 @@
 
 A reviewer (demo mode) creates a share link on the Share links page; the address opens the
 coach view with no navigation; an unknown token opens the plain "not valid" page. The report
-downloaded from Reports is self-contained. Screenshots go to test-artifacts/screenshots/.
+downloaded from Reports is self-contained (static SVG charts, no script, nothing fetched). Screenshots go to test-artifacts/screenshots/.
 """
 
 from __future__ import annotations
@@ -66,12 +66,15 @@ def test_report_download_is_self_contained(app_server, page, screenshot, tmp_pat
     doc = path.read_text(encoding="utf-8")
     assert "not a medical device" in doc
     assert "Headline results" in doc and "Methods" in doc
+    # self-contained: the charts are static SVG drawn into the file, no script runs, no style fetches
+    assert doc.count("<svg") >= 4 and "<script" not in doc.lower()
+    assert "@import" not in doc and not re.search(r"(?i)url\(\s*['\"]?(https?:)?//", doc)
     parser = _Sources()
     parser.feed(doc)
     assert parser.external == []
     # open the downloaded file offline and look at it as a reader would
     page.goto(path.as_uri())
-    page.locator(".js-plotly-plot").first.wait_for(timeout=60_000)
+    page.locator(".chart svg").first.wait_for(timeout=60_000)
     screenshot(page, "report-file")
     # Print: every chart lies inside the printable width of A4 (210 - 2 x 12 mm) and Letter
     # (215.9 - 2 x 12 mm) at 96 px per inch (CSS reference pixel, W3C CSS Values).
@@ -80,7 +83,7 @@ def test_report_download_is_self_contained(app_server, page, screenshot, tmp_pat
         printable_px = int((width_mm - 24.0) / 25.4 * 96)
         page.set_viewport_size({"width": printable_px, "height": 1100})
         boxes = page.eval_on_selector_all(
-            ".js-plotly-plot", "els => els.map(e => { const r = e.getBoundingClientRect(); return [r.left, r.right]; })"
+            ".chart svg", "els => els.map(e => { const r = e.getBoundingClientRect(); return [r.left, r.right]; })"
         )
         assert boxes, "no charts in the report"
         assert all(left >= 0 and right <= printable_px + 0.5 for left, right in boxes), (paper, boxes)
