@@ -16,7 +16,6 @@ from __future__ import annotations
 
 from analysis.errors import InvalidParameter
 from analysis.oxygen import _checks
-from analysis.oxygen.haldane import ph_from_base_excess
 
 #: Plasma CO2 solubility at 37 °C used by the Van Slyke equation, mmol/L/mmHg (common practice).
 VAN_SLYKE_SOLUBILITY = 0.0307
@@ -105,6 +104,9 @@ def pco2_from_ph_base_excess_mmhg(*, ph: float, base_excess_mmol_l: float, hb_g_
 def ph_from_pco2_base_excess(*, pco2_mmhg: float, base_excess_mmol_l: float, hb_g_dl: float) -> float:
     """Plasma pH of blood with this PCO2, base excess and Hb (Van Slyke equation solved for pH).
 
+    Base excess rises monotonically with pH at fixed PCO2, so the equation is solved by bisection
+    between pH 6.5 and 8.1.
+
     References
     ----------
     Siggaard-Andersen O (1977). Scand J Clin Lab Invest 37(Suppl 146):15-20 (from memory).
@@ -114,7 +116,22 @@ def ph_from_pco2_base_excess(*, pco2_mmhg: float, base_excess_mmol_l: float, hb_
     >>> round(ph_from_pco2_base_excess(pco2_mmhg=62.0, base_excess_mmol_l=-10.0, hb_g_dl=15.0), 3)
     7.125
     """
-    return ph_from_base_excess(pco2_mmhg=pco2_mmhg, base_excess_mmol_l=base_excess_mmol_l, hb_g_dl=hb_g_dl)
+    pco2 = _checks.scalar("pco2_mmhg", pco2_mmhg)
+    be = _checks.scalar("base_excess_mmol_l", base_excess_mmol_l)
+    hb = _checks.scalar("hb_g_dl", hb_g_dl)
+
+    def base_excess_at(ph: float) -> float:
+        hco3 = VAN_SLYKE_SOLUBILITY * pco2 * 10.0 ** (ph - VAN_SLYKE_PK)
+        return (1.0 - 0.014 * hb) * ((hco3 - 24.8) + (1.43 * hb + 7.7) * (ph - 7.4))
+
+    lo, hi = 6.5, 8.1
+    for _ in range(60):
+        mid = 0.5 * (lo + hi)
+        if base_excess_at(mid) > be:
+            hi = mid
+        else:
+            lo = mid
+    return 0.5 * (lo + hi)
 
 
 def complete_blood_gas(

@@ -30,6 +30,7 @@ from __future__ import annotations
 
 from analysis.errors import InvalidParameter
 from analysis.oxygen import _checks
+from analysis.oxygen.acid_base import ph_from_pco2_base_excess
 from analysis.oxygen.content import DEFAULT_HUEFNER_ML_G
 
 #: Hb monomer (haem) molar mass, g/mmol (common practice: 16.114 mg/µmol).
@@ -102,32 +103,6 @@ def blood_co2_content_ml_dl(
     return cp * (1.0 - 0.0289 * hb / ((3.352 - 0.456 * sat) * (8.142 - ph)))
 
 
-def ph_from_base_excess(*, pco2_mmhg: float, base_excess_mmol_l: float, hb_g_dl: float) -> float:
-    """Plasma pH of blood with this PCO2, base excess and Hb (Van Slyke equation solved for pH).
-
-    References
-    ----------
-    Siggaard-Andersen O (1977). The Van Slyke equation. Scand J Clin Lab Invest 37(Suppl
-    146):15-20 (from memory).
-    """
-    pco2 = _checks.scalar("pco2_mmhg", pco2_mmhg)
-    be = _checks.scalar("base_excess_mmol_l", base_excess_mmol_l)
-    hb = _checks.scalar("hb_g_dl", hb_g_dl)
-
-    def base_excess_at(ph: float) -> float:
-        hco3 = 0.0307 * pco2 * 10.0 ** (ph - 6.1)
-        return (1.0 - 0.014 * hb) * ((hco3 - 24.8) + (1.43 * hb + 7.7) * (ph - 7.4))
-
-    lo, hi = 6.5, 8.1  # base excess rises monotonically with pH at fixed PCO2
-    for _ in range(60):
-        mid = 0.5 * (lo + hi)
-        if base_excess_at(mid) > be:
-            hi = mid
-        else:
-            lo = mid
-    return 0.5 * (lo + hi)
-
-
 def blood_co2_content_at_base_excess_ml_dl(
     *,
     pco2_mmhg: float,
@@ -146,7 +121,7 @@ def blood_co2_content_at_base_excess_ml_dl(
     sat = _fraction("so2", so2)
     ct_hb_mmol_l = hb * 10.0 / HB_MONOMER_G_MMOL
     be = float(base_excess_oxygenated_mmol_l) + OXYLABILE_PROTON_RATIO * (1.0 - sat) * ct_hb_mmol_l
-    ph = ph_from_base_excess(pco2_mmhg=pco2_mmhg, base_excess_mmol_l=be, hb_g_dl=hb)
+    ph = ph_from_pco2_base_excess(pco2_mmhg=pco2_mmhg, base_excess_mmol_l=be, hb_g_dl=hb)
     return blood_co2_content_ml_dl(pco2_mmhg=pco2_mmhg, ph=ph, hb_g_dl=hb, so2=sat, temperature_c=temperature_c)
 
 
@@ -219,6 +194,5 @@ __all__ = [
     "co2_solubility_mmol_l_mmhg",
     "haldane_extra_co2_ml_dl",
     "haldane_factor",
-    "ph_from_base_excess",
     "plasma_co2_content_ml_dl",
 ]

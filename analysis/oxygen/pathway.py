@@ -249,19 +249,18 @@ def explore(
     ----------
     Wagner PD (1996). Annu Rev Physiol 58:21-50 (from memory).
     """
-    changes: dict[str, Any] = {}
-    if hb_g_dl is not None:
-        changes["hb_g_dl"] = _checks.scalar("hb_g_dl", hb_g_dl)
-    if cohb_fraction is not None:
-        changes["cohb_fraction"] = _checks.scalar("cohb_fraction", cohb_fraction)
-    if p50_standard_mmhg is not None:
-        changes["p50_standard_mmhg"] = _checks.scalar("p50_mmhg", p50_standard_mmhg)
-    if pb_mmhg is not None:
-        changes["pb_mmhg"] = _checks.scalar("pb_mmhg", pb_mmhg)
-    if fio2 is not None:
-        changes["fio2"] = _checks.scalar("fio2", fio2)
-    if q_l_min is not None:
-        changes["q_l_min"] = _checks.scalar("q_l_min", q_l_min)
+    # (input field, name its range is checked under, value given)
+    given = (
+        ("hb_g_dl", "hb_g_dl", hb_g_dl),
+        ("cohb_fraction", "cohb_fraction", cohb_fraction),
+        ("p50_standard_mmhg", "p50_mmhg", p50_standard_mmhg),
+        ("pb_mmhg", "pb_mmhg", pb_mmhg),
+        ("fio2", "fio2", fio2),
+        ("q_l_min", "q_l_min", q_l_min),
+    )
+    changes: dict[str, Any] = {
+        field: _checks.scalar(checked_as, value) for field, checked_as, value in given if value is not None
+    }
     inputs = replace(pathway.inputs, **changes)
     dmo2 = pathway.dmo2_ml_min_mmhg if dmo2_ml_min_mmhg is None else _checks.scalar("dmo2_ml_min_mmhg", dmo2_ml_min_mmhg)
     point = solve_forward(inputs, dmo2_ml_min_mmhg=dmo2)

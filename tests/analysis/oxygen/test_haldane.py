@@ -6,7 +6,8 @@ import pytest
 
 from analysis.errors import InvalidParameter
 from analysis.oxygen import blood_co2_content_ml_dl, haldane_extra_co2_ml_dl, haldane_factor
-from analysis.oxygen.haldane import plasma_co2_content_ml_dl, ph_from_base_excess
+from analysis.oxygen.acid_base import ph_from_pco2_base_excess
+from analysis.oxygen.haldane import plasma_co2_content_ml_dl
 
 KPA = 7.50062  # mmHg per kPa
 
@@ -26,9 +27,9 @@ def test_whole_blood_ratio_matches_independent_implementation():
 
 def test_van_slyke_normal_blood():
     # Common practice: PCO2 40 mmHg and base excess 0 give pH ≈ 7.40 (HCO3 ≈ 24-25 mmol/L).
-    assert ph_from_base_excess(pco2_mmhg=40.0, base_excess_mmol_l=0.0, hb_g_dl=15.0) == pytest.approx(7.40, abs=0.01)
+    assert ph_from_pco2_base_excess(pco2_mmhg=40.0, base_excess_mmol_l=0.0, hb_g_dl=15.0) == pytest.approx(7.40, abs=0.01)
     # Metabolic acidosis lowers pH at the same PCO2 (direction, common practice).
-    assert ph_from_base_excess(pco2_mmhg=40.0, base_excess_mmol_l=-10.0, hb_g_dl=15.0) < 7.30
+    assert ph_from_pco2_base_excess(pco2_mmhg=40.0, base_excess_mmol_l=-10.0, hb_g_dl=15.0) < 7.30
 
 
 @pytest.mark.parametrize("pco2", [40.0, 46.0, 55.0])
