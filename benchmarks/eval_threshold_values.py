@@ -46,7 +46,7 @@ def errors(seeds: int, noise_levels: list[float]) -> dict[str, dict[str, list[fl
                         continue
                     out[kind]["tests"].append(1.0)
                     value = getattr(r, kind)
-                    if value is None or r.averaged is None:
+                    if value is None:
                         continue
                     row = float(r.averaged["vo2_ml_min"].iloc[value.index])
                     out[kind]["before"].append(100.0 * abs(row - truth) / truth)

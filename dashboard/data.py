@@ -23,12 +23,15 @@ import threading
 from concurrent.futures import Future, ThreadPoolExecutor
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import streamlit as st
 
 from analysis.records import to_json
 from analysis.session import Session
+
+if TYPE_CHECKING:
+    from analysis.results import TestResults
 
 log = logging.getLogger("tidemark.dashboard")
 
@@ -73,14 +76,14 @@ def default_settings_dict() -> dict[str, Any]:
 
 
 @st.cache_data(show_spinner=False, max_entries=64)
-def _analyze(test_id: int, settings_json: str, session_digest: str, url: str | None) -> Any:
+def _analyze(test_id: int, settings_json: str, session_digest: str, url: str | None) -> TestResults:
     from analysis.pipeline import analyze_session
 
     session = _open_store(url).load_session(int(test_id))
     return analyze_session(session, settings_from_dict(json.loads(settings_json)))
 
 
-def analyze(test_id: int, settings_json: str) -> Any:
+def analyze(test_id: int, settings_json: str) -> TestResults:
     """:class:`analysis.results.TestResults` of a stored test under the given settings JSON."""
     return _analyze(int(test_id), settings_json, get_store().session_digest(int(test_id)), store_url())
 

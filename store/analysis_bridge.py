@@ -8,10 +8,13 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from analysis.errors import AnalysisError, InvalidParameter
 from analysis.session import Session
+
+if TYPE_CHECKING:
+    from analysis.results import TestResults
 
 
 @dataclass(frozen=True)
@@ -37,6 +40,22 @@ def _finite(value: Any) -> float | None:
     except (TypeError, ValueError):
         return None
     return v if math.isfinite(v) else None
+
+
+def headline_of(results: TestResults) -> Headline:
+    """The one place the store's headline columns come from: attributes of the result record."""
+    return Headline(
+        vo2peak_ml_min=_finite(results.vo2_peak_ml_min),
+        vt1_vo2_ml_min=_finite(results.vt1.vo2_ml_min) if results.vt1 is not None else None,
+        ve_vco2_slope=_finite(results.ve_vco2_slope),
+    )
+
+
+def plain_json(value: Any) -> Any:
+    """Plain JSON values of ``value`` by the analysis' result codec (:func:`analysis.records.to_json`)."""
+    from analysis.records import to_json
+
+    return to_json(value)
 
 
 def flags_to_records(session: Session) -> list[dict[str, Any]]:
@@ -90,15 +109,10 @@ class AnalysisBridge:
         return to_json(analyze_session(session, AnalysisSettings.from_dict(settings)))
 
     def headline(self, results: dict[str, Any]) -> Headline:
-        """The list columns, read from the results record (its JSON form read back by the codec)."""
+        """The list columns of stored results: the record read back by the codec, then :func:`headline_of`."""
         from analysis.results import results_from_json
 
-        r = results_from_json(results)
-        return Headline(
-            vo2peak_ml_min=_finite(r.vo2_peak_ml_min),
-            vt1_vo2_ml_min=_finite(r.vt1.vo2_ml_min) if r.vt1 is not None else None,
-            ve_vco2_slope=_finite(r.ve_vco2_slope),
-        )
+        return headline_of(results_from_json(results))
 
 
 def run_analysis(bridge: AnalysisBridge, session: Session, settings: dict[str, Any]) -> tuple[dict | None, str | None]:

@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 import json
-import math
 from collections.abc import Callable, Iterator
 from contextlib import contextmanager
 from datetime import UTC, datetime
@@ -15,7 +14,7 @@ from sqlalchemy.exc import DBAPIError
 from sqlalchemy.orm import Session as DbSession
 from sqlalchemy.orm import sessionmaker
 
-from store.analysis_bridge import AnalysisBridge
+from store.analysis_bridge import AnalysisBridge, plain_json
 from store.audit_chain import AUDIT_HEAD_KEY, GENESIS, ChainReport, decode_head, encode_head, hash_of, verify_rows
 from store.config import READ_ONLY_OPTION
 from store.db_errors import plain_store_error
@@ -44,22 +43,13 @@ def aware(value: datetime | None) -> datetime | None:
     return value if value.tzinfo is not None else value.replace(tzinfo=UTC)
 
 
-def _json_ready(value: Any) -> Any:
-    """Non-finite floats become ``None`` (JSON has no NaN); NumPy scalars become Python numbers."""
-    if isinstance(value, dict):
-        return {str(k): _json_ready(v) for k, v in value.items()}
-    if isinstance(value, (list, tuple)):
-        return [_json_ready(v) for v in value]
-    if hasattr(value, "item") and not isinstance(value, (str, bytes)):
-        value = value.item()
-    if isinstance(value, float) and not math.isfinite(value):
-        return None
-    return value
-
-
 def to_json(value: Any) -> str:
-    """Canonical JSON text (sorted keys, UTF-8 kept) of settings, results and audit values."""
-    return json.dumps(_json_ready(value), sort_keys=True, ensure_ascii=False, allow_nan=False)
+    """Canonical JSON text (sorted keys, UTF-8 kept) of settings, results and audit values.
+
+    Plain JSON values come from the analysis' one codec (NaN and infinities as ``null``, NumPy
+    scalars as Python numbers), reached through :mod:`store.analysis_bridge`.
+    """
+    return json.dumps(plain_json(value), sort_keys=True, ensure_ascii=False, allow_nan=False)
 
 
 def user_record(row: UserRow) -> User:

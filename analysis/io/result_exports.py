@@ -132,7 +132,7 @@ def export_files(results: TestResults, session: Session, *, stem: str = "test") 
             f"{safe_stem}_results.json", results_json_text(to_json(results)).encode("utf-8"), "application/json"
         ),
     }
-    if averaged is not None:
+    if not averaged.empty:
         files["averages_csv"] = ExportFile(
             f"{safe_stem}_averages.csv", safe_frame_csv(averaged).encode("utf-8"), "text/csv"
         )

@@ -46,7 +46,7 @@ class TestResults:
     Every field is a typed part record; :func:`analysis.records.to_json` writes the JSON
     documented in ``docs/results.md`` (generated from these fields) and
     :func:`analysis.records.from_json` reads it back. The averaged frame is kept for the
-    charts but is not part of the JSON (``None`` after reading JSON back).
+    charts but is not part of the JSON (an empty frame after reading JSON back).
     """
 
     __test__: ClassVar[bool] = False  # not a pytest test class despite its name
@@ -85,7 +85,7 @@ class TestResults:
         description="flags read against published limits, the values behind them and the patterns they are consistent "
         "with (never a diagnosis; docs/interpretation.md)",
     )
-    averaged: pd.DataFrame | None = described(default=None, json=False)
+    averaged: pd.DataFrame = described(default_factory=pd.DataFrame, json=False)
 
     @derived(description="every interpretation flag `{code, severity, text, value, limit, source, unit, sport_relevant}` "
              "(`interpretation.flags`; empty without an interpretation)")

@@ -29,18 +29,13 @@ VE_VCO2 = "ve_vco2"
 
 
 def _ratios(avg: pd.DataFrame) -> pd.DataFrame:
-    """VE/VO2 and VE/VCO2 columns of ``avg``; derived from VE, VO2, VCO2 only when absent.
-
-    The ratio is the definition of a ventilatory equivalent (VE in L/min over VO2 or VCO2 in
-    L/min; common practice). It is derived here only because the analysis does not yet return
-    it as a series; the threshold detection in :mod:`analysis.thresholds` uses the same ratio.
-    """
+    """VE/VO2 and VE/VCO2 columns: the analysis' own series (``TestResults.averaged`` carries
+    them); a frame without them gets them from :func:`analysis.breaths.derived.with_derived_series`."""
     if has(avg, VE_VO2) and has(avg, VE_VCO2):
         return avg
-    out = avg[[C.T_S]].copy()
-    out[VE_VO2] = 1000.0 * avg[C.VE_L_MIN] / avg[C.VO2_ML_MIN].where(avg[C.VO2_ML_MIN] > 0)
-    out[VE_VCO2] = 1000.0 * avg[C.VE_L_MIN] / avg[C.VCO2_ML_MIN].where(avg[C.VCO2_ML_MIN] > 0)
-    return out
+    from analysis.breaths.derived import with_derived_series
+
+    return with_derived_series(avg)
 
 
 def equivalents_figure(

@@ -106,9 +106,9 @@ def vslope_chart(avg: pd.DataFrame, results: Mapping[str, Any]) -> Chart | None:
 
 
 def equivalents_chart(avg: pd.DataFrame, results: Mapping[str, Any]) -> Chart | None:
-    t, ve = _col(avg, "t_s"), _col(avg, "ve_l_min")
-    vo2, vco2 = _col(avg, "vo2_ml_min"), _col(avg, "vco2_ml_min")
-    if t is None or ve is None or vo2 is None or vco2 is None:
+    # the ventilatory equivalents are series of the analysis (analysis.breaths.derived)
+    t, ve_vo2, ve_vco2 = _col(avg, "t_s"), _col(avg, "ve_vo2"), _col(avg, "ve_vco2")
+    if t is None or ve_vo2 is None or ve_vco2 is None:
         return None
     xr, ticks = _time_axis(t)
     peto2, petco2 = _col(avg, "peto2_mmhg"), _col(avg, "petco2_mmhg")
@@ -116,9 +116,6 @@ def equivalents_chart(avg: pd.DataFrame, results: Mapping[str, Any]) -> Chart | 
     chart = Chart(CHART_W, CHART_H, "Ventilatory equivalents" + (" and end-tidal pressures" if end_tidal else ""),
                   "time (m:ss)", "VE/VO2, VE/VCO2", y2_label="PETO2, PETCO2 (mmHg)" if end_tidal else None,
                   x_range=xr, x_ticks=ticks)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        ve_vo2 = ve * 1000.0 / vo2  # VE in L/min, VO2 in mL/min: the equivalent is unitless
-        ve_vco2 = ve * 1000.0 / vco2
     chart.add(Series(*thin(t, ve_vo2), "VE/VO2", palette.SIGNAL["ve_vo2"]))
     chart.add(Series(*thin(t, ve_vco2), "VE/VCO2", palette.SIGNAL["ve_vco2"]))
     if peto2 is not None:
@@ -134,11 +131,7 @@ def heart_rate_chart(avg: pd.DataFrame, results: Mapping[str, Any]) -> Chart | N
     if t is None or hr is None:
         return None
     xr, ticks = _time_axis(t)
-    vo2 = _col(avg, "vo2_ml_min")
-    with np.errstate(divide="ignore", invalid="ignore"):
-        pulse = vo2 / hr if vo2 is not None else None  # O2 pulse = VO2 ÷ HR (mL/beat)
-    if pulse is not None:
-        pulse = np.where((hr > 30) & np.isfinite(pulse), pulse, np.nan)
+    pulse = _col(avg, "o2_pulse_ml_beat")  # computed by the analysis (analysis.breaths.derived)
     chart = Chart(CHART_W, CHART_H, "Heart rate and O2 pulse", "time (m:ss)", "heart rate (beats/min)",
                   y2_label="O2 pulse (mL/beat)" if pulse is not None else None, x_range=xr, x_ticks=ticks)
     chart.add(Series(*thin(t, hr), "heart rate", palette.SIGNAL["hr_bpm"]))

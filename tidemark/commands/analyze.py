@@ -20,7 +20,7 @@ import os
 import sys
 from collections.abc import Iterable, Iterator, Sequence
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from analysis.breaths import METHODS, AveragingSpec
 from analysis.errors import ImportRejected, InvalidParameter, Problem, TidemarkError
@@ -28,6 +28,9 @@ from analysis.exports import SUMMARY_COLUMNS, error_row, safe_csv_cell, summary_
 from analysis.records import to_json
 from analysis.session import Session
 from analysis.settings import AnalysisSettings, MetadataOverrides, ThresholdOverride
+
+if TYPE_CHECKING:
+    from analysis.results import TestResults
 
 #: File endings analysed in a folder (session files and the generic importer's formats).
 BATCH_SUFFIXES: tuple[str, ...] = (".csv", ".tsv", ".txt", ".xlsx")
@@ -294,96 +297,106 @@ def batch_files(folder: Path) -> list[Path]:
 # --- readable summary -----------------------------------------------------------------------
 
 
-def _n(value: Any, digits: int = 0, unit: str = "") -> str:
-    if value is None:
+def _n(value: float | None, digits: int = 0, unit: str = "") -> str:
+    if value is None or value != value:  # missing or NaN
         return "–"
     text = f"{value:,.{digits}f}"
     return f"{text} {unit}".rstrip()
 
 
-def format_summary(r: dict[str, Any]) -> str:
-    """Readable text of a results JSON dict (numbers with their methods)."""
+def format_summary(r: TestResults) -> str:
+    """Readable text of a result record (numbers with their methods)."""
     from analysis.indices.summary import VE_VCO2_TO_VT2, VE_VCO2_WHOLE_EXERCISE  # kept out of the CLI start-up
 
     # which span the headline VE/VCO2 slope covers, in words
     spans = {VE_VCO2_TO_VT2: "to VT2", VE_VCO2_WHOLE_EXERCISE: "whole exercise"}
-    m = r.get("methods", {})
-    sub = r.get("subject", {})
+    m = r.methods
+    sub = r.subject
+    mx = r.maximality
     lines = [
-        f"Tidemark analysis: {sub.get('source_name') or ''}",
-        f"Subject {sub.get('subject_id', '–')}, mode {sub.get('mode') or 'unknown'}; "
-        f"breaths {r['breaths']['total']} (excluded {r['breaths']['excluded']}); averaging {r['averaging']['label']}",
+        f"Tidemark analysis: {sub.source_name or ''}",
+        f"Subject {sub.subject_id or '–'}, mode {sub.mode or 'unknown'}; "
+        f"breaths {r.breaths.total} (excluded {r.breaths.excluded}); averaging {r.averaging.label}",
         "",
         "Peak",
-        f"  VO2peak          {_n(r['vo2_peak_ml_min'], 0, 'mL/min')}  ({_n(r['vo2_peak_ml_kg_min'], 1, 'mL/kg/min')})  — {m.get('vo2_peak', '')}",
-        f"  RER peak         {_n(r['rer_peak'], 2)}  — {m.get('rer_peak', '')}",
-        f"  HR peak          {_n(r['hr_peak_bpm'], 0, 'beats/min')}  — {m.get('hr_peak_bpm', '')}",
-        f"  Maximality       {r['maximality']['label']}  — {m.get('maximality', '')}",
+        f"  VO2peak          {_n(r.vo2_peak_ml_min, 0, 'mL/min')}  ({_n(r.vo2_peak_ml_kg_min, 1, 'mL/kg/min')})  — {m.get('vo2_peak', '')}",
+        f"  RER peak         {_n(r.rer_peak, 2)}  — {m.get('rer_peak', '')}",
+        f"  HR peak          {_n(r.hr_peak_bpm, 0, 'beats/min')}  — {m.get('hr_peak_bpm', '')}",
+        f"  Maximality       {mx.label}  — {m.get('maximality', '')}",
     ]
-    lines += [f"    · {reason}" for reason in r["maximality"]["reasons"]]
+    lines += [f"    · {reason}" for reason in mx.reasons]
     lines += ["", "Thresholds"]
     for kind, label in (("vt1", "VT1"), ("vt2", "VT2/RCP")):
-        t = r.get(kind)
+        t = r.vt1 if kind == "vt1" else r.vt2
         if t is None:
             lines.append(f"  {label:<8} not found")
             continue
-        load = _n(t.get("work_w"), 0, "W") if t.get("work_w") is not None else _n(t.get("speed_kmh"), 1, "km/h")
+        load = _n(t.work_w, 0, "W") if t.work_w is not None else _n(t.speed_kmh, 1, "km/h")
         lines.append(
-            f"  {label:<8} {_n(t['time_s'], 0, 's')}, VO2 {_n(t['vo2_ml_min'], 0, 'mL/min')} "
-            f"({_n(t.get('pct_vo2_peak'), 0, '%')} of peak), HR {_n(t.get('hr_bpm'), 0, 'beats/min')}, {load}"
-            f"  — {t['method']} ({t['source']}, confidence {t['confidence']})"
+            f"  {label:<8} {_n(t.t_s, 0, 's')}, VO2 {_n(t.vo2_ml_min, 0, 'mL/min')} "
+            f"({_n(t.pct_vo2_peak, 0, '%')} of peak), HR {_n(t.hr_bpm, 0, 'beats/min')}, {load}"
+            f"  — {t.method} ({t.source}, confidence {t.confidence})"
         )
-    ind = r["indices"]
+        lines += [f"    · {note}" for note in t.notes]
+    ind = r.indices
+    cls = r.classes
     lines += [
         "",
         "Indices",
-        f"  VE/VCO2 slope    to VT2 {_n(ind.get('ve_vco2_slope_to_vt2'), 1)}, whole exercise "
-        f"{_n(ind.get('ve_vco2_slope_whole_exercise'), 1)} (ventilatory class {r['classes'].get('ventilatory') or '–'}) "
-        f"(headline: {spans.get(ind.get('ve_vco2_slope_span'), 'none')}), "
-        f"nadir (30 s) {_n(ind.get('ve_vco2_nadir'), 1)}  — {m.get('ve_vco2_slope', '')}",
-        f"  OUES             {_n(r['oues'], 0)}  — {m.get('oues', '')}",
-        f"  O2 pulse peak    {_n(r['o2_pulse_peak_ml_beat'], 1, 'mL/beat')} (30 s); at peak (VO2peak/HRpeak) "
-        f"{_n(ind.get('o2_pulse_at_peak_ml_beat'), 1, 'mL/beat')}  — {m.get('o2_pulse', '')}",
-        f"  ΔVO2/ΔWR         {_n(ind.get('vo2_work_rate_slope_ml_min_w'), 1, 'mL/min/W')}  — {m.get('vo2_work_rate_slope', '')}",
-        f"  METs peak        {_n(ind.get('mets_peak'), 1)}  — {m.get('mets', '')}",
-        f"  HR recovery 1min {_n(ind.get('hr_recovery_1min_bpm'), 0, 'beats/min')}  — {m.get('hr_recovery_1min', '')}",
+        f"  VE/VCO2 slope    to VT2 {_n(ind.ve_vco2_slope_to_vt2, 1)}, whole exercise "
+        f"{_n(ind.ve_vco2_slope_whole_exercise, 1)} (ventilatory class {cls.ventilatory or '–'}) "
+        f"(headline: {spans.get(ind.ve_vco2_slope_span or '', 'none')}), "
+        f"nadir (30 s) {_n(ind.ve_vco2_nadir, 1)}  — {m.get('ve_vco2_slope', '')}",
+        f"  OUES             {_n(ind.oues, 0)}  — {m.get('oues', '')}",
+        f"  O2 pulse peak    {_n(ind.o2_pulse_peak_ml_beat, 1, 'mL/beat')} (30 s); at peak (VO2peak/HRpeak) "
+        f"{_n(ind.o2_pulse_at_peak_ml_beat, 1, 'mL/beat')}  — {m.get('o2_pulse', '')}",
+        f"  ΔVO2/ΔWR         {_n(ind.vo2_work_rate_slope_ml_min_w, 1, 'mL/min/W')}  — {m.get('vo2_work_rate_slope', '')}",
+        f"  METs peak        {_n(ind.mets_peak, 1)}  — {m.get('mets', '')}",
+        f"  HR recovery 1min {_n(ind.hr_recovery_1min_bpm, 0, 'beats/min')}  — {m.get('hr_recovery_1min', '')}",
     ]
-    br = ind.get("breathing_reserve")
+    br = ind.breathing_reserve
     if br:
-        lines.append(f"  Breathing reserve {_n(br['reserve_pct'], 0, '%')} of MVV {_n(br['mvv_l_min'], 0, 'L/min')}  — {m.get('breathing_reserve', '')}")
-    fm = ind.get("fat_max")
+        lines.append(f"  Breathing reserve {_n(br.reserve_pct, 0, '%')} of MVV {_n(br.mvv_l_min, 0, 'L/min')}  — {m.get('breathing_reserve', '')}")
+    fm = ind.fat_max
     if fm:
         lines.append(
-            f"  FATmax           {_n(fm['fat_g_min'], 2, 'g/min')} at VO2 {_n(fm['vo2_ml_min'], 0, 'mL/min')} "
-            f"({_n(fm.get('pct_vo2_peak'), 0, '%')} of peak)  — {m.get('fat_max', '')}"
+            f"  FATmax           {_n(fm.fat_g_min, 2, 'g/min')} at VO2 {_n(fm.vo2_ml_min, 0, 'mL/min')} "
+            f"({_n(fm.pct_vo2_peak, 0, '%')} of peak)  — {m.get('fat_max', '')}"
         )
-    pred, cls = r["predicted"], r["classes"]
+    pred = r.predicted
     lines += [
         "",
         "Reference values (population estimates)",
-        f"  Predicted VO2max {_n(pred.get('vo2max_friend_ml_kg_min'), 1, 'mL/kg/min')} ({_n(pred.get('pct_predicted_vo2max'), 0, '%')} achieved)  — {m.get('predicted_vo2max', '')}",
-        f"  Predicted HRmax  {_n(pred.get('hr_max_tanaka_bpm'), 0, 'beats/min')}  — {m.get('hr_max_predicted', '')}",
-        f"  Weber class      {cls.get('weber') or '–'}; ventilatory class {cls.get('ventilatory') or '–'} "
-        f"(from the whole-exercise VE/VCO2 slope {_n(cls.get('ventilatory_slope'), 1)})",
+        f"  Predicted VO2max {_n(pred.vo2max_friend_ml_kg_min, 1, 'mL/kg/min')} ({_n(pred.pct_predicted_vo2max, 0, '%')} achieved)  — {m.get('predicted_vo2max', '')}",
+        f"  Predicted HRmax  {_n(pred.hr_max_tanaka_bpm, 0, 'beats/min')}  — {m.get('hr_max_predicted', '')}",
+    ]
+    if mx.hr_max_beta_blocker_bpm is not None:
+        lines.append(
+            f"  HRmax on a beta-blocker {_n(mx.hr_max_beta_blocker_bpm, 0, 'beats/min')}  — {m.get('hr_max_beta_blocker', '')}"
+        )
+    lines += [
+        f"  Weber class      {cls.weber or '–'}; ventilatory class {cls.ventilatory or '–'} "
+        f"(from the whole-exercise VE/VCO2 slope {_n(cls.ventilatory_slope, 1)})",
         "",
         "Training zones  — " + m.get("zones", ""),
     ]
-    def rng(lo: Any, hi: Any, digits: int, unit: str) -> str:
+
+    def rng(lo: float | None, hi: float | None, digits: int, unit: str) -> str:
         return f"< {_n(hi, digits)} {unit}" if lo is None else f"{_n(lo, digits)}–{_n(hi, digits)} {unit}"
 
-    for z in r["zones"]["zones"]:
-        parts = [f"HR {rng(z['hr_low_bpm'], z['hr_high_bpm'], 0, 'beats/min')}"]
-        if z.get("work_high_w") is not None:
-            parts.append(rng(z["work_low_w"], z["work_high_w"], 0, "W"))
-        elif z.get("speed_high_kmh") is not None:
-            parts.append(rng(z["speed_low_kmh"], z["speed_high_kmh"], 1, "km/h"))
-        lines.append(f"  {z['name']}: {', '.join(parts)}")
-    lines.append(f"  {r['zones']['note']}")
-    if r.get("oxygen"):
+    for z in r.zones.zones:
+        parts = [f"HR {rng(z.hr_low_bpm, z.hr_high_bpm, 0, 'beats/min')}"]
+        if z.work_high_w is not None:
+            parts.append(rng(z.work_low_w, z.work_high_w, 0, "W"))
+        elif z.speed_high_kmh is not None:
+            parts.append(rng(z.speed_low_kmh, z.speed_high_kmh, 1, "km/h"))
+        lines.append(f"  {z.name}: {', '.join(parts)}")
+    lines.append(f"  {r.zones.note}")
+    if r.oxygen is not None:
         lines += ["", "Oxygen transport: computed (see --json 'oxygen'); model estimates, not measurements."]
-    if r["warnings"]:
-        lines += ["", "Warnings"] + [f"  ! {w}" for w in r["warnings"]]
-    lines += ["", "Cautions"] + [f"  {c}" for c in r["cautions"]]
+    if r.warnings:
+        lines += ["", "Warnings"] + [f"  ! {w}" for w in r.warnings]
+    lines += ["", "Cautions"] + [f"  {c}" for c in r.cautions]
     return "\n".join(lines) + "\n"
 
 
@@ -428,5 +441,5 @@ def run(args: argparse.Namespace) -> int:
     if args.json:
         sys.stdout.write(json.dumps(data, ensure_ascii=False, allow_nan=False) + "\n")
     else:
-        sys.stdout.write(format_summary(data))
+        sys.stdout.write(format_summary(results))
     return 0
