@@ -18,7 +18,7 @@ from analysis import columns as C
 from analysis.breaths import average_breaths
 from analysis.breaths.cleaning import clean_breaths, outliers_method
 from analysis.breaths.derived import with_derived_series
-from analysis.errors import AnalysisError, TidemarkError
+from analysis.errors import AnalysisError, InvalidParameter, TidemarkError
 from analysis.indices._arrays import present_values
 from analysis.indices.summary import compute_indices, indices_methods
 from analysis.indices.threshold_values import threshold_values
@@ -29,7 +29,7 @@ from analysis.oxygen.pathway import CASCADE_METHOD, oxygen_pathway
 from analysis.phases import PHASES_METHOD, label_phases
 from analysis.reference import mode_code
 from analysis.reference.heart_rate import BRAWNER_METHOD
-from analysis.reference.summary import reference_methods, reference_values
+from analysis.reference.summary import Classes, ReferenceValues, reference_methods, reference_values
 from analysis.results import TestResults
 from analysis.results.session_parts import AveragingUsed, BreathCounts, subject_from_metadata
 from analysis.session import Session
@@ -230,11 +230,15 @@ def analyze_session(
         hr_peak_bpm=maximality.hr_peak_bpm, mode=mode, body_mass_kg=body_mass,
         mvv_l_min=meta.get("mvv_l_min"), fev1_l=meta.get("fev1_l"),
     )
-    predicted, classes, reference_notes = reference_values(
-        age_y=meta.get("age_y"), sex=meta.get("sex"), body_mass_kg=body_mass, height_cm=meta.get("height_cm"),
-        mode=mode, vo2_peak_ml_kg_min=peak.vo2_ml_kg_min, hr_peak_bpm=maximality.hr_peak_bpm,
-        ve_vco2_slope_whole_exercise=indices.ve_vco2_slope_whole_exercise,
-    )
+    try:
+        predicted, classes, reference_notes = reference_values(
+            age_y=meta.get("age_y"), sex=meta.get("sex"), body_mass_kg=body_mass, height_cm=meta.get("height_cm"),
+            mode=mode, vo2_peak_ml_kg_min=peak.vo2_ml_kg_min, hr_peak_bpm=maximality.hr_peak_bpm,
+            ve_vco2_slope_whole_exercise=indices.ve_vco2_slope_whole_exercise,
+        )
+    except InvalidParameter as exc:  # metadata out of range: no reference values, said in a note
+        predicted, classes = ReferenceValues(), Classes()
+        reference_notes = (f"Reference values and classes not given: {exc}",)
     zones = zones_for(ex, vt1=vt1, vt2=vt2, peak=peak, hr_peak_bpm=maximality.hr_peak_bpm)
     oxygen, oxygen_notes, oxygen_methods = (
         oxygen_from_test(

@@ -161,6 +161,10 @@ NOT_WALKED: dict[str, str] = {
     "analysis.interpretation.lag_correction": "takes loads of either unit (W or km/h) by the test's mode",
     "analysis.indices.point_values": "takes a row index of the averaged frame (checked in tests/analysis/indices)",
     "analysis.io.import_file": "reads a file: the same checks as import_bytes, which is walked",
+    "analysis.indices.window_means": "takes a values series named 'values' (no unit in the name)",
+    "analysis.indices.compute_indices": "takes the averaged frame and the peak record",
+    "analysis.indices.threshold_values": "takes the averaged frame and a threshold pick record "
+    "(window_s is checked in tests/analysis/results)",
     "analysis.oxygen.co2_carriage": "takes blood-point records (arterial, venous)",
     "analysis.oxygen.complete_blood_gas": "needs exactly two of pH, PCO2 and base excess",
     "analysis.oxygen.explore": "takes an oxygen-pathway record",

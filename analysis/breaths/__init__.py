@@ -9,9 +9,15 @@ Averaging
 """
 
 from analysis.breaths.averaging import DEFAULT_AVERAGING, METHODS, AveragingSpec, average_breaths
+from analysis.breaths.cleaning import CleanedBreaths, ExcludedBreath, clean_breaths
+from analysis.breaths.derived import with_derived_series
 from analysis.breaths.outliers import OUTLIER_COLUMNS, exclude_breaths, find_outlier_breaths
 
 __all__ = [
+    "CleanedBreaths",
+    "ExcludedBreath",
+    "clean_breaths",
+    "with_derived_series",
     "AveragingSpec",
     "DEFAULT_AVERAGING",
     "METHODS",

@@ -13,7 +13,9 @@ Work and energy
 Ventilatory limit
     :func:`breathing_reserve`
 Reading a point
-    :func:`point_values`
+    :func:`point_values`, :func:`threshold_values` (:class:`ThresholdResult`), :func:`window_means`
+The step of the pipeline
+    :func:`compute_indices` (:class:`Indices`, :class:`FatMaxPoint`)
 """
 
 from analysis.indices._fit import LineFit
@@ -30,13 +32,22 @@ from analysis.indices.substrate import (
     fat_max,
     fat_oxidation_g_min,
 )
+from analysis.indices.summary import FatMaxPoint, Indices, compute_indices
+from analysis.indices.threshold_values import ThresholdResult, threshold_values
 from analysis.indices.ventilatory_efficiency import ve_vco2_nadir, ve_vco2_slope
+from analysis.indices.windows import window_means
 from analysis.indices.work_efficiency import DEFAULT_LAG_S, vo2_work_rate_slope
 
 __all__ = [
     "BreathingReserve",
     "DEFAULT_LAG_S",
     "FatMax",
+    "FatMaxPoint",
+    "Indices",
+    "ThresholdResult",
+    "compute_indices",
+    "threshold_values",
+    "window_means",
     "LineFit",
     "ML_KG_MIN_PER_MET",
     "MVV_PER_FEV1",

@@ -15,9 +15,14 @@ from analysis.reference.classes import (
     weber_class,
 )
 from analysis.reference.friend import friend_vo2max_ml_kg_min, pct_predicted
-from analysis.reference.heart_rate import tanaka_hr_max_bpm
+from analysis.reference.heart_rate import brawner_hr_max_bpm, tanaka_hr_max_bpm
+from analysis.reference.summary import Classes, ReferenceValues, reference_values
 
 __all__ = [
+    "Classes",
+    "ReferenceValues",
+    "brawner_hr_max_bpm",
+    "reference_values",
     "VENTILATORY_DESCRIPTIONS",
     "WEBER_DESCRIPTIONS",
     "friend_vo2max_ml_kg_min",

@@ -7,6 +7,7 @@ from dataclasses import dataclass
 
 from analysis.errors import TidemarkError
 from analysis.records import described
+from analysis.reference._validate import mode_code, number_in
 from analysis.reference.classes import (
     VENTILATORY_CLASS_METHOD,
     WEBER_CLASS_METHOD,
@@ -15,7 +16,7 @@ from analysis.reference.classes import (
 )
 from analysis.reference.friend import FRIEND_METHOD, friend_vo2max_ml_kg_min, pct_predicted
 from analysis.reference.heart_rate import TANAKA_METHOD, tanaka_hr_max_bpm
-from analysis.subject import reference_sex
+from analysis.subject import normalise_sex, reference_sex
 
 
 @dataclass(frozen=True)
@@ -96,11 +97,31 @@ def reference_values(
     (ReferenceValues, Classes, tuple of str)
         The records and notes on what was not given and why.
 
+    Raises
+    ------
+    InvalidParameter
+        A value given but outside its plausible range (age 5-110 years, body mass 20-300 kg,
+        height 100-250 cm, ...), an unknown spelling of sex or mode.
+
     References
     ----------
     de Souza e Silva CG, et al. Am J Cardiol 2018 (FRIEND). Tanaka H, et al. J Am Coll Cardiol
     2001. Weber KT, Janicki JS. Am J Cardiol 1985. Arena R, et al. Circulation 2007;115:2410-2417.
     """
+    for name, value, low, high, unit in (
+        ("age_y", age_y, 5, 110, "years"),
+        ("body_mass_kg", body_mass_kg, 20, 300, "kg"),
+        ("height_cm", height_cm, 100, 250, "cm"),
+        ("vo2_peak_ml_kg_min", vo2_peak_ml_kg_min, 0, 120, "mL/kg/min"),
+        ("hr_peak_bpm", hr_peak_bpm, 20, 260, "beats/min"),
+        ("ve_vco2_slope_whole_exercise", ve_vco2_slope_whole_exercise, 0, 200, ""),
+    ):
+        if value is not None:
+            number_in(name, value, low, high, unit)
+    if sex is not None:
+        normalise_sex(sex)
+    if mode is not None:
+        mode_code(mode)
     notes: list[str] = []
     friend = pct_vo2 = hr_pred = pct_hr = None
     missing = [
