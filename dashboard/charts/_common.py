@@ -10,6 +10,7 @@ import pandas as pd
 import plotly.graph_objects as go
 
 from dashboard import palette
+from dashboard.timefmt import clock_text, clock_ticks
 
 _GRID = "#E5E8EE"
 #: A small white template (plain dict): light grid, Okabe & Ito colours by default. Kept small
@@ -235,3 +236,29 @@ def figure_title(text: str) -> dict[str, Any]:
 
 def has(frame: pd.DataFrame | None, column: str) -> bool:
     return frame is not None and column in frame.columns and bool(frame[column].notna().any())
+
+
+# --- times as m:ss on every chart (values stay seconds; exports keep seconds) ----------------
+
+
+def time_labels(t_s: Any) -> list[str]:
+    """``m:ss`` labels of times (s) for hover text: the one formatter, :func:`dashboard.timefmt.clock_text`."""
+    return [clock_text(t) for t in np.asarray(t_s, dtype=float).ravel()]
+
+
+def time_axis(lo_s: float, hi_s: float, *, title: str = "Time (m:ss)", max_ticks: int = 6) -> dict[str, Any]:
+    """Layout of a time axis over ``lo_s``..``hi_s``: ticks at round seconds labelled ``m:ss``."""
+    values, labels = clock_ticks(lo_s, hi_s, max_ticks=max_ticks)
+    return {"tickmode": "array", "tickvals": values, "ticktext": labels, "tickangle": 0, "title": {"text": title}}
+
+
+def time_span(frame: pd.DataFrame | None, window: Any = None) -> tuple[float, float]:
+    """The span a time axis shows: the window when one is chosen, else the frame's ``t_s`` range."""
+    if window is not None:
+        return float(window[0]), float(window[1])
+    if frame is not None and has(frame, "t_s"):
+        t = frame["t_s"].to_numpy(dtype=float)
+        t = t[np.isfinite(t)]
+        if t.size:
+            return float(t.min()), float(t.max())
+    return 0.0, 1.0

@@ -20,6 +20,9 @@ from dashboard.charts._common import (
     has,
     phase_legend,
     shown_thresholds,
+    time_axis,
+    time_labels,
+    time_span,
 )
 from dashboard.charts.linking import TimeSpan, span_legend, span_shapes, window_range, y_range_in_window
 
@@ -76,6 +79,7 @@ def equivalents_figure(
             traces.append(
                 {
                     "type": "scatter", "x": column(eq, C.T_S), "y": column(eq, col), "mode": "lines", "name": name,
+                    "text": time_labels(eq[C.T_S]), "hovertemplate": f"{name} %{{y:.1f}}<br>at %{{text}}<extra></extra>",
                     "line": {"color": palette.SIGNAL[col], "width": 2, "dash": "solid" if col == VE_VO2 else "dash"},
                     "xaxis": "x", "yaxis": "y",
                 }
@@ -85,6 +89,8 @@ def equivalents_figure(
             traces.append(
                 {
                     "type": "scatter", "x": column(avg, C.T_S), "y": column(avg, col), "mode": "lines", "name": name,
+                    "text": time_labels(avg[C.T_S]),
+                    "hovertemplate": f"{name} %{{y:.1f}} mmHg<br>at %{{text}}<extra></extra>",
                     "line": {"color": palette.SIGNAL[col], "width": 2, "dash": "solid" if col == C.PETO2_MMHG else "dashdot"},
                     "xaxis": "x", "yaxis": "y2",
                 }
@@ -107,7 +113,7 @@ def equivalents_figure(
             "height": 600,
             "legend": BOTTOM_LEGEND,
             "margin": {"l": 60, "r": 20, "t": 50, "b": 110},
-            "xaxis": {"anchor": "y2", "title": axis_title("Time (s)"), **({"range": x_rng} if x_rng else {})},
+            "xaxis": {"anchor": "y2", **time_axis(*time_span(eq, x_rng)), **({"range": x_rng} if x_rng else {})},
             # titles at 12 pt: each must fit the height of its half of the chart
             "yaxis": {"domain": [0.5, 1.0], "anchor": "x",
                       "title": {**axis_title("VE/VO2, VE/VCO2 (no unit)"), "font": {"size": 12}},

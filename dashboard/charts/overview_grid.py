@@ -46,10 +46,12 @@ from dashboard.charts._common import (
     phase_shapes,
     pick_value,
     threshold_shapes,
+    time_axis,
+    time_labels,
 )
 from dashboard.charts.linking import TimeSpan, span_ring_trace, span_shapes, window_range, y_range_in_window
 from dashboard.charts.vslope import exercise_rows
-from dashboard.timefmt import clock_text, clock_ticks
+from dashboard.timefmt import clock_text
 
 RER = "rer"
 VE_VO2 = "ve_vo2"
@@ -167,17 +169,6 @@ def _layout_name(axis_id: str) -> str:
     return f"{axis_id[0]}axis{axis_id[1:]}"
 
 
-def time_labels(t_s: np.ndarray) -> list[str]:
-    """``m:ss`` labels of times for hover text (one formatter, :func:`dashboard.timefmt.clock_text`)."""
-    return [clock_text(t) for t in np.asarray(t_s, dtype=float)]
-
-
-def time_axis(lo_s: float, hi_s: float, *, title: str = "Time (m:ss)", max_ticks: int = 6) -> dict[str, Any]:
-    """Layout of a time axis with ``m:ss`` tick labels over ``lo_s``..``hi_s`` (values stay seconds)."""
-    values, labels = clock_ticks(lo_s, hi_s, max_ticks=max_ticks)
-    return {"tickmode": "array", "tickvals": values, "ticktext": labels, "tickangle": 0, "title": {"text": title}}
-
-
 def _remap(items: Iterable[dict], xref: str, yref: str, *, transpose: bool = False) -> list[dict]:
     """Shapes/annotations built for one plot (``xref="x"``, ``yref="paper"``) moved onto a panel.
 
@@ -275,8 +266,9 @@ class _Builder:
         xa, ya = axis_ids(index)
         rows = np.arange(len(t), dtype=float)
         self.traces.append({
-            "type": "scatter", "x": x, "y": y, "mode": "lines+markers" if markers else "lines",
-            "line": {"color": colour, "width": 1.6, "dash": dash}, "marker": {"size": 4, "color": colour},
+            # small markers on the lines too: plotly's box and lasso select markers, not lines
+            "type": "scatter", "x": x, "y": y, "mode": "lines+markers",
+            "line": {"color": colour, "width": 1.6, "dash": dash}, "marker": {"size": 4 if markers else 2, "color": colour},
             "name": name, "xaxis": xa, "yaxis": yaxis or ya,
             # plain lists, t_s first: selection events carry them back (click and box/lasso read the time)
             "customdata": np.column_stack([t, rows]).tolist(), "text": time_labels(t),

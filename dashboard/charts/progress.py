@@ -6,16 +6,17 @@ results here). Colours from :mod:`dashboard.palette`; every axis states its unit
 
 from __future__ import annotations
 
+import numpy as np
 import pandas as pd
 import plotly.graph_objects as go
 
 from analysis.progress import METRICS, OVERLAYS
 from dashboard import palette
-from dashboard.charts._common import BASE_LAYOUT
+from dashboard.charts._common import BASE_LAYOUT, time_axis, time_labels
 
 #: Axis titles of the overlay kinds of :func:`analysis.progress.aligned_series`.
 OVERLAY_AXES: dict[str, tuple[str, str]] = {
-    "vo2_time": ("Time from start of exercise (s)", "VO2 (mL/min)"),
+    "vo2_time": ("Time from start of exercise (m:ss)", "VO2 (mL/min)"),
     "vco2_vo2": ("VO2 (mL/min)", "VCO2 (mL/min)"),
 }
 
@@ -137,6 +138,9 @@ def overlay_figure(aligned: pd.DataFrame, *, overlay: str = "vo2_time") -> go.Fi
                 x=part["x"],
                 y=part["y"],
                 mode="lines+markers" if overlay == "vo2_time" else "markers",
+                text=time_labels(part["x"]) if overlay == "vo2_time" else None,
+                hovertemplate=("%{fullData.name}<br>at %{text}, VO2 %{y:.0f} mL/min<extra></extra>"
+                               if overlay == "vo2_time" else None),
                 line={"color": colour, "width": 2, "dash": _OVERLAY_DASH[i % len(_OVERLAY_DASH)]},
                 marker={"size": 5, "color": colour, "symbol": ("circle", "square", "triangle-up", "diamond")[i % 4]},
                 name=str(label),
@@ -144,5 +148,11 @@ def overlay_figure(aligned: pd.DataFrame, *, overlay: str = "vo2_time") -> go.Fi
         )
     fig.update_layout(**BASE_LAYOUT)
     fig.update_xaxes(title_text=x_title)
+    if overlay == "vo2_time" and len(aligned):
+        x = pd.to_numeric(aligned["x"], errors="coerce").to_numpy(dtype=float)
+        x = x[np.isfinite(x)]
+        if x.size:
+            axis = time_axis(float(x.min()), float(x.max()), title=x_title)
+            fig.update_xaxes(tickmode="array", tickvals=axis["tickvals"], ticktext=axis["ticktext"])
     fig.update_yaxes(title_text=y_title)
     return fig

@@ -21,8 +21,16 @@ from dashboard.charts._common import (
     nice_step,
     phase_legend,
     shown_thresholds,
+    time_axis,
+    time_labels,
+    time_span,
 )
 from dashboard.charts.linking import TimeSpan, span_legend, span_shapes, window_range, y_range_in_window
+
+#: Decimals and unit of each line's value in its hover text (the time reads m:ss).
+_DIGITS = {C.VE_L_MIN: 1, C.SPEED_KMH: 1}
+_UNIT = {C.VO2_ML_MIN: "mL/min", C.VCO2_ML_MIN: "mL/min", C.VE_L_MIN: "L/min", C.HR_BPM: "beats/min",
+         C.WORK_W: "W", C.SPEED_KMH: "km/h"}
 
 #: The clickable trace (averaged VO2) is named so the page can find it in a selection.
 VO2_TRACE = "VO2 (averaged)"
@@ -84,6 +92,8 @@ def time_course_figure(
             }
         )
 
+    labels = time_labels(avg[C.T_S]) if has(avg, C.T_S) else []
+
     def line(col: str, row: int, name: str, *, secondary: bool = False, clickable: bool = False) -> None:
         if not has(avg, col):
             return
@@ -92,11 +102,13 @@ def time_course_figure(
             "mode": "lines+markers" if clickable else "lines",
             "line": {"color": palette.SIGNAL[col], "width": 2}, "marker": {"size": 5, "color": palette.SIGNAL[col]},
             "name": name, "legendgroup": col, "xaxis": "x", "yaxis": "y4" if secondary else axis_of_row[row],
+            "text": labels, "hovertemplate": f"{name} %{{y:.{_DIGITS.get(col, 0)}f}} {_UNIT.get(col, '')}"
+                                             "<br>at %{text}<extra></extra>",
         }
         if clickable:
             # plain lists, t_s first: selection events carry them back (pick_from_chart_point)
             trace["customdata"] = np.column_stack([avg[C.T_S], avg[col], np.arange(len(avg))]).tolist()
-            trace["hovertemplate"] = "t %{x:.0f} s<br>VO2 %{y:.0f} mL/min<extra></extra>"
+            trace["hovertemplate"] = "at %{text}<br>VO2 %{y:.0f} mL/min<extra></extra>"
         traces.append(trace)
 
     raw(C.VO2_ML_MIN, 1, "VO2")
@@ -116,7 +128,8 @@ def time_course_figure(
                 "type": "scatter", "x": column(out, C.T_S), "y": column(out, C.VO2_ML_MIN), "mode": "markers",
                 "marker": {"symbol": palette.EXCLUDED_SYMBOL, "size": 10, "color": palette.EXCLUDED, "line": {"width": 2}},
                 "name": "Excluded breath", "customdata": [int(r) for r in out["source_row"]],
-                "hovertemplate": "excluded breath (line %{customdata})<br>t %{x:.0f} s, VO2 %{y:.0f} mL/min<extra></extra>",
+                "text": time_labels(out[C.T_S]),
+                "hovertemplate": "excluded breath (line %{customdata})<br>at %{text}, VO2 %{y:.0f} mL/min<extra></extra>",
                 "xaxis": "x", "yaxis": "y",
             }
         )
@@ -130,7 +143,7 @@ def time_course_figure(
         "title": figure_title("Time course" + (f" — {averaging_label}" if averaging_label else "")),
         "height": 720,
         "clickmode": "event+select",
-        "xaxis": {"domain": [0, right], "anchor": "y3", "title": axis_title("Time (s)"),
+        "xaxis": {"domain": [0, right], "anchor": "y3", **time_axis(*time_span(avg, window_range(time_window))),
                   **({"range": rng} if (rng := window_range(time_window)) else {})},
         "yaxis": {"domain": [0.57, 1.0], "anchor": "x", "title": axis_title("VO2, VCO2 (mL/min)")},
         "yaxis2": {"domain": [0.30, 0.53], "anchor": "x", "title": axis_title("VE (L/min)")},

@@ -11,7 +11,16 @@ import plotly.graph_objects as go
 
 from analysis import columns as C
 from dashboard import palette
-from dashboard.charts._common import BOTTOM_LEGEND, axis_title, build_figure, column, decorations, figure_title, pick_value
+from dashboard.charts._common import (
+    BOTTOM_LEGEND,
+    axis_title,
+    build_figure,
+    column,
+    decorations,
+    figure_title,
+    pick_value,
+    time_labels,
+)
 from dashboard.charts.linking import TimeSpan, span_ring_trace
 
 #: Name of the clickable data trace.
@@ -71,7 +80,8 @@ def vslope_figure(
             "name": DATA_TRACE,
             # plain lists, t_s first: selection events carry them back (pick_from_chart_point)
             "customdata": np.column_stack([t, x, np.arange(len(avg))]).tolist(),
-            "hovertemplate": "VO2 %{x:.0f} mL/min<br>VCO2 %{y:.0f} mL/min<br>t %{customdata[0]:.0f} s<extra></extra>",
+            "text": time_labels(t),
+            "hovertemplate": "VO2 %{x:.0f} mL/min<br>VCO2 %{y:.0f} mL/min<br>at %{text}<extra></extra>",
         }
     ]
     traces.extend(span_ring_trace(x, y, t, highlight))

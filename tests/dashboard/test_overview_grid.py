@@ -192,3 +192,24 @@ def test_every_panel_draws_the_result_thresholds_of_a_demo_analysis():
                         "vt_ve": pick.ve_l_min}.get(key, pick.t_s)
             value = line.y0 if line.xref.endswith("domain") else line.x0
             assert value == expected, (kind, key)
+
+
+# --- m:ss on the other dashboard charts (one formatter) ------------------------------------------
+
+
+def test_time_course_and_equivalents_axes_and_hover_read_mss():
+    from dashboard.charts import equivalents_figure, time_course_figure, vslope_figure
+
+    avg = _avg()
+    for fig in (time_course_figure(avg), equivalents_figure(avg)):
+        layout = fig.to_plotly_json()["layout"]
+        assert layout["xaxis"]["title"]["text"] == "Time (m:ss)"
+        assert layout["xaxis"]["ticktext"][:3] == ["0:00", "3:00", "6:00"]
+        assert layout["xaxis"]["tickvals"][:3] == [0.0, 180.0, 360.0]  # values stay seconds
+        timed = [t for t in fig.data if t.hovertemplate and "%{text}" in t.hovertemplate]
+        assert timed and all(t.text[1] == "0:10" for t in timed)
+        assert not any(" s<" in (t.hovertemplate or "") for t in fig.data)  # no seconds left in hover
+    windowed = time_course_figure(avg, time_window=(300.0, 420.0)).to_plotly_json()["layout"]["xaxis"]
+    assert windowed["ticktext"][0] == "5:00" and windowed["range"] == [300.0, 420.0]
+    vs = vslope_figure(avg)
+    assert vs.data[0].text[2] == "0:20" and "at %{text}" in vs.data[0].hovertemplate

@@ -126,4 +126,5 @@ def test_charts_from_progress_table(rehab_store):
     aligned = pd.DataFrame({"test": ["a", "a", "b"], "x": [0.0, 10.0, 0.0], "y": [1.0, 2.0, 3.0]})
     ov = overlay_figure(aligned, overlay="vo2_time")
     assert [t.name for t in ov.data] == ["a", "b"]
-    assert ov.layout.xaxis.title.text == "Time from start of exercise (s)"
+    assert ov.layout.xaxis.title.text == "Time from start of exercise (m:ss)"
+    assert list(ov.layout.xaxis.ticktext) == ["0:00"] and list(ov.data[0].text) == ["0:00", "0:10"]  # m:ss

@@ -53,7 +53,7 @@ def test_time_course_has_units_on_every_axis_and_marks_thresholds(avg):
         averaging_label="10 s bins",
     )
     titles = _axis_titles(fig)
-    assert "VO2, VCO2 (mL/min)" in titles and "VE (L/min)" in titles and "Time (s)" in titles
+    assert "VO2, VCO2 (mL/min)" in titles and "VE (L/min)" in titles and "Time (m:ss)" in titles
     assert "Heart rate (beats/min)" in titles and "Work rate (W)" in titles
     shapes = fig.to_plotly_json()["layout"]["shapes"]
     vlines = [s for s in shapes if s.get("type") == "line"]
