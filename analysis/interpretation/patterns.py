@@ -24,6 +24,11 @@ CARDIOVASCULAR = frozenset({"chronotropic_incompetence", "o2_pulse_flattening", 
 VENTILATORY = frozenset({"breathing_reserve_low"})
 GAS_EXCHANGE = frozenset({"desaturation", "ve_vco2_slope_high", "petco2_low", "petco2_rise_low"})
 
+#: Flags that do not count toward a pattern when raised only as a ``caution``: the condition of
+#: their limit was not met (a possibly submaximal effort lowers the chronotropic index; the HR
+#: recovery limit holds for an upright active cool-down only).
+CONDITIONAL_FLAGS = frozenset({"chronotropic_incompetence", "hr_recovery_low"})
+
 PATTERN_LABELS: dict[str, str] = {
     "cardiovascular_limitation": "cardiovascular limitation",
     "ventilatory_limitation": "ventilatory limitation",

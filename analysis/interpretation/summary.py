@@ -23,7 +23,7 @@ from analysis.interpretation.flags import Flag
 from analysis.interpretation.gas_exchange import GAS_EXCHANGE_METHOD, GasExchange, gas_exchange, gas_exchange_flags
 from analysis.interpretation.lag import LAG_METHOD, LagCorrection, lag_correction
 from analysis.interpretation.oscillation import EOV_METHOD, Oscillation, exercise_oscillation, oscillation_flag
-from analysis.interpretation.patterns import PatternSummary, pattern_summary
+from analysis.interpretation.patterns import CONDITIONAL_FLAGS, PatternSummary, pattern_summary
 from analysis.interpretation.predicted import REFERENCE_METHODS, PredictedPeak, predicted_peak, vo2peak_flag
 from analysis.interpretation.response import (
     RESPONSE_METHOD,
@@ -194,7 +194,10 @@ def interpret_test(
     flags = tuple(f for f in raised if f is not None)
     return Interpretation(
         flags=flags,
-        patterns=pattern_summary((f.code for f in flags), effort_submaximal=effort_submaximal),
+        patterns=pattern_summary(
+            (f.code for f in flags if not (f.severity == "caution" and f.code in CONDITIONAL_FLAGS)),
+            effort_submaximal=effort_submaximal,
+        ),
         predicted=predicted,
         chronotropic=chrono,
         saturation=saturation,

@@ -331,6 +331,50 @@ def _threshold_table(results: Mapping[str, Any], ctx: ReportContext) -> str:
     return _table(header, rows, numeric=(1, 2))
 
 
+def _flags_line(results: Mapping[str, Any]) -> str:
+    """Page 1's compact flags block: each flag with its value and limit on one line, then the
+    patterns they are consistent with; sources and the full findings are in the appendix."""
+    from dashboard.flag_rows import flag_groups, pattern_summary
+
+    if not isinstance(results.get("interpretation"), Mapping):
+        return ""
+    rows = [r for _group, rs in flag_groups(results) for r in rs]
+    texts, _caution, _statement = pattern_summary(results)
+    if rows:
+        items = " · ".join(f"<strong>{_e(r['Flag'])}</strong> {_e(r['Value'])} ({_e(r['Limit'])})" for r in rows)
+    else:
+        items = "none: no value crossed the limits checked"
+    out = f'<p class="flags-line"><span class="label">Flags:</span> {items}.'
+    if texts:
+        out += " " + " ".join(_e(t) for t in texts) + " Not a diagnosis; sources and caution: page 2."
+    return out + "</p>"
+
+
+def _flags_appendix(results: Mapping[str, Any]) -> str:
+    """The appendix's flags table (group, flag, finding, limit, source) with the pattern summary,
+    the caution and the statements it follows."""
+    from dashboard.flag_rows import flag_groups, pattern_summary, reference_set_name
+
+    if not isinstance(results.get("interpretation"), Mapping):
+        return ""
+    groups = flag_groups(results)
+    texts, caution, statement = pattern_summary(results)
+    parts = ["<h2>Flags: limits and sources</h2>"]
+    if groups:
+        rows = [[group, r["Finding"], r["Limit"], r["Source"]] for group, rs in groups for r in rs]
+        parts.append('<div class="flags">' + _table(["Group", "Finding", "Limit", "Source"], rows) + "</div>")
+    else:
+        parts.append('<p class="sub">No value crossed the limits checked.</p>')
+    ref = reference_set_name(results)
+    if ref:
+        parts.append(f'<p class="sub">% predicted from {_e(ref)}.</p>')
+    if texts:
+        parts.append('<ul class="patterns">' + "".join(f"<li>{_e(t)}</li>" for t in texts) + "</ul>")
+    if caution:
+        parts.append(f'<p class="sub">{_e(caution)} Patterns follow: {_e(statement)}.</p>')
+    return "".join(parts)
+
+
 def _letterhead(ctx: ReportContext) -> str:
     """The lab's letterhead: logo, name and address line (nothing when none is set)."""
     if not (ctx.lab_name or ctx.lab_address or ctx.lab_logo_url):
@@ -545,6 +589,7 @@ def build_report_html(
         parts.append("<h2>Training zones</h2>")
         parts.append(_table(header, [[r.get(h, "–") for h in header] for r in zrows], numeric=tuple(range(1, len(header)))))
     parts.append("</section></div>")
+    parts.append(_flags_line(data))
 
     if charts:
         parts.append('<section class="charts">')
@@ -565,6 +610,7 @@ def build_report_html(
     if isinstance(excluded, list):
         parts.append(f"<li>Breaths left out of the analysis: {len(excluded)}</li>")
     parts.append("</ul>")
+    parts.append(_flags_appendix(data))
     zone_note = _zone_note(data)
     if zone_note:
         parts.append(f'<p class="sub">Training zones: {_e(zone_note)}</p>')

@@ -22,6 +22,7 @@ from dashboard import data, lab, state
 from dashboard.report import CAUTIONS, headline_rows, zone_rows
 from dashboard.report.assemble import build_test_report, report_figures, report_file_name
 from dashboard.report.html_report import threshold_display
+from dashboard.views._flags_panel import render_flags
 from dashboard.views._test_choice import test_settings
 
 log = logging.getLogger("tidemark.dashboard")
@@ -161,6 +162,7 @@ def render_scope(store: Any, scope: Any) -> None:
             )
         st.markdown("**Ventilatory thresholds (estimates)**")
         st.dataframe(threshold_frame(results_json), hide_index=True, width="stretch")
+        render_flags(results_json, sport_only=True)
     if _allowed(scope, "zones"):
         zones = zone_rows(results_json)
         st.markdown("**Training zones**")

@@ -39,6 +39,7 @@ from dashboard.charts.vslope import DATA_TRACE
 from dashboard.errors import show_error
 from dashboard.lab import markdown_text
 from dashboard.timefmt import clock_text
+from dashboard.views._flags_panel import render_flags
 from dashboard.views._subject_panel import details_panel
 from dashboard.views._test_choice import current_or_default
 
@@ -822,6 +823,7 @@ def render() -> None:
     for w in warnings:
         st.warning(markdown_text(w))
     _headline(results_json)
+    render_flags(results_json)
     details_panel(store, test_id)
     st.subheader("Thresholds")
     st.dataframe(pd.DataFrame(threshold_rows(results_json)), hide_index=True)

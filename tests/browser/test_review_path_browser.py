@@ -105,6 +105,18 @@ def test_upload_review_override_and_report(app_server, page, screenshot, tmp_pat
     assert {"gas_time", "gas_work", "vslope", "equivalents", "end_tidal", "rer", "ve_vco2"} <= set(panels)
     screenshot(page, "review")
 
+    # --- flags grouped with limit and source, and the pattern summary with its caution
+    # (this demo heart-failure test raises a high VE/VCO2 slope: >= 36.0, Arena et al. 2007)
+    flags = page.get_by_role("heading", name="Flags and patterns")
+    flags.wait_for(timeout=60_000)
+    line = page.locator("[data-testid='stMarkdownContainer'] li", has_text="high VE/VCO2 slope").first
+    assert "Limit ≥ 36.0 — Arena et al. 2007" in line.inner_text()
+    assert page.get_by_text("Gas exchange", exact=True).count() >= 1
+    assert page.locator("[data-testid='stMarkdownContainer'] li", has_text="Consistent with").count() >= 1
+    assert page.get_by_text(re.compile("not a diagnosis")).count() >= 1
+    flags.scroll_into_view_if_needed()
+    screenshot(page, "review-flags")
+
     # --- type a new VT1 time
     typed_t = first[1] + 90
     page.get_by_label("Reason (kept in the audit trail)").fill("typed in the browser test")
@@ -215,3 +227,4 @@ def test_upload_review_override_and_report(app_server, page, screenshot, tmp_pat
     assert f"{clicked[0]:,}".replace(",", "\u2009") in html or f"{clicked[0]}" in html
     assert "manual" in html.lower()
     assert "not a medical device" in html
+    assert "Flags:" in html and "high VE/VCO2 slope" in html and "Flags: limits and sources" in html
