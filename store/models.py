@@ -26,6 +26,8 @@ from sqlalchemy import (
 )
 from sqlalchemy.orm import DeclarativeBase, Mapped, mapped_column
 
+from store.compressed_text import CompressedText
+
 #: Constraint names are fixed so that migrations name them identically on every back end.
 NAMING_CONVENTION = {
     "ix": "ix_%(table_name)s_%(column_0_N_name)s",
@@ -167,7 +169,8 @@ class AnalysisVersion(Base):
     created_by: Mapped[int | None] = mapped_column(ForeignKey("users.id"))
     reason: Mapped[str] = mapped_column(Text, default="")
     settings_json: Mapped[str] = mapped_column(Text)
-    results_json: Mapped[str | None] = mapped_column(Text)
+    #: The results JSON text; kept zlib-compressed in the column ``results_zlib`` (migration 0008).
+    results_json: Mapped[str | None] = mapped_column("results_zlib", CompressedText)
 
 
 class SignOff(Base):
