@@ -7,8 +7,11 @@ from __future__ import annotations
 
 import math
 import numbers
-from collections.abc import Mapping
-from typing import Any
+from typing import TYPE_CHECKING, Any
+
+if TYPE_CHECKING:
+    from analysis.indices.threshold_values import ThresholdResult
+    from analysis.results import TestResults
 
 #: Leading characters that make a spreadsheet treat a cell as a formula (= + - @) plus tab and
 #: carriage return, which some spreadsheets strip before checking (OWASP "CSV Injection"
@@ -85,52 +88,45 @@ SUMMARY_COLUMNS: tuple[str, ...] = (
 )
 
 
-def _get(d: Mapping[str, Any] | None, *path: str) -> Any:
-    node: Any = d
-    for key in path:
-        if not isinstance(node, Mapping):
-            return None
-        node = node.get(key)
-    return node
-
-
-def summary_row(results_json: Mapping[str, Any], *, file: str) -> dict[str, Any]:
-    """One summary row (keys :data:`SUMMARY_COLUMNS`) from ``to_json(TestResults)``.
+def summary_row(results: TestResults, *, file: str) -> dict[str, Any]:
+    """One summary row (keys :data:`SUMMARY_COLUMNS`) from the typed result of one test.
 
     Parameters
     ----------
-    results_json : mapping
-        The results JSON of one test.
+    results : TestResults
+        The result of :func:`analysis.pipeline.analyze_session` (a stored version is read back
+        with :func:`analysis.results.results_from_json`).
     file : str, keyword-only
         File name shown in the ``file`` column.
     """
-    r = results_json
+    r = results
     row: dict[str, Any] = {
         "file": file,
         "status": "ok",
         "error": "",
-        "subject_id": _get(r, "subject", "subject_id"),
-        "test_date": _get(r, "subject", "test_date"),
-        "mode": _get(r, "subject", "mode"),
-        "vo2_peak_ml_min": r.get("vo2_peak_ml_min"),
-        "vo2_peak_ml_kg_min": r.get("vo2_peak_ml_kg_min"),
-        "rer_peak": r.get("rer_peak"),
-        "hr_peak_bpm": r.get("hr_peak_bpm"),
-        "maximality": _get(r, "maximality", "label"),
-        "ve_vco2_slope": r.get("ve_vco2_slope"),
-        "ventilatory_class": _get(r, "classes", "ventilatory"),
-        "oues": r.get("oues"),
-        "o2_pulse_peak_ml_beat": r.get("o2_pulse_peak_ml_beat"),
-        "pct_predicted_vo2max": _get(r, "predicted", "pct_predicted_vo2max"),
-        "weber_class": _get(r, "classes", "weber"),
-        "excluded_breaths": len(r.get("excluded_breaths") or []),
-        "warnings": " | ".join(str(w) for w in (r.get("warnings") or [])),
+        "subject_id": r.subject.subject_id,
+        "test_date": r.subject.test_date,
+        "mode": r.subject.mode,
+        "vo2_peak_ml_min": r.vo2_peak_ml_min,
+        "vo2_peak_ml_kg_min": r.vo2_peak_ml_kg_min,
+        "rer_peak": r.rer_peak,
+        "hr_peak_bpm": r.hr_peak_bpm,
+        "maximality": r.maximality.label,
+        "ve_vco2_slope": r.ve_vco2_slope,
+        "ventilatory_class": r.classes.ventilatory,
+        "oues": r.oues,
+        "o2_pulse_peak_ml_beat": r.o2_pulse_peak_ml_beat,
+        "pct_predicted_vo2max": r.predicted.pct_predicted_vo2max,
+        "weber_class": r.classes.weber,
+        "excluded_breaths": len(r.excluded_breaths),
+        "warnings": " | ".join(r.warnings),
     }
     for kind in ("vt1", "vt2"):
-        row[f"{kind}_vo2_ml_min"] = _get(r, kind, "vo2_ml_min")
-        row[f"{kind}_time_s"] = _get(r, kind, "time_s")
-        row[f"{kind}_hr_bpm"] = _get(r, kind, "hr_bpm")
-        row[f"{kind}_method"] = _get(r, kind, "method")
+        t: ThresholdResult | None = getattr(r, kind)
+        row[f"{kind}_vo2_ml_min"] = None if t is None else t.vo2_ml_min
+        row[f"{kind}_time_s"] = None if t is None else t.t_s
+        row[f"{kind}_hr_bpm"] = None if t is None else t.hr_bpm
+        row[f"{kind}_method"] = None if t is None else t.method
     return {k: row.get(k) for k in SUMMARY_COLUMNS}
 
 

@@ -1,68 +1,59 @@
 """Interpretation flags and patterns as rows for the pages and the report (plain functions,
-tested without Streamlit). They read the result's JSON form (``to_json(results)``)."""
+tested without Streamlit). They read the typed result (``results.flags``,
+``results.interpretation``)."""
 
 from __future__ import annotations
 
-from collections.abc import Mapping
-from typing import Any
-
-from analysis.interpretation.flags import FLAG_GROUPS, FLAG_NAMES
+from analysis.interpretation.flags import FLAG_GROUPS, FLAG_NAMES, Flag
+from analysis.results import TestResults
 
 #: Order of the groups on the page (the order of FLAG_GROUPS' first appearance).
 GROUP_ORDER: tuple[str, ...] = tuple(dict.fromkeys(FLAG_GROUPS.values()))
 SEVERITY_WORDS = {"abnormal": "outside the limit", "caution": "check", "info": "for information"}
 
 
-def _flags(results_json: Mapping[str, Any], *, sport_only: bool) -> list[Mapping[str, Any]]:
-    flags = results_json.get("flags") or []
-    out = [f for f in flags if isinstance(f, Mapping) and f.get("code")]
-    return [f for f in out if f.get("sport_relevant")] if sport_only else out
+def _flags(results: TestResults, *, sport_only: bool) -> list[Flag]:
+    return [f for f in results.flags if f.sport_relevant or not sport_only]
 
 
-def value_text(flag: Mapping[str, Any]) -> str:
+def value_text(flag: Flag) -> str:
     """``"6.0 percentage points"`` (``"–"`` without a value)."""
-    value = flag.get("value")
-    if not isinstance(value, int | float):
+    value = flag.value
+    if value is None or value != value:  # missing or NaN
         return "–"
     digits = 2 if abs(value) < 2 else 1 if abs(value) < 100 else 0
-    unit = str(flag.get("unit") or "")
-    return f"{value:.{digits}f} {unit}".strip()
+    return f"{value:.{digits}f} {flag.unit}".strip()
 
 
-def flag_row(flag: Mapping[str, Any]) -> dict[str, str]:
+def flag_row(flag: Flag) -> dict[str, str]:
     """One flag as the table row the pages and the report show."""
-    code = str(flag.get("code"))
     return {
-        "Flag": FLAG_NAMES.get(code, code.replace("_", " ")),
-        "Severity": SEVERITY_WORDS.get(str(flag.get("severity")), str(flag.get("severity") or "")),
+        "Flag": FLAG_NAMES.get(flag.code, flag.code.replace("_", " ")),
+        "Severity": SEVERITY_WORDS.get(flag.severity, flag.severity),
         "Value": value_text(flag),
-        "Limit": str(flag.get("limit") or ""),
-        "Source": str(flag.get("source") or ""),
-        "Finding": str(flag.get("text") or ""),
+        "Limit": flag.limit,
+        "Source": flag.source,
+        "Finding": flag.text,
     }
 
 
-def flag_groups(results_json: Mapping[str, Any], *, sport_only: bool = False) -> list[tuple[str, list[dict[str, str]]]]:
+def flag_groups(results: TestResults, *, sport_only: bool = False) -> list[tuple[str, list[dict[str, str]]]]:
     """``[(group heading, rows), ...]`` in the page order; ``sport_only`` keeps the coach's flags."""
     groups: dict[str, list[dict[str, str]]] = {}
-    for f in _flags(results_json, sport_only=sport_only):
-        groups.setdefault(FLAG_GROUPS.get(str(f.get("code")), "Other"), []).append(flag_row(f))
+    for f in _flags(results, sport_only=sport_only):
+        groups.setdefault(FLAG_GROUPS.get(f.code, "Other"), []).append(flag_row(f))
     order = [*GROUP_ORDER, "Other"]
     return sorted(groups.items(), key=lambda kv: order.index(kv[0]) if kv[0] in order else len(order))
 
 
-def pattern_summary(results_json: Mapping[str, Any]) -> tuple[list[str], str, str]:
+def pattern_summary(results: TestResults) -> tuple[list[str], str, str]:
     """``(pattern sentences, caution, statement)``; empty strings without an interpretation."""
-    interp = results_json.get("interpretation")
-    patterns = interp.get("patterns") if isinstance(interp, Mapping) else None
-    if not isinstance(patterns, Mapping):
+    if results.interpretation is None:
         return [], "", ""
-    texts = [str(p.get("text")) for p in patterns.get("patterns") or [] if isinstance(p, Mapping) and p.get("text")]
-    return texts, str(patterns.get("caution") or ""), str(patterns.get("statement") or "")
+    patterns = results.interpretation.patterns
+    return [p.text for p in patterns.patterns if p.text], patterns.caution, patterns.statement
 
 
-def reference_set_name(results_json: Mapping[str, Any]) -> str:
+def reference_set_name(results: TestResults) -> str:
     """Name of the reference set the flags' % predicted came from (``""`` when none)."""
-    interp = results_json.get("interpretation")
-    predicted = interp.get("predicted") if isinstance(interp, Mapping) else None
-    return str(predicted.get("reference_name") or "") if isinstance(predicted, Mapping) else ""
+    return "" if results.interpretation is None else results.interpretation.predicted.reference_name

@@ -2,10 +2,15 @@
 
 from __future__ import annotations
 
+import functools
 import os
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 import pytest
+
+if TYPE_CHECKING:
+    from analysis.results import TestResults
 
 ROOT = Path(__file__).resolve().parents[1]
 ARTIFACTS = ROOT / "test-artifacts"
@@ -16,3 +21,16 @@ def skip_or_fail(reason: str, *, require_env: str) -> None:
     if os.environ.get(require_env):
         pytest.fail(f"{reason} (and {require_env} is set, so this must not be skipped)")
     pytest.skip(reason)
+
+
+#: The cycling demo session (a complete maximal test with both thresholds found).
+CYCLE_DEMO = ROOT / "demo_sessions" / "SEL-0107_2026-02-03_cycle-ramp.session.csv"
+
+
+@functools.cache
+def demo_result(path: Path = CYCLE_DEMO, *, with_oxygen: bool = False) -> TestResults:
+    """The typed result of a demo session under the default settings (computed once per run)."""
+    from analysis.io import read_session
+    from analysis.pipeline import analyze_session
+
+    return analyze_session(read_session(path.read_bytes(), file_name=path.name), with_oxygen=with_oxygen)

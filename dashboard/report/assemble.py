@@ -11,7 +11,7 @@ import logging
 from collections.abc import Sequence
 from typing import Any
 
-from analysis.records import to_json
+from analysis.results import TestResults
 from analysis.session import Session
 from dashboard.report.html_report import ReportContext, build_report_html
 
@@ -46,7 +46,7 @@ def threshold_setters(audit: Sequence[Any]) -> dict[str, str]:
     return out
 
 
-def report_figures(results: Any, session: Session) -> list[tuple[str, Any]]:
+def report_figures(results: TestResults, session: Session) -> list[tuple[str, Any]]:
     """The charts of the report: time course and V-slope (Dashboard-core's chart functions).
 
     Parameters
@@ -136,7 +136,7 @@ def report_file_name(summary: Any, *, show_name: bool = False, suffix: str = ".h
     return "".join(ch if ch.isalnum() or ch in "-_" else "_" for ch in stem) + suffix
 
 
-def appendix_sections(results: Any, session: Session) -> list[tuple[str, str]]:
+def appendix_sections(results: TestResults, session: Session) -> list[tuple[str, str]]:
     """Further appendix sections: the oxygen path when its report module is installed.
 
     The oxygen engineer's module (``dashboard.report.oxygen_appendix`` with
@@ -158,7 +158,7 @@ def appendix_sections(results: Any, session: Session) -> list[tuple[str, str]]:
 def build_test_report(
     store: Any,
     test_id: int,
-    results: Any,
+    results: TestResults,
     session: Session,
     *,
     version: int | None,
@@ -168,10 +168,9 @@ def build_test_report(
     from dashboard.report.report_charts import report_charts
 
     ctx = report_context(store, test_id, version=version, show_name=show_name)
-    data = to_json(results)  # a TestResults, or its JSON form (a mapping)
     try:
-        charts = report_charts(getattr(results, "averaged", None), data)
+        charts = report_charts(results)
     except Exception:
         log.exception("report charts could not be drawn for test %s", test_id)
         charts = []
-    return build_report_html(data, session, charts=charts, context=ctx, appendix=appendix_sections(results, session))
+    return build_report_html(results, session, charts=charts, context=ctx, appendix=appendix_sections(results, session))

@@ -6,8 +6,9 @@ static SVG drawn by our own writer (:mod:`dashboard.report.svg_chart`), the styl
 the lab's logo embedded as a ``data:`` URL. A typical report weighs well under 500 kB. The PDF
 download is the same HTML printed by the system Chromium (:mod:`dashboard.report.pdf`).
 
-Every number comes from the results JSON of :func:`analysis.pipeline.analyze_session`
-(``to_json(TestResults)``); this module only formats them.
+Every number is read from the typed result of :func:`analysis.pipeline.analyze_session`
+(:class:`analysis.results.TestResults`, attributes such as ``results.vt1.vo2_ml_min``); this
+module only formats them.
 """
 
 from __future__ import annotations
@@ -16,13 +17,15 @@ import datetime as _dt
 import html
 import math
 import re
-from collections.abc import Mapping, Sequence
+from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field
 from importlib import resources
 from typing import Any
 
-from analysis.records import to_json
+from analysis.indices.threshold_values import ThresholdResult
+from analysis.results import TestResults
 from analysis.session import Session
+from analysis.zones import Zone
 from dashboard.timefmt import clock_text
 
 #: The caution printed on every report (and on the coach view).
@@ -39,10 +42,10 @@ CAUTIONS: tuple[str, ...] = (
 
 @dataclass(frozen=True)
 class Headline:
-    """One headline result: label, where it sits in the results JSON, unit, decimals, method keys."""
+    """One headline result: label, how it is read from the result record, unit, decimals, method keys."""
 
     label: str
-    path: tuple[str, ...]
+    read: Callable[[TestResults], float | None]
     unit: str
     digits: int
     method_keys: tuple[str, ...] = ()
@@ -52,19 +55,19 @@ class Headline:
 PCT_PREDICTED_LABEL = "VO2peak, % predicted"
 
 HEADLINES: tuple[Headline, ...] = (
-    Headline("VO2peak", ("vo2_peak_ml_min",), "mL/min", 0, ("vo2_peak", "vo2_peak_ml_min", "peak")),
-    Headline("VO2peak per kg", ("vo2_peak_ml_kg_min",), "mL/kg/min", 1, ("vo2_peak", "vo2_peak_ml_kg_min", "peak")),
-    Headline(PCT_PREDICTED_LABEL, ("predicted", "pct_predicted_vo2max"), "%", 0, ("predicted_vo2max",)),
-    Headline("RER peak", ("rer_peak",), "", 2, ("rer_peak", "peak")),
-    Headline("Heart rate peak", ("hr_peak_bpm",), "beats/min", 0, ("hr_peak_bpm", "hr_peak", "peak")),
-    Headline("VE/VCO2 slope", ("ve_vco2_slope",), "", 1, ("ve_vco2_slope",)),
-    Headline("OUES", ("oues",), "mL/min per log10(L/min)", 0, ("oues",)),
-    Headline("Peak O2 pulse", ("o2_pulse_peak_ml_beat",), "mL/beat", 1, ("o2_pulse", "o2_pulse_peak_ml_beat")),
+    Headline("VO2peak", lambda r: r.vo2_peak_ml_min, "mL/min", 0, ("vo2_peak", "vo2_peak_ml_min", "peak")),
+    Headline("VO2peak per kg", lambda r: r.vo2_peak_ml_kg_min, "mL/kg/min", 1, ("vo2_peak", "vo2_peak_ml_kg_min", "peak")),
+    Headline(PCT_PREDICTED_LABEL, lambda r: r.predicted.pct_predicted_vo2max, "%", 0, ("predicted_vo2max",)),
+    Headline("RER peak", lambda r: r.rer_peak, "", 2, ("rer_peak", "peak")),
+    Headline("Heart rate peak", lambda r: r.hr_peak_bpm, "beats/min", 0, ("hr_peak_bpm", "hr_peak", "peak")),
+    Headline("VE/VCO2 slope", lambda r: r.ve_vco2_slope, "", 1, ("ve_vco2_slope",)),
+    Headline("OUES", lambda r: r.oues, "mL/min per log10(L/min)", 0, ("oues",)),
+    Headline("Peak O2 pulse", lambda r: r.o2_pulse_peak_ml_beat, "mL/beat", 1, ("o2_pulse", "o2_pulse_peak_ml_beat")),
 )
 
-#: Rows of the threshold table: label, key in the threshold object, unit, decimals.
+#: Rows of the threshold table: label, attribute of the threshold record, unit, decimals.
 THRESHOLD_ROWS: tuple[tuple[str, str, str, int], ...] = (
-    ("Time", "time_s", "s", 0),
+    ("Time", "t_s", "s", 0),
     ("VO2", "vo2_ml_min", "mL/min", 0),
     ("VO2 per kg", "vo2_ml_kg_min", "mL/kg/min", 1),
     ("% of VO2peak", "pct_vo2_peak", "%", 0),
@@ -114,14 +117,6 @@ class ReportContext:
 # --- small formatting helpers ----------------------------------------------------------------
 
 
-def _get(node: Any, path: Sequence[str]) -> Any:
-    for key in path:
-        if not isinstance(node, Mapping):
-            return None
-        node = node.get(key)
-    return node
-
-
 def _number(value: Any) -> float | None:
     if value is None or isinstance(value, bool):
         return None
@@ -144,23 +139,19 @@ def _e(text: Any) -> str:
     return html.escape("" if text is None else str(text), quote=True)
 
 
-def _method_text(results: Mapping[str, Any], keys: Sequence[str]) -> str:
-    methods = results.get("methods") or {}
-    if isinstance(methods, Mapping):
-        for key in keys:
-            value = methods.get(key)
-            if value:
-                return str(value) if not isinstance(value, Mapping) else "; ".join(f"{k}: {v}" for k, v in value.items())
+def _method_text(methods: Mapping[str, str], keys: Sequence[str]) -> str:
+    for key in keys:
+        value = methods.get(key)
+        if value:
+            return str(value)
     return ""
 
 
-def headline_rows(results: Mapping[str, Any]) -> list[dict[str, str]]:
+def headline_rows(results: TestResults) -> list[dict[str, str]]:
     """Headline results as display rows ``{"label", "value", "unit", "method"}`` (present ones only)."""
     rows = []
     for h in HEADLINES:
-        value = _get(results, h.path)
-        if value is None and h.path == ("o2_pulse_peak_ml_beat",):
-            value = _get(results, ("indices", "o2_pulse_peak_ml_beat"))
+        value = h.read(results)
         if _number(value) is None:
             continue
         rows.append(
@@ -168,7 +159,7 @@ def headline_rows(results: Mapping[str, Any]) -> list[dict[str, str]]:
                 "label": h.label,
                 "value": format_number(value, h.digits),
                 "unit": h.unit,
-                "method": _method_text(results, h.method_keys),
+                "method": _method_text(results.methods, h.method_keys),
             }
         )
     return rows
@@ -181,79 +172,50 @@ def column_title(label: str, unit: str) -> str:
     return f"{label} ({unit})"
 
 
-def threshold_source(threshold: Mapping[str, Any] | None) -> str:
+def threshold_source(threshold: ThresholdResult | None) -> str:
     """"manual" when the reviewer set the threshold, else "automatic" (or "" when absent)."""
-    if not threshold:
+    if threshold is None:
         return ""
-    source = str(threshold.get("source") or threshold.get("origin") or "").lower()
-    if source in {"manual", "override", "reviewer"} or threshold.get("manual") is True:
-        return "manual"
-    return "automatic"
+    return "manual" if threshold.source == "manual" else "automatic"
 
 
-def threshold_display(results: Mapping[str, Any]) -> list[dict[str, str]]:
-    """VT1/VT2 as display rows (values formatted from the results JSON; manual picks marked)."""
+def threshold_value(threshold: ThresholdResult, name: str) -> float | None:
+    """A number of the threshold record by attribute name (``"vo2_ml_min"``, ``"t_s"``, ...)."""
+    return _number(getattr(threshold, name))
+
+
+def threshold_display(results: TestResults) -> list[dict[str, str]]:
+    """VT1/VT2 as display rows (values formatted from the result record; manual picks marked)."""
     rows = []
     for kind, name in (("vt1", "VT1"), ("vt2", "VT2 / RCP")):
-        t = results.get(kind)
+        t: ThresholdResult | None = getattr(results, kind)
         row = {"Threshold": name}
-        if not isinstance(t, Mapping):
+        if t is None:
             row["Set"] = "not found"
             rows.append(row)
             continue
         for label, key, unit, digits in THRESHOLD_ROWS:
-            if _number(t.get(key)) is not None:
-                row[column_title(label, "m:ss" if key == "time_s" else unit)] = _value_text(key, t.get(key), digits)
-        row["Method"] = str(t.get("method") or "")
+            value = threshold_value(t, key)
+            if value is not None:
+                row[column_title(label, "m:ss" if key == "t_s" else unit)] = _value_text(key, value, digits)
+        row["Method"] = t.method
         row["Set"] = threshold_source(t)
         rows.append(row)
     return rows
 
 
-def _maximality(results: Mapping[str, Any]) -> tuple[str, list[str]]:
-    node = results.get("maximality")
-    verdict = ""
-    reasons: list[str] = []
-    if isinstance(node, Mapping):
-        verdict = str(node.get("label") or node.get("verdict") or "")
-        reasons = [str(r) for r in (node.get("reasons") or [])]
-    elif node:
-        verdict = str(node)
-    verdict = verdict or str(results.get("maximality_verdict") or "")
-    reasons = reasons or [str(r) for r in (results.get("maximality_reasons") or [])]
-    return verdict, reasons
-
-
-def _zones(results: Mapping[str, Any]) -> list[Mapping[str, Any]]:
-    node = results.get("zones")
-    if isinstance(node, Mapping):
-        node = node.get("zones") or node.get("rows") or []
-    return [z for z in (node or []) if isinstance(z, Mapping)]
-
-
-def _zone_note(results: Mapping[str, Any]) -> str:
-    node = results.get("zones")
-    if isinstance(node, Mapping):
-        return str(node.get("note") or "")
-    return ""
-
-
-_ZONE_RANGES: tuple[tuple[str, str, str, int], ...] = (
-    ("Heart rate", "hr", "beats/min", 0),
-    ("Work rate", "work", "W", 0),
-    ("Speed", "speed", "km/h", 1),
-    ("Grade", "grade", "%", 1),
-    ("VO2", "vo2", "mL/min", 0),
+#: Ranges of a training zone: label, attributes of the lower and upper bound, unit, decimals.
+_ZONE_RANGES: tuple[tuple[str, str, str, str, int], ...] = (
+    ("Heart rate", "hr_low_bpm", "hr_high_bpm", "beats/min", 0),
+    ("Work rate", "work_low_w", "work_high_w", "W", 0),
+    ("Speed", "speed_low_kmh", "speed_high_kmh", "km/h", 1),
+    ("Grade", "grade_low_pct", "grade_high_pct", "%", 1),
+    ("VO2", "vo2_low_ml_min", "vo2_high_ml_min", "mL/min", 0),
 )
 
 
-def _zone_range(zone: Mapping[str, Any], stem: str, digits: int) -> str | None:
-    lows = [k for k in zone if k.startswith(stem + "_low")]
-    highs = [k for k in zone if k.startswith(stem + "_high")]
-    if not lows and not highs:
-        return None
-    lo = _number(zone.get(lows[0])) if lows else None
-    hi = _number(zone.get(highs[0])) if highs else None
+def _zone_range(zone: Zone, low: str, high: str, digits: int) -> str | None:
+    lo, hi = _number(getattr(zone, low)), _number(getattr(zone, high))
     if lo is None and hi is None:
         return None
     if lo is None:
@@ -263,13 +225,13 @@ def _zone_range(zone: Mapping[str, Any], stem: str, digits: int) -> str | None:
     return f"{format_number(lo, digits)}–{format_number(hi, digits)}"
 
 
-def zone_rows(results: Mapping[str, Any]) -> list[dict[str, str]]:
+def zone_rows(results: TestResults) -> list[dict[str, str]]:
     """Zones as display rows: name plus each range the zone has (HR, work, speed, VO2)."""
     rows = []
-    for i, zone in enumerate(_zones(results), start=1):
-        row = {"Zone": str(zone.get("name") or zone.get("label") or f"Zone {i}")}
-        for label, stem, unit, digits in _ZONE_RANGES:
-            text = _zone_range(zone, stem, digits)
+    for i, zone in enumerate(results.zones.zones, start=1):
+        row = {"Zone": zone.name or f"Zone {i}"}
+        for label, low, high, unit, digits in _ZONE_RANGES:
+            text = _zone_range(zone, low, high, digits)
             if text is not None:
                 row[column_title(label, unit)] = text
         rows.append(row)
@@ -296,47 +258,46 @@ def _table(header: Sequence[str], rows: Sequence[Sequence[str]], *, numeric: Seq
 
 def _value_text(key: str, value: Any, digits: int) -> str:
     """A threshold or headline value as printed: times as m:ss, numbers with their decimals."""
-    if key == "time_s":
+    if key == "t_s":
         return clock_text(value) if _number(value) is not None else "–"
     return format_number(value, digits)
 
 
-def _threshold_table(results: Mapping[str, Any], ctx: ReportContext) -> str:
-    names = [("vt1", "VT1"), ("vt2", "VT2 / RCP")]
-    header = ["", *[label for _, label in names]]
+def _threshold_table(results: TestResults, ctx: ReportContext) -> str:
+    picks: list[tuple[str, ThresholdResult | None]] = [("vt1", results.vt1), ("vt2", results.vt2)]
+    header = ["", "VT1", "VT2 / RCP"]
     rows: list[list[str]] = []
     for label, key, unit, digits in THRESHOLD_ROWS:
-        values = [_value_text(key, _get(results, (k, key)), digits) for k, _ in names]
+        values = [_value_text(key, None if t is None else threshold_value(t, key), digits) for _, t in picks]
         if all(v == "–" for v in values):
             continue
-        rows.append([column_title(label, "m:ss" if key == "time_s" else unit), *values])
+        rows.append([column_title(label, "m:ss" if key == "t_s" else unit), *values])
     method_row = ["Method"]
     set_row = ["Set by"]
-    for k, _ in names:
-        t = results.get(k)
-        if not isinstance(t, Mapping):
+    for k, t in picks:
+        if t is None:
             method_row.append("not found")
             set_row.append("–")
             continue
-        method_row.append(str(t.get("method") or ""))
+        method_row.append(t.method)
         src = threshold_source(t)
         if src == "manual":
-            who = ctx.threshold_setters.get(k) or str(t.get("note") or t.get("reason") or "reviewer")
+            who = ctx.threshold_setters.get(k) or t.note or t.reason or "reviewer"
             set_row.append(f"MANUAL — {who}")
         else:
-            conf = t.get("confidence")
-            conf_text = f" (confidence {conf})" if conf not in (None, "") else ""
+            conf = t.confidence
+            conf_text = f" (confidence {conf})" if conf else ""
             set_row.append(f"automatic{conf_text}")
     rows.extend([method_row, set_row])
     return _table(header, rows, numeric=(1, 2))
 
 
-def _flags_line(results: Mapping[str, Any]) -> str:
+def _flags_line(results: TestResults) -> str:
     """Page 1's compact flags block: each flag with its value and limit on one line, then the
     patterns they are consistent with; sources and the full findings are in the appendix."""
     from dashboard.flag_rows import flag_groups, pattern_summary
 
-    if not isinstance(results.get("interpretation"), Mapping):
+    if results.interpretation is None:
         return ""
     rows = [r for _group, rs in flag_groups(results) for r in rs]
     texts, _caution, _statement = pattern_summary(results)
@@ -350,12 +311,12 @@ def _flags_line(results: Mapping[str, Any]) -> str:
     return out + "</p>"
 
 
-def _flags_appendix(results: Mapping[str, Any]) -> str:
+def _flags_appendix(results: TestResults) -> str:
     """The appendix's flags table (group, flag, finding, limit, source) with the pattern summary,
     the caution and the statements it follows."""
     from dashboard.flag_rows import flag_groups, pattern_summary, reference_set_name
 
-    if not isinstance(results.get("interpretation"), Mapping):
+    if results.interpretation is None:
         return ""
     groups = flag_groups(results)
     texts, caution, statement = pattern_summary(results)
@@ -431,47 +392,33 @@ SHOWN_METHODS: tuple[str, ...] = (
 )
 
 
-def _methods_list(results: Mapping[str, Any], *, shown: Sequence[str] = SHOWN_METHODS) -> list[str]:
-    """``"<name>: <method>"`` for each result the report shows, each method text once."""
-    methods = results.get("methods") or {}
+def _methods_list(methods: Mapping[str, str], *, shown: Sequence[str] = SHOWN_METHODS) -> list[str]:
+    """``"<name>: <method>"`` for each result the report shows (``results.methods``), each method text once."""
     items: list[str] = []
     seen: set[str] = set()
-    if isinstance(methods, Mapping):
-        for key in shown:
-            value = methods.get(key)
-            if not value:
-                continue
-            text = "; ".join(f"{k}: {v}" for k, v in value.items()) if isinstance(value, Mapping) else str(value)
-            text = method_text(text)
-            if text in seen:
-                continue
-            seen.add(text)
-            items.append(f"{method_name(str(key))}: {text}")
-    averaging = results.get("averaging")
-    if averaging and not (isinstance(methods, Mapping) and methods.get("averaging")):
-        text = (
-            averaging.get("label") or ", ".join(f"{k} {v}" for k, v in averaging.items())
-            if isinstance(averaging, Mapping)
-            else str(averaging)
-        )
-        items.append(f"Averaging: {text}")
+    for key in shown:
+        value = methods.get(key)
+        if not value:
+            continue
+        text = method_text(str(value))
+        if text in seen:
+            continue
+        seen.add(text)
+        items.append(f"{method_name(str(key))}: {text}")
     return items
 
 
-def _predicted_text(results: Mapping[str, Any]) -> str:
+def _predicted_text(results: TestResults) -> str:
     """``"140 % of 48.0 mL/kg/min (FRIEND)"`` for VO2peak, or ``""`` when there is no prediction."""
-    pred = results.get("predicted")
-    if not isinstance(pred, Mapping):
-        return ""
-    pct = _number(pred.get("pct_predicted_vo2max"))
-    ref = _number(pred.get("vo2max_friend_ml_kg_min"))
+    pct = _number(results.predicted.pct_predicted_vo2max)
+    ref = _number(results.predicted.vo2max_friend_ml_kg_min)
     if pct is None:
         return ""
     ref_text = f" of {format_number(ref, 1)}" if ref is not None else ""
     return f"{pct:.0f} %{ref_text} (FRIEND)"
 
 
-def _headline_table(data: Mapping[str, Any]) -> str:
+def _headline_table(data: TestResults) -> str:
     rows = [r for r in headline_rows(data) if r["label"] != PCT_PREDICTED_LABEL]  # its own column here
     pred = _predicted_text(data)
     body = []
@@ -512,7 +459,7 @@ def _signature(ctx: ReportContext, version: str) -> str:
 
 
 def build_report_html(
-    results: Any,
+    results: TestResults,
     session: Session | None = None,
     *,
     charts: Sequence[tuple[str, str]] = (),
@@ -528,8 +475,8 @@ def build_report_html(
 
     Parameters
     ----------
-    results : TestResults or mapping
-        The analysis results (``TestResults`` or its JSON form, ``to_json(results)``).
+    results : TestResults
+        The analysis result (a stored version is read back with ``analysis.results.results_from_json``).
     session : Session, optional
         The test's session (date, protocol, body mass, ... from its metadata).
     charts : sequence of (title, svg)
@@ -544,7 +491,7 @@ def build_report_html(
     str
         A complete HTML document with no script and no external source.
     """
-    data: Mapping[str, Any] = to_json(results)  # a TestResults, or its JSON form (a mapping)
+    data = results
     ctx = context or ReportContext()
     meta = session.meta if session is not None else {}
     generated = ctx.generated_at or _dt.datetime.now(_dt.UTC).strftime("%Y-%m-%d %H:%M UTC")
@@ -575,7 +522,7 @@ def build_report_html(
         '<section class="col"><h2>Headline results</h2>',
         _headline_table(data),
     ]
-    verdict, reasons = _maximality(data)
+    verdict, reasons = data.maximality.label, data.maximality.reasons
     if verdict:
         parts.append(f'<p class="verdict">Maximality: {_e(verdict)}</p>')
         if reasons:
@@ -604,17 +551,14 @@ def build_report_html(
 
     # --- page 2: the appendix ---------------------------------------------------------------
     parts.append('<div class="page appendix"><h2>Appendix: methods and notes</h2>')
-    methods = _methods_list(data)
+    methods = _methods_list(data.methods)
     parts.append('<ul class="methods">' + "".join(f"<li>{_e(m)}</li>" for m in methods))
-    excluded = data.get("excluded_breaths")
-    if isinstance(excluded, list):
-        parts.append(f"<li>Breaths left out of the analysis: {len(excluded)}</li>")
+    parts.append(f"<li>Breaths left out of the analysis: {len(data.excluded_breaths)}</li>")
     parts.append("</ul>")
     parts.append(_flags_appendix(data))
-    zone_note = _zone_note(data)
-    if zone_note:
-        parts.append(f'<p class="sub">Training zones: {_e(zone_note)}</p>')
-    warnings = [str(w) for w in (data.get("warnings") or [])]
+    if data.zones.note:
+        parts.append(f'<p class="sub">Training zones: {_e(data.zones.note)}</p>')
+    warnings = list(data.warnings)
     if warnings:
         parts.append('<h2>Data-quality notes</h2><ul class="warnings">' + "".join(f"<li>{_e(w)}</li>" for w in warnings) + "</ul>")
     for title, body in appendix:

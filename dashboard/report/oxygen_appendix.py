@@ -12,11 +12,14 @@ from __future__ import annotations
 
 import html
 from collections.abc import Mapping, Sequence
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
 from dashboard import palette
+
+if TYPE_CHECKING:
+    from analysis.results import TestResults
 
 #: Words above the appendix.
 APPENDIX_CAUTION = (
@@ -259,13 +262,13 @@ def _pathway_json(oxygen: Mapping[str, Any]) -> tuple[dict[str, Any] | None, tup
     return (None if record is None else to_json(record)), notes
 
 
-def appendix_html(results: Any, session: Any = None) -> str | None:
+def appendix_html(results: TestResults, session: Any = None) -> str | None:
     """The oxygen appendix body for the report (``dashboard.report.assemble.appendix_sections``).
 
     Parameters
     ----------
-    results : TestResults or mapping
-        The typed result (its ``oxygen`` and ``oxygen_cascade`` parts) or its JSON form.
+    results : TestResults
+        The typed result (its ``oxygen`` and ``oxygen_cascade`` parts).
     session : Session, optional
         Not needed (kept for the report's calling convention).
 
@@ -277,11 +280,8 @@ def appendix_html(results: Any, session: Any = None) -> str | None:
     """
     from analysis.records import to_json
 
-    if isinstance(results, Mapping):
-        oxygen, cascade = results.get("oxygen"), results.get("oxygen_cascade")
-    else:
-        oxygen = None if getattr(results, "oxygen", None) is None else to_json(results.oxygen)
-        cascade = None if getattr(results, "oxygen_cascade", None) is None else to_json(results.oxygen_cascade)
+    oxygen = None if results.oxygen is None else to_json(results.oxygen)
+    cascade = None if results.oxygen_cascade is None else to_json(results.oxygen_cascade)
     body = oxygen_appendix_html(oxygen, pathway=cascade, heading=False)
     return body or None
 

@@ -10,12 +10,11 @@ plotting ratios of columns (VE/VO2 = VE ÷ VO2, the definition).
 
 from __future__ import annotations
 
-from collections.abc import Mapping
-from typing import Any
-
 import numpy as np
 import pandas as pd
 
+from analysis.indices.threshold_values import ThresholdResult
+from analysis.results import TestResults
 from dashboard import palette
 from dashboard.report.svg_chart import Chart, Series, VLine, thin
 from dashboard.timefmt import clock_text, clock_ticks
@@ -32,20 +31,18 @@ def _col(frame: pd.DataFrame, name: str) -> np.ndarray | None:
     return values if np.isfinite(values).any() else None
 
 
-def _threshold_lines(results: Mapping[str, Any], *, axis: str) -> list[VLine]:
+def _threshold_lines(results: TestResults, *, axis: str) -> list[VLine]:
     """VT1/VT2 as vertical lines at their time (``axis="t"``) or VO2 (``axis="vo2"``)."""
     out = []
-    for kind, label in (("vt1", "VT1"), ("vt2", "VT2")):
-        t = results.get(kind)
-        if not isinstance(t, Mapping):
+    picks: tuple[tuple[str, str, ThresholdResult | None], ...] = (("vt1", "VT1", results.vt1), ("vt2", "VT2", results.vt2))
+    for kind, label, t in picks:
+        if t is None:
             continue
-        key = "time_s" if axis == "t" else "vo2_ml_min"
-        value = t.get(key)
-        if not isinstance(value, (int, float)) or not np.isfinite(value):
+        value = t.t_s if axis == "t" else t.vo2_ml_min
+        if not np.isfinite(value):
             continue
-        band_key = "ci90_t_s" if axis == "t" else "ci90_vo2_ml_min"
-        band = t.get(band_key)
-        band_t = (float(band[0]), float(band[1])) if isinstance(band, (list, tuple)) and len(band) == 2 else None
+        band = t.ci90_t_s if axis == "t" else t.ci90_vo2_ml_min
+        band_t = (float(band[0]), float(band[1])) if band is not None else None
         style = palette.THRESHOLD[kind]
         out.append(VLine(float(value), label, style["color"], dash="4 2" if kind == "vt1" else "1.5 1.5", band=band_t))
     return out
@@ -56,7 +53,7 @@ def _time_axis(t: np.ndarray) -> tuple[tuple[float, float], tuple[list[float], l
     return (lo, hi), clock_ticks(lo, hi)
 
 
-def gas_exchange_chart(avg: pd.DataFrame, results: Mapping[str, Any]) -> Chart | None:
+def gas_exchange_chart(avg: pd.DataFrame, results: TestResults) -> Chart | None:
     t = _col(avg, "t_s")
     vo2, vco2 = _col(avg, "vo2_ml_min"), _col(avg, "vco2_ml_min")
     if t is None or vo2 is None:
@@ -74,7 +71,7 @@ def gas_exchange_chart(avg: pd.DataFrame, results: Mapping[str, Any]) -> Chart |
     return chart
 
 
-def vslope_chart(avg: pd.DataFrame, results: Mapping[str, Any]) -> Chart | None:
+def vslope_chart(avg: pd.DataFrame, results: TestResults) -> Chart | None:
     vo2, vco2 = _col(avg, "vo2_ml_min"), _col(avg, "vco2_ml_min")
     if vo2 is None or vco2 is None:
         return None
@@ -89,15 +86,15 @@ def vslope_chart(avg: pd.DataFrame, results: Mapping[str, Any]) -> Chart | None:
     chart = Chart(CHART_W, CHART_H, "V-slope: VCO2 against VO2", "VO2 (mL/min)", "VCO2 (mL/min)",
                   x_range=rng, y_range=rng, square=True)
     chart.add(Series(vo2, vco2, "averaged points", palette.SIGNAL["vco2_ml_min"], kind="dots"))
-    fit = (results.get("thresholds") or {}).get("vslope") if isinstance(results.get("thresholds"), Mapping) else None
-    if isinstance(fit, Mapping) and fit.get("valid"):
-        b = float(fit["vo2_break_ml_min"])
-        x_lo = float(fit.get("vo2_min_ml_min") or rng[0])
-        x_hi = float(fit.get("vo2_max_ml_min") or rng[1])
+    fit = results.thresholds.vslope
+    if fit is not None and fit.valid:
+        b = float(fit.vo2_break_ml_min)
+        x_lo = float(fit.vo2_min_ml_min) if np.isfinite(fit.vo2_min_ml_min) and fit.vo2_min_ml_min else rng[0]
+        x_hi = float(fit.vo2_max_ml_min) if np.isfinite(fit.vo2_max_ml_min) and fit.vo2_max_ml_min else rng[1]
         below = np.array([x_lo, b])
         above = np.array([b, x_hi])
-        chart.add(Series(below, fit["slope_below"] * below + fit["intercept_below"], "fit below", palette.BLACK, width=1.1))
-        chart.add(Series(above, fit["slope_above"] * above + fit["intercept_above"], "fit above", palette.BLACK,
+        chart.add(Series(below, fit.slope_below * below + fit.intercept_below, "fit below", palette.BLACK, width=1.1))
+        chart.add(Series(above, fit.slope_above * above + fit.intercept_above, "fit above", palette.BLACK,
                          dash="3 2", width=1.1))
     # slope-1 reference through the lower end (Beaver 1986: the lower segment runs close to slope 1)
     chart.refs.append((rng[0], rng[0], rng[1], rng[1], "slope 1", palette.GREY))
@@ -105,7 +102,7 @@ def vslope_chart(avg: pd.DataFrame, results: Mapping[str, Any]) -> Chart | None:
     return chart
 
 
-def equivalents_chart(avg: pd.DataFrame, results: Mapping[str, Any]) -> Chart | None:
+def equivalents_chart(avg: pd.DataFrame, results: TestResults) -> Chart | None:
     # the ventilatory equivalents are series of the analysis (analysis.breaths.derived)
     t, ve_vo2, ve_vco2 = _col(avg, "t_s"), _col(avg, "ve_vo2"), _col(avg, "ve_vco2")
     if t is None or ve_vo2 is None or ve_vco2 is None:
@@ -126,7 +123,7 @@ def equivalents_chart(avg: pd.DataFrame, results: Mapping[str, Any]) -> Chart | 
     return chart
 
 
-def heart_rate_chart(avg: pd.DataFrame, results: Mapping[str, Any]) -> Chart | None:
+def heart_rate_chart(avg: pd.DataFrame, results: TestResults) -> Chart | None:
     t, hr = _col(avg, "t_s"), _col(avg, "hr_bpm")
     if t is None or hr is None:
         return None
@@ -141,9 +138,10 @@ def heart_rate_chart(avg: pd.DataFrame, results: Mapping[str, Any]) -> Chart | N
     return chart
 
 
-def report_charts(avg: pd.DataFrame | None, results: Mapping[str, Any]) -> list[tuple[str, str]]:
-    """``(title, svg)`` of every chart this test's data allow, in grid order."""
-    if avg is None or not len(avg):
+def report_charts(results: TestResults) -> list[tuple[str, str]]:
+    """``(title, svg)`` of every chart this test's data allow, in grid order (from ``results.averaged``)."""
+    avg = results.averaged
+    if not len(avg):
         return []
     out = []
     for make in (gas_exchange_chart, vslope_chart, equivalents_chart, heart_rate_chart):

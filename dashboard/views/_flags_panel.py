@@ -6,10 +6,10 @@ Every data-derived piece of text passes through :func:`dashboard.lab.markdown_te
 from __future__ import annotations
 
 from collections.abc import Mapping
-from typing import Any
 
 import streamlit as st
 
+from analysis.results import TestResults
 from dashboard.flag_rows import flag_groups, pattern_summary, reference_set_name
 from dashboard.lab import markdown_text
 
@@ -30,21 +30,21 @@ def flag_line(row: Mapping[str, str]) -> str:
     )
 
 
-def render_flags(results_json: Mapping[str, Any], *, sport_only: bool = False) -> None:
+def render_flags(results: TestResults, *, sport_only: bool = False) -> None:
     """Flags grouped with their limit and source, then (Review) the patterns with their caution."""
     st.subheader(COACH_TITLE if sport_only else REVIEW_TITLE)
-    groups = flag_groups(results_json, sport_only=sport_only)
+    groups = flag_groups(results, sport_only=sport_only)
     if not groups:
         st.caption("No finding that bears on training." if sport_only else "No value crossed the limits checked.")
     for group, rows in groups:
         st.markdown(f"**{markdown_text(group)}**\n\n" + "\n".join(flag_line(r) for r in rows))
-    ref = reference_set_name(results_json)
+    ref = reference_set_name(results)
     if ref and groups:
         st.caption(f"% predicted from {markdown_text(ref)}.")
     if sport_only:
         st.caption(COACH_NOTE)
         return
-    texts, caution, statement = pattern_summary(results_json)
+    texts, caution, statement = pattern_summary(results)
     if texts:
         st.markdown("\n".join(f"- {markdown_text(t)}" for t in texts))
     if caution:

@@ -18,6 +18,7 @@ from typing import Any
 import pandas as pd
 import streamlit as st
 
+from analysis.results import TestResults
 from dashboard import data, lab, state
 from dashboard.report import CAUTIONS, headline_rows, zone_rows
 from dashboard.report.assemble import build_test_report, report_figures, report_file_name
@@ -151,20 +152,19 @@ def render_scope(store: Any, scope: Any) -> None:
 
     settings, version = stored_settings(store, test_id)
     results = data.analyze(test_id, state.settings_key(settings))
-    results_json = data.results_json(test_id, state.settings_key(settings))
 
     if _allowed(scope, "headline"):
-        rows = headline_rows(results_json)
+        rows = headline_rows(results)
         cols = st.columns(min(3, max(1, len(rows))))  # three across: labels with units fit on a tablet
         for i, row in enumerate(rows):
             cols[i % len(cols)].metric(
                 f"{row['label']} ({row['unit']})" if row["unit"] else row["label"], row["value"], help=row["method"] or None
             )
         st.markdown("**Ventilatory thresholds (estimates)**")
-        st.dataframe(threshold_frame(results_json), hide_index=True, width="stretch")
-        render_flags(results_json, sport_only=True)
+        st.dataframe(threshold_frame(results), hide_index=True, width="stretch")
+        render_flags(results, sport_only=True)
     if _allowed(scope, "zones"):
-        zones = zone_rows(results_json)
+        zones = zone_rows(results)
         st.markdown("**Training zones**")
         if zones:
             st.dataframe(pd.DataFrame(zones), hide_index=True, width="stretch")
@@ -235,9 +235,9 @@ def stored_settings(store: Any, test_id: int) -> tuple[dict[str, Any], int | Non
     return dict(settings or data.default_settings_dict()), version
 
 
-def threshold_frame(results_json: dict[str, Any]) -> pd.DataFrame:
+def threshold_frame(results: TestResults) -> pd.DataFrame:
     """VT1 and VT2 as columns, quantities as rows (reads on a tablet without sideways scrolling;
     values from :func:`dashboard.report.html_report.threshold_display`)."""
-    frame = pd.DataFrame(threshold_display(results_json)).fillna("–").set_index("Threshold").T
+    frame = pd.DataFrame(threshold_display(results)).fillna("–").set_index("Threshold").T
     frame.index.name = ""
     return frame.reset_index()

@@ -55,12 +55,11 @@ def render() -> None:
     saved = working.saved if working is not None else True
     key = settings_json(settings)
     results = data.analyze(test_id, key)
-    results_json = data.results_json(test_id, key)
     session = data.load_session(test_id)
     record = store.get_test(test_id)
 
     st.info(review_state_text(record, version, saved=saved))
-    rows = headline_rows(results_json)
+    rows = headline_rows(results)
     if rows:
         cols = st.columns(min(3, len(rows)))  # three across: labels with their units are not cut off
         for i, row in enumerate(rows):
@@ -68,7 +67,7 @@ def render() -> None:
             cols[i % len(cols)].metric(label, row["value"], help=row["method"] or None)
 
     st.markdown("**Ventilatory thresholds in this report (estimates)**")
-    st.dataframe(pd.DataFrame(threshold_display(results_json)).fillna("–"), hide_index=True, width="stretch")
+    st.dataframe(pd.DataFrame(threshold_display(results)).fillna("–"), hide_index=True, width="stretch")
 
     show_name = st.checkbox("Show the display name in the report (otherwise the pseudonymous code)", value=False, key="reports_show_name")
     report_version = version if saved else None

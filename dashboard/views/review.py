@@ -21,6 +21,8 @@ import streamlit as st
 from analysis.breaths import METHODS as AVERAGING_METHODS
 from analysis.breaths import AveragingSpec
 from analysis.errors import TidemarkError
+from analysis.indices.threshold_values import ThresholdResult
+from analysis.results import TestResults
 from analysis.settings import AnalysisSettings, ThresholdOverride
 from analysis.thresholds import pick_from_chart_point
 from dashboard import data, state
@@ -287,44 +289,44 @@ def _fmt(value: Any, digits: int = 0, unit: str = "") -> str:
     return f"{text} {unit}".strip()
 
 
-def threshold_rows(results_json: Mapping[str, Any]) -> list[dict[str, str]]:
-    """VT1/VT2 display rows from the results JSON (formatting only)."""
+def threshold_rows(results: TestResults) -> list[dict[str, str]]:
+    """VT1/VT2 display rows from the result record (formatting only)."""
     rows = []
     for kind in ("vt1", "vt2"):
-        t = results_json.get(kind)
-        if not t:
+        t: ThresholdResult | None = getattr(results, kind)
+        if t is None:
             rows.append({"Threshold": THRESHOLD_NAMES[kind], "Time": "not found", "VO2": "", "VO2/kg": "",
                          "% VO2peak": "", "Heart rate": "", "Load": "", "Set by": "", "Method": ""})
             continue
-        load = _fmt(t.get("work_w"), 0, "W") if t.get("work_w") is not None else _fmt(t.get("speed_kmh"), 1, "km/h")
-        manual = t.get("source") == "manual"
+        load = _fmt(t.work_w, 0, "W") if t.work_w is not None else _fmt(t.speed_kmh, 1, "km/h")
+        manual = t.source == "manual"
         rows.append(
             {
                 "Threshold": THRESHOLD_NAMES[kind] + (" ✎ manual" if manual else ""),
-                "Time": _fmt(t.get("time_s"), 0, "s"),
-                "VO2": _fmt(t.get("vo2_ml_min"), 0, "mL/min"),
-                "VO2/kg": _fmt(t.get("vo2_ml_kg_min"), 1, "mL/kg/min"),
-                "% VO2peak": _fmt(t.get("pct_vo2_peak"), 0, "%"),
-                "Heart rate": _fmt(t.get("hr_bpm"), 0, "beats/min"),
+                "Time": _fmt(t.t_s, 0, "s"),
+                "VO2": _fmt(t.vo2_ml_min, 0, "mL/min"),
+                "VO2/kg": _fmt(t.vo2_ml_kg_min, 1, "mL/kg/min"),
+                "% VO2peak": _fmt(t.pct_vo2_peak, 0, "%"),
+                "Heart rate": _fmt(t.hr_bpm, 0, "beats/min"),
                 "Load": load,
-                "Set by": "reviewer (manual)" if manual else f"automatic, {t.get('confidence', '')} confidence",
-                "Method": str(t.get("method") or ""),
+                "Set by": "reviewer (manual)" if manual else f"automatic, {t.confidence} confidence",
+                "Method": t.method,
             }
         )
     return rows
 
 
-def threshold_lines(results_json: Mapping[str, Any]) -> list[str]:
+def threshold_lines(results: TestResults) -> list[str]:
     """One sentence per threshold, e.g. ``VT1: 2,741 mL/min at 715 s — automatic (consensus)``."""
     lines = []
     for kind in ("vt1", "vt2"):
-        t = results_json.get(kind)
+        t: ThresholdResult | None = getattr(results, kind)
         name = THRESHOLD_NAMES[kind]
-        if not t:
+        if t is None:
             lines.append(f"**{name}:** not found")
             continue
-        how = "✎ manual (set by a reviewer)" if t.get("source") == "manual" else f"automatic ({t.get('method', '')})"
-        lines.append(f"**{name}:** {_fmt(t.get('vo2_ml_min'), 0, 'mL/min')} at {_fmt(t.get('time_s'), 0, 's')} — {how}")
+        how = "✎ manual (set by a reviewer)" if t.source == "manual" else f"automatic ({t.method})"
+        lines.append(f"**{name}:** {_fmt(t.vo2_ml_min, 0, 'mL/min')} at {_fmt(t.t_s, 0, 's')} — {how}")
     return lines
 
 
@@ -399,11 +401,11 @@ def _header(store: Any, test_id: int, working: state.WorkingSettings) -> Any:
     return record
 
 
-def _headline(results_json: Mapping[str, Any]) -> None:
+def _headline(results: TestResults) -> None:
     from dashboard.report.html_report import headline_rows
 
     st.subheader("Headline results")
-    rows = headline_rows(results_json)
+    rows = headline_rows(results)
     cols = st.columns(min(3, max(1, len(rows))))  # three across stays readable on a tablet
     for i, row in enumerate(rows):
         with cols[i % len(cols)]:
@@ -411,12 +413,10 @@ def _headline(results_json: Mapping[str, Any]) -> None:
             st.metric(label, shown)
             if row["method"]:
                 st.caption(row["method"])
-    m = results_json.get("maximality") or {}
-    verdict = (m.get("label") or m.get("verdict")) if isinstance(m, Mapping) else None
+    verdict = results.maximality.label
     if verdict:
-        reasons = m.get("reasons") or []
         st.markdown(f"**Maximality:** {verdict}")
-        for r in reasons:
+        for r in results.maximality.reasons:
             st.markdown(f"- {r}")
 
 
@@ -673,17 +673,15 @@ def _on_restore(store: Any, test_id: int) -> None:
                  reason="breaths restored" if len(chosen) > len(restored) else "breath exclusion re-applied")
 
 
-def _zones(results_json: Mapping[str, Any]) -> None:
+def _zones(results: TestResults) -> None:
     from dashboard.report.html_report import zone_rows
 
     st.subheader("Training zones")
-    rows = zone_rows(results_json)
+    rows = zone_rows(results)
     if rows:
         st.dataframe(pd.DataFrame(rows), hide_index=True)
-    zones = results_json.get("zones") or {}
-    note = zones.get("note") if isinstance(zones, Mapping) else None
-    if note:
-        st.caption(markdown_text(note))
+    if results.zones.note:
+        st.caption(markdown_text(results.zones.note))
     if not rows:
         st.caption("No zones: they need at least VT1.")
 
@@ -812,25 +810,24 @@ def render() -> None:
     elif pending or st.session_state.get(SAVE_QUEUE):
         _save_status(test_id)
     results = data.analyze(test_id, working.key)
-    results_json = data.results_json(test_id, working.key)
     session = data.load_session(test_id)
-    warnings = [str(w) for w in results_json.get("warnings") or []]
-    _overview(store, test_id, results, session, threshold_lines(results_json), n_notes=len(warnings))
+    warnings = list(results.warnings)
+    _overview(store, test_id, results, session, threshold_lines(results), n_notes=len(warnings))
     st.caption(
         "Estimates for review by qualified staff; not a medical device. Thresholds and zones are "
         "estimates and should be checked on the charts."
     )
     for w in warnings:
         st.warning(markdown_text(w))
-    _headline(results_json)
-    render_flags(results_json)
+    _headline(results)
+    render_flags(results)
     details_panel(store, test_id)
     st.subheader("Thresholds")
-    st.dataframe(pd.DataFrame(threshold_rows(results_json)), hide_index=True)
+    st.dataframe(pd.DataFrame(threshold_rows(results)), hide_index=True)
     _averaging_selector(store, test_id, working)
     st.caption(f"Averaging in use: {results.settings.averaging.label}")
     _threshold_controls(store, test_id, working, results)
-    _zones(results_json)
+    _zones(results)
     _exclusions(store, test_id, working, results)
     _history_and_sign_off(store, test_id, working, record)
     flush_saves(store)

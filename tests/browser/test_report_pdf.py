@@ -11,7 +11,6 @@ import pytest
 
 from analysis.io import read_session
 from analysis.pipeline import analyze_session
-from analysis.records import to_json
 from analysis.settings import AnalysisSettings
 from analysis.simulation.simulate import LAB_NAME
 from dashboard.report.html_report import ReportContext, build_report_html
@@ -42,11 +41,10 @@ def test_every_demo_report_prints_on_one_page_plus_the_appendix(name, paper):
         skip_or_fail("system Chromium not found (set TIDEMARK_CHROMIUM)", require_env=REQUIRE_ENV)
     session = read_session((ROOT / "demo_sessions" / name).read_bytes(), file_name=name)
     results = analyze_session(session, AnalysisSettings())
-    data = to_json(results)
     ctx = ReportContext(person_label="HSL-01", lab_name="Harbour Sports Lab", lab_address="2 Quay Road, Porthaven",
                         version=2, report_footer="Accredited lab no. 12", signed_off_by="rhea",
                         signed_off_at="2026-12-03 14:00")
-    html = build_report_html(data, session, charts=report_charts(results.averaged, data), context=ctx)
+    html = build_report_html(results, session, charts=report_charts(results), context=ctx)
     assert len(html.encode("utf-8")) < 500_000
     pdf = html_to_pdf(html, paper=paper)
     assert pdf.startswith(b"%PDF") and len(pdf) < 500_000

@@ -57,15 +57,15 @@ def test_report_charts_mark_the_record_values(analysed):
     _, r, data = analysed
     found = [t for t in (r.vt1, r.vt2) if t is not None]
     for make, attr in ((gas_exchange_chart, "t_s"), (equivalents_chart, "t_s"), (vslope_chart, "vo2_ml_min")):
-        chart = make(r.averaged, data)
+        chart = make(r.averaged, r)
         assert chart is not None
         assert {round(v.x, 6) for v in chart.vlines} == {round(getattr(t, attr), 6) for t in found}
 
 
 def test_tables_headline_and_report_show_the_record_values(analysed):
     session, r, data = analysed
-    review = {row["Threshold"].split(" ")[0]: row for row in threshold_rows(data)}
-    shown = {row["Threshold"].split(" ")[0]: row for row in threshold_display(data)}
+    review = {row["Threshold"].split(" ")[0]: row for row in threshold_rows(r)}
+    shown = {row["Threshold"].split(" ")[0]: row for row in threshold_display(r)}
     html = build_report_html(r, session)
     for kind, name in (("vt1", "VT1"), ("vt2", "VT2")):
         t = getattr(r, kind)
@@ -84,11 +84,11 @@ def test_tables_headline_and_report_show_the_record_values(analysed):
             assert zones[0].hr_high_bpm == t.hr_bpm
         if r.oxygen is not None:
             assert r.oxygen.state(kind).vo2_ml_min == t.vo2_ml_min
-        assert summary_row(data, file="x")[f"{kind}_vo2_ml_min"] == t.vo2_ml_min
+        assert summary_row(r, file="x")[f"{kind}_vo2_ml_min"] == t.vo2_ml_min
     if r.vt1 is not None:
         assert AnalysisBridge().headline(data).vt1_vo2_ml_min == r.vt1.vo2_ml_min
         assert metric_value(data, "vt1_vo2_ml_min") == r.vt1.vo2_ml_min
     # headline VO2peak in the report and the Library column
-    heads = {row["label"]: row["value"] for row in headline_rows(data)}
+    heads = {row["label"]: row["value"] for row in headline_rows(r)}
     assert heads["VO2peak"] == format_number(r.vo2_peak_ml_min, 0)
     assert AnalysisBridge().headline(data).vo2peak_ml_min == r.vo2_peak_ml_min

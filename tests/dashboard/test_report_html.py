@@ -2,13 +2,16 @@
 
 from __future__ import annotations
 
+import dataclasses
 import re
 from html.parser import HTMLParser
 
 import pytest
 
+from analysis.zones import Zone, ZoneSet
 from dashboard.report import CAUTIONS, ReportContext, build_report_html, headline_rows
 from dashboard.report.html_report import format_number, threshold_source
+from tests.support import demo_result
 
 
 class _Sources(HTMLParser):
@@ -33,28 +36,29 @@ def _sources(doc: str) -> _Sources:
     return p
 
 
-SYNTHETIC = {
-    "vo2_peak_ml_min": 3210.4,
-    "vo2_peak_ml_kg_min": 45.06,
-    "rer_peak": 1.153,
-    "hr_peak_bpm": 182.0,
-    "ve_vco2_slope": 27.34,
-    "oues": 3105.0,
-    "vt1": {"vo2_ml_min": 1900.0, "time_s": 400.0, "hr_bpm": 140.0, "work_w": 150.0, "method": "V-slope", "source": "manual"},
-    "vt2": {"vo2_ml_min": 2700.0, "time_s": 640.0, "hr_bpm": 168.0, "work_w": 230.0, "method": "VE/VCO2 rise", "source": "auto"},
-    "methods": {"vo2_peak": "highest 30-s rolling average", "ve_vco2_slope": "least squares of VE on VCO2 to VT2"},
-    "warnings": ["=HYPERLINK(\"x\") <b>bold</b> note"],
-    "maximality": {"verdict": "VO2peak (no plateau)", "reasons": ["RER peak 1.15 ≥ 1.10"]},
-    "zones": [
-        {"name": "Zone 1", "hr_low_bpm": None, "hr_high_bpm": 140.0},
-        {"name": "Zone 2", "hr_low_bpm": 140.0, "hr_high_bpm": 168.0},
-        {"name": "Zone 3", "hr_low_bpm": 168.0, "hr_high_bpm": None},
-    ],
-}
+@pytest.fixture(scope="module")
+def record():
+    """A real result (cycling demo) with a manual VT1, known method texts, a note to escape and
+    three heart-rate zones: the report must print the record's own values."""
+    r = demo_result()
+    assert r.vt1 is not None and r.vt2 is not None
+    return dataclasses.replace(
+        r,
+        vt1=dataclasses.replace(r.vt1, source="manual", method="V-slope"),
+        vt2=dataclasses.replace(r.vt2, source="auto", method="VE/VCO2 rise"),
+        methods={"vo2_peak": "highest 30-s rolling average", "ve_vco2_slope": "least squares of VE on VCO2 to VT2"},
+        warnings=("=HYPERLINK(\"x\") <b>bold</b> note",),
+        maximality=dataclasses.replace(r.maximality, label="VO2peak (no plateau)", reasons=("RER peak 1.15 ≥ 1.10",)),
+        zones=ZoneSet(zones=(
+            Zone(1, "Zone 1", "easy", hr_low_bpm=None, hr_high_bpm=140.0),
+            Zone(2, "Zone 2", "steady", hr_low_bpm=140.0, hr_high_bpm=168.0),
+            Zone(3, "Zone 3", "hard", hr_low_bpm=168.0, hr_high_bpm=None),
+        )),
+    )
 
 
 @pytest.fixture(scope="module")
-def doc() -> str:
+def doc(record) -> str:
     from dashboard.report.svg_chart import Chart, Series
 
     chart = Chart(300, 200, "VO2 against time", "time (m:ss)", "VO2 (mL/min)")
@@ -68,13 +72,15 @@ def doc() -> str:
         threshold_setters={"vt1": "rev.amara on 2026-11-29: V-slope break clearer at 400 s"},
         generated_at="2026-12-01 09:00 UTC",
     )
-    return build_report_html(SYNTHETIC, None, charts=charts, context=ctx)
+    return build_report_html(record, None, charts=charts, context=ctx)
 
 
-def test_headline_values_and_methods(doc):
-    # Values are formatted from the results dict, with the method beside them.
-    for text in ("3\u2009210", "45.1", "1.15", "182", "27.3", "highest 30-s rolling average"):
-        assert text in doc
+def test_headline_values_and_methods(doc, record):
+    # Values are formatted from the result record, with the method beside them.
+    for value, digits in ((record.vo2_peak_ml_min, 0), (record.vo2_peak_ml_kg_min, 1), (record.rer_peak, 2),
+                          (record.hr_peak_bpm, 0), (record.ve_vco2_slope, 1)):
+        assert f">{format_number(value, digits)}<" in doc
+    assert "highest 30-s rolling average" in doc
     assert "least squares of VE on VCO2 to VT2" in doc
     assert "Maximality: VO2peak (no plateau)" in doc
 
@@ -86,10 +92,10 @@ def test_cautions_and_review_state(doc):
     assert "version 3" in doc
 
 
-def test_thresholds_marked_manual_with_who(doc):
+def test_thresholds_marked_manual_with_who(doc, record):
     assert "MANUAL — rev.amara on 2026-11-29: V-slope break clearer at 400 s" in doc
-    assert "automatic" in doc
-    assert "1\u2009900" in doc and "2\u2009700" in doc
+    assert "automatic (confidence" in doc
+    assert f">{format_number(record.vt1.vo2_ml_min, 0)}<" in doc and f">{format_number(record.vt2.vo2_ml_min, 0)}<" in doc
 
 
 def test_zones_table(doc):
@@ -115,37 +121,40 @@ def test_print_css(doc):
     assert 'class="page appendix"' in doc and "break-before: page" in doc  # methods on the second page
 
 
-def test_draft_when_not_signed():
-    doc = build_report_html({"vo2_peak_ml_min": 2000.0}, None)
+def test_draft_when_not_signed(record):
+    doc = build_report_html(record, None)
     assert "Draft — not signed off" in doc
     assert "<script" not in doc
 
 
-def test_helpers():
+def test_helpers(record):
     assert format_number(None, 1) == "–"
     assert format_number(float("nan"), 1) == "–"
     assert format_number(1234.56, 1) == "1\u2009234.6"
-    assert threshold_source({"source": "manual"}) == "manual"
-    assert threshold_source({"source": "auto"}) == "automatic"
+    assert threshold_source(record.vt1) == "manual"
+    assert threshold_source(record.vt2) == "automatic"
     assert threshold_source(None) == ""
-    rows = headline_rows({"vo2_peak_ml_min": 3000.0, "rer_peak": None})
-    assert [r["label"] for r in rows] == ["VO2peak"]
+    labels = [r["label"] for r in headline_rows(record)]
+    assert "RER peak" in labels and "VO2peak" in labels
+    no_rer = dataclasses.replace(record, maximality=dataclasses.replace(record.maximality, rer_peak=None))
+    assert "RER peak" not in [r["label"] for r in headline_rows(no_rer)]  # a missing value gets no row
 
 
-def test_column_titles_name_each_unit_once():
+def test_column_titles_name_each_unit_once(record):
     from dashboard.report.html_report import column_title, threshold_display
 
     assert column_title("VO2", "mL/min") == "VO2 (mL/min)"
     assert column_title("% of VO2peak", "%") == "% of VO2peak"
     assert column_title("VE/VCO2 slope", "") == "VE/VCO2 slope"
-    (vt1, _) = threshold_display({"vt1": {"time_s": 600.0, "pct_vo2_peak": 55.0, "source": "auto"}})
+    vt1_at_600 = dataclasses.replace(record.vt1, t_s=600.0, pct_vo2_peak=55.0)
+    (vt1, _) = threshold_display(dataclasses.replace(record, vt1=vt1_at_600))
     assert vt1["% of VO2peak"] == "55" and vt1["Time (m:ss)"] == "10:00"
 
 
 def test_methods_named_in_words_without_program_references():
     from dashboard.report.html_report import _methods_list
 
-    items = _methods_list({"methods": {
+    items = _methods_list({
         "hr_peak_bpm": "highest averaged heart rate during exercise",
         "oxygen": "Fick a-vO2 difference against the dissociation curve (analysis.oxygen.oxygen_comparison)",
         "vt2": "not found (see thresholds.reasons)",
@@ -153,7 +162,7 @@ def test_methods_named_in_words_without_program_references():
         "ve_vco2_slope": "least squares of VE on VCO2 to VT2 (analysis.indices.x)",
         "ve_vco2_slope_to_vt2": "least squares of VE on VCO2 to VT2",
         "substrate_oxidation": "Frayn 1983",
-    }})
+    })
     # only results the one-page report shows, in its order, each method text once (the VE/VCO2
     # slope is not listed twice; substrate oxidation and unknown entries are not shown, so not listed)
     assert items == [

@@ -8,6 +8,7 @@
 
 from __future__ import annotations
 
+import dataclasses
 import re
 import secrets
 from datetime import datetime, timedelta, timezone
@@ -20,7 +21,7 @@ from dashboard.views.coach import INVALID_TEXT
 from dashboard.views.sharing import share_state, share_url
 from tests.dashboard.conftest import APPTEST_TIMEOUT_S, make_user
 from tests.dashboard.pages_helpers import analysis_json, page_text, parse_number, signed_in
-from tests.support import ROOT
+from tests.support import ROOT, demo_result
 
 
 def _sharing():
@@ -209,7 +210,9 @@ def test_one_view_counted_per_session_and_revocation_is_immediate(demo_store):
 def test_coach_threshold_table_has_one_column_per_threshold():
     from dashboard.views.coach import threshold_frame
 
-    frame = threshold_frame({"vt1": {"time_s": 725.0, "vo2_ml_min": 2972.0, "source": "auto", "method": "consensus"}})
+    r = demo_result()
+    vt1 = dataclasses.replace(r.vt1, t_s=725.0, vo2_ml_min=2972.0, source="auto", method="consensus")
+    frame = threshold_frame(dataclasses.replace(r, vt1=vt1, vt2=None))
     assert list(frame.columns) == ["", "VT1", "VT2 / RCP"]
     rows = dict(zip(frame[""], frame["VT1"]))
     assert rows["Time (m:ss)"] == "12:05" and rows["VO2 (mL/min)"] == "2\u2009972" and rows["Set"] == "automatic"

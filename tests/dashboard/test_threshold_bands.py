@@ -88,14 +88,12 @@ def test_bands_from_a_real_analysis():
 
 
 def test_report_charts_carry_the_band_of_a_real_analysis():
-    # the printed report reads the JSON of the typed result; its VT1 band is the pick's interval
+    # the printed report reads the typed result; its VT1 band is the pick's interval
     from analysis.io import read_session
     from analysis.pipeline import analyze_session
-    from analysis.records import to_json
     from dashboard.report.report_charts import _threshold_lines
 
     path = sorted(Path(__file__).resolve().parents[2].joinpath("demo_sessions").glob("*cycle-ramp*.csv"))[0]
     results = analyze_session(read_session(path))
-    data = to_json(results)
-    lines = {vl.label: vl for vl in _threshold_lines(data, axis="t")}
+    lines = {vl.label: vl for vl in _threshold_lines(results, axis="t")}
     assert lines["VT1"].band == pytest.approx(results.thresholds.vt1.ci90_t_s)

@@ -138,7 +138,7 @@ def analyze_path(path: str | Path, settings_dict: dict[str, Any]) -> dict[str, A
     try:
         settings = AnalysisSettings.from_dict(settings_dict)
         results = analyze_session(load_session(path), settings, with_oxygen=False)  # no oxygen column in the row
-        return summary_row(to_json(results), file=path.name)
+        return summary_row(results, file=path.name)
     except TidemarkError as exc:
         return error_row(file=path.name, error=str(exc).replace("\n", " | "))
     except Exception as exc:  # noqa: BLE001 - one bad file must not stop the batch
@@ -435,11 +435,10 @@ def run(args: argparse.Namespace) -> int:
         print(f"{written} tests analysed, {failed} failed{kept}; results in {args.out}", file=sys.stderr)
         return 0
     results = analyze_session(load_session(path), settings)
-    data = to_json(results)
     if args.out is not None:
-        _write(args.out, summary_csv_text([summary_row(data, file=path.name)]))
-    if args.json:
-        sys.stdout.write(json.dumps(data, ensure_ascii=False, allow_nan=False) + "\n")
+        _write(args.out, summary_csv_text([summary_row(results, file=path.name)]))
+    if args.json:  # JSON only at the edge: the codec writes the record
+        sys.stdout.write(json.dumps(to_json(results), ensure_ascii=False, allow_nan=False) + "\n")
     else:
         sys.stdout.write(format_summary(results))
     return 0

@@ -26,20 +26,19 @@ def test_safe_csv_cell(value, expected):
     assert safe_csv_cell(value) == expected
 
 
-def test_summary_row_reads_results_json():
-    rj = {
-        "subject": {"subject_id": "SEL-1", "test_date": "2026-01-01", "mode": "cycle"},
-        "vo2_peak_ml_min": 3000.0,
-        "vt1": {"vo2_ml_min": 1800.0, "time_s": 400.0, "hr_bpm": 130.0, "method": "consensus"},
-        "vt2": None,
-        "maximality": {"label": "VO2peak"},
-        "classes": {"weber": "A", "ventilatory": "I"},
-        "excluded_breaths": [{}, {}],
-        "warnings": ["a", "b"],
-    }
-    row = summary_row(rj, file="f.csv")
+def test_summary_row_reads_the_result_record():
+    import dataclasses
+
+    from tests.support import demo_result
+
+    r = dataclasses.replace(demo_result(), vt2=None, warnings=("a", "b"))
+    row = summary_row(r, file="f.csv")
     assert list(row) == list(SUMMARY_COLUMNS)
-    assert row["vt1_vo2_ml_min"] == 1800.0 and row["vt2_vo2_ml_min"] is None
-    assert row["excluded_breaths"] == 2 and row["warnings"] == "a | b" and row["status"] == "ok"
+    assert r.vt1 is not None
+    assert row["vt1_vo2_ml_min"] == r.vt1.vo2_ml_min and row["vt1_time_s"] == r.vt1.t_s
+    assert row["vt1_method"] == r.vt1.method and row["vt2_vo2_ml_min"] is None
+    assert row["subject_id"] == "SEL-0107" and row["mode"] == r.subject.mode
+    assert row["vo2_peak_ml_min"] == r.peak.vo2_ml_min and row["maximality"] == r.maximality.label
+    assert row["excluded_breaths"] == len(r.excluded_breaths) and row["warnings"] == "a | b" and row["status"] == "ok"
     e = error_row(file="x.csv", error="bad")
     assert e["status"] == "error" and e["vo2_peak_ml_min"] is None
