@@ -9,8 +9,12 @@ Usage::
 Covers the six demo profiles x seeds (2) x noise (0.5, 1, 2) x settings (default; 15-breath
 averaging; reviewer exclusions/restorations with a VT1 override), each analysed from the
 session file text read back by the strict reader (so the reader is covered too), plus the
-demo files in ``demo_sessions/`` as they are. ``compare`` prints every analysis whose results
-JSON differs and exits 1 when any does.
+demo files in ``demo_sessions/`` as they are; every kind of the simulator suite
+(:func:`analysis.simulation.simulation_suite`) x seeds (2) x noise 0.5/1/2, the suite's
+"foreign" half also read back through a foreign export and the importer; and the long
+benchmark sessions of 2,000 and 20,000 breaths (``benchmarks/sessions.py``), each also read
+back by the strict reader. ``compare`` prints every analysis whose results JSON differs and
+exits 1 when any does.
 """
 
 from __future__ import annotations
@@ -26,6 +30,8 @@ if str(ROOT) not in sys.path:
 
 SEEDS = (11, 12)
 NOISES = (0.5, 1.0, 2.0)
+SUITE_SEEDS = (0, 1)
+LONG_BREATHS = (2000, 20000)
 
 
 def _settings() -> dict[str, Any]:
@@ -64,7 +70,46 @@ def snapshot() -> dict[str, Any]:
                     out[key] = to_json(analyze_session(session, s))
     for path in sorted((ROOT / "demo_sessions").glob("*.session.csv")):
         out[f"file/{path.name}"] = to_json(analyze_session(read_session(path)))
+    out.update(_suite())
+    out.update(_long())
     return json.loads(json.dumps(out, sort_keys=True, allow_nan=True))
+
+
+def _suite() -> dict[str, Any]:
+    """Every simulator kind, directly and (the foreign half) through a foreign export and the importer."""
+    from analysis.io import import_bytes
+    from analysis.pipeline import analyze_session
+    from analysis.records import to_json
+    from analysis.simulation import ALL_KINDS, NOISE_LEVELS, simulation_suite
+    from analysis.simulation.foreign import FOREIGN_LAYOUTS, foreign_export_bytes, foreign_meta_overrides
+
+    out: dict[str, Any] = {}
+    for case in simulation_suite(ALL_KINDS, seeds=SUITE_SEEDS, noise_levels=NOISE_LEVELS):
+        out[f"suite/{case.label}"] = to_json(analyze_session(case.session))
+        if case.foreign:
+            layout = FOREIGN_LAYOUTS[(case.seed + round(case.noise * 2)) % len(FOREIGN_LAYOUTS)]
+            imported = import_bytes(
+                foreign_export_bytes(case.session, layout=layout),
+                file_name=f"{case.kind}-{case.seed}.csv",
+                meta_overrides=foreign_meta_overrides(case.session, layout=layout),
+            ).session
+            out[f"suite/{case.label}/{layout}"] = to_json(analyze_session(imported))
+    return out
+
+
+def _long() -> dict[str, Any]:
+    """The benchmark sessions of 2,000 and 20,000 breaths, as built and read back from their file text."""
+    from analysis.io import read_session
+    from analysis.pipeline import analyze_session
+    from analysis.records import to_json
+    from benchmarks.sessions import session_of, session_text
+
+    out: dict[str, Any] = {}
+    for n in LONG_BREATHS:
+        out[f"long/{n}"] = to_json(analyze_session(session_of(n)))
+        read = read_session(session_text(n), file_name=f"bench-{n}.session.csv")
+        out[f"long/{n}/read"] = to_json(analyze_session(read))
+    return out
 
 
 def main(argv: list[str]) -> int:

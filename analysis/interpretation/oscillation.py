@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import bisect
 import itertools
 from dataclasses import dataclass
 
@@ -69,31 +70,46 @@ class Oscillation:
 
 
 def _peaks(y: np.ndarray, *, distance_n: int, prominence: float) -> np.ndarray:
-    """Indices of the local maxima of ``y`` that stand out by ``prominence`` (the drop to the
-    lowest point before a higher value, or the edge, on the lower of its two sides), at least
-    ``distance_n`` points apart (the higher kept), in time order."""
+    """Indices of the local maxima of ``y`` (finite values) that stand out by ``prominence`` (the
+    drop to the lowest point before a higher value, or the edge, on the lower of its two sides),
+    at least ``distance_n`` points apart (the higher kept, the earlier of equal ones), in time
+    order. Time and memory grow with ``y.size`` times a logarithm at most."""
     if y.size < 3:
         return np.empty(0, dtype=int)
     inner = np.flatnonzero((y[1:-1] > y[:-2]) & (y[1:-1] >= y[2:])) + 1
-    kept: list[int] = []
-    for i in inner:
-        left = i - 1
-        low_left = y[i]
-        while left >= 0 and y[left] <= y[i]:
-            low_left = min(low_left, y[left])
-            left -= 1
-        right = i + 1
-        low_right = y[i]
-        while right < y.size and y[right] <= y[i]:
-            low_right = min(low_right, y[right])
-            right += 1
-        if y[i] - max(low_left, low_right) >= prominence:
-            kept.append(int(i))
+    if inner.size == 0:
+        return inner
+    last = y.size - 1
+    low_left = _low_since_higher(y, inner)
+    low_right = _low_since_higher(y[::-1], last - inner[::-1])[::-1]
+    kept = inner[y[inner] - np.maximum(low_left, low_right) >= prominence]
     chosen: list[int] = []
-    for k in sorted(kept, key=lambda k: -y[k]):
-        if all(abs(k - j) >= distance_n for j in chosen):
-            chosen.append(k)
-    return np.array(sorted(chosen), dtype=int)
+    for k in sorted(kept.tolist(), key=lambda k: -y[k]):
+        at = bisect.bisect(chosen, k)
+        if (at == 0 or k - chosen[at - 1] >= distance_n) and (at == len(chosen) or chosen[at] - k >= distance_n):
+            chosen.insert(at, k)
+    return np.array(chosen, dtype=int)
+
+
+def _low_since_higher(y: np.ndarray, maxima: np.ndarray) -> np.ndarray:
+    """For each of the local maxima ``maxima`` (increasing indices), the lowest value of ``y`` from
+    just after the nearest earlier point higher than it (or from the start) up to the maximum.
+
+    The nearest earlier higher *maximum* bounds the same stretch: between it and the nearest
+    higher point, a value below the maximum would need another higher maximum in between. So a
+    stack of the earlier maxima, each with the lowest value since the one below it, finds every
+    answer in one pass over the maxima.
+    """
+    # lowest value from just after the previous maximum up to each maximum
+    lows = np.minimum.reduceat(y[: maxima[-1] + 1], np.concatenate(([0], maxima[:-1] + 1)))
+    out = np.empty(maxima.size)
+    stack: list[tuple[float, float]] = []  # (height of a maximum, lowest value since the maximum below it)
+    for j, (height, low) in enumerate(zip(y[maxima].tolist(), lows.tolist(), strict=True)):
+        while stack and stack[-1][0] <= height:
+            low = min(low, stack.pop()[1])
+        stack.append((height, low))
+        out[j] = low
+    return out
 
 
 def _regular_runs(
