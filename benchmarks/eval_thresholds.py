@@ -4,6 +4,7 @@ Usage::
 
     python benchmarks/eval_thresholds.py [--seeds 10] [--noise 0.5 1 2] [--kinds athlete lung_limited ...]
                                          [--by kind|noise|layout] [--flags] [--cases-csv FILE]
+                                         [--before]
 
 Runs :func:`analysis.pipeline.analyze_session` on every case of
 :func:`analysis.simulation.simulation_suite` (half of them through a foreign export and the
@@ -11,16 +12,26 @@ importer) and prints one Markdown table: VT1/VT2 median and 90th-percentile |err
 true VO2max, VT2 missed and reported where there is none, VO2peak and VE/VCO2 slope errors,
 interval coverage (when the thresholds carry 90 % intervals), crashes and import failures.
 ``--cases-csv`` also writes one row per case.
+
+``--before`` scores the detection of :data:`benchmarks.trees.BEFORE_COMMIT` (main before the
+threshold work, exported with ``git archive``) on the same cases: each case is simulated and,
+when foreign, imported by this tree, written as a session file, and analysed in one fresh
+interpreter of the old tree (its ``read_session`` and ``analyze_session``).
 """
 
 from __future__ import annotations
 
 import argparse
 import csv
+import json
+import subprocess
 import sys
+import tempfile
 import time
-from dataclasses import asdict
+from collections.abc import Sequence
+from dataclasses import asdict, replace
 from pathlib import Path
+from typing import Any
 
 ROOT = Path(__file__).resolve().parents[1]
 if str(ROOT) not in sys.path:
@@ -28,12 +39,86 @@ if str(ROOT) not in sys.path:
 
 from analysis.simulation import ALL_KINDS, HARD_KINDS, NOISE_LEVELS, ORIGINAL_KINDS, simulation_suite  # noqa: E402
 from analysis.simulation.evaluate import (  # noqa: E402
+    CaseScore,
+    compare,
     evaluate_suite,
+    read_result,
+    score_case,
     format_flags_markdown,
     format_markdown,
     summarise,
     summarise_flags,
 )
+
+#: Run inside the old tree: analyse every session file named on stdin (JSON list of paths) and
+#: print one JSON list of the readings the harness needs (or the error text per file).
+_OLD_TREE_CODE = r"""
+import json, sys, math
+from analysis.io import read_session
+from analysis.pipeline import analyze_session
+def num(x):
+    try:
+        x = float(x)
+    except (TypeError, ValueError):
+        return None
+    return x if math.isfinite(x) else None
+def get(obj, *path):
+    for step in path:
+        if obj is None:
+            return None
+        obj = obj.get(step) if isinstance(obj, dict) else getattr(obj, step, None)
+    return obj
+out = []
+for path in json.load(sys.stdin):
+    try:
+        r = analyze_session(read_session(path))
+    except Exception as exc:
+        out.append({"error": f"{type(exc).__name__}: {exc}"})
+        continue
+    out.append({
+        "vt1": {"vo2_ml_min": num(get(r, "vt1", "vo2_ml_min"))},
+        "vt2": {"vo2_ml_min": num(get(r, "vt2", "vo2_ml_min"))},
+        "peak": {"vo2_ml_min": num(get(r, "peak", "vo2_ml_min"))},
+        "indices": {"ve_vco2_slope": num(get(r, "indices", "ve_vco2_slope")),
+                    "ve_vco2_slope_span": get(r, "indices", "ve_vco2_slope_span")},
+    })
+print(json.dumps(out))
+"""
+
+
+def evaluate_in_old_tree(cases: Sequence[Any], tree: Path) -> list[CaseScore]:
+    """Score ``cases`` with the detection of the old ``tree`` (see the module's text)."""
+    from analysis.io import write_session
+
+    sessions: list[Any] = []
+
+    def keep(session: Any) -> dict[str, Any]:
+        sessions.append(session)
+        return {}
+
+    first = [score_case(case, analyze=keep) for case in cases]  # import only; the session is kept
+    with tempfile.TemporaryDirectory(prefix="tidemark-eval-") as folder:
+        paths, owners = [], []
+        k = 0
+        for i, score in enumerate(first):
+            if score.status == "ok":
+                path = Path(folder) / f"case{i:05d}.csv"
+                write_session(sessions[k], path)
+                paths.append(str(path))
+                owners.append(i)
+                k += 1
+        done = subprocess.run(
+            [sys.executable, "-c", _OLD_TREE_CODE], input=json.dumps(paths), cwd=tree, capture_output=True,
+            text=True, check=True, env={"PYTHONPATH": str(tree), "PATH": "/usr/bin:/bin"},
+        )
+    readings = json.loads(done.stdout.strip().splitlines()[-1])
+    out = list(first)
+    for i, got in zip(owners, readings, strict=True):
+        if "error" in got:
+            out[i] = replace(first[i], status="crash", error=got["error"])
+        else:
+            out[i] = replace(first[i], **compare(read_result(got), cases[i].truth))
+    return out
 
 
 def main(argv: list[str] | None = None) -> int:
@@ -44,9 +129,21 @@ def main(argv: list[str] | None = None) -> int:
     parser.add_argument("--by", default="kind", choices=["kind", "noise", "layout"], help="split the rows by (default kind)")
     parser.add_argument("--flags", action="store_true", help="also print the interpretation-flag table")
     parser.add_argument("--cases-csv", type=Path, help="also write one row per case to this CSV file")
+    parser.add_argument("--before", action="store_true", help="score the detection of the tree before the threshold work")
     args = parser.parse_args(argv)
     start = time.perf_counter()
-    scores = evaluate_suite(simulation_suite(args.kinds, seeds=range(args.seeds), noise_levels=args.noise))
+    suite = simulation_suite(args.kinds, seeds=range(args.seeds), noise_levels=args.noise)
+    if args.before:
+        from benchmarks.trees import BEFORE_COMMIT, before_tree
+
+        tree = before_tree()
+        if tree is None:
+            print(f"git could not give the tree of {BEFORE_COMMIT}")
+            return 1
+        print(f"detection of {BEFORE_COMMIT} (old tree), cases simulated and imported by this tree\n")
+        scores = evaluate_in_old_tree(list(suite), tree)
+    else:
+        scores = evaluate_suite(suite)
     rows = summarise(scores, groups={"original (all)": ORIGINAL_KINDS, "hard (all)": HARD_KINDS}, by=args.by)
     print(format_markdown(rows))
     if args.flags:

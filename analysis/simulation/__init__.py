@@ -35,6 +35,7 @@ from analysis.simulation.cast import (
     DemoTest,
     generate_demo,
 )
+from analysis.simulation.cart_noise import CartNoise
 from analysis.simulation.extras import BreathEvents, ModelExtras
 from analysis.simulation.kinds import ALL_KINDS, HARD_KINDS, ORIGINAL_KINDS, CaseInputs, case_inputs
 from analysis.simulation.profiles import MODES, SEXES, STOP_RULES, ProtocolSpec, SubjectProfile
@@ -51,6 +52,7 @@ __all__ = [
     "noise_free_course",
     "ModelExtras",
     "BreathEvents",
+    "CartNoise",
     "ALL_KINDS",
     "ORIGINAL_KINDS",
     "HARD_KINDS",

@@ -57,6 +57,42 @@ def oscillation(t_s: np.ndarray, *, period_s: float, phase_rad: float, t_stop_s:
     return wave * 0.5 * (1.0 + np.cos(np.pi * u))
 
 
+def irregular_oscillation(
+    t_s: np.ndarray,
+    *,
+    period_s: float,
+    phase_rad: float,
+    t_stop_s: float,
+    period_jitter: float,
+    amplitude_jitter: float,
+    seed: int,
+) -> np.ndarray:
+    """Like :func:`oscillation` on the grid ``t_s`` (evenly spaced), with the frequency and the
+    amplitude wandering slowly (first-order autoregressive, correlation time one period, SDs
+    ``period_jitter`` and ``amplitude_jitter`` relative to the mean; the amplitude factor stays
+    in 0.3-1.7)."""
+    from analysis.simulation.cart_noise import wander
+
+    t = np.asarray(t_s, dtype=float)
+    if not (period_jitter or amplitude_jitter) or t.size < 2:
+        return oscillation(t, period_s=period_s, phase_rad=phase_rad, t_stop_s=t_stop_s)
+    rng = np.random.default_rng([int(seed), 11])
+    f = (1.0 + wander(t, sd=period_jitter, tau_s=period_s, rng=rng)) / period_s
+    phase = 2.0 * np.pi * np.concatenate([[0.0], np.cumsum(0.5 * (f[1:] + f[:-1]) * np.diff(t))]) + phase_rad
+    amp = np.clip(1.0 + wander(t, sd=amplitude_jitter, tau_s=period_s, rng=rng), 0.3, 1.7)
+    u = np.clip((t - t_stop_s) / period_s, 0.0, 1.0)
+    return np.sin(phase) * amp * 0.5 * (1.0 + np.cos(np.pi * u))
+
+
+def late_rise(t_s: np.ndarray, *, t_start_s: float, t_end_s: float, fade_s: float = 60.0) -> np.ndarray:
+    """0 before ``t_start_s``, ((t - start) / (end - start))^2 up to ``t_end_s``, then fading
+    exponentially with ``fade_s``."""
+    t = np.asarray(t_s, dtype=float)
+    span = max(t_end_s - t_start_s, 1.0)
+    rise = np.clip((t - t_start_s) / span, 0.0, 1.0) ** 2
+    return np.where(t > t_end_s, np.exp(-(t - t_end_s) / fade_s), rise)
+
+
 def apply_extras(
     ch: dict[str, np.ndarray],
     t_s: np.ndarray,
@@ -82,6 +118,11 @@ def apply_extras(
         out[C.VE_L_MIN] = out[C.VE_L_MIN] * (1.0 + extras.overbreathing_ve_fraction * h)
         out[C.VCO2_ML_MIN] = out[C.VCO2_ML_MIN] * (1.0 + extras.overbreathing_co2_fraction * h)
         out[C.PETCO2_MMHG] = out[C.PETCO2_MMHG] - extras.overbreathing_petco2_drop_mmhg * h
+    if extras.late_ve_rise_fraction:
+        start = t_exercise_s + extras.late_ve_rise_start_fraction * (t_end_s - t_exercise_s)
+        s = extras.late_ve_rise_fraction * late_rise(t_s, t_start_s=start, t_end_s=t_end_s)
+        out[C.VE_L_MIN] = out[C.VE_L_MIN] * (1.0 + s)
+        out[C.PETCO2_MMHG] = out[C.PETCO2_MMHG] * (1.0 - 0.5 * s)
     if extras.ve_ceiling_l_min is not None:
         demand = out[C.VE_L_MIN]
         ve = ve_with_ceiling(demand, ceiling_l_min=extras.ve_ceiling_l_min, knee_fraction=extras.ve_knee_fraction)
@@ -97,13 +138,21 @@ def apply_extras(
         amp = extras.oscillation_amplitude_fraction
         t_stop = t_exercise_s + extras.oscillation_end_fraction * (t_end_s - t_exercise_s)
 
+        grid_wave = irregular_oscillation(
+            np.asarray(t_s, dtype=float),
+            period_s=period_s,
+            phase_rad=extras.oscillation_phase_rad,
+            t_stop_s=t_stop,
+            period_jitter=extras.oscillation_period_jitter,
+            amplitude_jitter=extras.oscillation_amplitude_jitter,
+            seed=extras.oscillation_seed,
+        )
+
         def wave(delay_s: float) -> np.ndarray:
-            return oscillation(
-                np.asarray(t_s) - delay_s,
-                period_s=period_s,
-                phase_rad=extras.oscillation_phase_rad,
-                t_stop_s=t_stop,
-            )
+            t = np.asarray(t_s, dtype=float)
+            if not (extras.oscillation_period_jitter or extras.oscillation_amplitude_jitter):
+                return oscillation(t - delay_s, period_s=period_s, phase_rad=extras.oscillation_phase_rad, t_stop_s=t_stop)
+            return np.interp(t - delay_s, t, grid_wave, left=float(grid_wave[0]))
 
         out[C.VE_L_MIN] = out[C.VE_L_MIN] * (1.0 + amp * wave(0.0))
         out[C.VCO2_ML_MIN] = out[C.VCO2_ML_MIN] * (1.0 + OSC_VCO2_GAIN * amp * wave(OSC_VCO2_DELAY_S))

@@ -55,6 +55,21 @@ class ModelExtras:
         the CO2 that is not breathed off raises PETCO2 (CO2 retention).
     ve_knee_fraction : float
         Where the VE ceiling starts to bend the VE response, fraction of the ceiling.
+    oscillation_period_jitter : float
+        Cycle-to-cycle irregularity of the oscillation: SD of the instantaneous frequency as a
+        fraction of the mean (0: a pure sine). The frequency wanders with a correlation time
+        of one period; the mean period stays ``oscillation_period_s``.
+    oscillation_amplitude_jitter : float
+        The same for the amplitude: SD of its slow wander, fraction of the mean amplitude.
+    oscillation_seed : int
+        Seed of the two wanders (the same extras, the same oscillation).
+    late_ve_rise_fraction : float
+        Rapid shallow breathing late in exercise without acidosis (no compensation point): VE
+        rises above what VCO2 asks for, by this fraction at the end of exercise, growing with
+        the square of the time since ``late_ve_rise_start_fraction`` of the incremental phase
+        (0 none); PETCO2 falls by half of that fraction. The rise fades in recovery (60 s).
+    late_ve_rise_start_fraction : float
+        Where the late rise starts, fraction of the incremental phase.
 
     Notes
     -----
@@ -68,7 +83,10 @@ class ModelExtras:
     Wasserman K, Hansen JE, Sue DY, et al. Principles of Exercise Testing and Interpretation
     (textbook; CO2 kinetics slower than O2 kinetics because of the CO2 stores, from memory).
     Leite JJ et al. (2003) J Am Coll Cardiol 41:2175-2181; Corrà U et al. (2006) Circulation
-    (oscillatory ventilation: period and duration, from memory).
+    (oscillatory ventilation: period and duration, from memory; cycles are not pure sines).
+    Sullivan MJ, Higginbotham MB, Cobb FR (1988). Increased exercise ventilation in patients
+    with chronic heart failure. Circulation 77:552-559 (rapid shallow breathing, a rising dead
+    space fraction, from memory).
     ATS/ACCP Statement on cardiopulmonary exercise testing (2003). Am J Respir Crit Care Med
     167:211-277 (MVV, breathing reserve and CO2 retention in ventilatory limitation).
     """
@@ -86,6 +104,11 @@ class ModelExtras:
     oscillation_end_fraction: float = 1.0
     ve_ceiling_l_min: float | None = None
     ve_knee_fraction: float = 0.75
+    oscillation_period_jitter: float = 0.0
+    oscillation_amplitude_jitter: float = 0.0
+    oscillation_seed: int = 0
+    late_ve_rise_fraction: float = 0.0
+    late_ve_rise_start_fraction: float = 0.6
 
     def __post_init__(self) -> None:
         _in("slow_component_fraction", self.slow_component_fraction, 0, 0.4)
@@ -103,6 +126,16 @@ class ModelExtras:
         if self.ve_ceiling_l_min is not None:
             _in("ve_ceiling_l_min", self.ve_ceiling_l_min, 15, 250, "L/min")
         _in("ve_knee_fraction", self.ve_knee_fraction, 0.5, 0.95)
+        _in("oscillation_period_jitter", self.oscillation_period_jitter, 0, 0.4)
+        _in("oscillation_amplitude_jitter", self.oscillation_amplitude_jitter, 0, 0.6)
+        require(
+            isinstance(self.oscillation_seed, int) and not isinstance(self.oscillation_seed, bool) and self.oscillation_seed >= 0,
+            "oscillation_seed",
+            "a whole number >= 0",
+            self.oscillation_seed,
+        )
+        _in("late_ve_rise_fraction", self.late_ve_rise_fraction, 0, 0.3)
+        _in("late_ve_rise_start_fraction", self.late_ve_rise_start_fraction, 0.2, 0.95)
 
     @property
     def has_oscillation(self) -> bool:

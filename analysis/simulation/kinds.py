@@ -16,6 +16,7 @@ import numpy as np
 
 from analysis.errors import require
 from analysis.simulation import _model as M
+from analysis.simulation.cart_noise import CartNoise
 from analysis.simulation.extras import BreathEvents, ModelExtras
 from analysis.simulation.profiles import ProtocolSpec, SubjectProfile
 
@@ -50,6 +51,7 @@ class CaseInputs:
     events: BreathEvents | None
     meta_extra: dict[str, object] = field(default_factory=dict)
     artifacts: int = 3
+    cart_noise: CartNoise | None = None
 
 
 # --- building blocks -------------------------------------------------------------------------
@@ -432,6 +434,41 @@ _KINDS: dict[str, Callable[[np.random.Generator, str], CaseInputs]] = {
 assert tuple(_KINDS) == ALL_KINDS
 
 
+#: Kinds whose test has no compensation point because the heart-failure patient stops first:
+#: their rapid shallow breathing late in exercise is drawn (see :func:`_cart_realism`).
+_HF_KINDS: tuple[str, ...] = ("hf_oscillation", "hf_transient_oscillation", "hf_plain")
+
+
+def _cart_realism(kind: str, inputs: CaseInputs, rng: np.random.Generator) -> CaseInputs:
+    """What a real cart and a real patient add to a hard kind: the cart's breath noise, a rate of
+    cough and swallow breaths, irregular oscillation cycles and (heart failure without a
+    compensation point) rapid shallow breathing late in exercise. Drawn from a stream of its
+    own, so the person, protocol and events of the kind stay as drawn. Sizes in
+    ``docs/simulation.md`` ("Cart noise and irregular breathing")."""
+    noisy = kind == "noisy_breaths"
+    noise = CartNoise(
+        gas_floor_sd_ml_min=_u(rng, 70, 120, 1) if noisy else _u(rng, 35, 80, 1),
+        irregular_share=_u(rng, 0.06, 0.12) if noisy else _u(rng, 0.02, 0.07),
+        irregular_scale=_u(rng, 2.0, 3.0, 2),
+        wander_sd=_u(rng, 0.04, 0.07) if noisy else _u(rng, 0.02, 0.05),
+        wander_tau_s=_u(rng, 15, 45, 0),
+    )
+    artifacts = int(rng.integers(8, 17)) if noisy else int(rng.integers(3, 11))
+    extras = inputs.extras
+    if kind in _HF_KINDS:
+        jitter = {
+            "oscillation_period_jitter": _u(rng, 0.08, 0.20),
+            "oscillation_amplitude_jitter": _u(rng, 0.15, 0.35),
+            "oscillation_seed": int(rng.integers(0, 2**31 - 1)),
+        }
+        late = _u(rng, 0.04, 0.10)
+        start = _u(rng, 0.50, 0.75)
+        if inputs.profile.vt2_fraction is None:
+            jitter |= {"late_ve_rise_fraction": late, "late_ve_rise_start_fraction": start}
+        extras = replace(extras, **jitter)  # type: ignore[arg-type]
+    return replace(inputs, cart_noise=noise, artifacts=artifacts, extras=extras)
+
+
 def case_inputs(kind: str, seed: int) -> CaseInputs:
     """The person, protocol, extras and events of one case.
 
@@ -456,4 +493,7 @@ def case_inputs(kind: str, seed: int) -> CaseInputs:
     require(isinstance(seed, (int, np.integer)) and not isinstance(seed, bool) and seed >= 0, "seed", "a whole number >= 0", seed)
     rng = np.random.default_rng([zlib.crc32(kind.encode()), int(seed)])
     code = f"SIM-{kind[:3].upper()}-{int(seed):04d}"
-    return _KINDS[kind](rng, code)
+    inputs = _KINDS[kind](rng, code)
+    if kind in HARD_KINDS:
+        inputs = _cart_realism(kind, inputs, np.random.default_rng([zlib.crc32(kind.encode()), int(seed), 7]))
+    return inputs

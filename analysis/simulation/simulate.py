@@ -15,6 +15,7 @@ from analysis.simulation import _extras_model as X
 from analysis.simulation import _model as M
 from analysis.simulation._breath_events import plant_events
 from analysis.simulation._truth_extended import extended_truth
+from analysis.simulation.cart_noise import CartNoise, add_cart_noise
 from analysis.simulation.extras import BreathEvents, ModelExtras
 from analysis.simulation.profiles import ProtocolSpec, SubjectProfile
 
@@ -472,6 +473,7 @@ def simulate_session(
     extras: ModelExtras | None = None,
     events: BreathEvents | None = None,
     meta_extra: dict[str, object] | None = None,
+    cart_noise: CartNoise | None = None,
 ) -> Session:
     """Simulate one breath-by-breath exercise test with known ground truth.
 
@@ -505,6 +507,10 @@ def simulate_session(
     meta_extra : dict, optional
         More metadata written after the person's data (e.g. ``fev1_l``, ``beta_blocker``);
         an ``fev1_l`` without ``mvv_l_min`` gives the truth MVV as FEV1 x 40.
+    cart_noise : CartNoise, optional
+        Breath noise of a real cart on top of the proportional noise (an additive gas floor,
+        irregular breaths, a slow wander of the breathing pattern), scaled by ``noise``, drawn
+        from its own random stream. ``None`` (default): none.
 
     Returns
     -------
@@ -553,6 +559,9 @@ def simulate_session(
     require(isinstance(artifacts, (int, np.integer)) and 0 <= artifacts <= 20, "artifacts", "a whole number between 0 and 20", artifacts)
     require(extras is None or isinstance(extras, ModelExtras), "extras", "a ModelExtras or None", type(extras).__name__)
     require(events is None or isinstance(events, BreathEvents), "events", "a BreathEvents or None", type(events).__name__)
+    require(
+        cart_noise is None or isinstance(cart_noise, CartNoise), "cart_noise", "a CartNoise or None", type(cart_noise).__name__
+    )
 
     line = _timeline(profile, protocol, extras)
     rng_time = np.random.default_rng([int(seed), 1])
@@ -572,8 +581,19 @@ def simulate_session(
     ve = ch[C.VE_L_MIN] * np.clip(1.0 + e_vol, 0.2, None)
     vo2 = ch[C.VO2_ML_MIN] * np.clip(1.0 + VOLUME_TO_GAS * e_vol + e_gas + VO2_OWN_SD * z[2], 0.2, None)
     vco2 = ch[C.VCO2_ML_MIN] * np.clip(1.0 + VOLUME_TO_GAS * e_vol + e_gas + VCO2_OWN_SD * z[3], 0.2, None)
-    rf_breath = np.maximum(rf_breath, ve / MAX_BREATH_VT_L)
     petco2 = ch[C.PETCO2_MMHG] + PETCO2_SD_MMHG * z[4]
+    if cart_noise is not None and cart_noise.any:
+        noisy = add_cart_noise(
+            {"ve": ve, "vo2": vo2, "vco2": vco2, "petco2": petco2},
+            t,
+            cart_noise,
+            noise=float(noise),
+            volume_sd=VOLUME_SD,
+            volume_to_gas=VOLUME_TO_GAS,
+            rng=np.random.default_rng([int(seed), 5]),
+        )
+        ve, vo2, vco2, petco2 = noisy["ve"], noisy["vo2"], noisy["vco2"], noisy["petco2"]
+    rf_breath = np.maximum(rf_breath, ve / MAX_BREATH_VT_L)
     peto2 = ch[C.PETO2_MMHG] - PETCO2_SD_MMHG * z[4] + PETO2_SD_MMHG * z[5]
     hr = ch[C.HR_BPM] + HR_SD_BPM * z[6]
     spo2 = np.minimum(ch[C.SPO2_PCT] + SPO2_SD_PCT * z[7], 100.0)

@@ -134,7 +134,8 @@ def simulate_case(kind: str, seed: int, *, noise: float = 1.0, clean: bool = Fal
     noise : float, keyword-only
         Breath-noise scale (0 noise-free).
     clean : bool, keyword-only
-        True: no artifacts and no breath events (the model series behind the case).
+        True: no artifacts, no breath events and no cart noise (the model series behind the
+        case; with ``noise=0`` the noise-free series).
 
     Returns
     -------
@@ -152,6 +153,7 @@ def simulate_case(kind: str, seed: int, *, noise: float = 1.0, clean: bool = Fal
         extras=inputs.extras,
         events=None if clean else inputs.events,
         meta_extra=inputs.meta_extra,
+        cart_noise=None if clean else inputs.cart_noise,
     )
 
 

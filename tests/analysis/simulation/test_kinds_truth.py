@@ -80,6 +80,20 @@ def test_ve_vco2_slope_truth_matches_the_noise_free_breaths(kind, seed):
             assert truth.ve_vco2_slope_to_vt2 == pytest.approx(truth.ve_vco2_slope, abs=0.6)
 
 
+def _course_with(kind: str, seed: int, **changes):
+    inputs = case_inputs(kind, seed)
+    s = _clean(kind, seed)
+    end = float(s.breaths[C.T_S].iloc[-1])
+    return noise_free_course(inputs.profile, inputs.protocol, np.arange(0.0, end, 1.0), extras=replace(inputs.extras, **changes))
+
+
+def _strongest_period_s(ratio: np.ndarray) -> float:
+    x = (ratio - 1.0) * np.hanning(len(ratio))
+    power = np.abs(np.fft.rfft(x, n=8 * len(x))) ** 2
+    freq = np.fft.rfftfreq(8 * len(x), d=1.0)
+    return float(1.0 / freq[1:][np.argmax(power[1:])])
+
+
 @pytest.mark.parametrize("seed", range(5))
 def test_sustained_oscillation_period_and_amplitude_are_recovered(seed):
     course, s = _course("hf_oscillation", seed)
@@ -88,17 +102,23 @@ def test_sustained_oscillation_period_and_amplitude_are_recovered(seed):
     assert truth.oscillation_present
     assert 40 <= truth.oscillation_period_s <= 90 and 0.12 <= truth.oscillation_amplitude_fraction <= 0.30
     assert s.meta["truth_oscillation_exercise_fraction"] >= 0.6
-    # amplitude: VE over the oscillation-free VE swings by 1 +/- A
-    ratio = course[C.VE_L_MIN] / plain[C.VE_L_MIN]
-    assert float(ratio.max() - 1) == pytest.approx(truth.oscillation_amplitude_fraction, rel=0.02)
-    # period: the strongest periodogram peak of the relative VE during rest and exercise
+    extras = case_inputs("hf_oscillation", seed).extras
+    assert 0.08 <= extras.oscillation_period_jitter <= 0.20 and 0.15 <= extras.oscillation_amplitude_jitter <= 0.35
     t = course[C.T_S].to_numpy()
     keep = t < s.meta["truth_oscillation_end_t_s"]
-    x = (ratio.to_numpy()[keep] - 1.0) * np.hanning(keep.sum())
-    power = np.abs(np.fft.rfft(x, n=8 * len(x))) ** 2
-    freq = np.fft.rfftfreq(8 * len(x), d=1.0)
-    period = 1.0 / freq[1:][np.argmax(power[1:])]
-    assert period == pytest.approx(truth.oscillation_period_s, rel=0.05)
+    # without the cycle-to-cycle irregularity: VE over the oscillation-free VE swings by 1 +/- A
+    # and the strongest periodogram peak (rest and exercise) is the period
+    pure = (_course_with("hf_oscillation", seed, oscillation_period_jitter=0.0, oscillation_amplitude_jitter=0.0)
+            [C.VE_L_MIN] / plain[C.VE_L_MIN]).to_numpy()
+    assert float(pure.max() - 1) == pytest.approx(truth.oscillation_amplitude_fraction, rel=0.02)
+    assert _strongest_period_s(pure[keep]) == pytest.approx(truth.oscillation_period_s, rel=0.05)
+    # irregular cycles: the swing's RMS is A / sqrt(2) (a sine's) within 25 %, the period
+    # within 10 %, and the cycles do differ
+    ratio = (course[C.VE_L_MIN] / plain[C.VE_L_MIN]).to_numpy()
+    rms = float(np.sqrt(np.mean((ratio[keep] - 1.0) ** 2)))
+    assert rms == pytest.approx(truth.oscillation_amplitude_fraction / np.sqrt(2), rel=0.25)
+    assert _strongest_period_s(ratio[keep]) == pytest.approx(truth.oscillation_period_s, rel=0.10)
+    assert float(np.max(np.abs(ratio - pure))) > 0.02
 
 
 @pytest.mark.parametrize("seed", range(5))
