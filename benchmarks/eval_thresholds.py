@@ -42,10 +42,10 @@ from analysis.simulation.evaluate import (  # noqa: E402
     CaseScore,
     compare,
     evaluate_suite,
-    read_result,
-    score_case,
     format_flags_markdown,
     format_markdown,
+    read_result,
+    score_case,
     summarise,
     summarise_flags,
 )

@@ -18,6 +18,7 @@ Demo cast (fictional people of the Saltmarsh Exercise Lab)
 The model is described with its equations in ``docs/simulation.md``.
 """
 
+from analysis.simulation.cart_noise import CartNoise
 from analysis.simulation.cast import (
     CYCLE_RAMP_8,
     CYCLE_RAMP_10,
@@ -35,7 +36,6 @@ from analysis.simulation.cast import (
     DemoTest,
     generate_demo,
 )
-from analysis.simulation.cart_noise import CartNoise
 from analysis.simulation.extras import BreathEvents, ModelExtras
 from analysis.simulation.kinds import ALL_KINDS, HARD_KINDS, ORIGINAL_KINDS, CaseInputs, case_inputs
 from analysis.simulation.profiles import MODES, SEXES, STOP_RULES, ProtocolSpec, SubjectProfile

@@ -11,6 +11,7 @@ from __future__ import annotations
 import zlib
 from collections.abc import Callable
 from dataclasses import dataclass, field, replace
+from typing import Any
 
 import numpy as np
 
@@ -364,7 +365,7 @@ def _hf_profile(rng: np.random.Generator, code: str) -> SubjectProfile:
 def _hf(rng: np.random.Generator, code: str, *, end_fraction: tuple[float, float] | None) -> CaseInputs:
     p = _hf_profile(rng, code)
     proto = _cycle_ramp(p, minutes=_u(rng, 8, 12, 1), warmup_w=0.0, rest_s=240.0)
-    osc: dict[str, float] = {}
+    osc: dict[str, Any] = {}
     if end_fraction is not None:
         osc = {
             "oscillation_period_s": _u(rng, 40, 90, 1),
