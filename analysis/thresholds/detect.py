@@ -71,6 +71,19 @@ RELIABILITY: dict[str, float] = {
     "VE vs VCO2 breakpoint": 0.83,
     "VE/VCO2 nadir-rise": 0.79,
 }
+#: A VT2 needs at least one of these in its group of agreeing picks: respiratory compensation
+#: is VE rising against CO2 output with PETCO2 falling (Whipp et al. 1989; Wasserman et al.,
+#: textbook; from memory). VE steepening against VCO2 alone is also what rapid shallow breathing
+#: late in heart-failure tests gives (a rising dead-space fraction, Sullivan et al. 1988, from
+#: memory); measured on the simulator suite, a VT2 read by the VE-vs-VCO2 breakpoint alone was
+#: wrong (no compensation point) 9 times and right 5 times (p90 error 18 % of VO2max).
+VT2_CONFIRMING: frozenset[str] = frozenset({VE_VCO2_RISE, PETCO2_FALL})
+#: A VT1 that one method alone gives is not reported when another method's pick (after the
+#: on-transient) lies more than this many agreement windows away: the methods contradict each
+#: other. Measured on the simulator suite with cart noise (450 tests, docs/thresholds.md): such
+#: lone readings had a median error of 7.8 % of VO2max and a p90 of 19 %; VT1 p90 over the hard
+#: kinds 10.3 -> 8.5 % at 1.5 windows (7.5 % at 1 window, with 12 more tests not determinable).
+CONTRADICTION_WINDOWS = 2.0
 #: An interval this wide (fraction of the test's VO2 range) gives a pick its method's reliability
 #: as its weight; narrower counts more, wider less.
 WIDTH_REFERENCE = 0.15
@@ -474,7 +487,17 @@ def _consensus(
     w = np.array([_weight(p, scale if kind == "vt1" else 0.0) for p in valid])
     support = [[q for q in range(len(valid)) if abs(vo2[q] - vo2[p]) <= tol] for p in range(len(valid))]
     rank = [TIE_ORDER.index(p.method) if p.method in TIE_ORDER else len(TIE_ORDER) for p in valid]
-    best = max(range(len(valid)), key=lambda p: (round(float(w[support[p]].sum()), 9), -rank[p]))
+    centres = list(range(len(valid)))
+    if kind == "vt2":  # respiratory compensation shows in VE/VCO2 or PETCO2 (see VT2_CONFIRMING)
+        centres = [p for p in centres if any(valid[q].method in VT2_CONFIRMING for q in support[p])]
+        if not centres:
+            names = ", ".join(p.method for p in valid)
+            return None, (
+                f"only {names} found a VT2, and neither a VE/VCO2 rise nor a PETCO2 fall agrees with it (VE "
+                "steepening against VCO2 alone, as rapid shallow breathing gives, is not taken as respiratory "
+                "compensation)"
+            )
+    best = max(centres, key=lambda p: (round(float(w[support[p]].sum()), 9), -rank[p]))
     members = support[best]
     cluster = [valid[q] for q in members]
     # weighted mean: it averages the agreeing readings' noise (a weighted median of two picks
@@ -585,8 +608,12 @@ def detect_thresholds(avg: pd.DataFrame, *, phases: pd.Series | np.ndarray | Non
     within :func:`agreement_tolerance_ml_min` (10 % of the test's VO2 range) of each other with
     the largest summed weight (:data:`RELIABILITY`, times the sharpness of each VT1 fit), and its
     value and time are the weighted means of that group; ties
-    go to the more accurate method (:data:`TIE_ORDER`). Confidence is high with 3 or more
-    agreeing methods, moderate with 2, low with 1. Every pick carries a 90 % interval
+    go to the more accurate method (:data:`TIE_ORDER`). A VT2 group must hold a VE/VCO2 rise or
+    a PETCO2 fall (:data:`VT2_CONFIRMING`): VE steepening against VCO2 alone is not taken as
+    respiratory compensation. Confidence is high with 3 or more
+    agreeing methods, moderate with 2, low with 1; a VT1 read by one method alone that another
+    method contradicts (a pick more than :data:`CONTRADICTION_WINDOWS` agreement windows away)
+    is "not determinable". Every pick carries a 90 % interval
     (:mod:`analysis.thresholds.uncertainty`); too wide an interval, or a lone VT1 reading right
     after the on-transient, is "not determinable" (the pick moves to ``vt1_undetermined``).
     VT1 comes before VT2 in the result (read again, else the less supported one is dropped,
@@ -699,6 +726,12 @@ def detect_thresholds(avg: pd.DataFrame, *, phases: pd.Series | np.ndarray | Non
             reasons.append(f"VT1 not determinable: {why}")
             report.vt1_undetermined = replace(vt1, determinable=False, reason=why)
             vt1 = None
+    if vt1 is not None and vt1.confidence == "low":
+        window = CONTRADICTION_WINDOWS * agreement_tolerance_ml_min(float(np.ptp(ex.vo2)))
+        vt1, contradicted = _contradicted(vt1, vt1_c, onset, window)
+        if contradicted is not None:
+            reasons.append(f"VT1 not determinable: {contradicted.reason}")
+            report.vt1_undetermined = contradicted
     vt1, undetermined = _determinable(vt1, ex, reasons)
     report.vt1_undetermined = undetermined or report.vt1_undetermined
     vt2, report.vt2_undetermined = _determinable(vt2, ex, reasons)
@@ -750,6 +783,30 @@ def _order(
     if rank[vt2.confidence] > rank[vt1.confidence]:
         return None, vt2, f"{first}; VT1 rests on fewer agreeing methods and was dropped (VT1 not found)"
     return vt1, None, f"{first}; VT2 rests on no more agreeing methods than VT1 and was dropped (VT2 not found)"
+
+
+def _contradicted(
+    pick: ThresholdPick, cands: dict[str, ThresholdPick | None], onset_end_s: float, window_ml_min: float
+) -> tuple[ThresholdPick | None, ThresholdPick | None]:
+    """(pick in use, pick set aside): a reading of one method that another method contradicts
+    (a pick more than ``window_ml_min`` away, after the on-transient) is not reported.
+
+    Lone readings contradicted by another method were the VT1 tail on the simulator suite with
+    cart noise (median error 7.8 % of VO2max, p90 19 %, against 1.4 % / 4.2 % for readings that
+    three or more methods agree on; docs/thresholds.md).
+    """
+    others = [
+        p for p in cands.values()
+        if p is not None and p.t_s >= onset_end_s and abs(p.vo2_ml_min - pick.vo2_ml_min) > window_ml_min
+    ]
+    if not others:
+        return pick, None
+    listed = "; ".join(f"{p.method} {p.vo2_ml_min:.0f} mL/min" for p in others)
+    reason = (
+        f"the one reading ({pick.vo2_ml_min:.0f} mL/min) is contradicted by another method ({listed}): "
+        "with the methods disagreeing, no value is reported (check the charts)"
+    )
+    return None, replace(pick, determinable=False, reason=reason)
 
 
 def _determinable(

@@ -64,11 +64,13 @@ def _errors(suite, key, *, kinds=None):
 
 
 def test_vt1_accuracy_all_kinds(suite):
-    # measured on these 225 tests (cart noise): median 2.1 %, p90 9.7 % of VO2max, 14 not given
+    # measured on these 225 tests (cart noise): median 1.9 %, p90 7.5 % of VO2max, 33 not given
+    # (before a lone reading contradicted by another method became not determinable: 2.1 / 9.7 %,
+    # 14 not given)
     err, missing = _errors(suite, "vt1")
     assert np.median(err) <= 3.0
-    assert np.percentile(err, 90) <= 10.5
-    assert missing <= 16
+    assert np.percentile(err, 90) <= 9.0
+    assert missing <= 36
 
 
 def test_vt1_accuracy_original_kinds(suite):
@@ -82,15 +84,16 @@ def test_vt1_accuracy_original_kinds(suite):
 
 
 def test_vt2_accuracy_and_no_false_vt2(suite):
-    # measured (cart noise): median 1.9 %, p90 5.5 %, 9 of 177 missed; VT2 reported in 5 of 48
-    # tests without one
+    # measured (cart noise): median 1.9 %, p90 5.3 %, 15 of 177 missed; VT2 reported in 0 of 48
+    # tests without one (5 of 48 before a VT2 needed a VE/VCO2 rise or a PETCO2 fall)
     err, missing = _errors(suite, "vt2")
     assert np.median(err) <= 2.5
     assert np.percentile(err, 90) <= 7.0
-    assert missing <= 11
+    assert missing <= 17
     without = [r for k, _, _, t, r in suite if t.vt2_vo2_ml_min is None]
     false = sum(r.vt2 is not None for r in without)
     assert false <= len(without) / 7
+    assert false <= 2
 
 
 def test_oscillating_ventilation_keeps_vt2(suite):

@@ -89,7 +89,11 @@ class TestPicks:
         # synthetic ramp: VT1 1700 and VT2 2600 mL/min planted; 5 seeds at noise 1
         for seed in range(5):
             r = detect_thresholds(average_breaths(ramp_test(seed=seed, noise=1.0), DEFAULT_AVERAGING))
-            assert r.vt1.ci90_vo2_ml_min[0] <= 1700.0 <= r.vt1.ci90_vo2_ml_min[1]
+            # seed 4: V-slope alone (1575) against a PETO2 nadir at 2429 mL/min: not determinable,
+            # the pick and its interval kept aside
+            vt1 = r.vt1 or r.vt1_undetermined
+            assert (r.vt1 is None) == (seed == 4)
+            assert vt1.ci90_vo2_ml_min[0] <= 1700.0 <= vt1.ci90_vo2_ml_min[1]
             assert r.vt2.ci90_vo2_ml_min[0] <= 2600.0 <= r.vt2.ci90_vo2_ml_min[1]
 
     def test_too_wide_is_not_determinable_and_not_reported(self, monkeypatch):

@@ -1,0 +1,67 @@
+"""Readings the methods contradict: VE steepening against VCO2 alone is no VT2; a lone VT1 that
+another method contradicts is not determinable (synthetic ramps, tests/.../synthetic.py)."""
+
+from __future__ import annotations
+
+import pytest
+
+from analysis.breaths import DEFAULT_AVERAGING, average_breaths
+from analysis.thresholds import detect_thresholds
+from analysis.thresholds.detect import (
+    CONTRADICTION_WINDOWS,
+    EQUIVALENTS,
+    PETO2_NADIR,
+    VE_VCO2_BREAK,
+    VSLOPE,
+    _contradicted,
+)
+from analysis.thresholds.results import ThresholdPick
+from tests.analysis.thresholds.synthetic import ramp_test
+
+
+def _without_petco2_fall(**kwargs):
+    """A ramp whose VE steepens against VCO2 at ``vt2_vo2`` while PETCO2 stays level (the
+    end-tidal columns of the same ramp without a compensation point)."""
+    b = ramp_test(**kwargs)
+    ref = ramp_test(**{**kwargs, "vt2_vo2": None})
+    b["petco2_mmhg"] = ref["petco2_mmhg"]
+    b["peto2_mmhg"] = ref["peto2_mmhg"]
+    return b
+
+
+@pytest.mark.parametrize(("vt2", "factor"), [(2900.0, 1.3), (2800.0, 1.25), (2700.0, 1.2)])
+def test_ve_steepening_alone_is_not_taken_for_vt2(vt2, factor):
+    # noise-free: the breakpoint is found where it was planted, VE/VCO2 rises < 1 unit (its
+    # minimum size) and PETCO2 does not fall, so no VT2 is reported, and the reason says why
+    r = detect_thresholds(average_breaths(_without_petco2_fall(noise=0.0, vt2_vo2=vt2, rc_factor=factor), DEFAULT_AVERAGING))
+    assert r.vt2_candidates[VE_VCO2_BREAK].vo2_ml_min == pytest.approx(vt2, abs=40.0)
+    assert r.vt2 is None
+    assert any("not taken as respiratory compensation" in x for x in r.reasons)
+    assert r.vt1.vo2_ml_min == pytest.approx(1700.0, abs=60.0)
+
+
+def test_the_same_steepening_with_petco2_falling_is_vt2():
+    r = detect_thresholds(average_breaths(ramp_test(noise=0.0, vt2_vo2=2800.0, rc_factor=1.25), DEFAULT_AVERAGING))
+    assert r.vt2 is not None
+    assert r.vt2.vo2_ml_min == pytest.approx(2800.0, abs=60.0)
+
+
+def _pick(method: str, vo2: float, t_s: float) -> ThresholdPick:
+    return ThresholdPick("vt1", t_s, vo2, method, "auto", "moderate", "", 0, ci90_vo2_ml_min=(vo2 - 100, vo2 + 100))
+
+
+def test_a_lone_vt1_contradicted_by_another_method_is_set_aside():
+    lone = ThresholdPick("vt1", 500.0, 1500.0, "consensus", "auto", "low", "found by one method only", 3)
+    assert CONTRADICTION_WINDOWS == 2.0
+    window = CONTRADICTION_WINDOWS * 100.0  # agreement window 100 mL/min -> 200 mL/min
+    cands = {VSLOPE: _pick(VSLOPE, 1500.0, 500.0), PETO2_NADIR: _pick(PETO2_NADIR, 1750.0, 560.0), EQUIVALENTS: None}
+    used, aside = _contradicted(lone, cands, 200.0, window)
+    assert used is None and aside is not None and not aside.determinable
+    assert aside.vo2_ml_min == 1500.0
+    assert "contradicted by another method (PETO2 nadir 1750 mL/min)" in aside.reason
+    # a pick within 2 windows (199 mL/min away) does not contradict it
+    cands[PETO2_NADIR] = _pick(PETO2_NADIR, 1699.0, 560.0)
+    assert _contradicted(lone, cands, 200.0, window) == (lone, None)
+    # nor does one inside the on-transient (before 200 s)
+    cands[PETO2_NADIR] = _pick(PETO2_NADIR, 1000.0, 150.0)
+    assert _contradicted(lone, cands, 200.0, window) == (lone, None)
