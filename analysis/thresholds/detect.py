@@ -83,7 +83,7 @@ VT2_CONFIRMING: frozenset[str] = frozenset({VE_VCO2_RISE, PETCO2_FALL})
 #: other. Measured on the simulator suite with cart noise (450 tests, docs/thresholds.md): such
 #: lone readings had a median error of 7.8 % of VO2max and a p90 of 19 %; VT1 p90 over the hard
 #: kinds 10.3 -> 8.5 % at 1.5 windows (7.5 % at 1 window, with 12 more tests not determinable).
-CONTRADICTION_WINDOWS = 2.0
+CONTRADICTION_WINDOWS = 1.5
 #: An interval this wide (fraction of the test's VO2 range) gives a pick its method's reliability
 #: as its weight; narrower counts more, wider less.
 WIDTH_REFERENCE = 0.15

@@ -52,15 +52,15 @@ def _pick(method: str, vo2: float, t_s: float) -> ThresholdPick:
 
 def test_a_lone_vt1_contradicted_by_another_method_is_set_aside():
     lone = ThresholdPick("vt1", 500.0, 1500.0, "consensus", "auto", "low", "found by one method only", 3)
-    assert CONTRADICTION_WINDOWS == 2.0
-    window = CONTRADICTION_WINDOWS * 100.0  # agreement window 100 mL/min -> 200 mL/min
+    assert CONTRADICTION_WINDOWS == 1.5
+    window = CONTRADICTION_WINDOWS * 100.0  # agreement window 100 mL/min -> 150 mL/min
     cands = {VSLOPE: _pick(VSLOPE, 1500.0, 500.0), PETO2_NADIR: _pick(PETO2_NADIR, 1750.0, 560.0), EQUIVALENTS: None}
     used, aside = _contradicted(lone, cands, 200.0, window)
     assert used is None and aside is not None and not aside.determinable
     assert aside.vo2_ml_min == 1500.0
     assert "contradicted by another method (PETO2 nadir 1750 mL/min)" in aside.reason
-    # a pick within 2 windows (199 mL/min away) does not contradict it
-    cands[PETO2_NADIR] = _pick(PETO2_NADIR, 1699.0, 560.0)
+    # a pick within 1.5 windows (149 mL/min away) does not contradict it
+    cands[PETO2_NADIR] = _pick(PETO2_NADIR, 1649.0, 560.0)
     assert _contradicted(lone, cands, 200.0, window) == (lone, None)
     # nor does one inside the on-transient (before 200 s)
     cands[PETO2_NADIR] = _pick(PETO2_NADIR, 1000.0, 150.0)

@@ -64,13 +64,13 @@ def _errors(suite, key, *, kinds=None):
 
 
 def test_vt1_accuracy_all_kinds(suite):
-    # measured on these 225 tests (cart noise): median 1.9 %, p90 7.5 % of VO2max, 33 not given
+    # measured on these 225 tests (cart noise): median 1.9 %, p90 7.6 % of VO2max, 35 not given
     # (before a lone reading contradicted by another method became not determinable: 2.1 / 9.7 %,
     # 14 not given)
     err, missing = _errors(suite, "vt1")
     assert np.median(err) <= 3.0
     assert np.percentile(err, 90) <= 9.0
-    assert missing <= 36
+    assert missing <= 38
 
 
 def test_vt1_accuracy_original_kinds(suite):
