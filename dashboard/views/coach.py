@@ -185,6 +185,7 @@ def render_scope(store: Any, scope: Any) -> None:
             file_name=report_file_name(summary),
             mime="text/html",
             key="coach_report",
+            on_click="ignore",  # no rerun while the browser fetches the file
         )
 
 

@@ -86,6 +86,7 @@ def render() -> None:
         mime="text/html",
         type="primary",
         key="reports_html",
+        on_click="ignore",  # no rerun while the browser fetches the file
     )
     no_pdf = unavailable_reason()
     if no_pdf:
@@ -102,6 +103,7 @@ def render() -> None:
             file_name=report_file_name(summary, suffix=".pdf"),
             mime="application/pdf",
             key="reports_pdf",
+            on_click="ignore",
         )
     st.caption("One page (A4 or Letter) with the lab's letterhead and a signature line; methods and notes on a "
                "second page. Times are shown as m:ss; the CSV exports keep seconds.")
@@ -109,7 +111,8 @@ def render() -> None:
     files = export_files(results, session, stem=stem)
     cols = st.columns(len(files))
     for col, (name, f) in zip(cols, files.items(), strict=True):
-        col.download_button(EXPORT_LABELS.get(name, name), f.data, file_name=f.file_name, mime=f.mime, key=f"reports_{name}")
+        col.download_button(EXPORT_LABELS.get(name, name), f.data, file_name=f.file_name, mime=f.mime, key=f"reports_{name}",
+                             on_click="ignore")
     st.caption(
         "CSV cells that start with =, +, - or @ are neutralised so that a spreadsheet does not run them as formulas."
     )
