@@ -31,9 +31,11 @@ LAUNCHER = (
     "cli.build_parser(*(['serve'] if inspect.signature(cli.build_parser).parameters else [])).parse_args(['serve'])"
 )
 
-_HELPERS = (ROOT / "benchmarks" / "sessions.py").read_text(encoding="utf-8") + "\n" + (
-    ROOT / "benchmarks" / "store_fill.py"
-).read_text(encoding="utf-8").replace("ROOT = Path(__file__).resolve().parents[1]", f"ROOT = Path({str(ROOT)!r})")
+# the two helper modules pasted into one script: their ``from __future__`` lines would not be first
+_HELPERS = "\n".join(
+    (ROOT / "benchmarks" / name).read_text(encoding="utf-8").replace("from __future__ import annotations\n", "")
+    for name in ("sessions.py", "store_fill.py")
+).replace("ROOT = Path(__file__).resolve().parents[1]", f"ROOT = Path({str(ROOT)!r})")
 
 _CPU = """
 import time, io, json

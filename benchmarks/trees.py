@@ -57,15 +57,18 @@ def run_process(args: list[str], *, tree: Path, env: dict[str, str] | None = Non
     """Run ``args`` with ``tree`` first on the import path; the kernel's accounting of that process."""
     environment = dict(os.environ, PYTHONPATH=str(tree), **(env or {}))
     t0 = time.perf_counter()
-    with tempfile.TemporaryFile() as out:
-        proc = subprocess.Popen(args, cwd=tree, env=environment, stdout=out, stderr=subprocess.DEVNULL)
+    with tempfile.TemporaryFile() as out, tempfile.TemporaryFile() as err:
+        proc = subprocess.Popen(args, cwd=tree, env=environment, stdout=out, stderr=err)
         _, status, usage = os.wait4(proc.pid, 0)
         wall = time.perf_counter() - t0
         proc.returncode = os.waitstatus_to_exitcode(status)
         out.seek(0)
         text = out.read().decode("utf-8", errors="replace")
+        err.seek(0)
+        last_lines = err.read().decode("utf-8", errors="replace").strip().splitlines()[-5:]
     if proc.returncode not in (0,):
-        raise RuntimeError(f"{args[:3]}... exited with {proc.returncode} in {tree}")
+        shown = [a if len(a) < 80 else a[:60] + "..." for a in args[:3]]
+        raise RuntimeError(f"{shown} exited with {proc.returncode} in {tree}: " + " | ".join(last_lines))
     return ProcessCost(usage.ru_utime + usage.ru_stime, wall, usage.ru_maxrss / 1024, text)
 
 

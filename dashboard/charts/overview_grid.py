@@ -239,6 +239,19 @@ def _thin(frame: pd.DataFrame, max_points: int) -> pd.DataFrame:
     return frame.iloc[::step]
 
 
+def _display_only(values: np.ndarray) -> np.ndarray:
+    """Positions of dots that are drawn and never read back (no hover, no selection) as 32-bit
+    floats: plotly sends them as half the bytes, and 7 significant digits are far finer than a
+    pixel. Never used for a value a reviewer reads or picks."""
+    return np.asarray(values, dtype=np.float32)
+
+
+def _point_ids(t: np.ndarray) -> list[list[float]]:
+    """``[t_s, row]`` of each averaged point (row as a whole number), read back by clicks and
+    selections."""
+    return [[t_s, row] for row, t_s in enumerate(np.asarray(t, dtype=float).tolist())]
+
+
 class _Builder:
     """Collects the traces, shapes and annotations of the grid, panel by panel."""
 
@@ -264,14 +277,13 @@ class _Builder:
              unit: str, digits: int = 0, dash: str = "solid", yaxis: str | None = None, markers: bool = False) -> None:
         """An averaged series: its points carry ``[t_s, row]`` (click and selection read the time)."""
         xa, ya = axis_ids(index)
-        rows = np.arange(len(t), dtype=float)
         self.traces.append({
             # small markers on the lines too: plotly's box and lasso select markers, not lines
             "type": "scatter", "x": x, "y": y, "mode": "lines+markers",
             "line": {"color": colour, "width": 1.6, "dash": dash}, "marker": {"size": 4 if markers else 2, "color": colour},
             "name": name, "xaxis": xa, "yaxis": yaxis or ya,
             # plain lists, t_s first: selection events carry them back (click and box/lasso read the time)
-            "customdata": np.column_stack([t, rows]).tolist(), "text": time_labels(t),
+            "customdata": _point_ids(t), "text": time_labels(t),
             "hovertemplate": f"{name} %{{y:.{digits}f}} {unit}<br>at %{{text}}<extra></extra>".replace(" <br>", "<br>"),
         })
 
@@ -332,6 +344,8 @@ def overview_figure(
     first_time_axis: str | None = None
     excluded = {int(r) for r in excluded_rows}
     extra_axis = len(keys) + 1  # secondary y axes get ids after the panels'
+    phases, _ = phase_shapes(avg)  # the same on every time panel
+    ticks = time_axis(t_lo, t_hi, title="", max_ticks=4)
 
     for i, key in enumerate(keys):
         panel = PANEL_BY_KEY[key]
@@ -347,10 +361,11 @@ def overview_figure(
             if breaths is not None and has(breaths, C.VO2_ML_MIN) and has(breaths, C.T_S):
                 kept = breaths[~breaths["source_row"].isin(excluded)] if "source_row" in breaths.columns else breaths
                 cloud = _thin(kept, CLOUD_MAX_POINTS)
+                cloud_t = _display_only(column(cloud, C.T_S))
                 for col in (C.VO2_ML_MIN, C.VCO2_ML_MIN):
                     if has(cloud, col):
                         b.traces.append({
-                            "type": "scattergl", "x": column(cloud, C.T_S), "y": column(cloud, col), "mode": "markers",
+                            "type": "scattergl", "x": cloud_t, "y": _display_only(column(cloud, col)), "mode": "markers",
                             "marker": {"size": 2.5, "color": palette.SIGNAL[col], "opacity": palette.BREATH_DOT_OPACITY},
                             "name": f"{C.COLUMNS[col].label} breaths", "hoverinfo": "skip", "xaxis": xa, "yaxis": ya,
                         })
@@ -374,7 +389,7 @@ def overview_figure(
                     b.traces.append({
                         "type": "scatter", "x": w, "y": column(frame, col), "mode": "markers",
                         "marker": {"size": 4, "color": palette.SIGNAL[col]}, "name": C.COLUMNS[col].label,
-                        "xaxis": xa, "yaxis": ya, "customdata": np.column_stack([t, np.arange(len(t), dtype=float)]).tolist(),
+                        "xaxis": xa, "yaxis": ya, "customdata": _point_ids(t),
                         "text": time_labels(t),
                         "hovertemplate": f"{C.COLUMNS[col].label} %{{y:.0f}} mL/min at %{{x:.0f}} W<br>at %{{text}}<extra></extra>",
                     })
@@ -428,8 +443,7 @@ def overview_figure(
 
         # thresholds, phases and the highlighted span, on this panel's own axes
         if panel.over_time:
-            shapes, _ = phase_shapes(avg)
-            b.shapes.extend(_remap(shapes, xa, ya))
+            b.shapes.extend(_remap(phases, xa, ya))
             b.shapes.extend(_remap(span_shapes(highlight), xa, ya))
             t_shapes, t_labels = threshold_shapes(thresholds, key="t_s")
             b.shapes.extend(_remap(t_shapes, xa, ya))
@@ -438,7 +452,7 @@ def overview_figure(
                 first_time_axis = xa
             else:
                 xaxis["matches"] = first_time_axis
-            xaxis.update(time_axis(t_lo, t_hi, title="", max_ticks=4))
+            xaxis.update(ticks)
             if x_rng:
                 xaxis["range"] = list(x_rng)
             y_rng = y_range_in_window(b.traces[n_before:], x_rng, axis=ya)
