@@ -19,6 +19,7 @@ import json
 import os
 from typing import Any
 
+import numpy as np
 import plotly.graph_objects as go
 from plotly.subplots import make_subplots
 
@@ -28,7 +29,8 @@ def plain_figure(spec: dict[str, Any]) -> go.Figure:
     fig = make_subplots(rows=spec["rows"], cols=spec["cols"])
     for trace in spec["traces"]:
         kind = go.Scattergl if trace["type"] == "scattergl" else go.Scatter
-        fig.add_trace(kind(x=trace["x"], y=trace["y"], mode=trace["mode"]), row=trace["row"], col=trace["col"])
+        x, y = (np.asarray(trace[k], dtype=float) for k in ("x", "y"))  # as from a data frame: 64-bit floats
+        fig.add_trace(kind(x=x, y=y, mode=trace["mode"]), row=trace["row"], col=trace["col"])
     fig.update_layout(height=spec["height"], showlegend=False)
     return fig
 
