@@ -1,8 +1,9 @@
 """One person across tests: change from baseline, typical-error bands and aligned series.
 
-Pure functions on plain dicts and pandas frames: the inputs are the stored results of each
-test (the JSON dict of ``analysis.records.to_json(TestResults)``) and, for overlays,
-the averaged breath frames. Nothing here reads a file or a database.
+Pure functions on result records and pandas frames: the inputs are the typed results of each
+test (:class:`analysis.results.TestResults`; a stored version is read back with
+:func:`analysis.results.results_from_json`) and, for overlays, the averaged breath frames.
+Nothing here reads a file or a database.
 
 Typical (test-retest) errors are kept in :data:`TYPICAL_ERRORS` with their provenance, so the
 page and the report can state the figure used and where it comes from.
@@ -11,15 +12,18 @@ page and the report can state the figure used and where it comes from.
 from __future__ import annotations
 
 import math
-from collections.abc import Mapping, Sequence
+from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 import pandas as pd
 
 from analysis import columns as C
 from analysis.errors import InvalidParameter, require
+
+if TYPE_CHECKING:
+    from analysis.results import TestResults
 
 
 @dataclass(frozen=True)
@@ -44,29 +48,33 @@ class TypicalError:
 
 @dataclass(frozen=True)
 class Metric:
-    """A result followed across tests: its label, unit and where it sits in the results JSON."""
+    """A result followed across tests: its label, unit and how it is read from the result record."""
 
     key: str
     label: str
     unit: str
-    path: tuple[str, ...]
+    read: Callable[[TestResults], float | None]
 
 
-#: Results followed on the Progress page. ``path`` walks the results JSON dict.
+def _vt1_vo2(results: TestResults) -> float | None:
+    return None if results.vt1 is None else results.vt1.vo2_ml_min
+
+
+#: Results followed on the Progress page. ``read`` takes the value from the result record.
 METRICS: dict[str, Metric] = {
     m.key: m
     for m in (
-        Metric("vo2_peak_ml_min", "VO2peak", "mL/min", ("vo2_peak_ml_min",)),
-        Metric("vo2_peak_ml_kg_min", "VO2peak per kg", "mL/kg/min", ("vo2_peak_ml_kg_min",)),
-        Metric("vt1_vo2_ml_min", "VO2 at VT1", "mL/min", ("vt1", "vo2_ml_min")),
+        Metric("vo2_peak_ml_min", "VO2peak", "mL/min", lambda r: r.vo2_peak_ml_min),
+        Metric("vo2_peak_ml_kg_min", "VO2peak per kg", "mL/kg/min", lambda r: r.vo2_peak_ml_kg_min),
+        Metric("vt1_vo2_ml_min", "VO2 at VT1", "mL/min", _vt1_vo2),
         # One fixed span per metric: the whole-exercise slope exists for every test, while the
         # headline slope's span (to VT2, or the whole exercise without a VT2) can differ
         # between two tests of the same person.
         Metric(
             "ve_vco2_slope_whole_exercise", "VE/VCO2 slope (whole exercise)", "",
-            ("indices", "ve_vco2_slope_whole_exercise"),
+            lambda r: r.indices.ve_vco2_slope_whole_exercise,
         ),
-        Metric("o2_pulse_peak_ml_beat", "Peak O2 pulse", "mL/beat", ("indices", "o2_pulse_peak_ml_beat")),
+        Metric("o2_pulse_peak_ml_beat", "Peak O2 pulse", "mL/beat", lambda r: r.indices.o2_pulse_peak_ml_beat),
     )
 }
 
@@ -113,13 +121,13 @@ BAND_METHOD: str = (
 )
 
 
-def metric_value(results: Mapping[str, Any], metric: str) -> float | None:
-    """Read one followed result from a results JSON dict.
+def metric_value(results: TestResults, metric: str) -> float | None:
+    """Read one followed result from a result record.
 
     Parameters
     ----------
-    results : mapping
-        The dict of ``to_json(TestResults)``.
+    results : TestResults
+        The typed result of one test.
     metric : str
         A key of :data:`METRICS`.
 
@@ -129,27 +137,19 @@ def metric_value(results: Mapping[str, Any], metric: str) -> float | None:
         The value, or ``None`` when the test has no such result (e.g. no VT1 found).
     """
     require(metric in METRICS, "metric", f"one of {sorted(METRICS)}", metric)
-    node: Any = results
-    for key in METRICS[metric].path:
-        node = node.get(key) if isinstance(node, Mapping) else None
-    if node is None or isinstance(node, (bool, Mapping, list)):
-        return None
-    try:
-        value = float(node)
-    except (TypeError, ValueError):
-        return None
-    return value if math.isfinite(value) else None
+    value = METRICS[metric].read(results)
+    return None if value is None or not math.isfinite(value) else float(value)
 
 
 @dataclass(frozen=True)
 class TestRecord:
-    """One stored test of a person: its id, date and results JSON dict."""
+    """One stored test of a person: its id, date and typed result."""
 
     __test__ = False  # not a pytest class
 
     test_id: int
     test_date: str
-    results: Mapping[str, Any]
+    results: TestResults
     label: str = ""
 
 

@@ -27,7 +27,6 @@ from typing import TYPE_CHECKING, Any
 
 import streamlit as st
 
-from analysis.records import to_json
 from analysis.session import Session
 
 if TYPE_CHECKING:
@@ -88,14 +87,17 @@ def analyze(test_id: int, settings_json: str) -> TestResults:
     return _analyze(int(test_id), settings_json, get_store().session_digest(int(test_id)), store_url())
 
 
-@st.cache_data(show_spinner=False, max_entries=64)
-def _results_json(test_id: int, settings_json: str, session_digest: str, url: str | None) -> dict[str, Any]:
-    return to_json(_analyze(int(test_id), settings_json, session_digest, url))
+def stored_results(store: Any, test_id: int, *, version: int | None = None) -> TestResults | None:
+    """The results the store kept for a version (current by default), read back by the codec.
 
+    The one place a stored results JSON becomes a record again
+    (:func:`analysis.results.results_from_json`); ``None`` when the analysis of that version
+    could not be carried out (the reason is in the test summary's ``results_error``).
+    """
+    from analysis.results import results_from_json
 
-def results_json(test_id: int, settings_json: str) -> dict[str, Any]:
-    """``to_json(analyze(...))``, cached separately (pages mostly read this dict)."""
-    return _results_json(int(test_id), settings_json, get_store().session_digest(int(test_id)), store_url())
+    stored = store.get_results(int(test_id), version=version)
+    return results_from_json(stored) if stored else None
 
 
 @st.cache_data(show_spinner=False, max_entries=16)
@@ -136,7 +138,6 @@ def sheet_names(data: bytes) -> list[str]:
 def clear_test_caches() -> None:
     """Forget cached analyses (after a store change that alters what a test id holds)."""
     _analyze.clear()
-    _results_json.clear()
 
 
 @st.cache_data(show_spinner=False, max_entries=16)

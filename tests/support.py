@@ -34,3 +34,27 @@ def demo_result(path: Path = CYCLE_DEMO, *, with_oxygen: bool = False) -> TestRe
     from analysis.pipeline import analyze_session
 
     return analyze_session(read_session(path.read_bytes(), file_name=path.name), with_oxygen=with_oxygen)
+
+
+def result_with(
+    *,
+    vo2_peak_ml_min: float,
+    vt1_vo2_ml_min: float | None = None,
+    ve_vco2_slope_whole_exercise: float | None = None,
+    o2_pulse_peak_ml_beat: float | None = None,
+    body_mass_kg: float = 70.0,
+) -> TestResults:
+    """The cycling demo's result with the values Progress follows set by hand (for tables whose
+    changes are known exactly); VO2peak per kg follows from ``body_mass_kg``."""
+    import dataclasses
+
+    r = demo_result()
+    vt1 = None if vt1_vo2_ml_min is None or r.vt1 is None else dataclasses.replace(r.vt1, vo2_ml_min=vt1_vo2_ml_min)
+    return dataclasses.replace(
+        r,
+        peak=dataclasses.replace(r.peak, vo2_ml_min=vo2_peak_ml_min, vo2_ml_kg_min=vo2_peak_ml_min / body_mass_kg),
+        vt1=vt1,
+        indices=dataclasses.replace(
+            r.indices, ve_vco2_slope_whole_exercise=ve_vco2_slope_whole_exercise, o2_pulse_peak_ml_beat=o2_pulse_peak_ml_beat
+        ),
+    )

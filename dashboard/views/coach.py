@@ -203,7 +203,7 @@ def progress_records(store: Any, summaries: list[Any]) -> list[Any]:
     for s in summaries:
         settings, _ = stored_settings(store, s.id)
         label = " · ".join(x for x in (str(s.test_date or "no date"), s.protocol or "") if x)
-        records.append(TestRecord(s.id, str(s.test_date or ""), data.results_json(s.id, state.settings_key(settings)), label=label))
+        records.append(TestRecord(s.id, str(s.test_date or ""), data.analyze(s.id, state.settings_key(settings)), label=label))
     return records
 
 

@@ -10,6 +10,7 @@ from __future__ import annotations
 import hashlib
 import json
 import logging
+import math
 import re
 from collections.abc import Mapping, Sequence
 from typing import Any
@@ -159,8 +160,9 @@ def flag_summary(flags: pd.DataFrame) -> pd.DataFrame:
 def stored_headline(store: Any, summary: Any) -> dict[str, float | None]:
     """VO2peak, VT1 VO2 and VE/VCO2 slope of a test's current stored version.
 
-    The store's summary columns are used; when one is empty the stored results JSON of that
-    version is read instead (same numbers, computed by the analysis when the version was saved).
+    The store's summary columns are used; when one is empty the stored results of that version
+    are read instead (same numbers, computed by the analysis when the version was saved, read
+    back as the result record by :func:`dashboard.data.stored_results`).
     """
     out = {
         "vo2_peak_ml_min": summary.vo2peak_ml_min,
@@ -169,14 +171,20 @@ def stored_headline(store: Any, summary: Any) -> dict[str, float | None]:
     }
     if any(v is None for v in out.values()) and not summary.results_error:
         try:
-            results = store.get_results(summary.id)
+            results = data.stored_results(store, summary.id)
         except Exception:  # the list still shows what the summary has
             log.exception("stored results of test %s could not be read", summary.id)
             return out
-        vt1 = results.get("vt1") or {}
-        out["vo2_peak_ml_min"] = out["vo2_peak_ml_min"] if out["vo2_peak_ml_min"] is not None else results.get("vo2_peak_ml_min")
-        out["vt1_vo2_ml_min"] = out["vt1_vo2_ml_min"] if out["vt1_vo2_ml_min"] is not None else vt1.get("vo2_ml_min")
-        out["ve_vco2_slope"] = out["ve_vco2_slope"] if out["ve_vco2_slope"] is not None else results.get("ve_vco2_slope")
+        if results is None:
+            return out
+        stored = {
+            "vo2_peak_ml_min": results.vo2_peak_ml_min,
+            "vt1_vo2_ml_min": None if results.vt1 is None else results.vt1.vo2_ml_min,
+            "ve_vco2_slope": results.ve_vco2_slope,
+        }
+        for key, value in stored.items():  # NaN (a value the analysis could not compute) is no value
+            if out[key] is None and value is not None and math.isfinite(value):
+                out[key] = value
     return out
 
 

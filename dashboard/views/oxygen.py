@@ -20,6 +20,9 @@ import streamlit as st
 
 from analysis.oxygen import CAUTION, DEFAULT_CONDITIONS, STATE_NAMES, StateConditions
 from analysis.oxygen.comparison import COMPARISON_MODELS
+from analysis.oxygen.pathway import OxygenPathway
+from analysis.records import to_json
+from analysis.results import TestResults
 from dashboard import data, state
 from dashboard.charts.oxygen_curves import STATE_LABEL, dissociation_figure, unloading_figure
 from dashboard.report.html_report import format_number
@@ -345,12 +348,12 @@ def render() -> None:
     oxygen_in = oxygen_settings(model=model, pao2_mmhg=pao2, spo2_pct=spo2, conditions=conditions, q_l_min=q)
     hb_override = float(hb) if (not hb_meta or abs(float(hb) - float(hb_meta)) > 1e-9) else None
     new_settings = with_oxygen(settings, oxygen_in, hb_g_dl=hb_override)
-    results_json = data.results_json(test_id, settings_json(new_settings))
-    oxygen = results_json.get("oxygen")
-    if not oxygen:
-        reasons = [w for w in results_json.get("warnings") or [] if w.lower().startswith("oxygen")]
+    results = data.analyze(test_id, settings_json(new_settings))
+    if results.oxygen is None:
+        reasons = [w for w in results.warnings if w.lower().startswith("oxygen")]
         st.error("The oxygen comparison could not be made for this test. " + " ".join(reasons))
         return
+    oxygen = to_json(results.oxygen)  # the per-state tables below still read the part's JSON form
 
     st.subheader("Dissociation curves")
     curves = {"rest": StateConditions(**oxygen["resting_conditions"])}
@@ -375,7 +378,7 @@ def render() -> None:
     for note in grouped_notes(oxygen):
         st.info(note)
 
-    what_if_panel(results_json)
+    what_if_panel(results)
 
     start = _start_conditions(settings)
     start_oxygen = oxygen_settings(
@@ -409,16 +412,12 @@ def what_if_key(name: str) -> str:
     return f"ox_wi_{name}"
 
 
-def pathway_for(results_json: dict[str, Any]) -> tuple[Any, tuple[str, ...]]:
-    """The O2 pathway record of the result shown (its ``oxygen_cascade`` part, read by the codec)."""
-    from analysis.oxygen.pathway import OxygenPathway
-    from analysis.records import from_json
-
-    cascade = results_json.get("oxygen_cascade")
-    if not cascade:
-        notes = [w for w in results_json.get("warnings") or [] if "cascade" in str(w).lower()]
+def pathway_for(results: TestResults) -> tuple[OxygenPathway | None, tuple[str, ...]]:
+    """The O2 pathway record of the result shown (its ``oxygen_cascade`` part)."""
+    if results.oxygen_cascade is None:
+        notes = [w for w in results.warnings if "cascade" in w.lower()]
         return None, tuple(notes) or ("The O2 cascade could not be solved for this test.",)
-    return from_json(OxygenPathway, cascade), ()
+    return results.oxygen_cascade, ()
 
 
 def what_if_table(pathway: Any) -> pd.DataFrame:
@@ -464,7 +463,7 @@ def co2_table(pathway: Any) -> pd.DataFrame:
     return pd.DataFrame(rows)
 
 
-def what_if_panel(results_json: dict[str, Any]) -> None:
+def what_if_panel(results: TestResults) -> None:
     """The O2 cascade at peak with sliders for Hb, COHb, P50, altitude or PB, FIO2, Q and DmO2."""
     from analysis.oxygen.alveolar import barometric_pressure_mmhg
     from analysis.oxygen.cascade import cascade_lines
@@ -473,7 +472,7 @@ def what_if_panel(results_json: dict[str, Any]) -> None:
     from dashboard.charts.oxygen_cascade import cascade_figure
 
     st.subheader("What if: the O2 cascade at peak")
-    pathway, notes = pathway_for(results_json)
+    pathway, notes = pathway_for(results)
     if pathway is None:
         st.info(" ".join(notes))
         return

@@ -33,15 +33,6 @@ DIGITS: dict[str, int] = {
 }
 
 
-def averaged_frame(results: Any) -> pd.DataFrame | None:
-    """The averaged breath frame of a ``TestResults`` (``None`` when it has none)."""
-    for name in ("averaged", "avg", "averages"):
-        value = getattr(results, name, None)
-        if isinstance(value, pd.DataFrame):
-            return value
-    return None
-
-
 def change_display(table: pd.DataFrame) -> pd.DataFrame:
     """The progress table formatted for reading: one row per test and result."""
     rows = []
@@ -111,7 +102,7 @@ def render() -> None:
     for t in tests:
         settings, _ = test_settings(store, t.id)
         key = settings_json(settings)
-        records.append(TestRecord(t.id, str(t.test_date or ""), data.results_json(t.id, key), label=_test_name(t)))
+        records.append(TestRecord(t.id, str(t.test_date or ""), data.analyze(t.id, key), label=_test_name(t)))
         results_by_id[t.id] = key
 
     test_by_id = {t.id: t for t in tests}
@@ -157,8 +148,8 @@ def render() -> None:
         return
     frames = {}
     for tid in chosen:
-        frame = averaged_frame(data.analyze(tid, results_by_id[tid]))
-        if frame is not None:
+        frame = data.analyze(tid, results_by_id[tid]).averaged
+        if len(frame):
             frames[_test_name(test_by_id[tid])] = frame
     if len(frames) < 2:
         st.warning("The averaged data of one of these tests is not available.")

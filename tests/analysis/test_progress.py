@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import dataclasses
 import math
 
 import numpy as np
@@ -20,15 +21,11 @@ from analysis.progress import (
     metric_value,
     progress_table,
 )
+from tests.support import result_with
 
 
-def _results(vo2: float, vt1: float | None, slope: float, o2p: float) -> dict:
-    return {
-        "vo2_peak_ml_min": vo2,
-        "vo2_peak_ml_kg_min": vo2 / 70.0,
-        "vt1": None if vt1 is None else {"vo2_ml_min": vt1, "time_s": 300.0},
-        "indices": {"ve_vco2_slope_whole_exercise": slope, "o2_pulse_peak_ml_beat": o2p},
-    }
+def _results(vo2: float, vt1: float | None, slope: float | None, o2p: float | None):
+    return result_with(vo2_peak_ml_min=vo2, vt1_vo2_ml_min=vt1, ve_vco2_slope_whole_exercise=slope, o2_pulse_peak_ml_beat=o2p)
 
 
 TESTS = [
@@ -62,25 +59,27 @@ class TestChangeBand:
 
 
 class TestMetricValue:
-    def test_nested_and_missing(self):
+    def test_attributes_and_missing(self):
         r = _results(3000.0, None, 28.0, 17.0)
         assert metric_value(r, "vo2_peak_ml_min") == 3000.0
+        assert metric_value(r, "vo2_peak_ml_kg_min") == pytest.approx(3000.0 / 70.0)
         assert metric_value(r, "vt1_vo2_ml_min") is None
-        assert metric_value({"vt1": {"vo2_ml_min": 1500}}, "vt1_vo2_ml_min") == 1500.0
+        assert metric_value(_results(3000.0, 1500.0, 28.0, 17.0), "vt1_vo2_ml_min") == 1500.0
 
     def test_one_fixed_location(self):
         # the slope followed is always the whole-exercise one, never the headline (whose span varies)
-        assert metric_value({"indices": {"o2_pulse_peak_ml_beat": 15.5}}, "o2_pulse_peak_ml_beat") == 15.5
-        r = {"ve_vco2_slope": 25.0, "indices": {"ve_vco2_slope": 25.0, "ve_vco2_slope_whole_exercise": 28.0}}
-        assert metric_value(r, "ve_vco2_slope_whole_exercise") == 28.0
+        r = _results(3000.0, None, 28.0, 15.5)
+        assert metric_value(r, "o2_pulse_peak_ml_beat") == 15.5
+        r = dataclasses.replace(r, indices=dataclasses.replace(r.indices, ve_vco2_slope=25.0))
+        assert r.ve_vco2_slope == 25.0 and metric_value(r, "ve_vco2_slope_whole_exercise") == 28.0
 
-    def test_non_numbers_are_missing(self):
-        assert metric_value({"indices": {"ve_vco2_slope_whole_exercise": "n/a"}}, "ve_vco2_slope_whole_exercise") is None
-        assert metric_value({"indices": {"ve_vco2_slope_whole_exercise": float("nan")}}, "ve_vco2_slope_whole_exercise") is None
+    def test_missing_values_are_none(self):
+        assert metric_value(_results(3000.0, None, None, 17.0), "ve_vco2_slope_whole_exercise") is None
+        assert metric_value(_results(3000.0, None, float("nan"), 17.0), "ve_vco2_slope_whole_exercise") is None
 
     def test_unknown_metric(self):
         with pytest.raises(InvalidParameter, match="metric"):
-            metric_value({}, "lactate")
+            metric_value(_results(3000.0, None, 28.0, 17.0), "lactate")
 
 
 class TestProgressTable:
@@ -101,7 +100,8 @@ class TestProgressTable:
         assert not t.loc[3, "beyond_typical_error"]
 
     def test_beyond_when_large_change(self):
-        tests = [TestRecord(1, "2026-01-01", {"vo2_peak_ml_min": 3000.0}), TestRecord(2, "2026-02-01", {"vo2_peak_ml_min": 3500.0})]
+        tests = [TestRecord(1, "2026-01-01", result_with(vo2_peak_ml_min=3000.0)),
+                 TestRecord(2, "2026-02-01", result_with(vo2_peak_ml_min=3500.0))]
         t = progress_table(tests, metrics=["vo2_peak_ml_min"]).set_index("test_id")
         assert t.loc[2, "beyond_typical_error"]
         assert t.loc[2, "change_pct"] == pytest.approx(100 * 500 / 3000)
@@ -180,8 +180,8 @@ _values = st.floats(min_value=100.0, max_value=8000.0, allow_nan=False, allow_in
 @settings(max_examples=60, deadline=None)
 @given(base=_values, others=st.lists(_values, min_size=1, max_size=5))
 def test_property_change_and_band_agree(base, others):
-    tests = [TestRecord(0, "2026-01-01", {"vo2_peak_ml_min": base})] + [
-        TestRecord(i + 1, f"2026-02-{i + 1:02d}", {"vo2_peak_ml_min": v}) for i, v in enumerate(others)
+    tests = [TestRecord(0, "2026-01-01", result_with(vo2_peak_ml_min=base))] + [
+        TestRecord(i + 1, f"2026-02-{i + 1:02d}", result_with(vo2_peak_ml_min=v)) for i, v in enumerate(others)
     ]
     t = progress_table(tests, metrics=["vo2_peak_ml_min"])
     half = BAND_Z * math.sqrt(2) * TYPICAL_ERRORS["vo2_peak_ml_min"].pct / 100.0 * base

@@ -6,6 +6,7 @@ from typing import Any
 
 from analysis.pipeline import analyze_session
 from analysis.records import to_json
+from analysis.results import TestResults
 from analysis.settings import AnalysisSettings
 from dashboard import state
 
@@ -18,11 +19,16 @@ def signed_in(user: Any, **extra: Any) -> dict[str, Any]:
     return {state.USER: user, state.DEMO_MODE: bool(getattr(user, "is_demo", False)), **extra}
 
 
-def analysis_json(store: Any, test_id: int, settings: dict[str, Any] | None = None) -> dict[str, Any]:
+def analysis_result(store: Any, test_id: int, settings: dict[str, Any] | None = None) -> TestResults:
     """What ``analysis`` computes for a stored test (the numbers a page must show)."""
     if settings is None:
         settings, _ = store.get_settings(test_id)
-    return to_json(analyze_session(store.load_session(test_id), AnalysisSettings.from_dict(settings)))
+    return analyze_session(store.load_session(test_id), AnalysisSettings.from_dict(settings))
+
+
+def analysis_json(store: Any, test_id: int, settings: dict[str, Any] | None = None) -> dict[str, Any]:
+    """:func:`analysis_result` in its JSON form (what the CLI and the export files hold)."""
+    return to_json(analysis_result(store, test_id, settings))
 
 
 def parse_number(text: str) -> float:

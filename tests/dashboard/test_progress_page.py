@@ -9,7 +9,7 @@ import pytest
 
 from analysis.progress import TestRecord, progress_table
 from dashboard.charts.progress import overlay_figure, progress_figure
-from tests.dashboard.pages_helpers import analysis_json, parse_number, signed_in
+from tests.dashboard.pages_helpers import analysis_json, analysis_result, parse_number, signed_in
 from tests.support import ROOT
 
 #: The demo cardiac-rehab patient's baseline and 12-week follow-up (same person code).
@@ -105,13 +105,13 @@ def test_overlay_chart_for_two_tests(rehab_store, page_test):
 
 def test_charts_from_progress_table(rehab_store):
     store, ids = rehab_store
-    records = [TestRecord(i, d, analysis_json(store, i)) for i, d in zip(ids, ("2025-11-12", "2026-02-04"))]
+    records = [TestRecord(i, d, analysis_result(store, i)) for i, d in zip(ids, ("2025-11-12", "2026-02-04"))]
     table = progress_table(records)
     fig = progress_figure(table, "vo2_peak_ml_min")
     names = [t.name for t in fig.data]
     assert names[:3] == ["Typical-error band", "VO2peak", "Baseline"]
     assert fig.layout.yaxis.title.text == "VO2peak (mL/min)"
-    assert list(fig.data[1].y) == pytest.approx([r["vo2_peak_ml_min"] for r in (x.results for x in records)])
+    assert list(fig.data[1].y) == pytest.approx([x.results.vo2_peak_ml_min for x in records])
     assert fig.data[0].mode == "lines" and fig.data[0].fill == "toself"  # an area, no corner dots
     # One test only: the band is an error bar around the baseline value (half-width = (high - low) / 2).
     single = progress_table(records[:1])
