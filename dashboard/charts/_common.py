@@ -3,12 +3,16 @@
 from __future__ import annotations
 
 from collections.abc import Mapping
+from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
 import pandas as pd
 import plotly.graph_objects as go
 
+from analysis.errors import InvalidParameter
+from analysis.indices.threshold_values import ThresholdResult
+from analysis.thresholds.results import ThresholdPick
 from dashboard import palette
 from dashboard.timefmt import clock_text, clock_ticks
 
@@ -42,21 +46,34 @@ BOTTOM_LEGEND: dict[str, Any] = {"orientation": "h", "yanchor": "top", "y": -0.1
 THRESHOLD_LABEL = {"vt1": "VT1", "vt2": "VT2"}
 
 
-def pick_value(pick: Any, name: str) -> Any:
-    """Read ``name`` from a threshold pick given as an object or a dict (``None`` if absent)."""
-    if pick is None:
-        return None
-    if isinstance(pick, Mapping):
-        if name == "t_s" and "t_s" not in pick:
-            return pick.get("time_s")
-        return pick.get(name)
-    return getattr(pick, name, None)
+#: A threshold as the charts get it: a method's pick (``analysis.thresholds``) or the result's
+#: threshold record (``TestResults.vt1``); both carry the same time, VO2, interval and source.
+Threshold = ThresholdPick | ThresholdResult
 
 
-def pick_label(kind: str, pick: Any) -> str:
+@dataclass(frozen=True)
+class AxisMark:
+    """A threshold on one chart axis: where it sits, its 90 % interval there, how it was set."""
+
+    x: float | None
+    band: tuple[float, float] | None = None
+    source: str = "auto"
+    determinable: bool = True
+
+
+def axis_mark(pick: Threshold, *, key: str = "t_s") -> AxisMark:
+    """The threshold on the time axis (``key="t_s"``) or the VO2 axis (``key="vo2_ml_min"``)."""
+    if key == "t_s":
+        return AxisMark(pick.t_s, pick.ci90_t_s, pick.source, pick.determinable)
+    if key == "vo2_ml_min":
+        return AxisMark(pick.vo2_ml_min, pick.ci90_vo2_ml_min, pick.source, pick.determinable)
+    raise InvalidParameter("key", "t_s or vo2_ml_min", key)
+
+
+def pick_label(kind: str, source: str) -> str:
     """``'VT1 (manual)'`` / ``'VT2'`` — the marker text of a threshold line."""
     label = THRESHOLD_LABEL.get(kind, kind.upper())
-    return f"{label} (manual)" if pick_value(pick, "source") == "manual" else label
+    return f"{label} (manual)" if source == "manual" else label
 
 
 def phase_runs(t_s: np.ndarray, phases: np.ndarray) -> list[tuple[str, float, float]]:
@@ -116,7 +133,6 @@ def phase_legend(frame: pd.DataFrame | None) -> list[dict]:
 
 
 #: The 90 % interval of a threshold, by the axis the threshold is drawn on.
-_BAND_KEY = {"t_s": "ci90_t_s", "vo2_ml_min": "ci90_vo2_ml_min", "ve_l_min": "ci90_ve_l_min"}
 #: Opacity of a threshold's interval band (its line colour, faint enough for data to show).
 BAND_OPACITY = 0.13
 
@@ -130,17 +146,19 @@ def shown_thresholds(report: Any) -> dict[str, Any]:
     return out
 
 
-def threshold_band(pick: Any, *, key: str = "t_s") -> tuple[float, float] | None:
-    """The pick's 90 % interval on the axis of ``key`` (``None`` when it has none)."""
-    band = pick_value(pick, _BAND_KEY.get(key, ""))
-    if not isinstance(band, (list, tuple)) or len(band) != 2:
+def threshold_band(mark: AxisMark) -> tuple[float, float] | None:
+    """The mark's 90 % interval (``None`` when it has none or it is empty)."""
+    if mark.band is None:
         return None
-    lo, hi = (float(v) if v is not None else float("nan") for v in band)
+    lo, hi = (float(v) for v in mark.band)
     return (lo, hi) if np.isfinite(lo) and np.isfinite(hi) and hi > lo else None
 
 
-def threshold_shapes(thresholds: Mapping[str, Any] | None, *, key: str = "t_s") -> tuple[list[dict], list[dict]]:
-    """VT1/VT2 through every panel (``key`` = ``"t_s"`` or ``"vo2_ml_min"``), labelled at the top.
+def threshold_shapes(
+    thresholds: Mapping[str, Threshold | AxisMark | None] | None, *, key: str = "t_s"
+) -> tuple[list[dict], list[dict]]:
+    """VT1/VT2 through every panel (``key`` = ``"t_s"`` or ``"vo2_ml_min"``; an :class:`AxisMark`
+    is already on its axis), labelled at the top.
 
     Each threshold is a vertical line with its 90 % interval as a faint band of the same colour;
     a threshold marked not determinable (``determinable`` false) is drawn as its band alone,
@@ -152,13 +170,14 @@ def threshold_shapes(thresholds: Mapping[str, Any] | None, *, key: str = "t_s") 
         if pick is None:
             continue
         style = palette.THRESHOLD.get(kind, palette.THRESHOLD["vt1"])
-        band = threshold_band(pick, key=key)
+        mark = pick if isinstance(pick, AxisMark) else axis_mark(pick, key=key)
+        band = threshold_band(mark)
         if band is not None:
             shapes.append(
                 {"type": "rect", "xref": "x", "yref": "paper", "x0": band[0], "x1": band[1], "y0": 0, "y1": 1,
                  "fillcolor": style["color"], "opacity": BAND_OPACITY, "line": {"width": 0}, "layer": "below"}
             )
-        if pick_value(pick, "determinable") is False:
+        if not mark.determinable:
             if band is not None:
                 labels.append(
                     {"x": 0.5 * (band[0] + band[1]), "y": 1, "xref": "x", "yref": "paper",
@@ -166,22 +185,22 @@ def threshold_shapes(thresholds: Mapping[str, Any] | None, *, key: str = "t_s") 
                      "xanchor": "center", "yanchor": "top", "font": {"color": style["color"]}}
                 )
             continue
-        x = pick_value(pick, key)
-        if x is None:
+        x = mark.x
+        if x is None or not np.isfinite(x):
             continue
         shapes.append(
             {"type": "line", "xref": "x", "yref": "paper", "x0": float(x), "x1": float(x), "y0": 0, "y1": 1,
              "line": {"color": style["color"], "dash": style["dash"], "width": 2}}
         )
         labels.append(
-            {"x": float(x), "y": 1, "xref": "x", "yref": "paper", "text": pick_label(kind, pick), "showarrow": False,
+            {"x": float(x), "y": 1, "xref": "x", "yref": "paper", "text": pick_label(kind, mark.source), "showarrow": False,
              "xanchor": "left", "yanchor": "top", "font": {"color": style["color"]}}
         )
     return shapes, labels
 
 
 def decorations(
-    frame: pd.DataFrame | None, thresholds: Mapping[str, Any] | None, *, key: str = "t_s"
+    frame: pd.DataFrame | None, thresholds: Mapping[str, Threshold | None] | None, *, key: str = "t_s"
 ) -> tuple[list[dict], list[dict]]:
     """Phase shading (when ``frame`` is given) and threshold lines: ``(shapes, annotations)``."""
     shapes, labels = phase_shapes(frame) if frame is not None else ([], [])

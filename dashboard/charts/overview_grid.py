@@ -38,13 +38,16 @@ import pandas as pd
 import plotly.graph_objects as go
 
 from analysis import columns as C
+from analysis.indices.threshold_values import ThresholdResult
+from analysis.thresholds.results import VSlopeFit
 from dashboard import palette
 from dashboard.charts._common import (
+    AxisMark,
+    Threshold,
     build_figure,
     column,
     has,
     phase_shapes,
-    pick_value,
     threshold_shapes,
     time_axis,
     time_labels,
@@ -199,13 +202,13 @@ def _remap(items: Iterable[dict], xref: str, yref: str, *, transpose: bool = Fal
     return out
 
 
-def _ve_band(avg: pd.DataFrame, pick: Any) -> tuple[float, float] | None:
+def _ve_band(avg: pd.DataFrame, pick: Threshold) -> tuple[float, float] | None:
     """Minute ventilation over the threshold's 90 % time interval (display of the interval on a
     VE axis): lowest and highest averaged VE inside it, the interval's ends interpolated."""
-    band = pick_value(pick, "ci90_t_s")
-    if not isinstance(band, (list, tuple)) or len(band) != 2 or not has(avg, C.VE_L_MIN):
+    band = pick.ci90_t_s
+    if band is None or not has(avg, C.VE_L_MIN):
         return None
-    lo, hi = (float(v) if v is not None else float("nan") for v in band)
+    lo, hi = (float(v) for v in band)
     if not (np.isfinite(lo) and np.isfinite(hi) and hi > lo):
         return None
     sub = avg[[C.T_S, C.VE_L_MIN]].dropna().sort_values(C.T_S)
@@ -216,18 +219,15 @@ def _ve_band(avg: pd.DataFrame, pick: Any) -> tuple[float, float] | None:
     return (float(values.min()), float(values.max())) if values.max() > values.min() else None
 
 
-def _ve_picks(avg: pd.DataFrame, thresholds: Mapping[str, Any]) -> dict[str, Any]:
-    """The thresholds as seen on a VE axis: the VE read at each (``ve_l_min``) and its band."""
-    out: dict[str, Any] = {}
+def _ve_picks(avg: pd.DataFrame, thresholds: Mapping[str, Threshold | None]) -> dict[str, AxisMark | None]:
+    """The thresholds as seen on a VE axis: the VE read at each (the result's ``ve_l_min``; a
+    method's pick carries none) and its band."""
+    out: dict[str, AxisMark | None] = {}
     for kind, pick in thresholds.items():
         if pick is None:
             continue
-        out[kind] = {
-            "ve_l_min": pick_value(pick, "ve_l_min"),
-            "ci90_ve_l_min": _ve_band(avg, pick),
-            "source": pick_value(pick, "source"),
-            "determinable": pick_value(pick, "determinable"),
-        }
+        ve = pick.ve_l_min if isinstance(pick, ThresholdResult) else None
+        out[kind] = AxisMark(ve, _ve_band(avg, pick), pick.source, pick.determinable)
     return out
 
 
@@ -292,7 +292,7 @@ def overview_figure(
     avg: pd.DataFrame,
     *,
     thresholds: Mapping[str, Any] | None = None,
-    fit: Any = None,
+    fit: VSlopeFit | None = None,
     breaths: pd.DataFrame | None = None,
     excluded_rows: Iterable[int] = (),
     time_window: TimeSpan | None = None,
@@ -519,12 +519,11 @@ def _square_range(frame: pd.DataFrame) -> tuple[float, float]:
     return lo - pad, hi + pad
 
 
-def _fit(fit: Any, name: str) -> float | None:
-    value = pick_value(fit, name)
-    try:
-        v = float(value)
-    except (TypeError, ValueError):
+def _fit(fit: VSlopeFit | None, name: str) -> float | None:
+    """A number of the V-slope fit by attribute name (``None`` without a fit or when not finite)."""
+    if fit is None:
         return None
+    v = float(getattr(fit, name))
     return v if np.isfinite(v) else None
 
 
@@ -584,8 +583,10 @@ def _work_markers(thresholds: Mapping[str, Any], xa: str, ya: str) -> list[dict]
     """VT1/VT2 as a marker at (work rate read at the threshold, VO2 of the threshold)."""
     out = []
     for kind, pick in thresholds.items():
-        w, v = pick_value(pick, "work_w"), pick_value(pick, "vo2_ml_min")
-        if w is None or v is None or pick_value(pick, "determinable") is False:
+        if not isinstance(pick, ThresholdResult) or not pick.determinable:  # a method's pick has no work rate
+            continue
+        w, v = pick.work_w, pick.vo2_ml_min
+        if w is None or not np.isfinite(w) or not np.isfinite(v):
             continue
         style = palette.THRESHOLD.get(kind, palette.THRESHOLD["vt1"])
         out.append({"type": "scatter", "x": [float(w)], "y": [float(v)], "mode": "markers",

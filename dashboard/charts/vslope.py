@@ -10,15 +10,16 @@ import pandas as pd
 import plotly.graph_objects as go
 
 from analysis import columns as C
+from analysis.thresholds.results import ThresholdPick, VSlopeFit
 from dashboard import palette
 from dashboard.charts._common import (
     BOTTOM_LEGEND,
+    Threshold,
     axis_title,
     build_figure,
     column,
     decorations,
     figure_title,
-    pick_value,
     time_labels,
 )
 from dashboard.charts.linking import TimeSpan, span_ring_trace
@@ -27,19 +28,18 @@ from dashboard.charts.linking import TimeSpan, span_ring_trace
 DATA_TRACE = "Averaged breaths"
 
 
-def _fit_value(fit: Any, name: str) -> Any:
-    if fit is None:
-        return None
-    return fit.get(name) if isinstance(fit, Mapping) else getattr(fit, name, None)
+def _fit_value(fit: VSlopeFit | None, name: str) -> float | None:
+    """A number of the V-slope fit by attribute name (``None`` without a fit)."""
+    return None if fit is None else float(getattr(fit, name))
 
 
 def vslope_figure(
     avg: pd.DataFrame,
     *,
-    fit: Any = None,
-    candidates: Mapping[str, Any] | None = None,
-    vt1: Any = None,
-    vt2: Any = None,
+    fit: VSlopeFit | None = None,
+    candidates: Mapping[str, ThresholdPick | None] | None = None,
+    vt1: Threshold | None = None,
+    vt2: Threshold | None = None,
     highlight: TimeSpan | None = None,
 ) -> go.Figure:
     """VCO2 (mL/min) against VO2 (mL/min) for the V-slope method (Beaver et al. 1986).
@@ -48,7 +48,7 @@ def vslope_figure(
     ----------
     avg : pandas.DataFrame
         Averaged breaths to plot (normally the exercise part).
-    fit : VSlopeFit or dict, optional
+    fit : VSlopeFit, optional
         Two-segment fit: ``vo2_break_ml_min``, ``slope_below``, ``intercept_below``,
         ``slope_above``, ``intercept_above``, ``valid``. Its lines are drawn over the plotted VO2
         range on each side of the break (the upper one up to VT2 when given).
@@ -87,7 +87,7 @@ def vslope_figure(
     traces.extend(span_ring_trace(x, y, t, highlight))
     brk = _fit_value(fit, "vo2_break_ml_min")
     if brk is not None and np.isfinite(brk) and len(x):
-        top = pick_value(vt2, "vo2_ml_min")
+        top = None if vt2 is None else vt2.vo2_ml_min
         hi = float(top) if top is not None and float(top) > brk else float(np.nanmax(x))
         for name, lo_x, hi_x, slope_key, icpt_key in (
             ("Lower slope", float(np.nanmin(x)), float(brk), "slope_below", "intercept_below"),
@@ -104,7 +104,7 @@ def vslope_figure(
                 }
             )
     for i, (method, pick) in enumerate((candidates or {}).items()):
-        vo2 = pick_value(pick, "vo2_ml_min")
+        vo2 = None if pick is None else pick.vo2_ml_min
         if vo2 is None or not len(x):
             continue
         j = int(np.nanargmin(np.abs(x - float(vo2))))

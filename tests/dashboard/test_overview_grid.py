@@ -10,6 +10,7 @@ import numpy as np
 import pandas as pd
 import pytest
 
+from analysis.thresholds.results import VSlopeFit
 from dashboard import palette
 from dashboard.charts.overview_grid import (
     PANEL_BY_KEY,
@@ -135,8 +136,8 @@ def test_vslope_panel_is_square_with_a_slope_one_line():
 
 
 def test_vslope_panel_draws_the_analysis_fit_and_the_slope_one_line_through_its_break():
-    fit = {"vo2_break_ml_min": 1500.0, "slope_below": 0.9, "intercept_below": 20.0, "slope_above": 1.3,
-           "intercept_above": -580.0}
+    fit = VSlopeFit(break_index=10, vo2_break_ml_min=1500.0, vco2_break_ml_min=1370.0, slope_below=0.9,
+                    intercept_below=20.0, slope_above=1.3, intercept_above=-580.0, sse=0.0, valid=True)
     fig = overview_figure(_avg(), fit=fit)
     xa = axis_ids(fig.layout.meta["panels"].index("vslope"))[0]
     fitted = [t for t in fig.data if t.name and t.name.startswith("fitted slope") and t.xaxis == xa]

@@ -10,6 +10,7 @@ import numpy as np
 import pandas as pd
 import pytest
 
+from analysis.thresholds.results import ThresholdPick, VSlopeFit
 from dashboard import palette
 from dashboard.charts import equivalents_figure, time_course_figure, vslope_figure
 from dashboard.charts._common import nice_step, phase_runs
@@ -49,7 +50,8 @@ def test_time_course_has_units_on_every_axis_and_marks_thresholds(avg):
         avg,
         breaths=breaths,
         excluded_rows=[5, 6],
-        thresholds={"vt1": {"t_s": 300.0, "source": "manual"}, "vt2": {"t_s": 450.0, "source": "auto"}},
+        thresholds={"vt1": ThresholdPick("vt1", 300.0, 1600.0, "manual", source="manual"),
+                    "vt2": ThresholdPick("vt2", 450.0, 2200.0, "consensus", source="auto")},
         averaging_label="10 s bins",
     )
     titles = _axis_titles(fig)
@@ -80,16 +82,11 @@ def test_time_course_uses_speed_axis_on_a_treadmill(avg):
 
 
 def test_vslope_lines_follow_the_fit_and_candidates_are_distinct(avg):
-    fit = {
-        "vo2_break_ml_min": 1600.0,
-        "slope_below": 0.95,
-        "intercept_below": 0.0,
-        "slope_above": 1.4,
-        "intercept_above": -720.0,
-        "valid": True,
-    }
-    cands = {"V-slope": {"vo2_ml_min": 1600.0}, "PETO2 nadir": {"vo2_ml_min": 1650.0}, "excess CO2": None}
-    fig = vslope_figure(avg, fit=fit, candidates=cands, vt1={"vo2_ml_min": 1600.0, "source": "auto"})
+    fit = VSlopeFit(break_index=20, vo2_break_ml_min=1600.0, vco2_break_ml_min=1520.0, slope_below=0.95,
+                    intercept_below=0.0, slope_above=1.4, intercept_above=-720.0, sse=0.0, valid=True)
+    cands = {"V-slope": ThresholdPick("vt1", 300.0, 1600.0, "V-slope"),
+             "PETO2 nadir": ThresholdPick("vt1", 312.5, 1650.0, "PETO2 nadir"), "excess CO2": None}
+    fig = vslope_figure(avg, fit=fit, candidates=cands, vt1=ThresholdPick("vt1", 300.0, 1600.0, "consensus"))
     lower = next(t for t in fig.data if t.name.startswith("Lower slope"))
     upper = next(t for t in fig.data if t.name.startswith("Upper slope"))
     assert lower.x[1] == pytest.approx(1600.0) and lower.y[1] == pytest.approx(0.95 * 1600)
@@ -108,7 +105,7 @@ def test_vslope_without_a_fit_still_plots_the_data(avg):
 
 
 def test_equivalents_panels_and_missing_end_tidal_note(avg):
-    fig = equivalents_figure(avg, thresholds={"vt1": {"t_s": 300.0}})
+    fig = equivalents_figure(avg, thresholds={"vt1": ThresholdPick("vt1", 300.0, 1600.0, "consensus")})
     assert {t.name for t in fig.data} == {"VE/VO2", "VE/VCO2", "PETO2", "PETCO2", "Rest", "Recovery"}
     assert "End-tidal pressure (mmHg)" in _axis_titles(fig)
     # short enough for a half-height panel of a half-width chart (a longer title was cut off)
