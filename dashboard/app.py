@@ -17,13 +17,16 @@ import logging
 from collections.abc import Callable
 from pathlib import Path
 from types import ModuleType
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import streamlit as st
 
 from dashboard import data, state
 from dashboard.errors import show_error, user_errors
 from dashboard.lab import markdown_text
+
+if TYPE_CHECKING:
+    from store import Store, User
 
 log = logging.getLogger("tidemark.dashboard")
 
@@ -99,7 +102,7 @@ def build_pages(role: str = "") -> dict[str, Any]:
 # --- sign-in -------------------------------------------------------------------------------
 
 
-def _demo_user(store: Any) -> Any | None:
+def _demo_user(store: Store) -> User | None:
     """The built-in demo reviewer when the store is a demo store, else ``None``."""
     is_demo = getattr(store, "is_demo_store", None)
     if not callable(is_demo) or not is_demo():
@@ -116,7 +119,7 @@ def oidc_configured() -> bool:
         return False
 
 
-def identity_user(store: Any, *, is_logged_in: bool, email: str | None) -> Any | None:
+def identity_user(store: Store, *, is_logged_in: bool, email: str | None) -> User | None:
     """The Tidemark account for a provider sign-in, or ``None``.
 
     A provider sign-in alone grants nothing: the e-mail must match an active ``oidc`` account that
@@ -127,7 +130,7 @@ def identity_user(store: Any, *, is_logged_in: bool, email: str | None) -> Any |
     return store.user_for_identity(email)
 
 
-def _provider_sign_in(store: Any) -> None:
+def _provider_sign_in(store: Store) -> None:
     """Offer the identity provider's sign-in and map a signed-in provider user to a store account."""
     user_info = st.user
     logged_in = bool(getattr(user_info, "is_logged_in", False))
@@ -146,7 +149,7 @@ def _provider_sign_in(store: Any) -> None:
         st.login()
 
 
-def lab_name(store: Any) -> str:
+def lab_name(store: Store) -> str:
     """The lab's name from the store's lab settings ("" when none is set or it cannot be read)."""
     try:
         return str(store.lab_identity().name or "")
@@ -178,7 +181,7 @@ def sign_in_client() -> str | None:
     return f"ip:{address}" if address else None
 
 
-def sign_in_form(store: Any) -> None:
+def sign_in_form(store: Store) -> None:
     """Render the staff sign-in form; on success store the user and rerun."""
     st.title("Tidemark")
     st.caption(sign_in_subtitle(lab_name(store)), unsafe_allow_html=False)
@@ -204,7 +207,7 @@ def sign_in_form(store: Any) -> None:
     st.info("Accounts are created by an administrator with `tidemark users add NAME --role reviewer`.")
 
 
-def sidebar(store: Any) -> None:
+def sidebar(store: Store) -> None:
     with st.sidebar:
         user = state.current_user()
         if state.in_demo_mode():
@@ -245,7 +248,7 @@ def run() -> None:
     st.navigation(list(pages.values())).run()
 
 
-def sign_in_pages(store: Any) -> list[Any]:
+def sign_in_pages(store: Store) -> list[Any]:
     """The sign-in form under its own address and under every page's address.
 
     A bookmarked or shared deep link (``/library``) then opens the sign-in form instead of a

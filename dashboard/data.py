@@ -31,6 +31,7 @@ from analysis.session import Session
 
 if TYPE_CHECKING:
     from analysis.results import TestResults
+    from store import Store
 
 log = logging.getLogger("tidemark.dashboard")
 
@@ -44,14 +45,14 @@ def store_url() -> str | None:
 
 
 @st.cache_resource(show_spinner=False)
-def _open_store(url: str | None) -> Any:
+def _open_store(url: str | None) -> Store:
     from store import open_store
 
     log.info("opening store %s", "(default)" if url is None else url.split("@")[-1])
     return open_store(url)
 
 
-def get_store() -> Any:
+def get_store() -> Store:
     """The store handle of this server process."""
     return _open_store(store_url())
 
@@ -87,7 +88,7 @@ def analyze(test_id: int, settings_json: str) -> TestResults:
     return _analyze(int(test_id), settings_json, get_store().session_digest(int(test_id)), store_url())
 
 
-def stored_results(store: Any, test_id: int, *, version: int | None = None) -> TestResults | None:
+def stored_results(store: Store, test_id: int, *, version: int | None = None) -> TestResults | None:
     """The results the store kept for a version (current by default), read back by the codec.
 
     The one place a stored results JSON becomes a record again
@@ -217,7 +218,7 @@ class SaveTracker:
 
 
 def save_in_background(
-    store: Any, tracker: SaveTracker, test_id: int, settings: dict[str, Any], *, actor: Any, reason: str,
+    store: Store, tracker: SaveTracker, test_id: int, settings: dict[str, Any], *, actor: Any, reason: str,
     expected_version: int, settings_json: str,
 ) -> Future:
     """Queue ``store.save_settings`` for this change; the page does not wait for it.

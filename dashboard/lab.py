@@ -10,7 +10,10 @@ from __future__ import annotations
 import base64
 import logging
 import re
-from typing import Any
+from typing import TYPE_CHECKING, Any
+
+if TYPE_CHECKING:
+    from store import LabIdentity, Store
 
 log = logging.getLogger("tidemark.dashboard")
 
@@ -22,7 +25,7 @@ def markdown_text(text: Any) -> str:
     return _MARKDOWN_SPECIAL.sub(r"\\\1", "" if text is None else str(text))
 
 
-def read_identity(store: Any) -> Any | None:
+def read_identity(store: Store) -> LabIdentity | None:
     """The store's :class:`store.lab.LabIdentity`, or ``None`` when it cannot be read (logged)."""
     try:
         return store.lab_identity()
@@ -31,14 +34,14 @@ def read_identity(store: Any) -> Any | None:
         return None
 
 
-def logo_data_url(identity: Any | None) -> str | None:
+def logo_data_url(identity: LabIdentity | None) -> str | None:
     """The logo as ``data:image/png;base64,...`` (embedded in reports), or ``None``."""
-    if identity is None or not getattr(identity, "logo", None) or not getattr(identity, "logo_mime", None):
+    if identity is None or not identity.logo or not identity.logo_mime:
         return None
     return f"data:{identity.logo_mime};base64,{base64.b64encode(identity.logo).decode('ascii')}"
 
 
-def share_base_url(identity: Any | None, *, request_host: str | None, environ: dict[str, str] | None = None) -> str:
+def share_base_url(identity: LabIdentity | None, *, request_host: str | None, environ: dict[str, str] | None = None) -> str:
     """Where share links point: the configured public URL (``TIDEMARK_PUBLIC_URL`` or the lab
     setting), else the address the reviewer reached the dashboard on (``http://`` + host).
 
@@ -58,7 +61,7 @@ def share_base_url(identity: Any | None, *, request_host: str | None, environ: d
     return f"http://{request_host or 'localhost:8630'}"
 
 
-def public_url_configured(identity: Any | None, *, environ: dict[str, str] | None = None) -> bool:
+def public_url_configured(identity: LabIdentity | None, *, environ: dict[str, str] | None = None) -> bool:
     """True when share links have a configured public address (environment or lab settings)."""
     from store import public_base_url
 

@@ -14,9 +14,12 @@ from __future__ import annotations
 
 import json
 from dataclasses import dataclass
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import streamlit as st
+
+if TYPE_CHECKING:
+    from store import User
 
 USER = "tm_user"
 DEMO_MODE = "tm_demo_mode"
@@ -58,12 +61,23 @@ def settings_key(settings: dict[str, Any]) -> str:
 # --- user ----------------------------------------------------------------------------------
 
 
-def current_user() -> Any | None:
+def current_user() -> User | None:
     """The signed-in account (store ``User``), or ``None``."""
     return st.session_state.get(USER)
 
 
-def set_current_user(user: Any | None, *, demo: bool = False) -> None:
+def acting_user() -> User:
+    """The signed-in account a store change is recorded under (raises ``PermissionDenied``
+    with a plain message when nobody is signed in)."""
+    from store import PermissionDenied
+
+    user = current_user()
+    if user is None:
+        raise PermissionDenied("To change a stored test you must be signed in.")
+    return user
+
+
+def set_current_user(user: User | None, *, demo: bool = False) -> None:
     st.session_state[USER] = user
     st.session_state[DEMO_MODE] = bool(demo) if user is not None else False
 

@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from collections.abc import Mapping
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import pandas as pd
 import plotly.graph_objects as go
@@ -25,6 +25,11 @@ from dashboard.charts._common import (
     time_span,
 )
 from dashboard.charts.linking import TimeSpan, span_legend, span_shapes, window_range, y_range_in_window
+
+if TYPE_CHECKING:
+    from analysis.results import TestResults
+    from analysis.session import Session
+
 
 #: Columns of the equivalents frame (computed in analysis, not here).
 VE_VO2 = "ve_vo2"
@@ -127,7 +132,7 @@ def equivalents_figure(
     )
 
 
-def equivalents_from_results(results: Any, session: Any | None = None) -> go.Figure:
+def equivalents_from_results(results: TestResults, session: Session | None = None) -> go.Figure:
     """:func:`equivalents_figure` for a :class:`analysis.results.TestResults`."""
     report = results.thresholds
     return equivalents_figure(results.averaged, thresholds=shown_thresholds(report))

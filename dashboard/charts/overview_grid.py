@@ -31,7 +31,7 @@ from __future__ import annotations
 
 from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 import pandas as pd
@@ -55,6 +55,11 @@ from dashboard.charts._common import (
 from dashboard.charts.linking import TimeSpan, span_ring_trace, span_shapes, window_range, y_range_in_window
 from dashboard.charts.vslope import exercise_rows
 from dashboard.timefmt import clock_text
+
+if TYPE_CHECKING:
+    from analysis.results import TestResults
+    from analysis.session import Session
+
 
 RER = "rer"
 VE_VO2 = "ve_vo2"
@@ -597,7 +602,7 @@ def _work_markers(thresholds: Mapping[str, Any], xa: str, ya: str) -> list[dict]
     return out
 
 
-def overview_from_results(results: Any, session: Any | None = None, **kwargs: Any) -> go.Figure:
+def overview_from_results(results: TestResults, session: Session | None = None, **kwargs: Any) -> go.Figure:
     """:func:`overview_figure` for a :class:`analysis.results.TestResults` (and its session)."""
     from dashboard.charts._common import shown_thresholds
 

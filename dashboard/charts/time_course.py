@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from collections.abc import Iterable, Mapping
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 import pandas as pd
@@ -26,6 +26,11 @@ from dashboard.charts._common import (
     time_span,
 )
 from dashboard.charts.linking import TimeSpan, span_legend, span_shapes, window_range, y_range_in_window
+
+if TYPE_CHECKING:
+    from analysis.results import TestResults
+    from analysis.session import Session
+
 
 #: Decimals and unit of each line's value in its hover text (the time reads m:ss).
 _DIGITS = {C.VE_L_MIN: 1, C.SPEED_KMH: 1}
@@ -165,7 +170,7 @@ def time_course_figure(
     return build_figure(traces, layout)
 
 
-def time_course_from_results(results: Any, session: Any | None = None) -> go.Figure:
+def time_course_from_results(results: TestResults, session: Session | None = None) -> go.Figure:
     """:func:`time_course_figure` for a :class:`analysis.results.TestResults` (and its session)."""
     rows = [e.source_row for e in results.excluded_breaths]
     return time_course_figure(

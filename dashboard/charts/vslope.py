@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from collections.abc import Mapping
-from typing import Any
+from typing import TYPE_CHECKING
 
 import numpy as np
 import pandas as pd
@@ -23,6 +23,11 @@ from dashboard.charts._common import (
     time_labels,
 )
 from dashboard.charts.linking import TimeSpan, span_ring_trace
+
+if TYPE_CHECKING:
+    from analysis.results import TestResults
+    from analysis.session import Session
+
 
 #: Name of the clickable data trace.
 DATA_TRACE = "Averaged breaths"
@@ -144,7 +149,7 @@ def exercise_rows(avg: pd.DataFrame) -> pd.DataFrame:
     return avg
 
 
-def vslope_from_results(results: Any, session: Any | None = None) -> go.Figure:
+def vslope_from_results(results: TestResults, session: Session | None = None) -> go.Figure:
     """:func:`vslope_figure` for a :class:`analysis.results.TestResults` (exercise rows only)."""
     report = results.thresholds
     return vslope_figure(

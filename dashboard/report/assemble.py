@@ -9,11 +9,14 @@ from __future__ import annotations
 
 import logging
 from collections.abc import Sequence
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from analysis.results import TestResults
 from analysis.session import Session
 from dashboard.report.html_report import ReportContext, build_report_html
+
+if TYPE_CHECKING:
+    from store import Store, TestSummary
 
 log = logging.getLogger("tidemark.dashboard")
 
@@ -96,7 +99,7 @@ def report_figures(results: TestResults, session: Session) -> list[tuple[str, An
 
 
 def report_context(
-    store: Any,
+    store: Store,
     test_id: int,
     *,
     version: int | None,
@@ -130,7 +133,7 @@ def report_context(
     )
 
 
-def report_file_name(summary: Any, *, show_name: bool = False, suffix: str = ".html") -> str:
+def report_file_name(summary: TestSummary, *, show_name: bool = False, suffix: str = ".html") -> str:
     """``tidemark_<code>_<date>.html`` (or ``.pdf``) with only safe characters (display name never used)."""
     stem = f"tidemark_{summary.person_code}_{summary.test_date or summary.id}"
     return "".join(ch if ch.isalnum() or ch in "-_" else "_" for ch in stem) + suffix
@@ -156,7 +159,7 @@ def appendix_sections(results: TestResults, session: Session) -> list[tuple[str,
 
 
 def build_test_report(
-    store: Any,
+    store: Store,
     test_id: int,
     results: TestResults,
     session: Session,

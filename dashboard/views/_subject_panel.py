@@ -8,13 +8,16 @@ from __future__ import annotations
 
 import datetime as _dt
 from collections.abc import Mapping
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import streamlit as st
 
 from dashboard import data, state
 from dashboard.errors import show_error
 from dashboard.subject_details import CHOICE_LABELS, FIELDS, changed_details, field_label, form_defaults
+
+if TYPE_CHECKING:
+    from store import Store
 
 
 def detail_inputs(prefix: str, defaults: Mapping[str, Any], *, disabled: bool = False) -> dict[str, Any]:
@@ -42,7 +45,7 @@ def detail_inputs(prefix: str, defaults: Mapping[str, Any], *, disabled: bool = 
     return values
 
 
-def details_panel(store: Any, test_id: int, *, expanded: bool = False) -> None:
+def details_panel(store: Store, test_id: int, *, expanded: bool = False) -> None:
     """The "Subject and test details" expander of a stored test, with an explicit Save."""
     meta = store.test_metadata(test_id)
     defaults = form_defaults(meta)
@@ -66,7 +69,7 @@ def details_panel(store: Any, test_id: int, *, expanded: bool = False) -> None:
         try:
             _, version = store.get_settings(test_id)
             new_version = store.update_test_metadata(
-                test_id, changes, actor=state.current_user(), expected_version=version, reason=reason.strip()
+                test_id, changes, actor=state.acting_user(), expected_version=version, reason=reason.strip()
             )
         except Exception as exc:  # noqa: BLE001 - refusals (role, conflict, sign-off reason) shown plainly
             show_error(exc, context="Subject and test details")

@@ -8,23 +8,26 @@ computed here.
 from __future__ import annotations
 
 import logging
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import streamlit as st
 
 from dashboard import data, state
 
+if TYPE_CHECKING:
+    from store import PersonSummary, Store, TestSummary
+
 log = logging.getLogger("tidemark.dashboard")
 
 
-def person_label(summary: Any, *, show_name: bool = True) -> str:
+def person_label(summary: TestSummary | PersonSummary, *, show_name: bool = True) -> str:
     """``"SEL-014 (Ann Example)"`` or just the pseudonymous code."""
     code = str(getattr(summary, "person_code", None) or getattr(summary, "code", "") or "")
     name = getattr(summary, "display_name", None)
     return f"{code} ({name})" if show_name and name else code
 
 
-def test_label(summary: Any, *, show_name: bool = True) -> str:
+def test_label(summary: TestSummary, *, show_name: bool = True) -> str:
     """One line naming a test: person, date, protocol."""
     bits = [person_label(summary, show_name=show_name), str(summary.test_date or "no date")]
     if getattr(summary, "protocol", None):
@@ -58,7 +61,7 @@ def current_or_default(ids: Any) -> int | None:
     return chosen
 
 
-def choose_test(store: Any, *, key: str, label: str = "Test") -> Any | None:
+def choose_test(store: Store, *, key: str, label: str = "Test") -> TestSummary | None:
     """A select box of the stored tests (current test first); returns the chosen summary.
 
     Choosing a test here also makes it the current test for the other pages.
@@ -77,7 +80,7 @@ def choose_test(store: Any, *, key: str, label: str = "Test") -> Any | None:
     return by_id[chosen]
 
 
-def test_settings(store: Any, test_id: int) -> tuple[dict[str, Any], int | None]:
+def test_settings(store: Store, test_id: int) -> tuple[dict[str, Any], int | None]:
     """The settings dict and store version a test is shown with.
 
     The reviewer's unsaved working settings (from the Review page) win; otherwise the stored

@@ -13,11 +13,12 @@ from __future__ import annotations
 
 import logging
 import re
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import pandas as pd
 import streamlit as st
 
+from analysis.progress import TestRecord as ProgressRecord
 from analysis.results import TestResults
 from dashboard import data, lab, state
 from dashboard.report import CAUTIONS, headline_rows, zone_rows
@@ -25,6 +26,9 @@ from dashboard.report.assemble import build_test_report, report_figures, report_
 from dashboard.report.html_report import threshold_display
 from dashboard.views._flags_panel import render_flags
 from dashboard.views._test_choice import test_settings
+
+if TYPE_CHECKING:
+    from store import LabIdentity, ShareScope, Store, TestSummary
 
 log = logging.getLogger("tidemark.dashboard")
 
@@ -43,7 +47,7 @@ VIEW_LOGGED_KEY = "tm_coach_view_logged"
 SECTIONS: tuple[str, ...] = ("headline", "zones", "charts", "report")
 
 
-def resolve_scope(store: Any, token: Any, *, log_view: bool = True) -> Any | None:
+def resolve_scope(store: Store, token: Any, *, log_view: bool = True) -> ShareScope | None:
     """The store's share scope for ``token``, or ``None`` for any token that does not open.
 
     Malformed tokens are refused before the store is asked; store errors are logged and also
@@ -66,7 +70,7 @@ def resolve_scope(store: Any, token: Any, *, log_view: bool = True) -> Any | Non
 LOGGED_TEST_KEY = "tm_coach_logged_test"
 
 
-def log_use(store: Any, scope: Any, kind: str, test_id: int) -> None:
+def log_use(store: Store, scope: ShareScope, kind: str, test_id: int) -> None:
     """Log one use of a link (``test``: another test chosen; ``report``: report downloaded).
 
     A failure is logged for the server and never shown on the public page.
@@ -83,12 +87,12 @@ def render_invalid() -> None:
     st.write(INVALID_TEXT)
 
 
-def _allowed(scope: Any, section: str) -> bool:
+def _allowed(scope: ShareScope, section: str) -> bool:
     sections = tuple(getattr(scope, "sections", ()) or ())
     return not sections or section in sections
 
 
-def _coach_label(summary: Any, *, show_name: bool) -> str:
+def _coach_label(summary: TestSummary, *, show_name: bool) -> str:
     if show_name and summary.display_name:
         return str(summary.display_name)
     return str(summary.person_code)
@@ -115,7 +119,7 @@ def render() -> None:
     render_scope(store, scope)
 
 
-def render_scope(store: Any, scope: Any) -> None:
+def render_scope(store: Store, scope: ShareScope) -> None:
     """The read-only results of the tests a valid share covers."""
     show_name = bool(getattr(scope, "show_name", False))
     summaries = store.list_tests(test_ids=tuple(scope.test_ids))
@@ -189,25 +193,23 @@ def render_scope(store: Any, scope: Any) -> None:
         )
 
 
-def shared_by_text(identity: Any | None) -> str:
+def shared_by_text(identity: LabIdentity | None) -> str:
     """The caption under the coach view's title, naming the lab when its name is set (escaped)."""
     name = str(getattr(identity, "name", "") or "").strip()
     return f"Read-only view shared by {lab.markdown_text(name)}." if name else "Read-only view shared by the lab."
 
 
-def progress_records(store: Any, summaries: list[Any]) -> list[Any]:
+def progress_records(store: Store, summaries: list[TestSummary]) -> list[ProgressRecord]:
     """One :class:`analysis.progress.TestRecord` per shared test, from the reviewer's stored settings."""
-    from analysis.progress import TestRecord
-
     records = []
     for s in summaries:
         settings, _ = stored_settings(store, s.id)
         label = " · ".join(x for x in (str(s.test_date or "no date"), s.protocol or "") if x)
-        records.append(TestRecord(s.id, str(s.test_date or ""), data.analyze(s.id, state.settings_key(settings)), label=label))
+        records.append(ProgressRecord(s.id, str(s.test_date or ""), data.analyze(s.id, state.settings_key(settings)), label=label))
     return records
 
 
-def render_progress(store: Any, summaries: list[Any], *, charts: bool = True) -> None:
+def render_progress(store: Store, summaries: list[TestSummary], *, charts: bool = True) -> None:
     """Progress across the tests a person link covers: change from the first test, with charts."""
     from analysis.progress import BAND_METHOD, METRICS, progress_table
     from dashboard.charts.progress import progress_figure
@@ -226,7 +228,7 @@ def render_progress(store: Any, summaries: list[Any], *, charts: bool = True) ->
                 st.plotly_chart(progress_figure(table, metric), width="stretch", key=f"coach_progress_{metric}")
 
 
-def stored_settings(store: Any, test_id: int) -> tuple[dict[str, Any], int | None]:
+def stored_settings(store: Store, test_id: int) -> tuple[dict[str, Any], int | None]:
     """The reviewer's stored settings (a coach never has working settings of their own)."""
     try:
         settings, version = store.get_settings(test_id)

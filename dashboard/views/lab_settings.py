@@ -62,13 +62,13 @@ def render() -> None:
         else:
             try:
                 identity = store.set_lab_identity(
-                    actor=user, logo=logo_bytes, remove_logo=bool(remove_logo), reason=reason.strip(), **changes
+                    actor=state.acting_user(), logo=logo_bytes, remove_logo=bool(remove_logo), reason=reason.strip(), **changes
                 )
             except Exception as exc:  # noqa: BLE001 - refusals (role, size, address) shown plainly
                 show_error(exc, context="Lab settings")
                 return
             st.success("Lab settings saved.")
-    if identity.has_logo:
+    if identity.has_logo and identity.logo is not None:
         st.image(identity.logo, caption="Current logo", width=160)
     effective = public_base_url(identity.public_url)
     if effective and effective != identity.public_url:

@@ -13,7 +13,7 @@ import logging
 import math
 import re
 from collections.abc import Mapping, Sequence
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import pandas as pd
 import streamlit as st
@@ -29,6 +29,9 @@ from dashboard.subject_details import form_defaults, import_overrides, preamble_
 from dashboard.timefmt import clock_text
 from dashboard.views._subject_panel import detail_inputs
 from dashboard.views._test_choice import default_test_id
+
+if TYPE_CHECKING:
+    from store import Store, TestSummary
 
 log = logging.getLogger("tidemark.dashboard")
 
@@ -157,7 +160,7 @@ def flag_summary(flags: pd.DataFrame) -> pd.DataFrame:
     return g.rename(columns={"column": "Column", "reason": "Reason"})
 
 
-def stored_headline(store: Any, summary: Any) -> dict[str, float | None]:
+def stored_headline(store: Store, summary: TestSummary) -> dict[str, float | None]:
     """VO2peak, VT1 VO2 and VE/VCO2 slope of a test's current stored version.
 
     The store's summary columns are used; when one is empty the stored results of that version
@@ -228,7 +231,7 @@ def test_rows(tests: Sequence[Any], headlines: Mapping[int, Mapping[str, float |
 # --- the test list --------------------------------------------------------------------------
 
 
-def _test_list(store: Any) -> None:
+def _test_list(store: Store) -> None:
     st.subheader("Tests in the library")
     people = list(store.list_people())
     if not people:
@@ -301,7 +304,7 @@ def _default_sheet(raw: bytes, name: str, sheets: list[str]) -> int:
     return sheets.index(chosen) if chosen in sheets else 0
 
 
-def _import_panel(store: Any, upload: Any, index: int) -> None:
+def _import_panel(store: Store, upload: Any, index: int) -> None:
     raw: bytes = upload.getvalue()
     name: str = upload.name
     base = "imp_" + hashlib.sha256(raw).hexdigest()[:12] + f"_{index}"
@@ -454,7 +457,7 @@ def _import_panel(store: Any, upload: Any, index: int) -> None:
             result = store.import_test(
                 raw,
                 file_name=name,
-                actor=state.current_user(),
+                actor=state.acting_user(),
                 person_code=code.strip() or None,
                 display_name=display.strip() or None,
                 mapping=outcome.mapping.to_dict(),
@@ -494,7 +497,7 @@ def _save_profile(name: str, mapping: Mapping[str, Any] | None) -> None:
     st.success(f"Mapping saved as profile ‘{clean}’ ({path}).")
 
 
-def _add_tests(store: Any) -> None:
+def _add_tests(store: Store) -> None:
     st.subheader("Add tests")
     st.caption(
         "Breath-by-breath exports as CSV, TSV or Excel (.xlsx). Each file is checked before anything "

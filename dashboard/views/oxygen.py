@@ -13,7 +13,7 @@ import copy
 import logging
 import re
 from dataclasses import asdict
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import pandas as pd
 import streamlit as st
@@ -27,6 +27,9 @@ from dashboard import data, state
 from dashboard.charts.oxygen_curves import STATE_LABEL, dissociation_figure, unloading_figure
 from dashboard.report.html_report import format_number
 from dashboard.views._test_choice import choose_test, settings_json, test_settings
+
+if TYPE_CHECKING:
+    from store import Store
 
 log = logging.getLogger("tidemark.dashboard")
 
@@ -539,7 +542,7 @@ def what_if_panel(results: TestResults) -> None:
     st.caption(f"Resting hyperventilation: {pathway.hyperventilation.note}")
 
 
-def keep_conditions(store: Any, test_id: int, new_settings: dict[str, Any], *, version: int | None) -> int:
+def keep_conditions(store: Store, test_id: int, new_settings: dict[str, Any], *, version: int | None) -> int:
     """Save the settings with these oxygen conditions as a new version (audited by the store).
 
     Raises the store's ``EditConflict`` (shown plainly by the app) when someone else saved the
@@ -548,7 +551,7 @@ def keep_conditions(store: Any, test_id: int, new_settings: dict[str, Any], *, v
     if version is None:
         _, version = store.get_settings(test_id)
     new_version = store.save_settings(
-        test_id, new_settings, actor=state.current_user(),
+        test_id, new_settings, actor=state.acting_user(),
         reason="oxygen conditions changed on the Oxygen path page", expected_version=int(version),
     )
     state.set_working_settings(test_id, state.WorkingSettings(new_settings, int(new_version), saved=True))

@@ -13,7 +13,7 @@ import dataclasses
 import functools
 import logging
 from collections.abc import Mapping, Sequence
-from typing import Any, Literal
+from typing import TYPE_CHECKING, Any, Literal
 
 import pandas as pd
 import streamlit as st
@@ -44,6 +44,10 @@ from dashboard.timefmt import clock_text
 from dashboard.views._flags_panel import render_flags
 from dashboard.views._subject_panel import details_panel
 from dashboard.views._test_choice import current_or_default
+
+if TYPE_CHECKING:
+    from analysis.session import Session
+    from store import Store, TestRecord
 
 log = logging.getLogger("tidemark.dashboard")
 
@@ -194,7 +198,7 @@ def chart_pick(event: Any, *, chart: ChartName, avg: pd.DataFrame) -> dict[str, 
 # --- state: the settings the reviewer is working on -----------------------------------------
 
 
-def ensure_working(store: Any, test_id: int, *, refresh: bool = False) -> state.WorkingSettings:
+def ensure_working(store: Store, test_id: int, *, refresh: bool = False) -> state.WorkingSettings:
     """The working settings of ``test_id``, loaded from the store the first time.
 
     With ``refresh`` (once per page run), saved working settings are replaced by the store's
@@ -215,7 +219,7 @@ def ensure_working(store: Any, test_id: int, *, refresh: bool = False) -> state.
     return working
 
 
-def apply_change(store: Any, test_id: int, new_settings: dict[str, Any], *, reason: str = "") -> str:
+def apply_change(store: Store, test_id: int, new_settings: dict[str, Any], *, reason: str = "") -> str:
     """Use ``new_settings`` at once; save them through the store when the user may.
 
     The change is shown immediately (the next run analyses the new settings); the save to the
@@ -245,7 +249,7 @@ def apply_change(store: Any, test_id: int, new_settings: dict[str, Any], *, reas
     return "saving"
 
 
-def flush_saves(store: Any) -> int:
+def flush_saves(store: Store) -> int:
     """Hand the queued saves to the background worker (called after the page is drawn, so the
     save does not compete with drawing the change). Returns how many were queued."""
     queue = st.session_state.pop(SAVE_QUEUE, [])
@@ -383,7 +387,7 @@ def _save_status(test_id: int) -> None:
         st.rerun(scope="app")
 
 
-def _header(store: Any, test_id: int, working: state.WorkingSettings) -> Any:
+def _header(store: Store, test_id: int, working: state.WorkingSettings) -> TestRecord:
     record = store.get_test(test_id)
     s = record.summary
     who = s.person_code + (f" ({s.display_name})" if s.display_name else "")
@@ -436,7 +440,7 @@ def _guard(fn: Any) -> Any:
     return run
 
 
-def _on_averaging(store: Any, test_id: int, *, method_changed: bool) -> None:
+def _on_averaging(store: Store, test_id: int, *, method_changed: bool) -> None:
     working = ensure_working(store, test_id)
     method = st.session_state[f"avg_method_{test_id}"]
     sizes = AVERAGING_SIZES[method]
@@ -445,7 +449,7 @@ def _on_averaging(store: Any, test_id: int, *, method_changed: bool) -> None:
                  reason=f"averaging changed to {AveragingSpec.from_text(method, size).label}")
 
 
-def _averaging_selector(store: Any, test_id: int, working: state.WorkingSettings) -> None:
+def _averaging_selector(store: Store, test_id: int, working: state.WorkingSettings) -> None:
     current = working.settings.get("averaging") or {}
     method = current.get("method", "time_bin")
     size = current.get("size")
@@ -466,7 +470,7 @@ def _averaging_selector(store: Any, test_id: int, working: state.WorkingSettings
                  args=(store, test_id), kwargs={"method_changed": False}, format_func=lambda v: f"{v:g}")
 
 
-def _on_threshold(store: Any, test_id: int, *, clear: bool) -> None:
+def _on_threshold(store: Store, test_id: int, *, clear: bool) -> None:
     working = ensure_working(store, test_id)
     kind = st.session_state.get(f"thr_kind_{test_id}", "vt1")
     by = st.session_state.get(f"thr_by_{test_id}", "time")
@@ -484,7 +488,7 @@ def _on_threshold(store: Any, test_id: int, *, clear: bool) -> None:
     apply_change(store, test_id, new, reason=reason or f"{THRESHOLD_NAMES[kind]} set by {by}")
 
 
-def _threshold_controls(store: Any, test_id: int, working: state.WorkingSettings, results: Any) -> None:
+def _threshold_controls(store: Store, test_id: int, working: state.WorkingSettings, results: TestResults) -> None:
     st.subheader("Set a threshold")
     st.caption("Type a time or a VO2, or pick the threshold below and click an averaged point on any panel of the "
                "overview above (a click moves the threshold to that point's time; a box or lasso only highlights "
@@ -505,7 +509,7 @@ def _threshold_controls(store: Any, test_id: int, working: state.WorkingSettings
                              args=(store, test_id), kwargs={"clear": True})
 
 
-def _on_chart_select(store: Any, test_id: int, *, chart: ChartName) -> None:
+def _on_chart_select(store: Store, test_id: int, *, chart: ChartName) -> None:
     working = ensure_working(store, test_id)
     event = st.session_state.get(f"chart_{chart}_{test_id}")
     if is_area_selection(event):  # box / lasso: highlight those breaths on every chart, move nothing
@@ -526,7 +530,7 @@ def _on_chart_select(store: Any, test_id: int, *, chart: ChartName) -> None:
                  reason=reason)
 
 
-def _select_callback(store: Any, test_id: int, chart: ChartName) -> Any:
+def _select_callback(store: Store, test_id: int, chart: ChartName) -> Any:
     guarded = _guard(_on_chart_select)
     return functools.partial(guarded, store, test_id, chart=chart)
 
@@ -599,7 +603,7 @@ def _zoom_to_span(test_id: int, bounds: tuple[float, float]) -> None:
 COMPACT_TOP_CSS = "<style>[data-testid='stMainBlockContainer']{padding-top:2rem}</style>"
 
 
-def _overview(store: Any, test_id: int, results: Any, session: Any, lines: Sequence[str], *, n_notes: int = 0) -> None:
+def _overview(store: Store, test_id: int, results: TestResults, session: Session, lines: Sequence[str], *, n_notes: int = 0) -> None:
     """The overview grid: every relationship at a glance, linked by one time window and one
     highlighted span, VT1/VT2 and their 90 % bands on every panel. Above it, in one row, the two
     thresholds and the time window; the analysis' notes follow under it."""
@@ -643,7 +647,7 @@ def threshold_notes(agreement: Mapping[str, str], reasons: Sequence[str]) -> lis
     return lines
 
 
-def _exclusions(store: Any, test_id: int, working: state.WorkingSettings, results: Any) -> None:
+def _exclusions(store: Store, test_id: int, working: state.WorkingSettings, results: TestResults) -> None:
     st.subheader("Excluded breaths")
     table = results.excluded_table()
     restored = [int(r) for r in working.settings.get("restored_rows") or []]
@@ -665,7 +669,7 @@ def _exclusions(store: Any, test_id: int, working: state.WorkingSettings, result
     )
 
 
-def _on_restore(store: Any, test_id: int) -> None:
+def _on_restore(store: Store, test_id: int) -> None:
     working = ensure_working(store, test_id)
     restored = [int(r) for r in working.settings.get("restored_rows") or []]
     chosen = [int(r) for r in st.session_state.get(f"restore_{test_id}") or []]
@@ -686,7 +690,7 @@ def _zones(results: TestResults) -> None:
         st.caption("No zones: they need at least VT1.")
 
 
-def _history_and_sign_off(store: Any, test_id: int, working: state.WorkingSettings, record: Any) -> None:
+def _history_and_sign_off(store: Store, test_id: int, working: state.WorkingSettings, record: Any) -> None:
     st.subheader("Versions, audit trail and sign-off")
     c1, c2 = st.columns([2, 1])
     with c2:
@@ -702,7 +706,7 @@ def _history_and_sign_off(store: Any, test_id: int, working: state.WorkingSettin
             note = st.text_input("Sign-off note", key=f"sign_note_{test_id}")
             if st.button("Sign off this version", type="primary", key=f"sign_{test_id}"):
                 try:
-                    v = store.sign_off(test_id, actor=state.current_user(), version=working.version, note=note)
+                    v = store.sign_off(test_id, actor=state.acting_user(), version=working.version, note=note)
                 except Exception as exc:  # noqa: BLE001 - conflicts shown plainly
                     show_error(exc, context="Sign-off")
                 else:
@@ -771,7 +775,7 @@ def audit_field(field: str | None) -> str:
     return f"{words}: {AUDIT_SUBFIELDS.get(tail, tail.replace('_', ' ').replace('.', ': '))}"
 
 
-def _choose_test(store: Any) -> int | None:
+def _choose_test(store: Store) -> int | None:
     tests = list(store.list_tests())
     if not tests:
         st.info("No tests yet. Import one on the Library page.")

@@ -9,13 +9,16 @@ from __future__ import annotations
 
 import logging
 from datetime import UTC, datetime
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import pandas as pd
 import streamlit as st
 
 from dashboard import data, lab, state
 from dashboard.views._test_choice import current_or_default, person_label, test_label
+
+if TYPE_CHECKING:
+    from store import LabIdentity, Store, User
 
 log = logging.getLogger("tidemark.dashboard")
 
@@ -38,7 +41,7 @@ SECTION_SHORT: dict[str, str] = {"headline": "headline and thresholds", "zones":
                                  "report": "report"}
 
 
-def share_url(token: str, *, host: str | None = None, identity: Any | None = None,
+def share_url(token: str, *, host: str | None = None, identity: LabIdentity | None = None,
               environ: dict[str, str] | None = None) -> str:
     """The address a coach opens: ``<public URL>/?link=<token>`` when a public URL is configured
     (``TIDEMARK_PUBLIC_URL`` or the lab settings; https unless it says otherwise), else
@@ -112,7 +115,7 @@ def render() -> None:
         return
 
     st.subheader("New link")
-    if not may_share:
+    if not may_share or user is None:
         st.info("Only reviewers and administrators can create or revoke links.")
     else:
         create_form(store, user, tests=tests, people=people)
@@ -132,12 +135,12 @@ def render() -> None:
                 format_func=lambda i: f"Link {i} (expires {next(s for s in active if s.id == i).expires_at:%Y-%m-%d})",
             )
             if st.form_submit_button("Revoke link"):
-                store.revoke_share(int(share_id), actor=user)
+                store.revoke_share(int(share_id), actor=state.acting_user())
                 st.success(f"Link {share_id} revoked. It no longer opens.")
                 st.rerun()
 
 
-def create_form(store: Any, user: Any, *, tests: dict[int, Any], people: dict[int, Any]) -> None:
+def create_form(store: Store, user: User, *, tests: dict[int, Any], people: dict[int, Any]) -> None:
     """The form that creates a link and shows its address once."""
     kind = st.radio("Covers", [SCOPE_TEST, SCOPE_PERSON], horizontal=True, key="share_kind")
     with st.form("new_share"):
@@ -166,9 +169,10 @@ def create_form(store: Any, user: Any, *, tests: dict[int, Any], people: dict[in
     if not sections:
         st.error("Choose at least one thing the coach may see.")
         return
-    kwargs = {"test_id": int(target)} if kind == SCOPE_TEST else {"person_id": int(target)}
     token, share_id = store.create_share(
-        actor=user, expires_in_days=int(days), show_name=bool(show_name), sections=tuple(sections), **kwargs
+        actor=user, test_id=int(target) if kind == SCOPE_TEST else None,
+        person_id=None if kind == SCOPE_TEST else int(target),
+        expires_in_days=int(days), show_name=bool(show_name), sections=tuple(sections),
     )
     identity = lab.read_identity(store)
     st.success(f"Link {share_id} created. Copy it now: the address is shown only this once.")
