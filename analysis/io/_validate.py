@@ -272,6 +272,14 @@ def _rer_beyond(frame: pd.DataFrame | Mapping[str, Any], n: int) -> np.ndarray:
     return np.asarray(rer > C.RER_REJECT_ABOVE)
 
 
+def _unknown_phase(values: Any) -> np.ndarray:
+    """True for each label that is text but not one of :data:`analysis.columns.PHASES`
+    (each distinct label checked once)."""
+    codes, labels = pd.factorize(np.asarray(values, dtype=object))
+    unknown = np.array([isinstance(v, str) and v not in C.PHASES for v in labels] + [False], dtype=bool)
+    return unknown[codes]  # code -1 (no label) -> False
+
+
 def check_and_flag(
     frame: pd.DataFrame | Mapping[str, Any],
     *,
@@ -365,9 +373,7 @@ def check_and_flag(
         flags.append((rows[1:][dt > GAP_FLAG_S], C.T_S, REASON_GAP))
 
     if C.PHASE in frame:
-        codes, labels = pd.factorize(np.asarray(frame[C.PHASE], dtype=object))  # each distinct label checked once
-        unknown = np.array([isinstance(v, str) and v not in C.PHASES for v in labels] + [False], dtype=bool)
-        flags.append((rows[unknown[codes]], C.PHASE, REASON_PHASE))  # code -1 (no label) -> False
+        flags.append((rows[_unknown_phase(frame[C.PHASE])], C.PHASE, REASON_PHASE))
 
     counts = [len(f[0]) for f in flags]
     source_row = np.concatenate([f[0] for f in flags] + [np.empty(0)]).astype("int64")
@@ -376,12 +382,11 @@ def check_and_flag(
     order = np.argsort(column, kind="stable")  # by row, then column; found order among equals
     order = order[np.argsort(source_row[order], kind="stable")]
     return pd.DataFrame(
-        {
+        {  # in the order of FLAG_COLUMNS
             "source_row": source_row[order],
             "column": pd.Series(column[order], dtype=object),
             "reason": pd.Series(reason[order], dtype=object),
-        },
-        columns=FLAG_COLUMNS,
+        }
     )
 
 
@@ -422,11 +427,10 @@ def finish_session(
     if C.PHASE in data:
         # flagged above; left without a phase so that the analysis (which knows only
         # analysis.columns.PHASES) finds the phases from the data instead of refusing the test
-        phase = np.asarray(data[C.PHASE], dtype=object)
-        known = np.array([not isinstance(v, str) or v in C.PHASES for v in phase], dtype=bool)
-        if not known.all():
-            phase = phase.copy()
-            phase[~known] = None
+        unknown = _unknown_phase(data[C.PHASE])
+        if unknown.any():
+            phase = np.array(data[C.PHASE], dtype=object)
+            phase[unknown] = None
             data[C.PHASE] = pd.Series(phase, dtype=object)
     frame = pd.DataFrame(data)
     return Session(meta=meta, breaths=frame, flags=flags, source_name=file_name)

@@ -260,20 +260,21 @@ def _plain_body(
         body = body.replace("\r\n", "\n").replace("\r", "\n")
     if body and not body.endswith("\n"):
         body += "\n"
-    if not body or '"' in body or "\n\n" in "\n" + body:
+    if not body or '"' in body:
         return None
-    raw = np.frombuffer(body.encode(), dtype=np.uint8)  # commas per line, counted on the bytes
-    commas_per_line = np.diff(np.searchsorted(np.flatnonzero(raw == ord(",")), np.flatnonzero(raw == ord("\n"))), prepend=0)
-    if (commas_per_line != width - 1).any():
+    encoded = body.encode()  # the C parser reads bytes: given text, it would encode it again
+    n = encoded.count(b"\n")
+    # exactly width cells on every line: the parser refuses a line with more, so this total
+    # leaves none with fewer (and no blank line, which has no comma)
+    if encoded.count(b",") != n * (width - 1):
         return None
-    n = len(commas_per_line)
     try:
         table = pd.read_csv(
-            io.StringIO(body),
+            io.BytesIO(encoded),
             header=None,
             names=list(range(width)),
             index_col=False,
-            dtype={k: ("object" if k in text_columns.values() else "float64") for k in columns.values()},
+            dtype={k: np.dtype(object if k in text_columns.values() else np.float64) for k in columns.values()},
             keep_default_na=False,
             na_values=[""],  # empty cells only; a text cell read as NaN is None like an empty one
             engine="c",
@@ -290,7 +291,8 @@ def _plain_body(
             data[canonical] = np.array(text_values(list(uniques)) or [None], dtype=object)[codes]
             continue
         values = table[k].to_numpy(dtype=float)
-        if np.isinf(values).any() or (canonical in C.REQUIRED and np.isnan(values).any()):
+        readable = np.isfinite(values) if canonical in C.REQUIRED else ~np.isinf(values)  # empty (NaN) if optional
+        if not readable.all():
             return None
         data[canonical] = values
     return data

@@ -96,3 +96,24 @@ def test_plain_body_is_read_by_the_fast_path(monkeypatch):
     s = read_session(b"# a: 1\nt_s,vo2_ml_min,vco2_ml_min,ve_l_min,hr_bpm,phase\n0,300,250,10,,rest\n3,310,255,10.5,90,Ramp\n")
     assert calls and s.breaths["source_row"].tolist() == [3, 4]
     assert s.breaths["phase"].tolist() == ["rest", "exercise"]
+
+
+_FOUR = {"t_s": 0, "vo2_ml_min": 1, "vco2_ml_min": 2, "ve_l_min": 3}
+
+
+@pytest.mark.parametrize(
+    "body",
+    [
+        "0,300,250\n3,310,255,10.5,1\n",  # a short and a long line: as many commas in all as four cells a line
+        "0,300,250\n3,310,255,10.5\n",  # a short line
+        "0,300,250,10\n\n3,310,255,10.5\n",  # a blank line
+        "\n0,300,250,10\n",  # a blank first line
+        "0,300,250,10\n3,310,255,10.5,\n",  # an empty fifth cell
+    ],
+)
+def test_lines_of_another_width_leave_the_fast_path(body: str) -> None:
+    # the fast path counts commas in all and lets the parser refuse a line with too many; every
+    # other body goes cell by cell, where the problem is worded with its line
+    assert SF._plain_body(body, first_line=2, width=4, columns=_FOUR, text_columns={}) is None
+    plain = SF._plain_body("0,300,250,10\n3,310,255,10.5\n", first_line=2, width=4, columns=_FOUR, text_columns={})
+    assert plain is not None and plain["source_row"].tolist() == [2, 3] and plain["ve_l_min"].tolist() == [10.0, 10.5]
