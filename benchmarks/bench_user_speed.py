@@ -125,7 +125,7 @@ def _analysis_rows(results: dict[str, dict]) -> list[BenchRow]:
         a, b = after[n], (before or {}).get(n)
         per_point = a["analysis"] / max(a["points"], 1) * 1e6
         extra = (f"CPU {a['analysis'] * 1000:.1f} ms = {a['analysis'] / a['csv']:.1f}x pd.read_csv ({a['csv'] * 1000:.1f} ms); "
-                 f"{a['points']} averaged points, {per_point:.0f} us/point")
+                 f"{a['points']} averaged points, {per_point:.0f} us/point, {a['analysis'] / int(n) * 1e6:.1f} us/breath")
         if b:
             extra += f"; before {b['analysis'] * 1000:.1f} ms = {b['analysis'] / b['csv']:.1f}x read_csv, {b['analysis'] / max(b['points'], 1) * 1e6:.0f} us/point"
         rows.append(BenchRow(f"analyze_session, {int(n):,} breaths (CPU)", a["analysis"], "before" if b else "",
