@@ -4,8 +4,9 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
-from hypothesis import given
+from hypothesis import given, settings
 from hypothesis import strategies as st
+from scipy.signal import find_peaks
 
 from analysis.interpretation.oscillation import _peaks
 
@@ -70,6 +71,7 @@ _values = st.one_of(
 )
 
 
+@settings(deadline=None)
 @given(values=_values, distance_n=st.integers(1, 40), prominence=st.sampled_from([0.0, 0.5, 1.0, 2.5, 1e3]))
 def test_same_peaks_as_the_plain_walk(values: list[float], distance_n: int, prominence: float) -> None:
     y = np.array(values, dtype=float)
@@ -77,6 +79,7 @@ def test_same_peaks_as_the_plain_walk(values: list[float], distance_n: int, prom
     assert _peaks(y, distance_n=distance_n, prominence=prominence).tolist() == expected.tolist()
 
 
+@settings(deadline=None)
 @given(
     values=st.lists(st.floats(-1e3, 1e3, allow_nan=False), min_size=3, max_size=200, unique=True),
     prominence=st.sampled_from([0.0, 1.0, 50.0, 400.0]),
@@ -84,8 +87,6 @@ def test_same_peaks_as_the_plain_walk(values: list[float], distance_n: int, prom
 def test_same_prominent_peaks_as_scipy(values: list[float], prominence: float) -> None:
     # SciPy's scipy.signal.find_peaks with `prominence` (Wood's topographic prominence, as in
     # scipy.signal.peak_prominences): on tie-free series its maxima and prominences are ours
-    from scipy.signal import find_peaks
-
     y = np.array(values)
     expected, _ = find_peaks(y, prominence=prominence)
     assert _peaks(y, distance_n=1, prominence=prominence).tolist() == expected.tolist()
