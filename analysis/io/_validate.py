@@ -261,15 +261,14 @@ def _beyond_limits(v: np.ndarray, name: str) -> np.ndarray:
     return out
 
 
-def _rer_beyond(frame: pd.DataFrame | Mapping[str, Any], n: int) -> np.ndarray:
-    """Breaths whose RER (VCO2/VO2) is above :data:`analysis.columns.RER_REJECT_ABOVE`."""
+def _rer(frame: pd.DataFrame | Mapping[str, Any]) -> np.ndarray | None:
+    """RER (VCO2/VO2) of every breath, NaN where VO2 is not positive; ``None`` without both columns."""
     if C.VO2_ML_MIN not in frame or C.VCO2_ML_MIN not in frame:
-        return np.zeros(n, dtype=bool)
+        return None
     vo2 = np.asarray(frame[C.VO2_ML_MIN], dtype=float)
     vco2 = np.asarray(frame[C.VCO2_ML_MIN], dtype=float)
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        rer = np.where(vo2 > 0, vco2 / vo2, np.nan)
-    return np.asarray(rer > C.RER_REJECT_ABOVE)
+        return np.where(vo2 > 0, vco2 / vo2, np.nan)
 
 
 def _unknown_phase(values: Any) -> np.ndarray:
@@ -309,7 +308,8 @@ def check_and_flag(
 
     artefact_cols = [n for n in ARTEFACT_COLUMNS if n in frame]
     beyond = {n: _beyond_limits(np.asarray(frame[n], dtype=float), n) for n in artefact_cols}
-    rer_beyond = _rer_beyond(frame, len(rows))
+    rer = _rer(frame)
+    rer_beyond = rer > C.RER_REJECT_ABOVE if rer is not None else np.zeros(len(rows), dtype=bool)
     any_beyond = np.logical_or.reduce([*beyond.values(), rer_beyond]) if artefact_cols else rer_beyond
     # A few isolated impossible breaths are artefacts (kept, flagged, excluded by the analysis);
     # many, or a run of them, are systematic and refused with the hint to check the unit.
@@ -320,11 +320,11 @@ def check_and_flag(
         spec = C.COLUMNS[name]
         v = np.asarray(frame[name], dtype=float)
         lo, hi = spec.reject_below, spec.reject_above
-        impossible = _beyond_limits(v, name)
+        impossible = beyond[name] if name in beyond else _beyond_limits(v, name)
         unit_hint = f"; {unit_notes[name]}" if name in unit_notes else ""
         if tolerated and name in beyond:
             flags.append((rows[impossible], name, REASON_ARTEFACT))
-        else:
+        elif impossible.any():
             many = f" ({int(impossible.sum())} breaths)" if impossible.sum() > 1 else ""
             for i in np.flatnonzero(impossible):
                 problems.add(
@@ -334,22 +334,19 @@ def check_and_flag(
                     row=int(rows[i]),
                     column=header(name),
                 )
-        usable = ~impossible & ~np.isnan(v)
+        missing = np.isnan(v)
+        usable = ~(impossible | missing)
         if spec.flag_below is not None:
             flags.append((rows[usable & (v < spec.flag_below)], name, REASON_BELOW))
         if spec.flag_above is not None:
             flags.append((rows[usable & (v > spec.flag_above)], name, REASON_ABOVE))
         if not spec.required:
-            flags.append((rows[np.isnan(v)], name, REASON_MISSING))
+            flags.append((rows[missing], name, REASON_MISSING))
 
-    if C.VO2_ML_MIN in frame and C.VCO2_ML_MIN in frame:
-        vo2 = np.asarray(frame[C.VO2_ML_MIN], dtype=float)
-        vco2 = np.asarray(frame[C.VCO2_ML_MIN], dtype=float)
-        with np.errstate(divide="ignore", invalid="ignore"):
-            rer = np.where(vo2 > 0, vco2 / vo2, np.nan)
+    if rer is not None:
         if tolerated:
-            flags.append((rows[rer > C.RER_REJECT_ABOVE], RER_COLUMN, REASON_ARTEFACT))
-        for i in np.flatnonzero(rer > C.RER_REJECT_ABOVE) if not tolerated else ():
+            flags.append((rows[rer_beyond], RER_COLUMN, REASON_ARTEFACT))
+        for i in np.flatnonzero(rer_beyond) if not tolerated else ():
             problems.add(
                 f"RER (VCO2/VO2) is {rer[i]:.2f}, above {C.RER_REJECT_ABOVE:g}: not a human breath",
                 "check that VO2 and VCO2 are not swapped and are in the same unit",
