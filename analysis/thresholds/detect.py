@@ -52,6 +52,11 @@ VSLOPE_SMOOTH_POINTS = 3
 #: respiratory compensation (VT2 is uncertain by a bin or two), and VT1 is read again in a
 #: window ending this long before VT2.
 VT2_MARGIN_S = 60.0
+#: A VT1 this close to VT2 that cannot be read again below VT2 is not determinable: VT1 and VT2
+#: are separated by a stretch of isocapnic buffering (Whipp et al. 1989, from memory), and a
+#: reading that close marks the rise at VT2 (measured on the simulator's short ramps: such
+#: readings were 23-24 % of VO2max above the planted VT1).
+SAME_RISE_S = 30.0
 #: Fewest averaged points needed in the exercise phase before any threshold is sought.
 MIN_EXERCISE_POINTS = 12
 #: Picks agree when within this fraction of the test's VO2 range (exercise, lowest to highest
@@ -593,7 +598,8 @@ def detect_thresholds(avg: pd.DataFrame, *, phases: pd.Series | np.ndarray | Non
     on-transient, Beaver et al. 1986), ending where ventilation levels off against VCO2 when
     there is no VT2; a VT1 that lands within 60 s of VT2 is read again in a window ending 60 s
     before VT2 (as Beaver et al. restrict V-slope to the part below the respiratory
-    compensation point):
+    compensation point), and one within :data:`SAME_RISE_S` of VT2 that cannot be read again
+    there is not determinable:
 
     * V-slope: :func:`vslope_fit` of VCO2 on VO2 (3-point running means, against regression
       dilution by VO2 noise).
@@ -685,6 +691,7 @@ def detect_thresholds(avg: pd.DataFrame, *, phases: pd.Series | np.ndarray | Non
             )
             below = everything
     r1: list[str] = []
+    same_rise = ""
     vt1_c, fit = _vt1_candidates(win.take(below), r1)
     vt1, agree1 = _consensus("vt1", vt1_c, ex, onset_end_s=onset)
     if vt1 is None and not below.all():
@@ -701,6 +708,11 @@ def detect_thresholds(avg: pd.DataFrame, *, phases: pd.Series | np.ndarray | Non
             if v_cut is not None:
                 r1 = [*r_cut, f"VT1: the first reading ({vt1.vo2_ml_min:.0f} mL/min) fell on the rise at VT2; read again below VT2"]
                 vt1_c, fit, vt1, agree1 = c_cut, f_cut, v_cut, a_cut
+            elif vt1.t_s > vt2.t_s - SAME_RISE_S:
+                same_rise = (
+                    f"the reading ({vt1.vo2_ml_min:.0f} mL/min at {vt1.t_s:.0f} s) lies within {SAME_RISE_S:.0f} s of VT2 "
+                    f"({vt2.t_s:.0f} s), on the rise that VT2 marks, and read again below VT2 no method found a break"
+                )
     reasons.extend(r1)
     if vt1 is not None:  # a VT2 pick at or below VT1 is not an RCP: set it aside
         late = {}
@@ -726,6 +738,10 @@ def detect_thresholds(avg: pd.DataFrame, *, phases: pd.Series | np.ndarray | Non
             reasons.append(f"VT1 not determinable: {why}")
             report.vt1_undetermined = replace(vt1, determinable=False, reason=why)
             vt1 = None
+    if vt1 is not None and same_rise:
+        reasons.append(f"VT1 not determinable: {same_rise}")
+        report.vt1_undetermined = replace(vt1, determinable=False, reason=same_rise)
+        vt1 = None
     if vt1 is not None and vt1.confidence == "low":
         window = CONTRADICTION_WINDOWS * agreement_tolerance_ml_min(float(np.ptp(ex.vo2)))
         vt1, contradicted = _contradicted(vt1, vt1_c, onset, window)

@@ -1,5 +1,6 @@
 """Readings the methods contradict: VE steepening against VCO2 alone is no VT2; a lone VT1 that
-another method contradicts is not determinable (synthetic ramps, tests/.../synthetic.py)."""
+another method contradicts, or a VT1 on the rise at VT2, is not determinable (synthetic ramps,
+tests/.../synthetic.py, and one simulated short ramp)."""
 
 from __future__ import annotations
 
@@ -65,3 +66,23 @@ def test_a_lone_vt1_contradicted_by_another_method_is_set_aside():
     # nor does one inside the on-transient (before 200 s)
     cands[PETO2_NADIR] = _pick(PETO2_NADIR, 1000.0, 150.0)
     assert _contradicted(lone, cands, 200.0, window) == (lone, None)
+
+
+def test_vt1_on_the_rise_at_vt2_is_not_determinable():
+    # a short steep ramp at noise 2 (planted VT1 1644, VT2 2160 mL/min): V-slope and excess CO2
+    # read 2272 / 2234 mL/min at 600 s, 5 s before the VT2 reading (PETCO2 fall, 2276 at 605 s);
+    # read again below VT2 no method finds a break, so VT1 is not reported
+    import warnings
+
+    from analysis.pipeline import analyze_session
+    from analysis.simulation import simulate_case
+
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        r = analyze_session(simulate_case("short_ramp", 7, noise=2.0)).thresholds
+    assert r.vt1 is None
+    u = r.vt1_undetermined
+    assert u is not None and not u.determinable
+    assert u.vo2_ml_min == pytest.approx(2255.0, abs=5.0)
+    assert "on the rise that VT2 marks" in u.reason and "no method found a break" in u.reason
+    assert r.vt2 is not None and r.vt2.vo2_ml_min == pytest.approx(2276.0, abs=5.0)

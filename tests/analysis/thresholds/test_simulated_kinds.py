@@ -64,23 +64,23 @@ def _errors(suite, key, *, kinds=None):
 
 
 def test_vt1_accuracy_all_kinds(suite):
-    # measured on these 225 tests (cart noise): median 1.9 %, p90 7.6 % of VO2max, 35 not given
-    # (before a lone reading contradicted by another method became not determinable: 2.1 / 9.7 %,
-    # 14 not given)
+    # measured on these 225 tests (cart noise): median 1.9 %, p90 7.1 % of VO2max, 39 not given
+    # (before a lone reading contradicted by another method, or one on the rise at VT2, became
+    # not determinable: 2.1 / 9.7 %, 14 not given)
     err, missing = _errors(suite, "vt1")
     assert np.median(err) <= 3.0
-    assert np.percentile(err, 90) <= 9.0
-    assert missing <= 38
+    assert np.percentile(err, 90) <= 8.5
+    assert missing <= 42
 
 
 def test_vt1_accuracy_original_kinds(suite):
-    # the original, easier suite keeps VT1 median <= 4 % and p90 <= 8 %: measured 1.7 / 6.7 % on
-    # these 45 tests, one not determinable (noise 2); a p90 of 45 tests moves with one test,
+    # the original, easier suite keeps VT1 median <= 4 % and p90 <= 8 %: measured 1.5 / 6.2 % on
+    # these 45 tests, three not determinable (noise 2); a p90 of 45 tests moves with one test,
     # hence the margin
     err, missing = _errors(suite, "vt1", kinds=ORIGINAL_KINDS)
     assert np.median(err) <= 3.0
     assert np.percentile(err, 90) <= 9.0
-    assert missing <= 2
+    assert missing <= 3
 
 
 def test_vt2_accuracy_and_no_false_vt2(suite):
@@ -112,12 +112,13 @@ def test_step_onset_no_longer_taken_for_vt1(suite):
 
 
 def test_short_ramps_degrade_gracefully(suite):
-    # short steep ramps: the readings given are closer (measured median 3.6 %, p90 22 % with cart
-    # noise; before this work 13.7 % / 29 % on seeds 0-9 without it), and a lone early reading is
-    # reported as not determinable
+    # short steep ramps: the readings given are closer (measured median 2.5 %, p90 9.4 % with cart
+    # noise; 22 % before a reading on the rise at VT2 became not determinable; before this work
+    # 13.7 % / 29 % on seeds 0-9 without cart noise), and a lone early reading is reported as not
+    # determinable
     err, missing = _errors(suite, "vt1", kinds=("short_ramp",))
-    assert np.median(err) <= 7.0
-    assert np.percentile(err, 90) <= 23.0
+    assert np.median(err) <= 5.0
+    assert np.percentile(err, 90) <= 14.0
     for kind, _, _, _, report in suite:
         if kind == "short_ramp" and report.vt1 is None and report.vt1_undetermined is not None:
             assert not report.vt1_undetermined.determinable and report.vt1_undetermined.reason
