@@ -83,6 +83,13 @@ RELIABILITY: dict[str, float] = {
 #: memory); measured on the simulator suite, a VT2 read by the VE-vs-VCO2 breakpoint alone was
 #: wrong (no compensation point) 9 times and right 5 times (p90 error 18 % of VO2max).
 VT2_CONFIRMING: frozenset[str] = frozenset({VE_VCO2_RISE, PETCO2_FALL})
+#: Each side of a consensus interval is scaled by this factor for its confidence. The members'
+#: own profile intervals say how sharply each fit placed its break, not how far the methods may
+#: disagree: measured on the simulator suite with cart noise (450 tests; the factor that makes
+#: 90 % of the planted thresholds fall inside, docs/thresholds.md), low-confidence readings (one
+#: method) needed x2.06 (VT1) and x1.99 (VT2), moderate ones x0.89 / x0.97, high ones (three or
+#: more methods agreeing) x0.52 / x0.48.
+CONFIDENCE_WIDTH: dict[str, float] = {"low": 2.0, "moderate": 1.0, "high": 0.55}
 #: A VT1 that one method alone gives is not reported when another method's pick (after the
 #: on-transient) lies more than this many agreement windows away: the methods contradict each
 #: other. Measured on the simulator suite with cart noise (450 tests, docs/thresholds.md): such
@@ -545,6 +552,23 @@ def _consensus(
     return pick, agree
 
 
+def _scaled(ci: tuple[float, float] | None, centre: float, factor: float) -> tuple[float, float] | None:
+    """``ci`` with each side's distance from ``centre`` multiplied by ``factor``."""
+    if ci is None:
+        return None
+    return centre - factor * (centre - ci[0]), centre + factor * (ci[1] - centre)
+
+
+def _calibrated(pick: ThresholdPick | None) -> ThresholdPick | None:
+    """A consensus pick with its intervals scaled for its confidence (:data:`CONFIDENCE_WIDTH`).
+
+    Applied last: whether a reading is determinable is judged on the fits' own intervals."""
+    if pick is None or pick.method != CONSENSUS:
+        return pick
+    f = CONFIDENCE_WIDTH[pick.confidence]
+    return replace(pick, ci90_vo2_ml_min=_scaled(pick.ci90_vo2_ml_min, pick.vo2_ml_min, f), ci90_t_s=_scaled(pick.ci90_t_s, pick.t_s, f))
+
+
 def _cluster_interval(
     cluster: list[ThresholdPick], v: float, t_s: float
 ) -> tuple[tuple[float, float] | None, tuple[float, float] | None]:
@@ -754,6 +778,9 @@ def detect_thresholds(avg: pd.DataFrame, *, phases: pd.Series | np.ndarray | Non
     if vt1 is not None and vt2 is not None and (vt1.vo2_ml_min >= vt2.vo2_ml_min or vt1.t_s >= vt2.t_s):
         vt1, vt2, why = _order(vt1, vt2, win, ex, onset)
         reasons.append(why)
+    vt1, vt2 = _calibrated(vt1), _calibrated(vt2)
+    report.vt1_undetermined = _calibrated(report.vt1_undetermined)
+    report.vt2_undetermined = _calibrated(report.vt2_undetermined)
     report.vt1, report.vt2 = vt1, vt2
     report.vt1_auto, report.vt2_auto = vt1, vt2
     report.vt1_candidates, report.vt2_candidates = vt1_c, vt2_c

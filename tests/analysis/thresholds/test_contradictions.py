@@ -86,3 +86,19 @@ def test_vt1_on_the_rise_at_vt2_is_not_determinable():
     assert u.vo2_ml_min == pytest.approx(2255.0, abs=5.0)
     assert "on the rise that VT2 marks" in u.reason and "no method found a break" in u.reason
     assert r.vt2 is not None and r.vt2.vo2_ml_min == pytest.approx(2276.0, abs=5.0)
+
+
+def test_consensus_intervals_are_scaled_for_their_confidence():
+    from analysis.thresholds.detect import CONFIDENCE_WIDTH, CONSENSUS, _calibrated
+
+    assert CONFIDENCE_WIDTH == {"low": 2.0, "moderate": 1.0, "high": 0.55}
+    low = ThresholdPick("vt1", 500.0, 1500.0, CONSENSUS, "auto", "low", "", 3, ci90_vo2_ml_min=(1400.0, 1550.0), ci90_t_s=(480.0, 530.0))
+    got = _calibrated(low)
+    assert got.ci90_vo2_ml_min == pytest.approx((1300.0, 1600.0))  # each side x2 around 1500
+    assert got.ci90_t_s == pytest.approx((460.0, 560.0))
+    high = ThresholdPick("vt2", 800.0, 2600.0, CONSENSUS, "auto", "high", "", 9, ci90_vo2_ml_min=(2400.0, 2700.0), ci90_t_s=None)
+    got = _calibrated(high)
+    assert got.ci90_vo2_ml_min == pytest.approx((2490.0, 2655.0)) and got.ci90_t_s is None
+    # a single method's own pick and a reviewer's pick keep theirs
+    own = _pick(VSLOPE, 1500.0, 500.0)
+    assert _calibrated(own) is own and _calibrated(None) is None

@@ -125,8 +125,9 @@ def test_short_ramps_degrade_gracefully(suite):
 
 
 def test_interval_calibration(suite):
-    # the stated 90 % interval holds the truth in 85-95 % of tests (measured here 95 % / 90 %;
-    # 92 % / 89 % on the 450 tests of seeds 0-9 through the importer and the pipeline)
+    # the stated 90 % interval holds the truth in 85-95 % of tests (measured here 92 % / 92 % with
+    # the confidence scaling; 91 % / 90 % on the hard kinds of the 450 tests of seeds 0-9 through
+    # the importer and the pipeline)
     for key in ("vt1", "vt2"):
         hits = []
         for _, _, _, truth, report in suite:
@@ -136,7 +137,7 @@ def test_interval_calibration(suite):
                 continue
             lo, hi = pick.ci90_vo2_ml_min
             hits.append(lo <= true <= hi)
-        assert 0.82 <= np.mean(hits) <= 0.97, (key, np.mean(hits))
+        assert 0.85 <= np.mean(hits) <= 0.95, (key, np.mean(hits))
 
 
 def test_vt1_before_vt2_always(suite):
