@@ -22,6 +22,7 @@ from analysis.errors import AnalysisError, InvalidParameter, TidemarkError
 from analysis.indices._arrays import present_values
 from analysis.indices.summary import compute_indices, indices_methods
 from analysis.indices.threshold_values import threshold_values
+from analysis.interpretation.lag import LagCorrection, threshold_lag
 from analysis.interpretation.summary import interpret_test, interpretation_methods, interpretation_reference_method
 from analysis.maximality import MAXIMALITY_METHOD, assess_maximality, peak_values
 from analysis.oxygen.from_test import oxygen_from_test
@@ -36,7 +37,7 @@ from analysis.session import Session
 from analysis.settings import AnalysisSettings
 from analysis.thresholds import detect_thresholds, override_threshold
 from analysis.thresholds.results import ThresholdPick, ThresholdReport
-from analysis.zones import ZONES_METHOD, ZoneSet, training_zones
+from analysis.zones import ZoneSet, lag_corrected_zones, training_zones, zones_method
 
 #: Metadata keys read as positive numbers (others are passed on as given).
 _NUMERIC_META = ("body_mass_kg", "age_y", "height_cm", "hb_g_dl", "mvv_l_min", "fev1_l")
@@ -120,11 +121,16 @@ def threshold_method(pick: ThresholdPick | None) -> str:
     return f"{pick.method} of the automatic methods — {pick.note}" if pick.note else pick.method
 
 
-def zones_for(ex: pd.DataFrame, *, vt1: Any | None, vt2: Any | None, peak: Any, hr_peak_bpm: float | None) -> ZoneSet:
+def zones_for(
+    ex: pd.DataFrame, *, vt1: Any | None, vt2: Any | None, peak: Any, hr_peak_bpm: float | None,
+    lag: LagCorrection | None = None,
+) -> ZoneSet:
     """Training zones (:func:`training_zones`) topped by the peak HR and the highest load of exercise.
 
     The VO2-peak row itself can sit in an averaging window that already holds the first breaths
-    of recovery (lower load), so the load maxima of exercise are used for the top.
+    of recovery (lower load), so the load maxima of exercise are used for the top. With ``lag``
+    (a ramp), the work-rate/speed bounds at VT1 and VT2 are its steady-state equivalents
+    (:func:`analysis.zones.lag_corrected_zones`, Whipp et al. 1981).
     """
     if vt1 is not None and vt2 is not None and vt2.vo2_ml_min < vt1.vo2_ml_min:
         return ZoneSet(
@@ -145,9 +151,15 @@ def zones_for(ex: pd.DataFrame, *, vt1: Any | None, vt2: Any | None, peak: Any, 
         grade_pct=top(C.GRADE_PCT, peak.grade_pct),
     )
     try:
-        return training_zones(vt1=vt1, vt2=vt2, peak=ceiling)
+        zones = training_zones(vt1=vt1, vt2=vt2, peak=ceiling)
     except TidemarkError as exc:
         return ZoneSet((), f"Zones not given: {exc}")
+    if lag is None:
+        return zones
+    return lag_corrected_zones(
+        zones, load=lag.load, vt1_load=lag.vt1_corrected, vt2_load=lag.vt2_corrected,
+        ramp_rate_per_min=lag.ramp_rate_per_min, mean_response_time_s=lag.mean_response_time_s,
+    )
 
 
 def analyze_session(
@@ -181,7 +193,8 @@ def analyze_session(
     -----
     Steps: clean (outlier breaths and the reviewer's exclusions) -> phases -> average (with the
     derived series) -> thresholds (detected, then the reviewer's overrides) -> values at the
-    thresholds and the peak -> maximality -> indices -> reference values and classes -> zones ->
+    thresholds and the peak -> maximality -> indices -> reference values and classes -> the ramp's
+    lag correction -> zones (power/speed bounds lag-corrected on a ramp) ->
     oxygen (when Hb is known). Each step returns its record and its notes; the notes are
     gathered in ``warnings``, nothing is printed.
     """
@@ -239,7 +252,8 @@ def analyze_session(
     except InvalidParameter as exc:  # metadata out of range: no reference values, said in a note
         predicted, classes = ReferenceValues(), Classes()
         reference_notes = (f"Reference values and classes not given: {exc}",)
-    zones = zones_for(ex, vt1=vt1, vt2=vt2, peak=peak, hr_peak_bpm=maximality.hr_peak_bpm)
+    lag, lag_notes = threshold_lag(avg, phases_avg=phases_avg, vt1=vt1, vt2=vt2, mode=mode)
+    zones = zones_for(ex, vt1=vt1, vt2=vt2, peak=peak, hr_peak_bpm=maximality.hr_peak_bpm, lag=lag)
     oxygen, oxygen_notes, oxygen_methods = (
         oxygen_from_test(
             avg, phases_avg=phases_avg, hb_g_dl=meta.get("hb_g_dl"), barometric_mmhg=_number(meta.get("barometric_mmhg")),
@@ -253,12 +267,12 @@ def analyze_session(
     interpretation, interpretation_notes = interpret_test(
         cleaned.breaths, avg, breath_phases=phases.labels.to_numpy(dtype=str), phases_avg=phases_avg, meta=meta,
         mode=mode, beta_blocker=subject.beta_blocker, indices=indices, maximality=maximality,
-        vo2_peak_ml_min=peak.vo2_ml_min, vt1=vt1, vt2=vt2, reference_set=settings.reference_set,
+        vo2_peak_ml_min=peak.vo2_ml_min, vt1=vt1, vt2=vt2, reference_set=settings.reference_set, lag=lag,
     )
     if oxygen_cascade is not None:
         oxygen_methods = {**oxygen_methods, "oxygen_cascade": CASCADE_METHOD}
     notes = [*phases.notes, *index_notes, *reference_notes, *oxygen_notes, *(f"Oxygen: {n}" for n in cascade_notes),
-             *interpretation_notes]
+             *lag_notes, *interpretation_notes]
     if body_mass is None:
         notes.append("Body mass unknown: per-kg values, METs and predicted values are not given.")
     if meta.get("beta_blocker") not in (None, "") and subject.beta_blocker is None:
@@ -283,7 +297,7 @@ def analyze_session(
         "maximality": MAXIMALITY_METHOD,
         **reference_methods(),
         **({"hr_max_beta_blocker": BRAWNER_METHOD} if maximality.hr_max_beta_blocker_bpm is not None else {}),
-        "zones": ZONES_METHOD,
+        "zones": zones_method(load_basis=zones.load_basis),
         "averaging": settings.averaging.label,
         "vo2_peak": f"highest {window} averaged exercise VO2 (common practice: 30-s peak values)",
         "rer_peak": f"highest {window} averaged exercise VCO2 / VO2 (same window as VO2peak)",

@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from typing import Protocol
 
 from analysis.errors import InvalidParameter
@@ -10,6 +10,19 @@ from analysis.records import described
 
 #: Reader-facing method sentence (shown under ``methods``).
 ZONES_METHOD = "three zones bounded by VT1 and VT2, values read from the averaged data (common practice)"
+#: Added to it when the power/speed bounds at VT1 and VT2 are the ramp's steady-state equivalents.
+ZONES_LAG_METHOD = (
+    "; on a ramp the work-rate or speed bounds at VT1 and VT2 are the steady-state equivalents (load at the "
+    "threshold minus ramp rate × VO2 mean response time, Whipp et al. 1981), heart rate and VO2 bounds as read"
+)
+
+#: ``ZoneSet.load_basis`` values.
+LOAD_BASES = ("as_recorded", "steady_state_equivalent")
+
+
+def zones_method(*, load_basis: str) -> str:
+    """The reader-facing method sentence of zones made on ``load_basis`` (:data:`LOAD_BASES`)."""
+    return ZONES_METHOD + (ZONES_LAG_METHOD if load_basis == "steady_state_equivalent" else "")
 
 
 @dataclass(frozen=True)
@@ -54,6 +67,11 @@ class ZoneSet:
 
     zones: tuple[Zone, ...] = described(default=(), description="the zones, lowest first")
     note: str = described(default="", description="how the zones were made, or why fewer than three")
+    load_basis: str = described(
+        default="as_recorded",
+        description="`steady_state_equivalent`: work-rate/speed bounds at VT1 and VT2 are lag-corrected "
+        "(Whipp et al. 1981); `as_recorded`: read from the ramp as recorded",
+    )
 
 
 class ZoneBound(Protocol):
@@ -137,3 +155,69 @@ def training_zones(*, vt1: ZoneBound | None, vt2: ZoneBound | None, peak: ZoneBo
     z2 = _between(2, "Zone 2 (VT1 to VT2)", "Moderate to hard, between the two ventilatory thresholds.", vt1, vt2)
     z3 = _between(3, "Zone 3 (above VT2)", "Severe intensity: above the respiratory compensation point, up to peak.", vt2, peak)
     return ZoneSet((z1, z2, z3), "Three zones bounded by VT1 and VT2 from the averaged ramp data.")
+
+
+def lag_corrected_zones(
+    zones: ZoneSet, *, load: str, vt1_load: float | None, vt2_load: float | None, ramp_rate_per_min: float,
+    mean_response_time_s: float,
+) -> ZoneSet:
+    """The zones with their work-rate (``load='work_w'``) or speed (``'speed_kmh'``) bounds at VT1
+    and VT2 replaced by the steady-state equivalents of a ramp.
+
+    On a ramp VO2 trails the load by the mean response time (MRT), so the load shown at a
+    threshold is higher than the constant load that gives the same VO2 in steady exercise:
+    ``load - ramp rate × MRT``. Heart rate and VO2 bounds stay as read; the top of zone 3 stays
+    the highest load reached.
+
+    Parameters
+    ----------
+    zones : ZoneSet
+        From :func:`training_zones`.
+    load : {'work_w', 'speed_kmh'}, keyword-only
+    vt1_load, vt2_load : float or None, keyword-only
+        Steady-state equivalent loads at VT1 and VT2 (W or km/h); ``None`` keeps the bound.
+    ramp_rate_per_min, mean_response_time_s : float, keyword-only
+        For the note (W/min or km/h per min; s).
+
+    Returns
+    -------
+    ZoneSet
+        With ``load_basis='steady_state_equivalent'`` and a note saying so.
+
+    References
+    ----------
+    Whipp BJ, Davis JA, Torres F, Wasserman K. A test to determine parameters of aerobic function
+    during exercise. J Appl Physiol 1981;50:217-221 (from memory).
+
+    Examples
+    --------
+    >>> z = ZoneSet((Zone(1, "Zone 1", "", work_high_w=180.0), Zone(2, "Zone 2", "", work_low_w=180.0, work_high_w=250.0)))
+    >>> out = lag_corrected_zones(z, load="work_w", vt1_load=165.0, vt2_load=None, ramp_rate_per_min=25.0,
+    ...                           mean_response_time_s=36.0)
+    >>> [(x.work_low_w, x.work_high_w) for x in out.zones], out.load_basis
+    ([(None, 165.0), (165.0, 250.0)], 'steady_state_equivalent')
+    """
+    if not zones.zones or (vt1_load is None and vt2_load is None):
+        return zones
+    stem = {"work_w": "work", "speed_kmh": "speed"}.get(load)
+    if stem is None:
+        raise InvalidParameter("load", "'work_w' or 'speed_kmh'", load)
+    low, high = f"{stem}_low_{load.split('_')[-1]}", f"{stem}_high_{load.split('_')[-1]}"
+    # zone 1 tops at VT1; zone 2 from VT1 (to VT2 when three zones); zone 3 from VT2
+    bounds: dict[int, dict[str, float | None]] = {1: {high: vt1_load}, 2: {low: vt1_load}}
+    if len(zones.zones) == 3:
+        bounds[2][high] = vt2_load
+        bounds[3] = {low: vt2_load}
+    out = []
+    for z in zones.zones:
+        change = {k: v for k, v in bounds.get(z.number, {}).items() if v is not None}
+        out.append(replace(z, **change))  # type: ignore[arg-type]
+    unit = "W" if load == "work_w" else "km/h"
+    digits = 0 if load == "work_w" else 1
+    shift = ramp_rate_per_min * mean_response_time_s / 60.0
+    note = (
+        f"{zones.note} Work-rate/speed bounds at the thresholds are steady-state equivalents: the ramp's value minus "
+        f"ramp rate × VO2 mean response time ({ramp_rate_per_min:.{max(digits, 1)}f} {unit}/min × {mean_response_time_s:.0f} s "
+        f"= {shift:.{digits}f} {unit} lower; Whipp et al. 1981)."
+    ).strip()
+    return ZoneSet(tuple(out), note, "steady_state_equivalent")

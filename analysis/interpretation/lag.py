@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 import pandas as pd
@@ -16,10 +17,15 @@ MRT_RANGE_S: tuple[float, float] = (5.0, 150.0)
 #: Share of successive averaged rows whose load must rise for the protocol to count as a ramp.
 RAMP_RISING_SHARE = 0.8
 
+#: Rows further than this many robust SDs off the first fit are left out of the second.
+OUTLIER_K_MAD = 3.0
+#: Response times tried by the fit, s (every 0.5 s; the fit is refused outside MRT_RANGE_S).
+_TAU_GRID_S = np.arange(2.0, 200.0, 0.5)
+
 LAG_METHOD = (
     "steady-state equivalent on a ramp = load - ramp rate × mean response time (Whipp et al. 1981); the mean "
-    "response time is where the line of VO2 on time (from 1 min into the ramp to VT1) meets the VO2 of the minute "
-    "before the ramp"
+    "response time is the time constant of a first-order response of VO2 to the recorded load, fitted by least "
+    "squares from 90 s before the ramp to VT1 (with a fading term for a warm-up not yet steady)"
 )
 
 
@@ -50,6 +56,71 @@ def lag_corrected_load(load: float, *, ramp_rate_per_min: float, mean_response_t
     183.33333333333334
     """
     return float(load - ramp_rate_per_min * mean_response_time_s / 60.0)
+
+
+def _lagged(t_s: np.ndarray, u: np.ndarray, tau_s: np.ndarray) -> np.ndarray:
+    """First-order response ``dx/dt = (u - x) / tau`` to ``u`` (linear between samples, exact
+    first-order-hold steps), steady at ``u[0]`` at the start; one column per ``tau``."""
+    x = np.empty((t_s.size, tau_s.size))
+    x[0] = u[0]
+    for i in range(1, t_s.size):
+        dt = max(float(t_s[i] - t_s[i - 1]), 1e-9)
+        a = np.exp(-dt / tau_s)
+        ramp = (u[i] - u[i - 1]) * (1.0 - tau_s / dt * (1.0 - a))
+        x[i] = a * x[i - 1] + (1.0 - a) * u[i - 1] + ramp
+    return x
+
+
+def first_order_fit(t_s: np.ndarray, load: np.ndarray, vo2_ml_min: np.ndarray) -> float | None:
+    """Time constant (s) of the first-order response of VO2 to the load that fits best.
+
+    ``VO2 = b + G × x(t) + c × exp(-(t - t[0]) / tau)`` with ``x`` the load passed through a
+    first-order lag of time constant ``tau`` (the last term: what is left of an earlier change,
+    e.g. a warm-up not yet steady); ``b``, ``G`` and ``c`` by least squares for every ``tau`` of a
+    0.5-s grid, the ``tau`` with the smallest squared error kept. On a ramp this ``tau`` is the mean response time: the
+    response trails the ramp by it once the transient is over (Whipp et al. 1981).
+
+    Returns
+    -------
+    float or None
+        ``None`` when VO2 does not rise with the load (``G <= 0``) or the best ``tau`` is at the
+        grid's edge.
+
+    References
+    ----------
+    Whipp BJ, Davis JA, Torres F, Wasserman K. J Appl Physiol 1981;50:217-221 (from memory).
+
+    Examples
+    --------
+    >>> t = np.arange(0.0, 600.0, 10.0)
+    >>> load = np.where(t < 60, 20.0, 20.0 + 0.5 * (t - 60))
+    >>> vo2 = 600.0 + 10.0 * _lagged(t, load, np.array([40.0]))[:, 0]
+    >>> round(first_order_fit(t, load, vo2), 1)
+    40.0
+    """
+    t = np.asarray(t_s, dtype=float)
+    y = np.asarray(vo2_ml_min, dtype=float)
+    x = _lagged(t, np.asarray(load, dtype=float), _TAU_GRID_S)
+    # what is left of an earlier change (a warm-up not yet steady) fades with the same tau
+    fade = np.exp(-(t[:, None] - t[0]) / _TAU_GRID_S[None, :])
+    keep = np.isfinite(y)
+    for _ in range(2):  # the second pass leaves out breaths far off the first fit (a cough, a sigh)
+        sse = np.full(_TAU_GRID_S.size, np.inf)
+        gain = np.full(_TAU_GRID_S.size, np.nan)
+        resid = np.zeros((t.size, _TAU_GRID_S.size))
+        for j in range(_TAU_GRID_S.size):
+            design = np.column_stack([np.ones_like(t), x[:, j], fade[:, j]])
+            coef, *_ = np.linalg.lstsq(design[keep], y[keep], rcond=None)
+            gain[j] = coef[1]
+            resid[:, j] = y - design @ coef
+            sse[j] = float((resid[keep, j] ** 2).sum())
+        r = resid[:, int(np.argmin(sse))]
+        mad = float(np.median(np.abs(r[keep] - np.median(r[keep]))))
+        keep = np.isfinite(y) & (np.abs(r) <= OUTLIER_K_MAD * 1.4826 * max(mad, 1e-9))
+    best = int(np.argmin(sse))
+    if not np.isfinite(sse[best]) or gain[best] <= 0 or best in (0, _TAU_GRID_S.size - 1):
+        return None
+    return float(_TAU_GRID_S[best])
 
 
 def lag_correction(
@@ -93,19 +164,17 @@ def lag_correction(
     rising = np.diff(load) > 0
     if rising.mean() < RAMP_RISING_SHARE:
         return None, ("Loads at the thresholds are not lag-corrected: the protocol is not a ramp (the load rises in steps).",)
-    rate = float(np.polyfit(t / 60.0, load, 1)[0])
+    top = int(np.argmax(load)) + 1  # the last averaged rows can hold the first breaths of recovery
+    rate = float(np.polyfit(t[:top] / 60.0, load[:top], 1)[0]) if top >= 4 else 0.0
     t0 = float(t.min())
-    before = avg.loc[(~ex_mask) & (avg[C.T_S] < t0) & (avg[C.T_S] >= t0 - 60.0), C.VO2_ML_MIN].to_numpy(dtype=float)
-    before = before[np.isfinite(before)]
     t_end = vt1_t_s if vt1_t_s is not None and vt1_t_s > t0 + 120.0 else t0 + 2.0 / 3.0 * (t.max() - t0)
-    vo2 = ex[C.VO2_ML_MIN].to_numpy(dtype=float)[ok]
-    fit = (t >= t0 + 60.0) & (t <= t_end) & np.isfinite(vo2)
-    if before.size == 0 or fit.sum() < 4 or rate <= 0:
+    span = avg.loc[(avg[C.T_S] >= t0 - 180.0) & (avg[C.T_S] <= t_end), [C.T_S, col, C.VO2_ML_MIN]].astype(float)
+    span = span.loc[np.isfinite(span.to_numpy()).all(axis=1)]
+    if not (span[C.T_S] < t0).any() or (span[C.T_S] >= t0 + 60.0).sum() < 4 or rate <= 0:
         return None, ("Loads at the thresholds are not lag-corrected: no VO2 before the ramp or too short a ramp to fit.",)
-    slope, intercept = np.polyfit(t[fit], vo2[fit], 1)
-    if slope <= 0:
+    mrt = first_order_fit(span[C.T_S].to_numpy(), span[col].to_numpy(), span[C.VO2_ML_MIN].to_numpy())
+    if mrt is None:
         return None, ("Loads at the thresholds are not lag-corrected: VO2 did not rise with the ramp.",)
-    mrt = float((before.mean() - intercept) / slope - t0)
     if not MRT_RANGE_S[0] <= mrt <= MRT_RANGE_S[1]:
         return None, (
             f"Loads at the thresholds are not lag-corrected: the VO2 response time fitted ({mrt:.0f} s) is outside "
@@ -119,3 +188,22 @@ def lag_correction(
         load=col, ramp_rate_per_min=rate, mean_response_time_s=mrt, vt1_raw=vt1_load, vt1_corrected=corr(vt1_load),
         vt2_raw=vt2_load, vt2_corrected=corr(vt2_load),
     ), ()
+
+
+def threshold_lag(
+    avg: pd.DataFrame, *, phases_avg: np.ndarray, vt1: Any | None, vt2: Any | None, mode: str | None
+) -> tuple[LagCorrection | None, tuple[str, ...]]:
+    """:func:`lag_correction` for the thresholds of an analysis: the load of the test's mode
+    (``work_w`` on a cycle, ``speed_kmh`` on a treadmill) read from ``vt1`` and ``vt2``
+    (:class:`analysis.indices.threshold_values.ThresholdResult` or ``None``).
+
+    References
+    ----------
+    Whipp BJ, Davis JA, Torres F, Wasserman K. J Appl Physiol 1981;50:217-221 (from memory).
+    """
+    load = C.WORK_W if mode == "cycle" else C.SPEED_KMH
+    return lag_correction(
+        avg, phases_avg=phases_avg, vt1_t_s=vt1.t_s if vt1 is not None else None,
+        vt1_load=getattr(vt1, load) if vt1 is not None else None, vt2_load=getattr(vt2, load) if vt2 is not None else None,
+        mode=mode,
+    )

@@ -21,7 +21,7 @@ from analysis.interpretation.chronotropic import (
 )
 from analysis.interpretation.flags import Flag
 from analysis.interpretation.gas_exchange import GAS_EXCHANGE_METHOD, GasExchange, gas_exchange, gas_exchange_flags
-from analysis.interpretation.lag import LAG_METHOD, LagCorrection, lag_correction
+from analysis.interpretation.lag import LAG_METHOD, LagCorrection
 from analysis.interpretation.oscillation import EOV_METHOD, Oscillation, exercise_oscillation, oscillation_flag
 from analysis.interpretation.patterns import CONDITIONAL_FLAGS, PatternSummary, pattern_summary
 from analysis.interpretation.predicted import REFERENCE_METHODS, PredictedPeak, predicted_peak, vo2peak_flag
@@ -98,6 +98,7 @@ def interpret_test(
     vt1: ThresholdResult | None,
     vt2: ThresholdResult | None,
     reference_set: str,
+    lag: LagCorrection | None,
 ) -> tuple[Interpretation, tuple[str, ...]]:
     """Read the test against published limits: flags, the values behind them, and patterns.
 
@@ -120,6 +121,9 @@ def interpret_test(
     vt1, vt2 : ThresholdResult or None, keyword-only
     reference_set : str, keyword-only
         ``AnalysisSettings.reference_set``.
+    lag : LagCorrection or None, keyword-only
+        The ramp's lag correction (:func:`analysis.interpretation.lag.threshold_lag`; the
+        pipeline computes it before the zones, which are based on it), carried into the record.
 
     Returns
     -------
@@ -158,12 +162,6 @@ def interpret_test(
     vent = ventilation(avg, phases_avg=phases_avg, reserve=indices.breathing_reserve)
     pulse = o2_pulse_trajectory(avg, phases_avg=phases_avg, vo2_plateau=bool(maximality.plateau and maximality.plateau.plateau))
     recovery = heart_rate_recovery(indices.hr_recovery_1min_bpm, cooldown_posture=meta.get("cooldown_posture"))
-    load = "work_w" if mode == "cycle" else "speed_kmh"
-    lag, lag_notes = lag_correction(
-        avg, phases_avg=phases_avg, vt1_t_s=vt1.t_s if vt1 else None,
-        vt1_load=getattr(vt1, load) if vt1 else None, vt2_load=getattr(vt2, load) if vt2 else None, mode=mode,
-    )
-    notes.extend(lag_notes)
     o2_pulse_peak = indices.o2_pulse_at_peak_ml_beat
     try:
         predicted = predicted_peak(

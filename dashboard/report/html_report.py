@@ -204,6 +204,18 @@ def threshold_display(results: TestResults) -> list[dict[str, str]]:
     return rows
 
 
+def steady_state_load(results: TestResults, kind: str, *, with_unit: bool = True) -> str:
+    """The lag-corrected load at ``kind`` ('vt1'/'vt2') as text (``interpretation.lag``, Whipp et
+    al. 1981), e.g. ``"176 W"``; empty when the test is not a ramp or the threshold is missing."""
+    lag = results.interpretation.lag if results.interpretation is not None else None
+    value = None if lag is None else _number(getattr(lag, f"{kind}_corrected"))
+    if lag is None or value is None:
+        return ""
+    cycle = lag.load == "work_w"
+    text = format_number(value, 0 if cycle else 1)
+    return f"{text} {'W' if cycle else 'km/h'}" if with_unit else text
+
+
 #: Ranges of a training zone: label, attributes of the lower and upper bound, unit, decimals.
 _ZONE_RANGES: tuple[tuple[str, str, str, str, int], ...] = (
     ("Heart rate", "hr_low_bpm", "hr_high_bpm", "beats/min", 0),
@@ -272,6 +284,11 @@ def _threshold_table(results: TestResults, ctx: ReportContext) -> str:
         if all(v == "–" for v in values):
             continue
         rows.append([column_title(label, "m:ss" if key == "t_s" else unit), *values])
+    steady = [steady_state_load(results, k, with_unit=False) for k, _ in picks]
+    if any(steady):
+        lag = results.interpretation.lag if results.interpretation is not None else None
+        unit = "W" if lag is not None and lag.load == "work_w" else "km/h"
+        rows.append([column_title("Steady-state load (lag-corrected)", unit), *(v or "–" for v in steady)])
     method_row = ["Method"]
     set_row = ["Set by"]
     for k, t in picks:

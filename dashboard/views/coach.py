@@ -172,6 +172,8 @@ def render_scope(store: Store, scope: ShareScope) -> None:
         st.markdown("**Training zones**")
         if zones:
             st.dataframe(pd.DataFrame(zones), hide_index=True, width="stretch")
+            if results.zones.load_basis == "steady_state_equivalent":
+                st.caption(lab.markdown_text(results.zones.note))
         else:
             st.write("No zones for this test (thresholds not found).")
     session = data.load_session(test_id)

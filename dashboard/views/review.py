@@ -293,6 +293,12 @@ def _fmt(value: Any, digits: int = 0, unit: str = "") -> str:
     return f"{text} {unit}".strip()
 
 
+def _steady_state_load(results: TestResults, kind: str) -> str:
+    from dashboard.report.html_report import steady_state_load
+
+    return steady_state_load(results, kind)
+
+
 def threshold_rows(results: TestResults) -> list[dict[str, str]]:
     """VT1/VT2 display rows from the result record (formatting only)."""
     rows = []
@@ -303,6 +309,9 @@ def threshold_rows(results: TestResults) -> list[dict[str, str]]:
                          "% VO2peak": "", "Heart rate": "", "Load": "", "Set by": "", "Method": ""})
             continue
         load = _fmt(t.work_w, 0, "W") if t.work_w is not None else _fmt(t.speed_kmh, 1, "km/h")
+        steady = _steady_state_load(results, kind)
+        if steady:
+            load = f"{load} (steady-state {steady})"
         manual = t.source == "manual"
         rows.append(
             {

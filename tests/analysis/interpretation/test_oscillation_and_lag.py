@@ -57,13 +57,24 @@ def test_lag_correction_recovers_a_planted_response_time():
     phase = np.where(t < 180, "warmup", "exercise")
     work = np.where(t < 180, 20.0, 20 + 25.0 * (t - 180) / 60)  # 25 W/min ramp
     mrt = 45.0
-    vo2 = np.where(t < 180 + mrt, 700.0, 700.0 + 10.0 * 25.0 * (t - 180 - mrt) / 60)  # 10 mL/min/W
+    # first-order response to a ramp from steady state, closed form (Whipp et al. 1981, from memory):
+    # x = W0 + r (t - t0) - r tau (1 - exp(-(t - t0) / tau)); 10 mL/min/W
+    since = np.maximum(t - 180, 0.0)
+    lagged_w = 20 + 25.0 / 60 * (since - mrt * (1 - np.exp(-since / mrt)))
+    vo2 = 500.0 + 10.0 * lagged_w
     avg = pd.DataFrame({"t_s": t, "vo2_ml_min": vo2, "work_w": work})
     lag, notes = lag_correction(avg, phases_avg=phase, vt1_t_s=600.0, vt1_load=195.0, vt2_load=None, mode="cycle")
     assert notes == ()
-    assert lag.mean_response_time_s == pytest.approx(45.0, abs=1.0)
+    assert lag.mean_response_time_s == pytest.approx(45.0, abs=0.5)
     assert lag.ramp_rate_per_min == pytest.approx(25.0, rel=0.01)
-    assert lag.vt1_corrected == pytest.approx(195.0 - 25.0 * 45.0 / 60.0, abs=0.5)
+    assert lag.vt1_corrected == pytest.approx(195.0 - 25.0 * 45.0 / 60.0, abs=0.3)  # 176.25 W
+    # a 2-min warm-up not yet steady when the ramp starts: rest (no load recorded) until 60 s, then
+    # VO2 rises from 300 towards 700 mL/min with the same tau (28 mL/min still missing at the ramp)
+    unsteady = avg.assign(
+        vo2_ml_min=np.where(t < 60, 300.0, vo2 - 400.0 * np.exp(-(t - 60.0) / mrt)), work_w=np.where(t < 60, np.nan, work)
+    )
+    lag2, _ = lag_correction(unsteady, phases_avg=phase, vt1_t_s=600.0, vt1_load=195.0, vt2_load=None, mode="cycle")
+    assert lag2.mean_response_time_s == pytest.approx(45.0, abs=1.0)
     steps = avg.assign(work_w=np.where(t < 180, 20.0, 20 + 25.0 * ((t - 180) // 60)))
     none, why = lag_correction(steps, phases_avg=phase, vt1_t_s=600.0, vt1_load=195.0, vt2_load=None, mode="cycle")
     assert none is None and "not a ramp" in why[0]

@@ -6,7 +6,7 @@ import pytest
 from analysis.errors import InvalidParameter
 from analysis.indices import point_values
 from analysis.records import to_json
-from analysis.zones import training_zones
+from analysis.zones import lag_corrected_zones, training_zones, zones_method
 
 
 def _avg():
@@ -66,5 +66,24 @@ def test_vt2_below_vt1_rejected():
 def test_to_dict_keys_for_reports():
     vt1, vt2, peak = _pts(_avg())
     d = to_json(training_zones(vt1=vt1, vt2=vt2, peak=peak))
-    assert set(d) == {"zones", "note"}
+    assert set(d) == {"zones", "note", "load_basis"} and d["load_basis"] == "as_recorded"
     assert {"name", "hr_low_bpm", "hr_high_bpm", "work_low_w", "work_high_w"} <= set(d["zones"][0])
+
+
+def test_lag_corrected_zones_move_the_threshold_loads_only():
+    # Whipp et al. 1981 (from memory): steady-state equivalent = ramp load - ramp rate x MRT;
+    # 25 W/min x 36 s = 15 W below the ramp's 150 W and 250 W
+    vt1, vt2, peak = _pts(_avg())
+    raw = training_zones(vt1=vt1, vt2=vt2, peak=peak)
+    out = lag_corrected_zones(raw, load="work_w", vt1_load=135.0, vt2_load=235.0, ramp_rate_per_min=25.0, mean_response_time_s=36.0)
+    assert [(z.work_low_w, z.work_high_w) for z in out.zones] == [(None, 135.0), (135.0, 235.0), (235.0, 300.0)]
+    assert [(z.hr_low_bpm, z.hr_high_bpm) for z in out.zones] == [(z.hr_low_bpm, z.hr_high_bpm) for z in raw.zones]
+    assert out.load_basis == "steady_state_equivalent"
+    assert "25.0 W/min × 36 s = 15 W lower" in out.note and "Whipp" in out.note
+    assert "steady-state equivalents" in zones_method(load_basis=out.load_basis)
+    assert zones_method(load_basis="as_recorded") == zones_method(load_basis="as_recorded").split(";")[0]
+    two = lag_corrected_zones(training_zones(vt1=vt1, vt2=None, peak=peak), load="work_w", vt1_load=135.0, vt2_load=None,
+                              ramp_rate_per_min=25.0, mean_response_time_s=36.0)
+    assert [(z.work_low_w, z.work_high_w) for z in two.zones] == [(None, 135.0), (135.0, 300.0)]
+    with pytest.raises(InvalidParameter, match="load"):
+        lag_corrected_zones(raw, load="grade_pct", vt1_load=1.0, vt2_load=None, ramp_rate_per_min=1.0, mean_response_time_s=30.0)
