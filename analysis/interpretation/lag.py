@@ -14,6 +14,8 @@ from analysis.records import described
 #: Shortest and longest mean response time accepted from a fit, s; outside it the fit is not
 #: trusted (healthy adults about 30–45 s, patients longer; common practice).
 MRT_RANGE_S: tuple[float, float] = (5.0, 150.0)
+#: The note given when the load rises in steps (read by :mod:`analysis.progress_compare`).
+NOT_A_RAMP_NOTE = "the protocol is not a ramp (the load rises in steps)"
 #: Share of successive averaged rows whose load must rise for the protocol to count as a ramp.
 RAMP_RISING_SHARE = 0.8
 
@@ -163,7 +165,7 @@ def lag_correction(
     t, load = t[ok], load[ok]
     rising = np.diff(load) > 0
     if rising.mean() < RAMP_RISING_SHARE:
-        return None, ("Loads at the thresholds are not lag-corrected: the protocol is not a ramp (the load rises in steps).",)
+        return None, (f"Loads at the thresholds are not lag-corrected: {NOT_A_RAMP_NOTE}.",)
     top = int(np.argmax(load)) + 1  # the last averaged rows can hold the first breaths of recovery
     rate = float(np.polyfit(t[:top] / 60.0, load[:top], 1)[0]) if top >= 4 else 0.0
     t0 = float(t.min())

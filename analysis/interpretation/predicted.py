@@ -23,6 +23,8 @@ REFERENCE_SETS: dict[str, str] = {
     "hansen1984": "Hansen, Sue & Wasserman 1984 (from memory)",
     "jones1985": "Jones et al. 1985 (from memory)",
 }
+#: Short names for tight places (the report's headline cell, the CLI summary).
+REFERENCE_SHORT_NAMES: dict[str, str] = {"friend2018": "FRIEND 2018", "hansen1984": "Hansen 1984", "jones1985": "Jones 1985"}
 REFERENCE_METHODS: dict[str, str] = {
     "friend2018": f"{FRIEND_METHOD}; HRmax 208 - 0.7·age (Tanaka et al. 2001)",
     "hansen1984": HANSEN_METHOD,

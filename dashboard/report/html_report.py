@@ -57,7 +57,7 @@ PCT_PREDICTED_LABEL = "VO2peak, % predicted"
 HEADLINES: tuple[Headline, ...] = (
     Headline("VO2peak", lambda r: r.vo2_peak_ml_min, "mL/min", 0, ("vo2_peak", "vo2_peak_ml_min", "peak")),
     Headline("VO2peak per kg", lambda r: r.vo2_peak_ml_kg_min, "mL/kg/min", 1, ("vo2_peak", "vo2_peak_ml_kg_min", "peak")),
-    Headline(PCT_PREDICTED_LABEL, lambda r: r.predicted.pct_predicted_vo2max, "%", 0, ("predicted_vo2max",)),
+    Headline(PCT_PREDICTED_LABEL, lambda r: pct_predicted_vo2_peak(r), "%", 0, ("interpretation_reference_set", "predicted_vo2max")),
     Headline("RER peak", lambda r: r.rer_peak, "", 2, ("rer_peak", "peak")),
     Headline("Heart rate peak", lambda r: r.hr_peak_bpm, "beats/min", 0, ("hr_peak_bpm", "hr_peak", "peak")),
     Headline("VE/VCO2 slope", lambda r: r.ve_vco2_slope, "", 1, ("ve_vco2_slope",)),
@@ -147,6 +147,22 @@ def _method_text(methods: Mapping[str, str], keys: Sequence[str]) -> str:
     return ""
 
 
+def pct_predicted_vo2_peak(results: TestResults) -> float | None:
+    """VO2peak as % predicted by the reference set chosen (``settings.reference_set``, named in
+    ``interpretation.predicted``); FRIEND's from ``predicted`` when there is no interpretation."""
+    if results.interpretation is not None:
+        return results.interpretation.predicted.pct_vo2_peak
+    return results.predicted.pct_predicted_vo2max
+
+
+def reference_set_label(results: TestResults, *, short: bool = False) -> str:
+    """The name of the reference set behind every % predicted (the setting's, else FRIEND's)."""
+    from analysis.interpretation.predicted import REFERENCE_SETS, REFERENCE_SHORT_NAMES
+
+    code = results.interpretation.predicted.reference_set if results.interpretation is not None else "friend2018"
+    return (REFERENCE_SHORT_NAMES if short else REFERENCE_SETS).get(code, code)
+
+
 def headline_rows(results: TestResults) -> list[dict[str, str]]:
     """Headline results as display rows ``{"label", "value", "unit", "method"}`` (present ones only)."""
     rows = []
@@ -154,14 +170,10 @@ def headline_rows(results: TestResults) -> list[dict[str, str]]:
         value = h.read(results)
         if _number(value) is None:
             continue
-        rows.append(
-            {
-                "label": h.label,
-                "value": format_number(value, h.digits),
-                "unit": h.unit,
-                "method": _method_text(results.methods, h.method_keys),
-            }
-        )
+        method = _method_text(results.methods, h.method_keys)
+        if h.label == PCT_PREDICTED_LABEL:
+            method = f"Reference set: {reference_set_label(results)}. {method}"
+        rows.append({"label": h.label, "value": format_number(value, h.digits), "unit": h.unit, "method": method})
     return rows
 
 
@@ -350,7 +362,19 @@ def _flags_appendix(results: TestResults) -> str:
         parts.append('<ul class="patterns">' + "".join(f"<li>{_e(t)}</li>" for t in texts) + "</ul>")
     if caution:
         parts.append(f'<p class="sub">{_e(caution)} Patterns follow: {_e(statement)}.</p>')
+    parts.append(_oscillation_figure(results))
     return "".join(parts)
+
+
+def _oscillation_figure(results: TestResults) -> str:
+    """The detected ventilation oscillation drawn, when present (static SVG with its caption)."""
+    from dashboard.charts.oscillation import oscillation_caption, oscillation_of, oscillation_svg
+
+    osc = oscillation_of(results)
+    if osc is None or not osc.present:
+        return ""
+    return f'<figure class="chart oscillation">{oscillation_svg(osc)}<figcaption>{_e(oscillation_caption(osc))}</figcaption></figure>'
+
 
 
 def _letterhead(ctx: ReportContext) -> str:
@@ -426,13 +450,18 @@ def _methods_list(methods: Mapping[str, str], *, shown: Sequence[str] = SHOWN_ME
 
 
 def _predicted_text(results: TestResults) -> str:
-    """``"140 % of 48.0 mL/kg/min (FRIEND)"`` for VO2peak, or ``""`` when there is no prediction."""
-    pct = _number(results.predicted.pct_predicted_vo2max)
-    ref = _number(results.predicted.vo2max_friend_ml_kg_min)
+    """``"140 % of 2,310 mL/min (FRIEND 2018)"`` for VO2peak by the reference set chosen, or ``""``
+    when there is no prediction."""
+    pct = _number(pct_predicted_vo2_peak(results))
     if pct is None:
         return ""
-    ref_text = f" of {format_number(ref, 1)}" if ref is not None else ""
-    return f"{pct:.0f} %{ref_text} (FRIEND)"
+    if results.interpretation is not None:
+        ref = _number(results.interpretation.predicted.vo2_peak_ml_min)
+        ref_text = f" of {format_number(ref, 0)} mL/min" if ref is not None else ""
+    else:
+        ref = _number(results.predicted.vo2max_friend_ml_kg_min)
+        ref_text = f" of {format_number(ref, 1)}" if ref is not None else ""
+    return f"{pct:.0f} %{ref_text} ({reference_set_label(results, short=True)})"
 
 
 def _headline_table(data: TestResults) -> str:

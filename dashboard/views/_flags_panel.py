@@ -49,3 +49,16 @@ def render_flags(results: TestResults, *, sport_only: bool = False) -> None:
         st.markdown("\n".join(f"- {markdown_text(t)}" for t in texts))
     if caution:
         st.caption(markdown_text(f"{caution} Patterns follow: {statement}."))
+    _oscillation(results)
+
+
+def _oscillation(results: TestResults) -> None:
+    """The ventilation oscillation drawn (smoothed VE, trend, counted cycles), folded unless present."""
+    from dashboard.charts.oscillation import oscillation_caption, oscillation_figure, oscillation_of
+
+    osc = oscillation_of(results)
+    if osc is None:
+        return
+    with st.expander("Ventilation oscillation (drawn)", expanded=osc.present):
+        st.caption(oscillation_caption(osc))
+        st.plotly_chart(oscillation_figure(osc), width="stretch", key="oscillation_chart")

@@ -13,9 +13,20 @@ from typing import Any
 import pandas as pd
 import streamlit as st
 
-from analysis.progress import BAND_METHOD, METRICS, OVERLAYS, TYPICAL_ERRORS, TestRecord, aligned_series, progress_table
+from analysis.progress import BAND_METHOD, METRICS, OVERLAYS, TestRecord, aligned_series, progress_table
+from analysis.progress_compare import (
+    ISO_VALUES,
+    POPULATIONS,
+    TYPICAL_ERRORS_BY_POPULATION,
+    IsoComparison,
+    comparability_warnings,
+    iso_comparison,
+    protocol_facts,
+    suggested_population,
+)
 from dashboard import data
 from dashboard.charts.progress import overlay_figure, progress_figure
+from dashboard.lab import markdown_text
 from dashboard.report.html_report import format_number
 from dashboard.views._test_choice import current_or_default, person_label, settings_json, test_settings
 
@@ -54,14 +65,53 @@ def change_display(table: pd.DataFrame) -> pd.DataFrame:
     return pd.DataFrame(rows)
 
 
-def typical_error_display() -> pd.DataFrame:
-    """The typical errors in use with their provenance."""
+def typical_error_display(population: str = "healthy") -> pd.DataFrame:
+    """The typical errors in use for ``population`` with their provenance."""
     return pd.DataFrame(
         [
             {"Result": METRICS[k].label, "Typical error (%)": f"{te.pct:g}", "Source": te.provenance}
-            for k, te in TYPICAL_ERRORS.items()
+            for k, te in TYPICAL_ERRORS_BY_POPULATION[population].items()
         ]
     )
+
+
+def iso_display(iso: IsoComparison, *, label_a: str, label_b: str) -> pd.DataFrame:
+    """The iso-load (or isotime) comparison formatted for reading: one row per value."""
+    digits = {col: d for col, _label, _unit, d in ISO_VALUES}
+    rows = []
+    for v in iso.values:
+        unit = f" {v.unit}" if v.unit else ""
+        d = digits.get(v.column, 1)
+        rows.append(
+            {
+                "Result": v.label,
+                label_a: format_number(v.value_a, d) + (unit if v.value_a is not None else ""),
+                label_b: format_number(v.value_b, d) + (unit if v.value_b is not None else ""),
+                "Change": "–" if v.change is None else f"{v.change:+,.{d}f}".replace(",", "\u2009") + unit,
+                "Change (%)": "–" if v.change_pct is None else f"{v.change_pct:+.1f} %",
+                "Beyond typical error": "–" if v.beyond_typical_error is None else ("yes" if v.beyond_typical_error else "no"),
+                "Typical error (%)": f"{v.typical_error_pct:g}",
+                "Source": v.source,
+            }
+        )
+    return pd.DataFrame(rows)
+
+
+def _population_choice(records: list[TestRecord]) -> str:
+    suggested, why = suggested_population([[f.code for f in r.results.flags] for r in records])
+    keys = list(POPULATIONS)
+    population = st.radio(
+        "Typical errors for", keys, index=keys.index(suggested), format_func=lambda k: POPULATIONS[k], horizontal=True,
+        key="progress_population",
+        help="Test-retest errors are larger in patients than in healthy adults; the band of 'no change' follows.",
+    )
+    st.caption(f"Suggested: {POPULATIONS[suggested]} ({markdown_text(why)}).")
+    return str(population)
+
+
+def _warn_comparability(a: TestRecord, b: TestRecord) -> None:
+    for w in comparability_warnings(protocol_facts(a.results), protocol_facts(b.results), a_label=a.label, b_label=b.label):
+        st.warning(markdown_text(w))
 
 
 def render() -> None:
@@ -113,13 +163,18 @@ def render() -> None:
         format_func=lambda i: _test_name(test_by_id[i]),
         key="progress_baseline",
     )
-    table = progress_table(records, baseline_test_id=int(baseline_id))
+    population = _population_choice(records)
+    table = progress_table(records, baseline_test_id=int(baseline_id), typical_errors=TYPICAL_ERRORS_BY_POPULATION[population])
+    baseline_record = next(r for r in records if r.test_id == int(baseline_id))
+    for r in records:
+        if r.test_id != baseline_record.test_id:
+            _warn_comparability(baseline_record, r)
 
     st.subheader("Change from baseline")
     st.dataframe(change_display(table), hide_index=True, width="stretch")
     with st.expander("Typical test-retest error used for the band"):
         st.write(f"Band: {BAND_METHOD}. Figures are estimates of measurement noise, not of a person's biology.")
-        st.dataframe(typical_error_display(), hide_index=True, width="stretch")
+        st.dataframe(typical_error_display(population), hide_index=True, width="stretch")
 
     present = [m for m in METRICS if table.loc[table["metric"] == m, "value"].notna().any()]
     if present:
@@ -155,6 +210,16 @@ def render() -> None:
         st.warning("The averaged data of one of these tests is not available.")
         return
     st.plotly_chart(overlay_figure(aligned_series(frames, overlay=overlay), overlay=overlay), width="stretch", key="progress_overlay_chart")
+    (label_a, avg_a), (label_b, avg_b) = frames.items()
+    st.subheader("The two tests at the same load")
+    record_by_id = {r.test_id: r for r in records}
+    _warn_comparability(record_by_id[chosen[0]], record_by_id[chosen[1]])
+    iso = iso_comparison(avg_a, avg_b, population=population)
+    if iso is None:
+        st.info("No exercise phase in one of the two tests: nothing to compare at the same load.")
+        return
+    st.caption(markdown_text(iso.note) + f" Typical errors for {POPULATIONS[population]}; band {BAND_METHOD}.")
+    st.dataframe(iso_display(iso, label_a=label_a, label_b=label_b), hide_index=True, width="stretch")
 
 
 def _test_name(t: Any) -> str:

@@ -120,6 +120,13 @@ def with_averaging(settings: Mapping[str, Any], *, method: str, size: float) -> 
     return dataclasses.replace(s, averaging=AveragingSpec.from_text(method, size)).to_dict()
 
 
+def with_reference_set(settings: Mapping[str, Any], *, reference_set: str) -> dict[str, Any]:
+    """Settings dict with another reference set for every % predicted (validated by
+    :class:`AnalysisSettings`: ``friend2018``, ``hansen1984`` or ``jones1985``)."""
+    s = AnalysisSettings.from_dict(dict(settings))
+    return dataclasses.replace(s, reference_set=reference_set).to_dict()
+
+
 def with_exclusions(
     settings: Mapping[str, Any], *, restored_rows: Sequence[int] | None = None, excluded_rows: Sequence[int] | None = None
 ) -> dict[str, Any]:
@@ -456,6 +463,30 @@ def _on_averaging(store: Store, test_id: int, *, method_changed: bool) -> None:
     size = sizes[len(sizes) // 2] if method_changed else st.session_state[f"avg_size_{test_id}_{method}"]
     apply_change(store, test_id, with_averaging(working.settings, method=method, size=size),
                  reason=f"averaging changed to {AveragingSpec.from_text(method, size).label}")
+
+
+def _on_reference_set(store: Store, test_id: int) -> None:
+    from analysis.interpretation.predicted import REFERENCE_SHORT_NAMES
+
+    working = ensure_working(store, test_id)
+    chosen = st.session_state[f"reference_set_{test_id}"]
+    apply_change(store, test_id, with_reference_set(working.settings, reference_set=chosen),
+                 reason=f"reference set for % predicted changed to {REFERENCE_SHORT_NAMES.get(chosen, chosen)}")
+
+
+def _reference_set_selector(store: Store, test_id: int, working: state.WorkingSettings) -> None:
+    """Which published equations every % predicted of this test follows (a new version when changed)."""
+    from analysis.interpretation.predicted import REFERENCE_SETS
+    from analysis.settings import DEFAULT_REFERENCE_SET
+
+    codes = list(REFERENCE_SETS)
+    key = f"reference_set_{test_id}"
+    st.session_state[key] = working.settings.get("reference_set") or DEFAULT_REFERENCE_SET
+    st.selectbox(
+        "Reference set for % predicted", codes, format_func=lambda c: REFERENCE_SETS[c], key=key,
+        on_change=_guard(_on_reference_set), args=(store, test_id),
+        help="The published equations every % predicted of this test is read against; a change is saved as a new version.",
+    )
 
 
 def _averaging_selector(store: Store, test_id: int, working: state.WorkingSettings) -> None:
@@ -833,6 +864,7 @@ def render() -> None:
     for w in warnings:
         st.warning(markdown_text(w))
     _headline(results)
+    _reference_set_selector(store, test_id, working)
     render_flags(results)
     details_panel(store, test_id)
     st.subheader("Thresholds")

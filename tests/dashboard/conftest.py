@@ -11,6 +11,7 @@
 
 from __future__ import annotations
 
+import contextlib
 import os
 from collections.abc import Callable, Iterator
 from dataclasses import dataclass
@@ -47,14 +48,14 @@ def demo_paths() -> list[Path]:
     return paths
 
 
-@pytest.fixture(scope="module")
-def demo_store(tmp_path_factory: pytest.TempPathFactory) -> Iterator[DemoStore]:
+@contextlib.contextmanager
+def demo_store_of(files: list[Path], folder: Path) -> Iterator[DemoStore]:
+    """A SQLite store in ``folder`` loaded with ``files`` in demo mode; ``TIDEMARK_STORE`` points
+    at it until the block ends."""
     from store import open_store
     from store.demo_loader import load_demo_sessions
 
-    path = tmp_path_factory.mktemp("dash-store") / "tidemark.sqlite"
-    url = f"sqlite:///{path}"
-    files = demo_paths()
+    url = f"sqlite:///{folder / 'tidemark.sqlite'}"
     ids = load_demo_sessions(files, url=url)
     old = os.environ.get("TIDEMARK_STORE")
     os.environ["TIDEMARK_STORE"] = url
@@ -67,6 +68,12 @@ def demo_store(tmp_path_factory: pytest.TempPathFactory) -> Iterator[DemoStore]:
             os.environ.pop("TIDEMARK_STORE", None)
         else:
             os.environ["TIDEMARK_STORE"] = old
+
+
+@pytest.fixture(scope="module")
+def demo_store(tmp_path_factory: pytest.TempPathFactory) -> Iterator[DemoStore]:
+    with demo_store_of(demo_paths(), tmp_path_factory.mktemp("dash-store")) as demo:
+        yield demo
 
 
 def make_user(store: Any, username: str, role: str, password: str = "Saltmarsh-test-pass-2026!") -> Any:

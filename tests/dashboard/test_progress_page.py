@@ -93,7 +93,9 @@ def test_overlay_chart_for_two_tests(rehab_store, page_test):
     assert at.multiselect(key="progress_overlay_tests").value == list(ids)
     at.radio(key="progress_overlay").set_value("vco2_vo2").run()
     assert not at.exception
-    assert not at.warning
+    # the demo baseline ramps at 10 W/min, the follow-up at 12 W/min (analysis.simulation.cast)
+    ramp = [w.value for w in at.warning if w.value.startswith("Ramp rates differ")]
+    assert ramp and "10 W/min" in ramp[0] and "12 W/min" in ramp[0]
     import json
 
     charts = [json.loads(c.proto.spec) for c in at.get("plotly_chart")]
@@ -128,3 +130,28 @@ def test_charts_from_progress_table(rehab_store):
     assert [t.name for t in ov.data] == ["a", "b"]
     assert ov.layout.xaxis.title.text == "Time from start of exercise (m:ss)"
     assert list(ov.layout.xaxis.ticktext) == ["0:00"] and list(ov.data[0].text) == ["0:00", "0:10"]  # m:ss
+
+
+def test_values_at_the_same_load_and_population_typical_errors(rehab_store, page_test):
+    from analysis.pipeline import analyze_session
+    from analysis.progress_compare import TYPICAL_ERRORS_BY_POPULATION, iso_comparison
+    from analysis.settings import AnalysisSettings
+
+    store, ids = rehab_store
+    at = page_test(_progress, **signed_in(store.demo_user()))
+    at.run()
+    assert not at.exception
+    # the rehab patient's tests carry patient flags: the patients' typical errors are suggested
+    assert at.radio(key="progress_population").value == "patients"
+    sources = list(at.dataframe[1].value["Source"])
+    assert sources == [te.provenance for te in TYPICAL_ERRORS_BY_POPULATION["patients"].values()]
+    iso_table = next(df.value for df in at.dataframe if "Beyond typical error" in df.value.columns and "Source" in df.value.columns)
+    base, follow = (analyze_session(store.load_session(i), AnalysisSettings.from_dict(store.get_settings(i)[0])) for i in ids)
+    iso = iso_comparison(base.averaged, follow.averaged, population="patients")
+    hr = next(v for v in iso.values if v.column == "hr_bpm")
+    row = iso_table[iso_table["Result"] == "Heart rate"].iloc[0]
+    assert parse_number(row["Change"]) == pytest.approx(hr.change, abs=0.6)
+    assert row["Beyond typical error"] == ("yes" if hr.beyond_typical_error else "no")
+    assert any(c.value.startswith(f"At {iso.level:.0f} W, the highest work rate both tests reached") for c in at.caption)
+    at.radio(key="progress_population").set_value("healthy").run()
+    assert list(at.dataframe[1].value["Typical error (%)"])[0] == "4"

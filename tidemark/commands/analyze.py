@@ -367,9 +367,20 @@ def format_summary(r: TestResults) -> str:
     lines += [
         "",
         "Reference values (population estimates)",
-        f"  Predicted VO2max {_n(pred.vo2max_friend_ml_kg_min, 1, 'mL/kg/min')} ({_n(pred.pct_predicted_vo2max, 0, '%')} achieved)  — {m.get('predicted_vo2max', '')}",
-        f"  Predicted HRmax  {_n(pred.hr_max_tanaka_bpm, 0, 'beats/min')}  — {m.get('hr_max_predicted', '')}",
     ]
+    chosen = r.interpretation.predicted if r.interpretation is not None else None
+    if chosen is not None and chosen.reference_set != "friend2018":  # the set chosen in the settings
+        lines += [
+            f"  Predicted peak VO2 {_n(chosen.vo2_peak_ml_min, 0, 'mL/min')} ({_n(chosen.pct_vo2_peak, 0, '%')} achieved)"
+            f"  — {chosen.reference_name}",
+            f"  Predicted HRmax  {_n(chosen.hr_max_bpm, 0, 'beats/min')} ({_n(chosen.pct_hr_max, 0, '%')} achieved)"
+            f"  — {chosen.reference_name}",
+        ]
+    else:
+        lines += [
+            f"  Predicted VO2max {_n(pred.vo2max_friend_ml_kg_min, 1, 'mL/kg/min')} ({_n(pred.pct_predicted_vo2max, 0, '%')} achieved)  — {m.get('predicted_vo2max', '')}",
+            f"  Predicted HRmax  {_n(pred.hr_max_tanaka_bpm, 0, 'beats/min')}  — {m.get('hr_max_predicted', '')}",
+        ]
     if mx.hr_max_beta_blocker_bpm is not None:
         lines.append(
             f"  HRmax on a beta-blocker {_n(mx.hr_max_beta_blocker_bpm, 0, 'beats/min')}  — {m.get('hr_max_beta_blocker', '')}"
