@@ -7,7 +7,7 @@ comparison used); the points come from the comparison table of
 
 from __future__ import annotations
 
-from collections.abc import Mapping
+from collections.abc import Mapping, Sequence
 from typing import Any
 
 import numpy as np
@@ -15,6 +15,7 @@ import pandas as pd
 import plotly.graph_objects as go
 
 from analysis.oxygen import MODEL_CONDITIONS, saturation
+from analysis.oxygen.comparison import StateOxygen
 from dashboard import palette
 from dashboard.charts._common import BASE_LAYOUT
 
@@ -131,23 +132,23 @@ UNLOADING_PARTS: tuple[tuple[str, str, str], ...] = (
 )
 
 
-def unloading_figure(states: list[dict]) -> go.Figure:
+def unloading_figure(states: Sequence[StateOxygen]) -> go.Figure:
     """Stacked bars: O2 unloaded per state (mL/dL) split by cause.
 
     Parameters
     ----------
-    states : list of dict
-        ``oxygen["states"]`` of the results JSON; each with ``name`` and ``unloading_ml_dl``
-        (``total``, ``po2_fall``, ``temperature``, ``acid_base``, ``dpg``).
+    states : sequence of StateOxygen
+        ``results.oxygen.states``; each state's ``unloading`` parts (``total``, ``po2_fall``,
+        ``temperature``, ``acid_base``, ``dpg``) are drawn.
     """
     fig = go.Figure()
-    shown = [s for s in states if isinstance(s.get("unloading_ml_dl"), Mapping)]
-    names = [STATE_LABEL.get(s["name"], s["name"]) for s in shown]
+    shown = [(s.name, s.unloading) for s in states if s.unloading is not None]
+    names = [STATE_LABEL.get(name, name) for name, _ in shown]
     for key, label, colour in UNLOADING_PARTS:
         fig.add_trace(
             go.Bar(
                 x=names,
-                y=[s["unloading_ml_dl"].get(key) for s in shown],
+                y=[getattr(parts, key) for _, parts in shown],
                 name=label,
                 marker_color=colour,
                 hovertemplate="%{x}: %{y:.2f} mL/dL<extra>" + label + "</extra>",

@@ -19,9 +19,8 @@ import pandas as pd
 import streamlit as st
 
 from analysis.oxygen import CAUTION, DEFAULT_CONDITIONS, STATE_NAMES, StateConditions
-from analysis.oxygen.comparison import COMPARISON_MODELS
+from analysis.oxygen.comparison import COMPARISON_MODELS, OxygenComparison
 from analysis.oxygen.pathway import OxygenPathway
-from analysis.records import to_json
 from analysis.results import TestResults
 from dashboard import data, state
 from dashboard.charts.oxygen_curves import STATE_LABEL, dissociation_figure, unloading_figure
@@ -108,17 +107,17 @@ def with_oxygen(settings: dict[str, Any], oxygen: dict[str, Any], *, hb_g_dl: fl
     return new
 
 
-def points_frame(oxygen: dict[str, Any]) -> pd.DataFrame:
-    """Arterial and venous points of each state for the curve chart (values from the JSON)."""
+def points_frame(oxygen: OxygenComparison) -> pd.DataFrame:
+    """Arterial and venous points of each state for the curve chart (values from the record)."""
     rows = []
     seen_arterial = set()
-    for s in oxygen.get("states") or []:
-        art = (round(float(s["pao2_mmhg"]), 3), round(float(s["sao2"]), 5))
+    for s in oxygen.states:
+        art = (round(float(s.pao2_mmhg), 3), round(float(s.sao2), 5))
         if art not in seen_arterial:
             seen_arterial.add(art)
-            rows.append({"state": s["name"], "site": "arterial", "po2_mmhg": s["pao2_mmhg"], "saturation": s["sao2"]})
-        if s.get("svo2") is not None and s.get("pvo2_exercise_curve_mmhg") is not None:
-            rows.append({"state": s["name"], "site": "venous", "po2_mmhg": s["pvo2_exercise_curve_mmhg"], "saturation": s["svo2"]})
+            rows.append({"state": s.name, "site": "arterial", "po2_mmhg": s.pao2_mmhg, "saturation": s.sao2})
+        if s.svo2 is not None and s.pvo2_exercise_curve_mmhg is not None:
+            rows.append({"state": s.name, "site": "venous", "po2_mmhg": s.pvo2_exercise_curve_mmhg, "saturation": s.svo2})
     return pd.DataFrame(rows, columns=["state", "site", "po2_mmhg", "saturation"])
 
 
@@ -131,30 +130,30 @@ def by_state(rows: list[dict[str, str]]) -> pd.DataFrame:
     return frame.reset_index()
 
 
-def comparison_table(oxygen: dict[str, Any]) -> pd.DataFrame:
-    """The Fick-versus-curve table (one column per state), numbers formatted from the JSON."""
+def comparison_table(oxygen: OxygenComparison) -> pd.DataFrame:
+    """The Fick-versus-curve table (one column per state), numbers formatted from the record."""
     rows = []
-    for s in oxygen.get("states") or []:
+    for s in oxygen.states:
         rows.append(
             {
-                "State": STATE_LABEL.get(s["name"], s["name"]),
-                "VO2 (mL/min)": format_number(s.get("vo2_ml_min"), 0),
-                "Q (L/min)": format_number(s.get("q_l_min"), 1),
-                "Q source": Q_SOURCE.get(str(s.get("q_method")), "measured"),
-                "SV (mL)": format_number(s.get("stroke_volume_ml"), 0),
-                "Fick a-vO2 (mL/dL)": format_number(s.get("avo2_ml_dl"), 1),
-                "PaO2 (mmHg)": format_number(s.get("pao2_mmhg"), 1),
-                "PaO2 from": str(s.get("pao2_source") or ""),
-                "Arterial pH": format_number((s.get("arterial_conditions") or {}).get("ph"), 3),
-                "CaO2 (mL/dL)": format_number(s.get("cao2_ml_dl"), 1),
-                "Implied CvO2 (mL/dL)": format_number(s.get("cvo2_ml_dl"), 1),
-                "Implied SvO2 (%)": format_number(None if s.get("svo2") is None else 100.0 * s["svo2"], 1),
-                "Mixed venous pH": format_number((s.get("conditions") or {}).get("ph"), 3),
-                "Mixed venous PCO2 (mmHg)": format_number((s.get("conditions") or {}).get("pco2_mmhg"), 1),
-                "Mixed venous base excess (mmol/L)": format_number((s.get("conditions") or {}).get("base_excess_mmol_l"), 1),
-                "Venous PO2, resting curve (mmHg)": format_number(s.get("pvo2_resting_curve_mmhg"), 1),
-                "Venous PO2, exercise curve (mmHg)": format_number(s.get("pvo2_exercise_curve_mmhg"), 1),
-                "Most the curve allows (mL/dL)": format_number(s.get("max_avo2_by_curve_ml_dl"), 1),
+                "State": STATE_LABEL.get(s.name, s.name),
+                "VO2 (mL/min)": format_number(s.vo2_ml_min, 0),
+                "Q (L/min)": format_number(s.q_l_min, 1),
+                "Q source": Q_SOURCE.get(s.q_method, "measured"),
+                "SV (mL)": format_number(s.stroke_volume_ml, 0),
+                "Fick a-vO2 (mL/dL)": format_number(s.avo2_ml_dl, 1),
+                "PaO2 (mmHg)": format_number(s.pao2_mmhg, 1),
+                "PaO2 from": s.pao2_source,
+                "Arterial pH": format_number(s.arterial_conditions.ph, 3),
+                "CaO2 (mL/dL)": format_number(s.cao2_ml_dl, 1),
+                "Implied CvO2 (mL/dL)": format_number(s.cvo2_ml_dl, 1),
+                "Implied SvO2 (%)": format_number(None if s.svo2 is None else 100.0 * s.svo2, 1),
+                "Mixed venous pH": format_number(s.conditions.ph, 3),
+                "Mixed venous PCO2 (mmHg)": format_number(s.conditions.pco2_mmhg, 1),
+                "Mixed venous base excess (mmol/L)": format_number(s.conditions.base_excess_mmol_l, 1),
+                "Venous PO2, resting curve (mmHg)": format_number(s.pvo2_resting_curve_mmhg, 1),
+                "Venous PO2, exercise curve (mmHg)": format_number(s.pvo2_exercise_curve_mmhg, 1),
+                "Most the curve allows (mL/dL)": format_number(s.max_avo2_by_curve_ml_dl, 1),
             }
         )
     return by_state(rows)
@@ -168,20 +167,20 @@ Q_SOURCE: dict[str, str] = {
 }
 
 
-def unloading_table(oxygen: dict[str, Any]) -> pd.DataFrame:
-    """Unloading by cause (mL O2/dL, one column per state), numbers formatted from the JSON."""
+def unloading_table(oxygen: OxygenComparison) -> pd.DataFrame:
+    """Unloading by cause (mL O2/dL, one column per state), numbers formatted from the record."""
     rows = []
-    for s in oxygen.get("states") or []:
-        parts = s.get("unloading_ml_dl") or {}
+    for s in oxygen.states:
+        parts = s.unloading
         rows.append(
             {
-                "State": STATE_LABEL.get(s["name"], s["name"]),
-                "Total (mL/dL)": format_number(parts.get("total"), 2),
-                "Fall in PO2 (mL/dL)": format_number(parts.get("po2_fall"), 2),
-                "Temperature shift (mL/dL)": format_number(parts.get("temperature"), 2),
-                "pH / CO2 shift (mL/dL)": format_number(parts.get("acid_base"), 2),
-                "2,3-BPG shift (mL/dL)": format_number(parts.get("dpg"), 2),
-                "Extra CO2 carried (Haldane, mL/dL)": format_number(s.get("haldane_extra_co2_ml_dl"), 2),
+                "State": STATE_LABEL.get(s.name, s.name),
+                "Total (mL/dL)": format_number(None if parts is None else parts.total, 2),
+                "Fall in PO2 (mL/dL)": format_number(None if parts is None else parts.po2_fall, 2),
+                "Temperature shift (mL/dL)": format_number(None if parts is None else parts.temperature, 2),
+                "pH / CO2 shift (mL/dL)": format_number(None if parts is None else parts.acid_base, 2),
+                "2,3-BPG shift (mL/dL)": format_number(None if parts is None else parts.dpg, 2),
+                "Extra CO2 carried (Haldane, mL/dL)": format_number(s.haldane_extra_co2_ml_dl, 2),
             }
         )
     return by_state(rows)
@@ -209,13 +208,13 @@ def plain_words(text: str) -> str:
     return _CODE_WORD.sub(lambda m: PLAIN_WORDS[m.group(1)], text)
 
 
-def grouped_notes(oxygen: dict[str, Any]) -> list[str]:
+def grouped_notes(oxygen: OxygenComparison) -> list[str]:
     """The comparison's notes, each said once with the states it applies to (in plain words)."""
-    notes = [str(n) for n in oxygen.get("notes") or []]
+    notes = list(oxygen.notes)
     per_note: dict[str, list[str]] = {}
-    for s in oxygen.get("states") or []:
-        for n in s.get("notes") or []:
-            per_note.setdefault(str(n), []).append(STATE_LABEL.get(s["name"], s["name"]))
+    for s in oxygen.states:
+        for n in s.notes:
+            per_note.setdefault(n, []).append(STATE_LABEL.get(s.name, s.name))
     notes += [f"{', '.join(states)}: {n}" for n, states in per_note.items()]
     return [plain_words(n) for n in notes]
 
@@ -356,15 +355,15 @@ def render() -> None:
         reasons = [w for w in results.warnings if w.lower().startswith("oxygen")]
         st.error("The oxygen comparison could not be made for this test. " + " ".join(reasons))
         return
-    oxygen = to_json(results.oxygen)  # the per-state tables below still read the part's JSON form
+    oxygen = results.oxygen
 
     st.subheader("Dissociation curves")
-    curves = {"rest": StateConditions(**oxygen["resting_conditions"])}
-    for s in oxygen["states"]:
-        if s["name"] != "rest":
-            curves[s["name"]] = StateConditions(**s["conditions"])
+    curves = {"rest": oxygen.resting_conditions}
+    for s in oxygen.states:
+        if s.name != "rest":
+            curves[s.name] = s.conditions
     st.plotly_chart(
-        dissociation_figure(curves, model=oxygen["model"], points=points_frame(oxygen)),
+        dissociation_figure(curves, model=oxygen.model, points=points_frame(oxygen)),
         width="stretch", key="oxygen_curves",
     )
     st.caption("Filled markers: arterial blood. Open markers: venous blood implied by Fick on each state's curve (estimates).")
@@ -373,10 +372,10 @@ def render() -> None:
     table = comparison_table(oxygen)
     st.dataframe(table, hide_index=True, width="stretch", height=_rows_height(len(table)))
     st.subheader("Where the unloaded oxygen comes from")
-    st.plotly_chart(unloading_figure(oxygen["states"]), width="stretch", key="oxygen_unloading")
+    st.plotly_chart(unloading_figure(oxygen.states), width="stretch", key="oxygen_unloading")
     parts = unloading_table(oxygen)
     st.dataframe(parts, hide_index=True, width="stretch", height=_rows_height(len(parts)))
-    st.caption(f"Method: {plain_words(str(oxygen.get('decomposition_method', '')))}.")
+    st.caption(f"Method: {plain_words(oxygen.decomposition_method)}.")
 
     for note in grouped_notes(oxygen):
         st.info(note)

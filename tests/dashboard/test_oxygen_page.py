@@ -5,11 +5,11 @@ from __future__ import annotations
 import pandas as pd
 import pytest
 
-from analysis.oxygen import CAUTION, DEFAULT_CONDITIONS, StateConditions
+from analysis.oxygen import CAUTION, DEFAULT_CONDITIONS
 from dashboard import state
 from dashboard.charts.oxygen_curves import dissociation_figure, unloading_figure
 from dashboard.views.oxygen import oxygen_settings, points_frame, widget_key, with_oxygen
-from tests.dashboard.pages_helpers import analysis_json, parse_number, signed_in
+from tests.dashboard.pages_helpers import analysis_json, analysis_result, parse_number, signed_in
 
 
 def _oxygen():
@@ -85,17 +85,15 @@ def test_measured_q_replaces_estimate(demo_store, page_test, test_id):
 
 def test_charts_from_comparison_json(demo_store, test_id):
     settings, _ = demo_store.store.get_settings(test_id)
-    ox = analysis_json(demo_store.store, test_id, with_oxygen(settings, _default_oxygen_settings(), hb_g_dl=None))["oxygen"]
+    ox = analysis_result(demo_store.store, test_id, with_oxygen(settings, _default_oxygen_settings(), hb_g_dl=None)).oxygen
     pts = points_frame(ox)
     assert set(pts["site"]) == {"arterial", "venous"}
     # one arterial point per distinct arterial saturation (states share it when SaO2 is the same;
     # the analysis reads SaO2 per state from the session's SpO2 column when it has one)
-    distinct = {(round(float(s["pao2_mmhg"]), 3), round(float(s["sao2"]), 5)) for s in ox["states"]}
+    distinct = {(round(float(s.pao2_mmhg), 3), round(float(s.sao2), 5)) for s in ox.states}
     assert (pts["site"] == "arterial").sum() == len(distinct)
-    curves = {"rest": StateConditions(**ox["resting_conditions"])} | {
-        s["name"]: StateConditions(**s["conditions"]) for s in ox["states"] if s["name"] != "rest"
-    }
-    fig = dissociation_figure(curves, model=ox["model"], points=pts)
+    curves = {"rest": ox.resting_conditions} | {s.name: s.conditions for s in ox.states if s.name != "rest"}
+    fig = dissociation_figure(curves, model=ox.model, points=pts)
     assert fig.layout.xaxis.title.text == "PO2 (mmHg)"
     assert "(%)" in fig.layout.yaxis.title.text
     # Siggaard-Andersen 1984: standard curve S = 0.5 near 26.8 mmHg; the resting venous curve
@@ -103,7 +101,8 @@ def test_charts_from_comparison_json(demo_store, test_id):
     rest = fig.data[0]
     i = min(range(len(rest.x)), key=lambda j: abs(rest.x[j] - 26.8))
     assert 40.0 < rest.y[i] < 50.0
-    bars = unloading_figure(ox["states"])
+    bars = unloading_figure(ox.states)
+    assert list(bars.data[0].y) == [s.unloading.po2_fall for s in ox.states if s.unloading is not None]
     assert [t.name for t in bars.data][0] == "Fall in PO2 (resting curve)"
     assert "mL O2/dL" in bars.layout.yaxis.title.text
 
@@ -154,7 +153,7 @@ def test_notes_and_legends_use_the_trades_words_not_codes(demo_store, test_id):
     assert condition_text({"ph": 7.37, "temperature_c": 37.0, "dpg_mmol_l": 5.0, "base_excess_mmol_l": -10.0}) == (
         "pH 7.37, 37 °C, 2,3-BPG 5 mmol/L, BE -10 mmol/L")
     settings, _ = demo_store.store.get_settings(test_id)
-    ox = analysis_json(demo_store.store, test_id, with_oxygen(settings, _default_oxygen_settings(), hb_g_dl=None))["oxygen"]
+    ox = analysis_result(demo_store.store, test_id, with_oxygen(settings, _default_oxygen_settings(), hb_g_dl=None)).oxygen
     codes = ("pco2_mmhg", "siggaard_andersen", "acid_base", "dpg_mmol_l", "base_excess_mmol_l")
     for note in grouped_notes(ox):
         assert not any(c in note for c in codes), note
