@@ -47,6 +47,15 @@ _N_TIME_PANELS = f"el => ({_TIME_AXES_JS}).length"
 _TIME_RANGES = f"el => ({_TIME_AXES_JS}).map(k => el.layout[k].range)"
 
 
+def _time_ranges(page) -> list:  # noqa: ANN001 - Playwright Page
+    """The x ranges of the grid's time panels, read once the (re)drawn grid has its layout."""
+    return page.wait_for_function(
+        f"""() => {{ const el = document.querySelector('.js-plotly-plot');
+                     return el && el.layout && el.layout.xaxis ? ({_TIME_RANGES})(el) : null; }}""",
+        timeout=60_000,
+    ).json_value()
+
+
 def _vslope_subplot(grid) -> str:  # noqa: ANN001 - Playwright Locator
     """``"x4y4"``: the plotly subplot class of the grid's V-slope panel."""
     i = grid.evaluate("el => el.layout.meta.panels.indexOf('vslope')")
@@ -188,7 +197,7 @@ def test_upload_review_override_and_report(app_server, page, screenshot, tmp_pat
         timeout=60_000,
     )
     wait_for_app(page)
-    ranges = page.locator(".js-plotly-plot").first.evaluate(_TIME_RANGES)
+    ranges = _time_ranges(page)
     assert len(ranges) >= 4 and all(r == ranges[0] for r in ranges)
     screenshot(page, "review-time-window")
 
@@ -200,7 +209,7 @@ def test_upload_review_override_and_report(app_server, page, screenshot, tmp_pat
         arg=lo, timeout=60_000,
     )
     wait_for_app(page)
-    for r in page.locator(".js-plotly-plot").first.evaluate(_TIME_RANGES):
+    for r in _time_ranges(page):
         assert lo - 20 <= r[0] < lo and hi < r[1] <= hi + 20
     page.locator(".js-plotly-plot").first.scroll_into_view_if_needed()
     screenshot(page, "review-zoomed-to-span")
