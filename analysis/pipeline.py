@@ -25,6 +25,7 @@ from analysis.indices.threshold_values import threshold_values
 from analysis.interpretation.lag import LagCorrection, threshold_lag
 from analysis.interpretation.summary import interpret_test, interpretation_methods, interpretation_reference_method
 from analysis.maximality import MAXIMALITY_METHOD, assess_maximality, peak_values
+from analysis.numbers import finite_or_none
 from analysis.oxygen.from_test import oxygen_from_test
 from analysis.oxygen.pathway import CASCADE_METHOD, oxygen_pathway
 from analysis.phases import PHASES_METHOD, label_phases
@@ -56,14 +57,6 @@ def effective_metadata(session: Session, settings: AnalysisSettings) -> dict[str
                 f = math.nan
             meta[key] = f if math.isfinite(f) and f > 0 else None
     return meta
-
-
-def _number(value: Any) -> float | None:
-    try:
-        f = float(value)
-    except (TypeError, ValueError):
-        return None
-    return f if math.isfinite(f) else None
 
 
 def exercise_mode(meta: dict[str, Any], avg: pd.DataFrame) -> str | None:
@@ -256,7 +249,7 @@ def analyze_session(
     zones = zones_for(ex, vt1=vt1, vt2=vt2, peak=peak, hr_peak_bpm=maximality.hr_peak_bpm, lag=lag)
     oxygen, oxygen_notes, oxygen_methods = (
         oxygen_from_test(
-            avg, phases_avg=phases_avg, hb_g_dl=meta.get("hb_g_dl"), barometric_mmhg=_number(meta.get("barometric_mmhg")),
+            avg, phases_avg=phases_avg, hb_g_dl=meta.get("hb_g_dl"), barometric_mmhg=finite_or_none(meta.get("barometric_mmhg")),
             options=settings.oxygen, peak=peak, vt1=vt1, vt2=vt2,
         )
         if with_oxygen

@@ -6,11 +6,11 @@ comes from :mod:`analysis` (``import_bytes``, ``AnalysisSettings``, ``analyze_se
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any
 
 from analysis.errors import AnalysisError, InvalidParameter
+from analysis.numbers import finite_or_none
 from analysis.session import Session
 
 if TYPE_CHECKING:
@@ -34,20 +34,12 @@ class Headline:
     ve_vco2_slope: float | None = None
 
 
-def _finite(value: Any) -> float | None:
-    try:
-        v = float(value)
-    except (TypeError, ValueError):
-        return None
-    return v if math.isfinite(v) else None
-
-
 def headline_of(results: TestResults) -> Headline:
     """The one place the store's headline columns come from: attributes of the result record."""
     return Headline(
-        vo2peak_ml_min=_finite(results.vo2_peak_ml_min),
-        vt1_vo2_ml_min=_finite(results.vt1.vo2_ml_min) if results.vt1 is not None else None,
-        ve_vco2_slope=_finite(results.ve_vco2_slope),
+        vo2peak_ml_min=finite_or_none(results.vo2_peak_ml_min),
+        vt1_vo2_ml_min=finite_or_none(results.vt1.vo2_ml_min) if results.vt1 is not None else None,
+        ve_vco2_slope=finite_or_none(results.ve_vco2_slope),
     )
 
 

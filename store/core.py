@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import json
 from collections.abc import Callable, Iterator
-from contextlib import contextmanager
+from contextlib import AbstractContextManager, contextmanager
 from datetime import UTC, datetime
 from typing import Any, Self, overload
 
@@ -14,12 +14,12 @@ from sqlalchemy.exc import DBAPIError
 from sqlalchemy.orm import Session as DbSession
 from sqlalchemy.orm import sessionmaker
 
-from store.analysis_bridge import AnalysisBridge, plain_json
+from store.analysis_bridge import AnalysisBridge, Headline, plain_json
 from store.audit_chain import AUDIT_HEAD_KEY, GENESIS, ChainReport, decode_head, encode_head, hash_of, verify_rows
 from store.config import READ_ONLY_OPTION
 from store.db_errors import plain_store_error
 from store.errors import PermissionDenied
-from store.models import AuditEvent, StoreInfo, UserRow
+from store.models import AnalysisVersion, AuditEvent, StoreInfo, UserRow
 from store.records import ROLE_ORDER, Operator, User
 from store.session_cache import SessionCache
 
@@ -52,6 +52,29 @@ def to_json(value: Any) -> str:
     return json.dumps(plain_json(value), sort_keys=True, ensure_ascii=False, allow_nan=False)
 
 
+def analysis_version_row(
+    *,
+    test_id: int,
+    version: int,
+    settings: dict[str, Any],
+    results: dict[str, Any] | None,
+    results_error: str | None,
+    headline: Headline | None,
+    created_at: datetime,
+    created_by: int | None,
+    reason: str,
+) -> AnalysisVersion:
+    """One saved analysis version: settings, results (or why there are none) and the headline columns."""
+    return AnalysisVersion(
+        test_id=test_id, version=version, settings_json=to_json(settings),
+        results_json=None if results is None else to_json(results), results_error=results_error,
+        vo2peak_ml_min=headline.vo2peak_ml_min if headline else None,
+        vt1_vo2_ml_min=headline.vt1_vo2_ml_min if headline else None,
+        ve_vco2_slope=headline.ve_vco2_slope if headline else None,
+        created_at=created_at, created_by=created_by, reason=reason,
+    )
+
+
 def user_record(row: UserRow) -> User:
     return User(
         id=row.id,
@@ -64,6 +87,19 @@ def user_record(row: UserRow) -> User:
 
 
 Actor = User | Operator
+
+
+@contextmanager
+def _plain_transaction(sessions: sessionmaker[DbSession]) -> Iterator[DbSession]:
+    """A transaction of ``sessions``; driver failures a user can act on become a plain StoreError."""
+    try:
+        with sessions.begin() as db:
+            yield db
+    except (DBAPIError, OSError) as exc:
+        plain = plain_store_error(exc)
+        if plain is None:
+            raise
+        raise plain from None
 
 
 class StoreCore:
@@ -94,33 +130,17 @@ class StoreCore:
     def __exit__(self, *exc: object) -> None:
         self.close()
 
-    @contextmanager
-    def _tx(self) -> Iterator[DbSession]:
+    def _tx(self) -> AbstractContextManager[DbSession]:
         """One transaction: committed when the block ends, rolled back on any exception.
 
         Driver failures a user can act on (read-only store, full disk, server unreachable)
         become :class:`~store.errors.StoreError` with a plain message.
         """
-        try:
-            with self._sessions.begin() as db:
-                yield db
-        except (DBAPIError, OSError) as exc:
-            plain = plain_store_error(exc)
-            if plain is None:
-                raise
-            raise plain from None
+        return _plain_transaction(self._sessions)
 
-    @contextmanager
-    def _read(self) -> Iterator[DbSession]:
-        """A read-only transaction (on SQLite it does not wait for writers)."""
-        try:
-            with self._read_sessions.begin() as db:
-                yield db
-        except (DBAPIError, OSError) as exc:
-            plain = plain_store_error(exc)
-            if plain is None:
-                raise
-            raise plain from None
+    def _read(self) -> AbstractContextManager[DbSession]:
+        """A read-only transaction (on SQLite it does not wait for writers); errors as in :meth:`_tx`."""
+        return _plain_transaction(self._read_sessions)
 
     def now(self) -> datetime:
         return self.clock()

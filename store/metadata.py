@@ -19,9 +19,9 @@ from analysis.errors import require
 from store.analysis_bridge import run_analysis
 from store.archive import _sex_from_file as _normalise_sex  # the one sex normaliser, lenient for edits
 from store.archive import stored_session_text
-from store.core import Actor, to_json
+from store.core import Actor, analysis_version_row, to_json
 from store.errors import StoreError
-from store.models import AnalysisVersion, PersonRow, SignOff, TestRow
+from store.models import PersonRow, SignOff, TestRow
 from store.review import ReviewMixin
 
 #: Details a reviewer may set or change (metadata keys of the session file).
@@ -133,14 +133,10 @@ class MetadataMixin(ReviewMixin):
                 raise self._conflict(db, test_id, expected_version)
             now = self.now()
             db.add(
-                AnalysisVersion(
-                    test_id=test_id, version=new_version, settings_json=to_json(settings),
-                    results_json=None if results is None else to_json(results), results_error=results_error,
-                    vo2peak_ml_min=headline.vo2peak_ml_min if headline else None,
-                    vt1_vo2_ml_min=headline.vt1_vo2_ml_min if headline else None,
-                    ve_vco2_slope=headline.ve_vco2_slope if headline else None,
-                    created_at=now, created_by=actor_row.id if actor_row else None,
-                    reason=reason or "subject and test details changed",
+                analysis_version_row(
+                    test_id=test_id, version=new_version, settings=settings, results=results,
+                    results_error=results_error, headline=headline, created_at=now,
+                    created_by=actor_row.id if actor_row else None, reason=reason or "subject and test details changed",
                 )
             )
             person_id = db.execute(select(TestRow.person_id).where(TestRow.id == test_id)).scalar_one()

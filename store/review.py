@@ -12,7 +12,7 @@ from sqlalchemy.orm import Session as DbSession
 from analysis.errors import require
 from store.analysis_bridge import run_analysis
 from store.archive import ArchiveMixin
-from store.core import Actor, aware, to_json
+from store.core import Actor, analysis_version_row, aware, to_json
 from store.errors import EditConflict, NotFound, StoreError
 from store.models import AnalysisVersion, AuditEvent, PersonRow, SignOff, TestRow
 from store.records import AuditEntry
@@ -158,13 +158,10 @@ class ReviewMixin(ArchiveMixin):
                 )
             now = self.now()
             db.add(
-                AnalysisVersion(
-                    test_id=test_id, version=new_version, settings_json=to_json(new),
-                    results_json=None if results is None else to_json(results), results_error=results_error,
-                    vo2peak_ml_min=headline.vo2peak_ml_min if headline else None,
-                    vt1_vo2_ml_min=headline.vt1_vo2_ml_min if headline else None,
-                    ve_vco2_slope=headline.ve_vco2_slope if headline else None,
-                    created_at=now, created_by=actor_row.id if actor_row else None, reason=reason,
+                analysis_version_row(
+                    test_id=test_id, version=new_version, settings=new, results=results,
+                    results_error=results_error, headline=headline, created_at=now,
+                    created_by=actor_row.id if actor_row else None, reason=reason,
                 )
             )
             person_id = db.execute(select(TestRow.person_id).where(TestRow.id == test_id)).scalar_one()

@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass
 from typing import Any
 
@@ -10,6 +9,7 @@ import pandas as pd
 
 from analysis import columns as C
 from analysis.errors import InvalidParameter
+from analysis.numbers import finite_or_none
 from analysis.records import described
 
 
@@ -52,14 +52,7 @@ class PointValues:
 
 
 def _opt(row: pd.Series, column: str) -> float | None:
-    if column not in row.index:
-        return None
-    v = row[column]
-    try:
-        f = float(v)
-    except (TypeError, ValueError):
-        return None
-    return f if math.isfinite(f) else None
+    return finite_or_none(row[column]) if column in row.index else None
 
 
 def point_values(

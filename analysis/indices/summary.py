@@ -41,6 +41,7 @@ from analysis.indices.ventilatory_efficiency import (
 )
 from analysis.indices.windows import window_means
 from analysis.indices.work_efficiency import VO2_WORK_RATE_SLOPE_METHOD, vo2_work_rate_slope
+from analysis.numbers import finite_or_none
 from analysis.records import described
 
 #: Width of the windows over which the VE/VCO2 nadir and the peak O2 pulse are read, s (common
@@ -144,14 +145,6 @@ def _mean_where(frame: pd.DataFrame, name: str, mask: np.ndarray) -> float | Non
     return float(np.nanmean(values)) if (~np.isnan(values)).any() else None
 
 
-def _opt(v: Any) -> float | None:
-    try:
-        f = float(v)
-    except (TypeError, ValueError):
-        return None
-    return f if np.isfinite(f) else None
-
-
 def compute_indices(
     avg: pd.DataFrame,
     *,
@@ -236,7 +229,8 @@ def compute_indices(
         row = ex.iloc[fm.position]
         fat_point = FatMaxPoint(
             fat_g_min=fm.fat_g_min, vo2_ml_min=fm.vo2_ml_min, pct_vo2_peak=fm.pct_vo2_peak, t_s=fm.t_s,
-            hr_bpm=_opt(row.get(C.HR_BPM)), work_w=_opt(row.get(C.WORK_W)), speed_kmh=_opt(row.get(C.SPEED_KMH)),
+            hr_bpm=finite_or_none(row.get(C.HR_BPM)), work_w=finite_or_none(row.get(C.WORK_W)),
+            speed_kmh=finite_or_none(row.get(C.SPEED_KMH)),
         )
     indices = Indices(
         ve_vco2_slope=fit.slope if fit else None,

@@ -30,7 +30,7 @@ from scipy.optimize import brentq
 
 from analysis.oxygen import _checks
 from analysis.oxygen.content import free_haemoglobin_fraction
-from analysis.oxygen.curves import _Curve, _curve, _saturation, _saturation_at
+from analysis.oxygen.curves import _Curve, _curve_of, _saturation, _saturation_at
 
 
 def co_share(*, cohb_fraction: float, methb_fraction: float = 0.0) -> float:
@@ -118,10 +118,7 @@ def functional_saturation(
     >>> round(functional_saturation(40.0, cohb_fraction=0.2), 3)
     0.83
     """
-    curve = _curve(
-        ph=ph, temperature_c=temperature_c, pco2_mmhg=pco2_mmhg, dpg_mmol_l=dpg_mmol_l,
-        base_excess_mmol_l=base_excess_mmol_l, model=model, p50_mmhg=p50_mmhg, hill_n=hill_n,
-    )
+    curve = _curve_of(locals())
     share = co_share(cohb_fraction=cohb_fraction, methb_fraction=methb_fraction)
     po2 = np.atleast_1d(_checks.array("po2_mmhg", po2_mmhg)).astype(float)
     exact = [_functional_saturation_at(p, curve, share) for p in po2.ravel()] if share else None

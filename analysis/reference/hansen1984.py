@@ -6,8 +6,7 @@ paper before a clinical lab relies on them.
 
 from __future__ import annotations
 
-from analysis.errors import OutsideDerivationRange
-from analysis.reference._validate import mode_code, number_in
+from analysis.reference._validate import age_in_derivation_range, cycle_only, number_in
 from analysis.subject import reference_sex
 
 #: Ages of the people the equations were derived from, years (from memory: 34–74). Outside
@@ -51,17 +50,12 @@ def ideal_body_mass_kg(*, height_cm: float, sex: str) -> float:
     return 0.79 * h - 60.7 if reference_sex(sex) == "male" else 0.65 * h - 42.8
 
 
+#: How the set is named in messages.
+_SOURCE = "Hansen et al. 1984"
+
+
 def _checked_age(age_y: float) -> float:
-    age = number_in("age_y", age_y, 5, 110, "years")
-    low, high = HANSEN_AGE_RANGE_Y
-    if not low <= age <= high:
-        raise OutsideDerivationRange(
-            "age_y",
-            f"an age within {low:g}–{high:g} years, the ages Hansen et al. 1984 were derived from (no "
-            "extrapolation; choose another reference set)",
-            age_y,
-        )
-    return age
+    return age_in_derivation_range(age_y, HANSEN_AGE_RANGE_Y, _SOURCE)
 
 
 def hansen1984_vo2max_ml_min(*, age_y: float, sex: str, body_mass_kg: float, height_cm: float, mode: str) -> float:
@@ -105,8 +99,7 @@ def hansen1984_vo2max_ml_min(*, age_y: float, sex: str, body_mass_kg: float, hei
     2867.2
     """
     age = _checked_age(age_y)
-    if mode_code(mode) != "cycle":
-        raise OutsideDerivationRange("mode", "a cycle test (Hansen et al. 1984 were derived on a cycle ergometer)", mode)
+    cycle_only(mode, _SOURCE)
     mass = number_in("body_mass_kg", body_mass_kg, 20, 300, "kg")
     s = reference_sex(sex)
     wt = min(mass, ideal_body_mass_kg(height_cm=height_cm, sex=s))

@@ -6,8 +6,7 @@ paper before a clinical lab relies on them.
 
 from __future__ import annotations
 
-from analysis.errors import OutsideDerivationRange
-from analysis.reference._validate import mode_code, number_in
+from analysis.reference._validate import age_in_derivation_range, cycle_only, number_in
 from analysis.subject import reference_sex
 
 #: Ages of the people the equations were derived from, years (from memory: 15–71).
@@ -20,17 +19,12 @@ JONES_METHOD = (
 )
 
 
+#: How the set is named in messages.
+_SOURCE = "Jones et al. 1985"
+
+
 def _checked_age(age_y: float) -> float:
-    age = number_in("age_y", age_y, 5, 110, "years")
-    low, high = JONES_AGE_RANGE_Y
-    if not low <= age <= high:
-        raise OutsideDerivationRange(
-            "age_y",
-            f"an age within {low:g}–{high:g} years, the ages Jones et al. 1985 were derived from (no "
-            "extrapolation; choose another reference set)",
-            age_y,
-        )
-    return age
+    return age_in_derivation_range(age_y, JONES_AGE_RANGE_Y, _SOURCE)
 
 
 def jones1985_vo2max_ml_min(*, age_y: float, sex: str, height_cm: float, mode: str) -> float:
@@ -72,8 +66,7 @@ def jones1985_vo2max_ml_min(*, age_y: float, sex: str, height_cm: float, mode: s
     3130
     """
     age = _checked_age(age_y)
-    if mode_code(mode) != "cycle":
-        raise OutsideDerivationRange("mode", "a cycle test (Jones et al. 1985 were derived on a cycle ergometer)", mode)
+    cycle_only(mode, _SOURCE)
     h = number_in("height_cm", height_cm, 120, 230, "cm")
     female = 1.0 if reference_sex(sex) == "female" else 0.0
     return 1000.0 * (0.046 * h - 0.021 * age - 0.62 * female - 4.31)

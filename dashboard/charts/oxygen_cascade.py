@@ -22,22 +22,18 @@ Y_TITLE = "VO2 (mL/min)"
 
 def _add_lines(fig: go.Figure, lines: Any, *, label: str, colour: str, faint: bool) -> None:
     width = 1.5 if faint else 3.0
-    fig.add_trace(
-        go.Scatter(
-            x=list(lines.pvo2_mmhg), y=list(lines.convective_vo2_ml_min), mode="lines",
-            line={"color": colour, "width": width, "dash": "solid"},
-            name=f"{label}: convective (Fick) line",
-            hovertemplate="venous PO2 %{x:.1f} mmHg<br>VO2 %{y:.0f} mL/min<extra>convective</extra>",
+    for vo2_ml_min, dash, line_name, kind in (
+        (lines.convective_vo2_ml_min, "solid", "convective (Fick) line", "convective"),
+        (lines.diffusive_vo2_ml_min, "dash", "diffusive line (DmO2, Bohr integration)", "diffusive"),
+    ):
+        fig.add_trace(
+            go.Scatter(
+                x=list(lines.pvo2_mmhg), y=list(vo2_ml_min), mode="lines",
+                line={"color": colour, "width": width, "dash": dash},
+                name=f"{label}: {line_name}",
+                hovertemplate=f"venous PO2 %{{x:.1f}} mmHg<br>VO2 %{{y:.0f}} mL/min<extra>{kind}</extra>",
+            )
         )
-    )
-    fig.add_trace(
-        go.Scatter(
-            x=list(lines.pvo2_mmhg), y=list(lines.diffusive_vo2_ml_min), mode="lines",
-            line={"color": colour, "width": width, "dash": "dash"},
-            name=f"{label}: diffusive line (DmO2, Bohr integration)",
-            hovertemplate="venous PO2 %{x:.1f} mmHg<br>VO2 %{y:.0f} mL/min<extra>diffusive</extra>",
-        )
-    )
     fig.add_trace(
         go.Scatter(
             x=[lines.meeting_pvo2_mmhg], y=[lines.meeting_vo2_ml_min], mode="markers",
