@@ -52,16 +52,24 @@ def demo_paths() -> list[Path]:
 def demo_store_of(files: list[Path], folder: Path) -> Iterator[DemoStore]:
     """A SQLite store in ``folder`` loaded with ``files`` in demo mode; ``TIDEMARK_STORE`` points
     at it until the block ends."""
-    from store import open_store
     from store.demo_loader import load_demo_sessions
 
     url = f"sqlite:///{folder / 'tidemark.sqlite'}"
     ids = load_demo_sessions(files, url=url)
+    with store_for_pages(url) as store:
+        yield DemoStore(url=url, store=store, test_ids=list(ids), user=store.demo_user(), files=files)
+
+
+@contextlib.contextmanager
+def store_for_pages(url: str) -> Iterator[Any]:
+    """The store at ``url``, open, and named in ``TIDEMARK_STORE`` for the pages; both undone after."""
+    from store import open_store
+
     old = os.environ.get("TIDEMARK_STORE")
     os.environ["TIDEMARK_STORE"] = url
     store = open_store(url)
     try:
-        yield DemoStore(url=url, store=store, test_ids=list(ids), user=store.demo_user(), files=files)
+        yield store
     finally:
         store.close()
         if old is None:

@@ -9,7 +9,6 @@ renders as markdown may hold an image, link or HTML element that came from the d
 
 from __future__ import annotations
 
-import os
 import re
 from collections.abc import Iterator
 from typing import Any
@@ -17,7 +16,7 @@ from typing import Any
 import pytest
 from streamlit.testing.v1 import AppTest
 
-from tests.dashboard.conftest import APPTEST_TIMEOUT_S, demo_paths, make_user
+from tests.dashboard.conftest import APPTEST_TIMEOUT_S, demo_paths, make_user, store_for_pages
 
 EVIL = "evil.example"
 CODE = '=HYPERLINK("http://evil.example/code","open")'
@@ -33,15 +32,10 @@ _AUTOLINK = re.compile(r"https?://|www\.", re.I)
 
 @pytest.fixture(scope="module")
 def hostile_store(tmp_path_factory) -> Iterator[dict[str, Any]]:
-    from store import open_store
     from store.records import LOCAL_OPERATOR
 
     path = tmp_path_factory.mktemp("hostile") / "hostile.sqlite"
-    url = f"sqlite:///{path}"
-    old = os.environ.get("TIDEMARK_STORE")
-    os.environ["TIDEMARK_STORE"] = url
-    store = open_store(url)
-    try:
+    with store_for_pages(f"sqlite:///{path}") as store:
         admin = make_user(store, "ada.admin", "admin")
         raw = demo_paths()[0].read_bytes()
         raw = re.sub(rb"# protocol: [^\n]*", ("# protocol: " + PROTOCOL).encode(), raw)
@@ -49,12 +43,6 @@ def hostile_store(tmp_path_factory) -> Iterator[dict[str, Any]]:
         token, _ = store.create_share(actor=admin, test_id=res.test_id, expires_in_days=3, show_name=True)
         store.lab_identity()  # the store answers; lab settings stay empty
         yield {"store": store, "admin": admin, "test_id": res.test_id, "token": token, "operator": LOCAL_OPERATOR}
-    finally:
-        store.close()
-        if old is None:
-            os.environ.pop("TIDEMARK_STORE", None)
-        else:
-            os.environ["TIDEMARK_STORE"] = old
 
 
 def _page(name: str) -> None:

@@ -4,7 +4,6 @@ progress view, and the password field's autocomplete."""
 
 from __future__ import annotations
 
-import os
 import re
 from collections.abc import Iterator
 from dataclasses import dataclass
@@ -16,7 +15,7 @@ from streamlit.testing.v1 import AppTest
 from dashboard import app, state
 from dashboard.views.sharing import share_url
 from store.lab import PUBLIC_URL_ENV
-from tests.dashboard.conftest import APPTEST_TIMEOUT_S, demo_paths, make_user
+from tests.dashboard.conftest import APPTEST_TIMEOUT_S, demo_paths, make_user, store_for_pages
 from tests.dashboard.pages_helpers import page_text, signed_in
 from tests.support import ROOT
 
@@ -35,13 +34,8 @@ class RealStore:
 
 @pytest.fixture(scope="module")
 def real_store(tmp_path_factory: pytest.TempPathFactory) -> Iterator[RealStore]:
-    from store import open_store
-
     url = f"sqlite:///{tmp_path_factory.mktemp('real-store') / 'lab.sqlite'}"
-    old = os.environ.get("TIDEMARK_STORE")
-    os.environ["TIDEMARK_STORE"] = url
-    store = open_store(url)
-    try:
+    with store_for_pages(url) as store:
         admin = make_user(store, "ada.admin", "admin")
         reviewer = make_user(store, "rhea.reviewer", "reviewer")
         ids = []
@@ -49,12 +43,6 @@ def real_store(tmp_path_factory: pytest.TempPathFactory) -> Iterator[RealStore]:
         for path in demo_paths():
             ids.append(store.import_test(path.read_bytes(), file_name=path.name, actor=reviewer, person_code="HSL-01").test_id)
         yield RealStore(url, store, admin, reviewer, ids)
-    finally:
-        store.close()
-        if old is None:
-            os.environ.pop("TIDEMARK_STORE", None)
-        else:
-            os.environ["TIDEMARK_STORE"] = old
 
 
 def _lab_settings():

@@ -2,13 +2,13 @@
 
 from __future__ import annotations
 
-import os
 from collections.abc import Iterator
 
 import pytest
 
 from analysis.progress import TestRecord, progress_table
 from dashboard.charts.progress import overlay_figure, progress_figure
+from tests.dashboard.conftest import store_for_pages
 from tests.dashboard.pages_helpers import analysis_json, analysis_result, parse_number, signed_in
 from tests.support import ROOT
 
@@ -21,7 +21,6 @@ REHAB_FILES = (
 
 @pytest.fixture(scope="module")
 def rehab_store(tmp_path_factory) -> Iterator[tuple]:
-    from store import open_store
     from store.demo_loader import load_demo_sessions
 
     paths = [ROOT / "demo_sessions" / f for f in REHAB_FILES]
@@ -30,17 +29,8 @@ def rehab_store(tmp_path_factory) -> Iterator[tuple]:
         pytest.fail(f"demo sessions missing: {missing} (run `tidemark demo`)")
     url = f"sqlite:///{tmp_path_factory.mktemp('progress-store') / 'tidemark.sqlite'}"
     ids = load_demo_sessions(paths, url=url)
-    old = os.environ.get("TIDEMARK_STORE")
-    os.environ["TIDEMARK_STORE"] = url
-    store = open_store(url)
-    try:
+    with store_for_pages(url) as store:
         yield store, ids
-    finally:
-        store.close()
-        if old is None:
-            os.environ.pop("TIDEMARK_STORE", None)
-        else:
-            os.environ["TIDEMARK_STORE"] = old
 
 
 def _progress():
