@@ -28,8 +28,8 @@ class ManualClock:
         self.now += timedelta(**kwargs)
 
 
-def open_test_store(url: str, clock: ManualClock) -> Store:
-    """A store on ``url`` with the analysis stand-in and cheap password hashing."""
+def open_test_store(url: str, clock: ManualClock | None = None) -> Store:
+    """A store on ``url`` with the analysis stand-in and cheap password hashing (real clock without ``clock``)."""
     store = open_store(url, clock=clock)
     store.analysis = StandInBridge()
     store.password_params = CHEAP

@@ -8,8 +8,8 @@ import pytest
 from sqlalchemy import event
 
 from store import LOCAL_OPERATOR, StoreError, open_store
-from tests.store.helpers import CHEAP
-from tests.store.standin import StandInBridge, csv_bytes
+from tests.store.helpers import open_test_store
+from tests.store.standin import csv_bytes
 from tidemark.cli import EXIT_BAD_INPUT, main
 
 
@@ -33,9 +33,7 @@ def test_read_only_store_gives_a_plain_message_and_exit_2(tmp_path, monkeypatch,
 
 def test_full_disk_gives_a_plain_message(tmp_path):
     path = _made(tmp_path)
-    store = open_store(path)
-    store.analysis = StandInBridge()
-    store.password_params = CHEAP
+    store = open_test_store(path)
     admin = store.create_user("ada", role="admin", actor=LOCAL_OPERATOR, password="a long passphrase")
     store.engine.dispose()
 

@@ -10,8 +10,8 @@ import pytest
 
 from store import LOCAL_OPERATOR, open_store
 from store.pg_roles import HISTORY_TABLES, grant_statements
-from tests.store.helpers import CHEAP
-from tests.store.standin import StandInBridge, csv_bytes
+from tests.store.helpers import open_test_store
+from tests.store.standin import csv_bytes
 
 pytestmark = pytest.mark.postgres
 
@@ -44,9 +44,7 @@ def _app_sql(info, sql: str) -> None:
 
 
 def test_application_role_works_but_cannot_rewrite_history(roles_db):
-    store = open_store(roles_db["app"])
-    store.analysis = StandInBridge()
-    store.password_params = CHEAP
+    store = open_test_store(roles_db["app"])
     try:
         admin = store.create_user("ada", role="admin", actor=LOCAL_OPERATOR, password="a long passphrase")
         rhea = store.create_user("rhea", role="reviewer", actor=admin, password="another passphrase")
@@ -76,9 +74,7 @@ def test_application_role_works_but_cannot_rewrite_history(roles_db):
 
 
 def test_even_the_owner_meets_the_triggers(roles_db):
-    store = open_store(roles_db["owner"])
-    store.analysis = StandInBridge()
-    store.password_params = CHEAP
+    store = open_test_store(roles_db["owner"])
     try:
         admin = store.create_user("ada", role="admin", actor=LOCAL_OPERATOR, password="a long passphrase")
         store.import_test(csv_bytes(3100.0), file_name="t.csv", actor=admin)
