@@ -96,6 +96,11 @@ print(json.dumps(out))
 """
 
 
+def _versus_before(name: str, after: float, before: float | None, target: str, extra: str = "") -> BenchRow:
+    """A row of the tree after the change, with the same figure of the tree before it when that was measured."""
+    return BenchRow(name, after, "before" if before is not None else "", before, target, extra)
+
+
 def _process_rows(trees: dict[str, Path]) -> list[BenchRow]:
     cost = {label: {name: median_cost([PY, "-c", code], tree=tree) for name, code in
                     (("help", HELP), ("analyze", ANALYZE), ("launcher", LAUNCHER), ("imports", IMPORTS_ONLY))}
@@ -114,7 +119,7 @@ def _process_rows(trees: dict[str, Path]) -> list[BenchRow]:
             extra += f"; before: CPU {b.cpu_s * 1000:.0f} ms, peak {b.peak_mib:.0f} MiB"
         if key == "analyze":
             extra += f"; CPU / `python -c \"{IMPORTS_ONLY}\"` = {a.cpu_s / after['imports'].cpu_s:.2f}x"
-        rows.append(BenchRow(name, a.wall_s, "before" if b else "", b.wall_s if b else None, target, extra))
+        rows.append(_versus_before(name, a.wall_s, b.wall_s if b else None, target, extra))
     return rows
 
 
@@ -128,14 +133,14 @@ def _analysis_rows(results: dict[str, dict]) -> list[BenchRow]:
                  f"{a['points']} averaged points, {per_point:.0f} us/point, {a['analysis'] / int(n) * 1e6:.1f} us/breath")
         if b:
             extra += f"; before {b['analysis'] * 1000:.1f} ms = {b['analysis'] / b['csv']:.1f}x read_csv, {b['analysis'] / max(b['points'], 1) * 1e6:.0f} us/point"
-        rows.append(BenchRow(f"analyze_session, {int(n):,} breaths (CPU)", a["analysis"], "before" if b else "",
+        rows.append(_versus_before(f"analyze_session, {int(n):,} breaths (CPU)", a["analysis"],
                              b["analysis"] if b else None, "<= 4x read_csv (goal 3x) at 2,000; flat per point", extra))
     for n in ("2000", "20000"):
         a, b = after[n], (before or {}).get(n)
         extra = f"{a['reader'] / a['csv']:.1f}x pd.read_csv ({a['csv'] * 1000:.1f} ms)"
         if b:
             extra += f"; before {b['reader'] / b['csv']:.1f}x"
-        rows.append(BenchRow(f"read_session strict reader, {int(n):,} breaths (CPU)", a["reader"], "before" if b else "",
+        rows.append(_versus_before(f"read_session strict reader, {int(n):,} breaths (CPU)", a["reader"],
                              b["reader"] if b else None, "<= 3x read_csv", extra))
     return rows
 
@@ -143,14 +148,14 @@ def _analysis_rows(results: dict[str, dict]) -> list[BenchRow]:
 def _store_rows(results: dict[str, dict]) -> list[BenchRow]:
     a, b = results["after"], results.get("before")
     rows = [
-        BenchRow("list_tests, 1,000 tests (CPU)", a["list_tests"], "before" if b else "", b["list_tests"] if b else None,
+        _versus_before("list_tests, 1,000 tests (CPU)", a["list_tests"], b["list_tests"] if b else None,
                  "<= 20 ms", f"wall {a['list_tests_wall'] * 1000:.1f} ms" + (f"; before wall {b['list_tests_wall'] * 1000:.1f} ms" if b else "")),
     ]
     extra = f"{a['kib_per_test']:.1f} KiB per demo test for a {a['file_kib']:.0f} KiB file (SQLite, after VACUUM)"
     if b:
         extra += f"; before {b['kib_per_test']:.1f} KiB"
     # stored as "seconds" = KiB / 1000 so the table's ms column reads KiB
-    rows.append(BenchRow("storage per demo test (KiB in the ms column)", a["kib_per_test"] / 1000, "before" if b else "",
+    rows.append(_versus_before("storage per demo test (KiB in the ms column)", a["kib_per_test"] / 1000,
                          b["kib_per_test"] / 1000 if b else None, "<= 60 KiB", extra))
     return rows
 
@@ -207,9 +212,9 @@ def _batch_rows(trees: dict[str, Path]) -> list[BenchRow]:
              f"CPU {a['cpu_s']:.0f} s")
     if b:
         extra += f"; before: first row after {b['first_row_s']:.1f} s (CSV written at the end), {b['rows'] / b['wall_s']:.0f} tests/s"
-    rows.append(BenchRow(f"batch, {n_files:,} files, 2 workers (wall)", a["wall_s"], "before" if b else "",
+    rows.append(_versus_before(f"batch, {n_files:,} files, 2 workers (wall)", a["wall_s"],
                          b["wall_s"] if b else None, "rows streamed; progress every few s", extra))
-    rows.append(BenchRow(f"batch, {n_files:,} files: first row on disk", a["first_row_s"], "before" if b else "",
+    rows.append(_versus_before(f"batch, {n_files:,} files: first row on disk", a["first_row_s"],
                          b["first_row_s"] if b else None, "a few s", "an interrupted run keeps every row written"))
     return rows
 
