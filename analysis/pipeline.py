@@ -25,7 +25,7 @@ from analysis.indices.threshold_values import threshold_values
 from analysis.interpretation.lag import LagCorrection, threshold_lag
 from analysis.interpretation.summary import interpret_test, interpretation_methods, interpretation_reference_method
 from analysis.maximality import MAXIMALITY_METHOD, assess_maximality, peak_values
-from analysis.numbers import finite_or_none
+from analysis.numeric import finite_or_none
 from analysis.oxygen.from_test import oxygen_from_test
 from analysis.oxygen.pathway import CASCADE_METHOD, oxygen_pathway
 from analysis.phases import PHASES_METHOD, label_phases

@@ -10,7 +10,7 @@ from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any
 
 from analysis.errors import AnalysisError, InvalidParameter
-from analysis.numbers import finite_or_none
+from analysis.numeric import finite_or_none
 from analysis.session import Session
 
 if TYPE_CHECKING:

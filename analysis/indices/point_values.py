@@ -9,7 +9,7 @@ import pandas as pd
 
 from analysis import columns as C
 from analysis.errors import InvalidParameter
-from analysis.numbers import finite_or_none
+from analysis.numeric import finite_or_none
 from analysis.records import described
 
 

@@ -41,7 +41,7 @@ from analysis.indices.ventilatory_efficiency import (
 )
 from analysis.indices.windows import window_means
 from analysis.indices.work_efficiency import VO2_WORK_RATE_SLOPE_METHOD, vo2_work_rate_slope
-from analysis.numbers import finite_or_none
+from analysis.numeric import column_mean, finite_or_none
 from analysis.records import described
 
 #: Width of the windows over which the VE/VCO2 nadir and the peak O2 pulse are read, s (common
@@ -138,13 +138,6 @@ def _safe(fn: Callable[..., R], *args: Any, **kwargs: Any) -> R | None:
         return None
 
 
-def _mean_where(frame: pd.DataFrame, name: str, mask: np.ndarray) -> float | None:
-    if name not in frame:
-        return None
-    values = frame[name].to_numpy(dtype=float)[mask]
-    return float(np.nanmean(values)) if (~np.isnan(values)).any() else None
-
-
 def compute_indices(
     avg: pd.DataFrame,
     *,
@@ -213,7 +206,7 @@ def compute_indices(
     work = present_values(ex, C.WORK_W)
     wr = _safe(vo2_work_rate_slope, t, vo2, work) if mode == "cycle" and work is not None else None
 
-    hr_rest = _mean_where(avg, C.HR_BPM, phases_avg == "rest")
+    hr_rest = column_mean(avg, C.HR_BPM, phases_avg == "rest")
     reserve = hr_rest is not None and hr_peak_bpm is not None and hr_peak_bpm > hr_rest
 
     def pct_reserve(hr_at: float | None) -> float | None:

@@ -9,6 +9,7 @@ import pandas as pd
 
 from analysis import columns as C
 from analysis.errors import TidemarkError
+from analysis.numeric import column_mean
 from analysis.oxygen.comparison import MODEL_LABELS, OxygenComparison, oxygen_comparison
 from analysis.oxygen.content import SPO2_CONCERN_PCT
 from analysis.oxygen.states import StateConditions, StatePoint
@@ -75,13 +76,6 @@ def spo2_by_state(
     return out, tuple(notes)
 
 
-def _mean_where(frame: pd.DataFrame, name: str, mask: np.ndarray) -> float | None:
-    if name not in frame:
-        return None
-    values = frame[name].to_numpy(dtype=float)[mask]
-    return float(np.nanmean(values)) if (~np.isnan(values)).any() else None
-
-
 def oxygen_from_test(
     avg: pd.DataFrame,
     *,
@@ -140,12 +134,12 @@ def oxygen_from_test(
         column_spo2, notes = spo2_by_state(avg, phases_avg, times)
     states: list[tuple[str, float, float | None, float | None, float | None]] = []
     at_rest = phases_avg == "rest"
-    vo2_rest = _mean_where(avg, C.VO2_ML_MIN, at_rest)
+    vo2_rest = column_mean(avg, C.VO2_ML_MIN, at_rest)
     if vo2_rest is not None:
-        vco2_rest = _mean_where(avg, C.VCO2_ML_MIN, at_rest)
+        vco2_rest = column_mean(avg, C.VCO2_ML_MIN, at_rest)
         rer_rest = None if vco2_rest is None else vco2_rest / vo2_rest
         rest_pct = 100.0 * vo2_rest / peak.vo2_ml_min
-        states.append(("rest", vo2_rest, _mean_where(avg, C.HR_BPM, at_rest), rest_pct, rer_rest))
+        states.append(("rest", vo2_rest, column_mean(avg, C.HR_BPM, at_rest), rest_pct, rer_rest))
     for name, p in (("vt1", vt1), ("vt2", vt2), ("peak", peak)):
         if p is not None:
             states.append((name, p.vo2_ml_min, p.hr_bpm, p.pct_vo2_peak, p.rer))
