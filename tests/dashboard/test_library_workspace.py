@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from tests.workbooks import xlsx_bytes
+
 
 def _library_script() -> None:
     from dashboard.views.library import render
@@ -62,23 +64,10 @@ def test_import_form_confirms_the_preamble_sets_age_and_sex_and_lists_the_test_a
     assert demo_store.store.get_results(new.id)["vo2_peak_ml_kg_min"] is not None
 
 
-def _workbook(headers_breaths=("Time", "VO2", "VCO2", "VE")) -> bytes:
-    import io
-
-    from openpyxl import Workbook
-
-    wb = Workbook()
-    summary = wb.active
-    summary.title = "Summary"
-    for row in (["Result", "Value", "Unit"], ["Peak VO2", 2.8, "L/min"], ["Peak HR", 182, "1/min"], ["RER", 1.1, ""]):
-        summary.append(row)
-    ws = wb.create_sheet("Breaths")
-    ws.append(list(headers_breaths))
-    for i in range(200):
-        ws.append([i * 3.0, 800.0 + 10 * i, 700.0 + 11 * i, 20.0 + 0.4 * i])
-    buf = io.BytesIO()
-    wb.save(buf)
-    return buf.getvalue()
+def _workbook() -> bytes:
+    summary = [["Result", "Value", "Unit"], ["Peak VO2", 2.8, "L/min"], ["Peak HR", 182, "1/min"], ["RER", 1.1, ""]]
+    breaths = [["Time", "VO2", "VCO2", "VE"]] + [[i * 3.0, 800.0 + 10 * i, 700.0 + 11 * i, 20.0 + 0.4 * i] for i in range(200)]
+    return xlsx_bytes({"Summary": summary, "Breaths": breaths})
 
 
 XLSX = "application/vnd.openxmlformats-officedocument.spreadsheetml.sheet"

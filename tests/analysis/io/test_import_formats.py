@@ -2,14 +2,12 @@
 
 from __future__ import annotations
 
-import io
-
 import numpy as np
-import openpyxl
 import pytest
 
 from analysis.io import ColumnMapping, import_bytes, list_sheets, read_headers
 from tests.analysis.io.tables import breath_table, to_text
+from tests.workbooks import xlsx_bytes
 
 GENERIC = {
     "t_s": "Time",
@@ -146,18 +144,6 @@ class TestGasUnit:
         np.testing.assert_allclose(out.session.breaths["petco2_mmhg"], [37.5031, 39.0032], atol=1e-3)
 
 
-def _workbook(sheets: dict[str, list[list[object]]]) -> bytes:
-    wb = openpyxl.Workbook()
-    wb.remove(wb.active)
-    for name, rows in sheets.items():
-        ws = wb.create_sheet(name)
-        for row in rows:
-            ws.append(row)
-    buf = io.BytesIO()
-    wb.save(buf)
-    return buf.getvalue()
-
-
 class TestXlsx:
     def test_two_sheets_choose_by_name_and_default(self):
         import datetime as dt
@@ -171,7 +157,7 @@ class TestXlsx:
             [dt.time(0, 0, 3), 0.32, 0.27, "10,5", 71],
             [dt.time(0, 1, 5), 0.35, 0.30, 11.0, None],
         ]
-        data = _workbook({"Summary": summary, "Breaths": breaths})
+        data = xlsx_bytes({"Summary": summary, "Breaths": breaths})
         assert list_sheets(data) == ["Summary", "Breaths"]
         for chosen in (None, "Breaths", 1):
             out = import_bytes(data, file_name="w.xlsx", sheet=chosen)
@@ -186,7 +172,7 @@ class TestXlsx:
     def test_sheet_without_table_is_rejected(self):
         from analysis.errors import ImportRejected
 
-        data = _workbook({"Summary": [["nothing here"]], "Breaths": [["Time", "VO2", "VCO2", "VE"], [0, 300, 250, 10]]})
+        data = xlsx_bytes({"Summary": [["nothing here"]], "Breaths": [["Time", "VO2", "VCO2", "VE"], [0, 300, 250, 10]]})
         with pytest.raises(ImportRejected, match="w.xlsx"):
             import_bytes(data, file_name="w.xlsx", sheet="Summary")
         with pytest.raises(ImportRejected, match="no sheet named 'Other'.*Summary, Breaths"):

@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 import datetime as dt
-import io
 
 import pytest
 from hypothesis import given, settings
@@ -12,6 +11,7 @@ from hypothesis import strategies as st
 from analysis.errors import ImportRejected
 from analysis.io import guess_mapping, import_bytes
 from analysis.io.preamble import KG_PER_LB, PreambleItem, parse_date, read_preamble_item
+from tests.workbooks import xlsx_bytes
 
 SEMICOLON_EXPORT = (
     "Test date:;10.02.2026\r\n"
@@ -114,21 +114,10 @@ def test_non_english_header_spellings():
     assert fr["t_s"] == "Temps" and fr["hr_bpm"] == "FC" and fr["work_w"] == "Puissance" and fr["speed_kmh"] == "Vitesse"
 
 
-def _two_sheet_workbook(*, breath_sheet_first: bool = False, breath_headers: tuple[str, ...] = ("Time", "VO2", "VCO2", "VE")) -> bytes:
-    from openpyxl import Workbook
-
-    wb = Workbook()
-    summary = wb.active
-    summary.title = "Summary"
-    for row in (["Result", "Value", "Unit"], ["Peak VO2", 2.8, "L/min"], ["Peak HR", 182, "1/min"]):
-        summary.append(row)
-    breaths = wb.create_sheet("Breaths", 0 if breath_sheet_first else None)
-    breaths.append(list(breath_headers))
-    for i in range(30):
-        breaths.append([i * 3.0, 300.0 + 10 * i, 250.0 + 10 * i, 10.0 + 0.3 * i])
-    buf = io.BytesIO()
-    wb.save(buf)
-    return buf.getvalue()
+def _two_sheet_workbook(*, breath_headers: tuple[str, ...] = ("Time", "VO2", "VCO2", "VE")) -> bytes:
+    summary = [["Result", "Value", "Unit"], ["Peak VO2", 2.8, "L/min"], ["Peak HR", 182, "1/min"]]
+    breaths = [list(breath_headers)] + [[i * 3.0, 300.0 + 10 * i, 250.0 + 10 * i, 10.0 + 0.3 * i] for i in range(30)]
+    return xlsx_bytes({"Summary": summary, "Breaths": breaths})
 
 
 def test_the_sheet_that_looks_like_breath_data_is_read_by_default():
