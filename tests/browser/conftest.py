@@ -96,6 +96,17 @@ def start_server(store_url: str, *, port: int | None = None, log_path: Path | No
     return proc, f"http://127.0.0.1:{port}"
 
 
+def answering_server(store_url: str, *, log_path: Path) -> tuple[subprocess.Popen, str]:
+    """:func:`start_server`, then wait until it answers; a server that does not fails the test with its log."""
+    proc, base = start_server(store_url, log_path=log_path)
+    try:
+        wait_for_health(base, timeout_s=SERVER_START_TIMEOUT_S, proc=proc)
+    except RuntimeError as exc:
+        stop_server(proc)
+        pytest.fail(f"{exc}; server log:\n{log_path.read_text(errors='replace')[-3000:]}")
+    return proc, base
+
+
 def stop_server(proc: subprocess.Popen) -> None:
     proc.terminate()
     try:
@@ -136,13 +147,7 @@ def browser_store_url(tmp_path_factory: pytest.TempPathFactory) -> str:
 def app_server(browser_store_url: str, tmp_path_factory: pytest.TempPathFactory) -> Iterator[str]:
     if chromium_path() is None:
         skip_or_fail("system Chromium not found (set TIDEMARK_CHROMIUM)", require_env=REQUIRE_ENV)
-    log_path = tmp_path_factory.mktemp("server-log") / "streamlit.log"
-    proc, base = start_server(browser_store_url, log_path=log_path)
-    try:
-        wait_for_health(base, timeout_s=SERVER_START_TIMEOUT_S, proc=proc)
-    except RuntimeError as exc:
-        stop_server(proc)
-        pytest.fail(f"{exc}; server log:\n{log_path.read_text(errors='replace')[-3000:]}")
+    proc, base = answering_server(browser_store_url, log_path=tmp_path_factory.mktemp("server-log") / "streamlit.log")
     yield base
     stop_server(proc)
 

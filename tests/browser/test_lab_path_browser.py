@@ -21,12 +21,10 @@ from analysis.io import read_session
 from analysis.simulation.simulate import LAB_NAME
 from tests.browser.conftest import (
     REQUIRE_ENV,
-    SERVER_START_TIMEOUT_S,
+    answering_server,
     chromium_path,
-    start_server,
     stop_server,
     wait_for_app,
-    wait_for_health,
 )
 from tests.support import ARTIFACTS, ROOT, skip_or_fail
 
@@ -65,13 +63,7 @@ def lab_server(tmp_path, monkeypatch):
     finally:
         store.close()
     monkeypatch.setenv("TIDEMARK_PUBLIC_URL", PUBLIC)
-    log_path = tmp_path / "streamlit.log"
-    proc, base = start_server(url, log_path=log_path)
-    try:
-        wait_for_health(base, timeout_s=SERVER_START_TIMEOUT_S, proc=proc)
-    except RuntimeError as exc:
-        stop_server(proc)
-        pytest.fail(f"{exc}; server log:\n{log_path.read_text(errors='replace')[-3000:]}")
+    proc, base = answering_server(url, log_path=tmp_path / "streamlit.log")
     yield base, url
     stop_server(proc)
 
