@@ -203,9 +203,11 @@ def test_upload_review_override_and_report(app_server, page, screenshot, tmp_pat
 
     # --- zoom every time panel to the highlighted span (one 10 s step of margin each side)
     page.get_by_role("button", name="Zoom the time panels to it").click()
+    # wait for the zoom itself: the narrowed window may already start before ``lo``
     page.wait_for_function(
         """(lo) => { const el = document.querySelector('.js-plotly-plot');
-                     return el && el.layout.xaxis.range && el.layout.xaxis.range[0] < lo; }""",
+                     const r = el && el.layout.xaxis.range;
+                     return r && r[0] < lo && r[0] >= lo - 20; }""",
         arg=lo, timeout=60_000,
     )
     wait_for_app(page)
