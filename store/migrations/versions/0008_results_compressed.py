@@ -57,23 +57,22 @@ def _convert(source: str, target: str, convert: Callable[[Any], Any]) -> None:
         bind.execute(sa.update(_versions).where(_versions.c.id == version_id).values({target: convert(value)}))
 
 
-def upgrade() -> None:
+def _replace_column(old: str, new: sa.Column, convert: Callable[[Any], Any]) -> None:
+    """Add ``new``, fill it from ``old`` through ``convert``, drop ``old``; the append-only
+    triggers are off meanwhile (same transaction)."""
     dialect = op.get_bind().dialect.name
     guards = _append_only_guards()
     guards._drop_triggers(dialect)
-    op.add_column("analysis_versions", sa.Column("results_zlib", sa.LargeBinary(), nullable=True))
-    _convert("results_json", "results_zlib", compress_text)
+    op.add_column("analysis_versions", new)
+    _convert(old, new.name, convert)
     with op.batch_alter_table("analysis_versions") as batch:
-        batch.drop_column("results_json")
+        batch.drop_column(old)
     guards._create_triggers(dialect)
+
+
+def upgrade() -> None:
+    _replace_column("results_json", sa.Column("results_zlib", sa.LargeBinary(), nullable=True), compress_text)
 
 
 def downgrade() -> None:
-    dialect = op.get_bind().dialect.name
-    guards = _append_only_guards()
-    guards._drop_triggers(dialect)
-    op.add_column("analysis_versions", sa.Column("results_json", sa.Text(), nullable=True))
-    _convert("results_zlib", "results_json", decompress_text)
-    with op.batch_alter_table("analysis_versions") as batch:
-        batch.drop_column("results_zlib")
-    guards._create_triggers(dialect)
+    _replace_column("results_zlib", sa.Column("results_json", sa.Text(), nullable=True), decompress_text)
