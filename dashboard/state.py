@@ -13,6 +13,7 @@ All pages read and write the reviewer's context through these functions, never t
 from __future__ import annotations
 
 import json
+from collections.abc import Sequence
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any
 
@@ -25,6 +26,7 @@ USER = "tm_user"
 DEMO_MODE = "tm_demo_mode"
 TEST_ID = "tm_test_id"
 SETTINGS_PREFIX = "tm_settings_"
+PENDING_PREFIX = "tm_pending_"
 SHARE_TOKEN = "tm_share_token"
 FLASH = "tm_flash"
 SAVES = "tm_saves"
@@ -141,6 +143,49 @@ def set_working_settings(test_id: int, working: WorkingSettings) -> None:
 
 def forget_working_settings(test_id: int) -> None:
     st.session_state.pop(f"{SETTINGS_PREFIX}{int(test_id)}", None)
+    forget_pending_changes(test_id)
+
+
+# --- unsaved changes per test (one stored version per Save) ---------------------------------
+
+
+def pending_changes(test_id: int) -> list[str]:
+    """What the reviewer changed on Review since the last save, in words, oldest first.
+
+    Kept per test in the browser session (switching page or test keeps them); the explicit
+    Save stores them together as one version whose reason lists every entry.
+    """
+    return list(st.session_state.get(f"{PENDING_PREFIX}{int(test_id)}", []))
+
+
+def add_pending_change(test_id: int, description: str) -> None:
+    st.session_state.setdefault(f"{PENDING_PREFIX}{int(test_id)}", []).append(str(description))
+
+
+def forget_pending_changes(test_id: int) -> None:
+    st.session_state.pop(f"{PENDING_PREFIX}{int(test_id)}", None)
+
+
+def version_reason(changes: Sequence[str], *, note: str = "") -> str:
+    """The reason of a saved version: every change in it, in order, a repeated one counted once
+    with its number (``"VT1 picked on the overview (2 times); averaging changed to 20 s bins"``),
+    after the reviewer's own ``note`` when given."""
+    counts: dict[str, int] = {}
+    for change in changes:
+        text = " ".join(str(change).split())
+        if text:
+            counts[text] = counts.get(text, 0) + 1
+    listed = "; ".join(c if n == 1 else f"{c} ({n} times)" for c, n in counts.items())
+    note = " ".join(note.split())
+    if note and listed:
+        return f"{note}: {listed}"
+    return note or listed
+
+
+def tests_with_pending_changes() -> list[int]:
+    """Tests of this browser session with unsaved Review changes."""
+    return sorted(int(str(k)[len(PENDING_PREFIX):]) for k, v in st.session_state.items()
+                  if str(k).startswith(PENDING_PREFIX) and v)
 
 
 # --- coach link ----------------------------------------------------------------------------

@@ -22,7 +22,7 @@ from store.archive import stored_session_text
 from store.core import Actor, analysis_version_row, to_json
 from store.errors import StoreError
 from store.models import PersonRow, SignOff, TestRow
-from store.review import ReviewMixin
+from store.review import ReviewMixin, changed_fields
 
 #: Details a reviewer may set or change (metadata keys of the session file).
 EDITABLE_KEYS: tuple[str, ...] = (
@@ -55,6 +55,7 @@ class MetadataMixin(ReviewMixin):
         actor: Actor,
         expected_version: int,
         reason: str = "",
+        settings: dict[str, Any] | None = None,
     ) -> int:
         """Set subject and test details (reviewer or admin); returns the new version.
 
@@ -69,6 +70,10 @@ class MetadataMixin(ReviewMixin):
         reason : str
             Why; required when the current version is signed off (the edit starts a new,
             unsigned version).
+        settings : dict, optional
+            Analysis settings to store in the same new version (the reviewer's unsaved Review
+            changes saved together with the details: one version per save); each changed
+            setting is audited as in :meth:`save_settings`. ``None`` keeps the current settings.
 
         Returns
         -------
@@ -88,7 +93,7 @@ class MetadataMixin(ReviewMixin):
                 raise self._conflict(db, test_id, expected_version)
             options = json.loads(test.import_options_json or "{}")
             mapping = None if test.mapping_json is None else json.loads(test.mapping_json)
-            raw, name, settings = test.raw_bytes, test.original_file_name, json.loads(current.settings_json)
+            raw, name, current_settings = test.raw_bytes, test.original_file_name, json.loads(current.settings_json)
             signed = db.execute(
                 select(SignOff.id).where(SignOff.test_id == test_id, SignOff.version == current.version)
             ).first() is not None
@@ -105,7 +110,15 @@ class MetadataMixin(ReviewMixin):
         imported = self.analysis.import_file(raw, file_name=name, mapping=mapping, options=new_options)
         after = dict(imported.session.meta)
         changed = [(k, before.get(k), after.get(k)) for k in EDITABLE_KEYS if _text(before.get(k)) != _text(after.get(k))]
-        if not changed:
+        setting_changes: list[tuple[str, Any, Any]] = []
+        if settings is not None:
+            require(isinstance(settings, dict), "settings", "a dict of analysis settings", type(settings).__name__)
+            new_settings = self.analysis.validate_settings(settings)
+            setting_changes = changed_fields(current_settings, new_settings)
+            settings = new_settings
+        else:
+            settings = current_settings
+        if not changed and not setting_changes:
             return expected_version
         if signed and not reason:
             raise StoreError(
@@ -148,5 +161,10 @@ class MetadataMixin(ReviewMixin):
                 self._audit(
                     db, actor=actor, actor_row=actor_row, action="metadata_change", test_id=test_id,
                     person_id=person_id, field=f"meta.{key}", old=old, new=new, reason=reason,
+                )
+            for field, before_value, after_value in setting_changes:
+                self._audit(
+                    db, actor=actor, actor_row=actor_row, action="settings_change", test_id=test_id,
+                    person_id=person_id, field=field, old=before_value, new=after_value, reason=reason,
                 )
         return new_version

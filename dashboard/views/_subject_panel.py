@@ -46,10 +46,18 @@ def detail_inputs(prefix: str, defaults: Mapping[str, Any], *, disabled: bool = 
 
 
 def details_panel(store: Store, test_id: int, *, expanded: bool = False) -> None:
-    """The "Subject and test details" expander of a stored test, with an explicit Save."""
+    """The "Subject and test details" expander of a stored test, with an explicit Save.
+
+    Unsaved Review changes of the test (thresholds, exclusions, averaging) are stored in the same
+    new version as the details, so one Save is one version and nothing shown is lost.
+    """
     meta = store.test_metadata(test_id)
     defaults = form_defaults(meta)
     may_edit = state.can_edit()
+    working = state.working_settings(test_id)
+    base_version = working.version if may_edit and working is not None and not working.saved else None
+    unsaved = base_version is not None
+    pending = state.pending_changes(test_id) if unsaved else []
     with st.expander("Subject and test details (date, body mass, age, sex, height, Hb, ...)", expanded=expanded):
         st.caption("Body mass, age, sex and height give VO2 per kg, % predicted and the heart-rate criterion. "
                    "A change is a new version of the test, recorded in the audit trail.")
@@ -57,7 +65,9 @@ def details_panel(store: Store, test_id: int, *, expanded: bool = False) -> None
             values = detail_inputs(f"det_{test_id}", defaults, disabled=not may_edit)
             reason = st.text_input("Reason for the change (audit trail)", key=f"det_{test_id}_reason",
                                    disabled=not may_edit)
-            saved = st.form_submit_button("Save the details", type="primary", disabled=not may_edit)
+            label = "Save the details" + (f" with the {len(pending)} unsaved changes" if pending
+                                          else " with the unsaved changes" if unsaved else "")
+            saved = st.form_submit_button(label, type="primary", disabled=not may_edit)
         if not may_edit:
             st.caption("Your role can read these details but not change them.")
         if not saved:
@@ -67,10 +77,17 @@ def details_panel(store: Store, test_id: int, *, expanded: bool = False) -> None
             st.info("Nothing was changed.")
             return
         try:
-            _, version = store.get_settings(test_id)
-            new_version = store.update_test_metadata(
-                test_id, changes, actor=state.acting_user(), expected_version=version, reason=reason.strip()
-            )
+            if base_version is not None and working is not None:
+                note = state.version_reason([*pending, "subject and test details changed"], note=reason)
+                new_version = store.update_test_metadata(
+                    test_id, changes, actor=state.acting_user(), expected_version=base_version, reason=note,
+                    settings=working.settings,
+                )
+            else:
+                _, version = store.get_settings(test_id)
+                new_version = store.update_test_metadata(
+                    test_id, changes, actor=state.acting_user(), expected_version=version, reason=reason.strip()
+                )
         except Exception as exc:  # noqa: BLE001 - refusals (role, conflict, sign-off reason) shown plainly
             show_error(exc, context="Subject and test details")
             return

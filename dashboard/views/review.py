@@ -227,32 +227,58 @@ def ensure_working(store: Store, test_id: int, *, refresh: bool = False) -> stat
 
 
 def apply_change(store: Store, test_id: int, new_settings: dict[str, Any], *, reason: str = "") -> str:
-    """Use ``new_settings`` at once; save them through the store when the user may.
+    """Show ``new_settings`` at once and keep the change as an unsaved change of this test.
 
-    The change is shown immediately (the next run analyses the new settings); the save to the
-    store runs in the background (:func:`dashboard.data.save_in_background`) and its outcome is
-    picked up by :func:`sync_saves`. Returns ``"saving"``, ``"unchanged"`` or ``"view-only"``.
+    Nothing is stored here: the change (in words, ``reason``) joins the test's unsaved changes
+    and the next run analyses the new settings. The reviewer's explicit Save
+    (:func:`save_pending`) stores all unsaved changes together as ONE new version whose reason
+    lists every change. Returns ``"unsaved"``, ``"unchanged"`` (nothing differs, or the change
+    leads back to the stored settings) or ``"view-only"``.
     """
     working = ensure_working(store, test_id)
     key = state.settings_key(new_settings)
     if key == working.key:
         return "unchanged"
-    user = state.current_user()
-    if not state.can_edit(user) or working.version is None:
+    if not state.can_edit(state.current_user()) or working.version is None:
         state.set_working_settings(test_id, state.WorkingSettings(new_settings, working.version, saved=False))
         state.flash("View only: the change is shown here but not saved (your role cannot edit).", kind="info")
+        return "view-only"
+    stored, _ = store.get_settings(test_id, version=working.version)
+    if key == state.settings_key(dict(stored or data.default_settings_dict())):  # back where the version was
+        state.set_working_settings(test_id, state.WorkingSettings(new_settings, working.version, saved=True))
+        state.forget_pending_changes(test_id)
+        return "unchanged"
+    state.set_working_settings(test_id, state.WorkingSettings(new_settings, working.version, saved=False))
+    state.add_pending_change(test_id, reason.strip() or "analysis setting changed")
+    return "unsaved"
+
+
+def save_pending(store: Store, test_id: int, *, note: str = "") -> str:
+    """Store the unsaved changes of ``test_id`` as ONE new version (the explicit Save).
+
+    The save runs in the background (:func:`dashboard.data.save_in_background`) once the page is
+    drawn, and its outcome is picked up by :func:`sync_saves`; a version saved meanwhile by
+    someone else refuses it (no lost update). Returns ``"saving"``, ``"unchanged"``,
+    ``"view-only"`` or ``"refused"`` (an earlier save of this test was refused: reload first).
+    """
+    working = ensure_working(store, test_id)
+    if working.saved:
+        return "unchanged"
+    user = state.current_user()
+    if not state.can_edit(user) or working.version is None:
         return "view-only"
     tracker = state.save_tracker()
     _, version, failed, _ = tracker.status(test_id)
     if failed:
-        state.set_working_settings(test_id, state.WorkingSettings(new_settings, working.version, saved=False))
-        return "view-only"
+        return "refused"
+    reason = state.version_reason(state.pending_changes(test_id), note=note) or "analysis settings changed"
     with tracker.lock:  # counted as pending now; handed to the save worker once the page is drawn
         tracker.versions.setdefault(test_id, int(version if version is not None else working.version))
     st.session_state.setdefault(SAVE_QUEUE, []).append(
-        {"test_id": test_id, "settings": new_settings, "actor": user, "reason": reason.strip(), "settings_json": key}
+        {"test_id": test_id, "settings": working.settings, "actor": user, "reason": reason,
+         "settings_json": working.key}
     )
-    state.set_working_settings(test_id, state.WorkingSettings(new_settings, working.version, saved=False))
+    state.forget_pending_changes(test_id)  # changes made while this save runs start a new list
     return "saving"
 
 
@@ -275,12 +301,15 @@ def sync_saves(test_id: int) -> tuple[int, str | None]:
         saved = saved_key == working.key
         if saved or version != working.version:
             state.set_working_settings(test_id, state.WorkingSettings(working.settings, version, saved=saved or working.saved))
+        if saved:
+            state.forget_pending_changes(test_id)
     return pending, failed
 
 
 def reload_from_store(test_id: int) -> None:
     """Drop the reviewer's unsaved changes (and a refused save) and show the stored version."""
     state.forget_working_settings(test_id)
+    state.forget_pending_changes(test_id)
     state.save_tracker().forget(test_id)
 
 
@@ -398,7 +427,7 @@ def _save_status(test_id: int) -> None:
     """A "saving" note that polls the background save and refreshes the page when it is done."""
     pending = state.save_tracker().status(test_id)[0]
     if pending or st.session_state.get(SAVE_QUEUE):
-        st.caption("Saving the change to the store…")
+        st.caption("Saving the changes to the store as one new version…")
     else:
         st.rerun(scope="app")
 
@@ -415,10 +444,54 @@ def _header(store: Store, test_id: int, working: state.WorkingSettings) -> TestR
         sign = next((x for x in record.sign_offs if x.version == s.version), None)
         bits.append(f"signed off by {sign.signed_by}" if sign else "signed off")
     st.caption(markdown_text(" · ".join(b for b in bits if b)))
-    pending, _, failed, _ = state.save_tracker().status(test_id)
-    if not working.saved and not pending and not failed and not st.session_state.get(SAVE_QUEUE):
-        st.warning("Unsaved changes: what you see differs from the stored version.")
     return record
+
+
+#: Asks the browser to warn before the tab is closed or reloaded while the marker element (drawn
+#: only while Review holds unsaved changes) is on the page. Registered once per browser tab; our
+#: own script, no outside request. Moving between the dashboard's pages keeps the changes in the
+#: session (per test), so only leaving the dashboard needs the warning.
+LEAVE_GUARD_HTML = (
+    '<div data-tidemark-unsaved="1"></div><script>'
+    "if(!window.__tidemarkLeaveGuard){window.__tidemarkLeaveGuard=true;"
+    "window.addEventListener('beforeunload',function(e){"
+    "if(document.querySelector('[data-tidemark-unsaved]')){e.preventDefault();e.returnValue='';}});}"
+    "</script>"
+)
+
+
+def unsaved_text(changes: Sequence[str]) -> str:
+    """The line above the Save button: how many unsaved changes and what they are."""
+    n = len(changes)
+    if not n:
+        return "Unsaved changes: what you see differs from the stored version."
+    listed = state.version_reason(changes)
+    return f"Unsaved changes ({n}), not stored yet: {listed}. Save stores them together as one new version."
+
+
+def _unsaved_bar(store: Store, test_id: int, working: state.WorkingSettings) -> None:
+    """Unsaved changes of this test: what they are, Save (one new version) and Discard."""
+    if working.saved:
+        return
+    st.html(LEAVE_GUARD_HTML, unsafe_allow_javascript=True)
+    if not state.can_edit() or working.version is None:
+        c1, c2 = st.columns([3, 1], vertical_alignment="center")
+        c1.info("View only: what you see differs from the stored version and is not saved (your role cannot edit).")
+        c2.button("Back to the stored version", key=f"discard_{test_id}", on_click=reload_from_store, args=(test_id,))
+        return
+    st.warning(markdown_text(unsaved_text(state.pending_changes(test_id))))
+    c1, c2, c3 = st.columns([3, 1, 1], vertical_alignment="bottom")
+    c1.text_input("Note for this version (optional; kept in the audit trail)", key=f"save_note_{test_id}")
+    c2.button(f"Save as version {int(working.version) + 1}", type="primary", key=f"save_{test_id}",
+              on_click=_guard(_on_save), args=(store, test_id))
+    c3.button("Discard the changes", key=f"discard_{test_id}", on_click=reload_from_store, args=(test_id,))
+
+
+def _on_save(store: Store, test_id: int) -> None:
+    note = (st.session_state.get(f"save_note_{test_id}") or "").strip()
+    outcome = save_pending(store, test_id, note=note)
+    if outcome == "saving":
+        st.session_state[f"save_note_{test_id}"] = ""
 
 
 def _headline(results: TestResults) -> None:
@@ -550,8 +623,13 @@ def _threshold_controls(store: Store, test_id: int, working: state.WorkingSettin
 
 
 def _on_chart_select(store: Store, test_id: int, *, chart: ChartName) -> None:
+    chart_selected(store, test_id, st.session_state.get(f"chart_{chart}_{test_id}"), chart=chart)
+
+
+def chart_selected(store: Store, test_id: int, event: Any, *, chart: ChartName) -> None:
+    """A selection on a chart: a box or lasso highlights those breaths; a click on an averaged
+    point places the chosen threshold there (an unsaved change until Save)."""
     working = ensure_working(store, test_id)
-    event = st.session_state.get(f"chart_{chart}_{test_id}")
     if is_area_selection(event):  # box / lasso: highlight those breaths on every chart, move nothing
         span = selected_time_span(event)
         if span is not None:
@@ -735,9 +813,7 @@ def _history_and_sign_off(store: Store, test_id: int, working: state.WorkingSett
     c1, c2 = st.columns([2, 1])
     with c2:
         if not working.saved:
-            if st.button("Discard unsaved changes", key=f"discard_{test_id}"):
-                reload_from_store(test_id)
-                st.rerun()
+            st.caption("Save or discard the unsaved changes (top of the page) before signing off.")
         elif record.current_version_signed:
             st.success(f"Version {record.summary.version} is signed off. A later change starts a new version.")
         elif state.save_tracker().status(test_id)[0]:
@@ -853,6 +929,8 @@ def render() -> None:
             st.rerun()
     elif pending or st.session_state.get(SAVE_QUEUE):
         _save_status(test_id)
+    else:
+        _unsaved_bar(store, test_id, working)
     results = data.analyze(test_id, working.key)
     session = data.load_session(test_id)
     warnings = list(results.warnings)

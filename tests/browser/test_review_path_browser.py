@@ -2,7 +2,7 @@
 
 Sign-in is the demo mode of a demo store; a third demo file is uploaded on the Library page,
 opened in Review, VT1 is moved by typing a time and then by clicking a point on the V-slope
-chart, and the report downloaded from Reports must carry the new (manual) VT1 and the cautions.
+chart (both kept unsaved until the explicit Save, which stores them as one version), and the report downloaded from Reports must carry the new (manual) VT1 and the cautions.
 Screenshots of every page go to test-artifacts/screenshots/.
 """
 
@@ -71,12 +71,32 @@ def _vslope_trace(grid) -> int:  # noqa: ANN001
     )
 
 
+def _leave_warned(page) -> bool:  # noqa: ANN001
+    """Whether leaving the page now would ask first (the page's beforeunload handler cancels)."""
+    return page.evaluate(
+        "() => { const e = new Event('beforeunload', {cancelable: true}); window.dispatchEvent(e); "
+        "return e.defaultPrevented; }"
+    )
+
+
+def _versions(person_code: str, store_url: str) -> list[dict]:
+    """The stored versions of the person's test, read from the store the server uses."""
+    from store import open_store
+
+    store = open_store(store_url)
+    try:
+        test_id = next(t.id for t in store.list_tests() if t.person_code == person_code)
+        return store.list_versions(test_id)
+    finally:
+        store.close()
+
+
 def _seconds(text: str) -> int:
     m, s = text.split(":")
     return int(m) * 60 + int(s)
 
 
-def test_upload_review_override_and_report(app_server, page, screenshot, tmp_path):
+def test_upload_review_override_and_report(app_server, browser_store_url, page, screenshot, tmp_path):
     if not UPLOAD.is_file():
         pytest.fail(f"demo file missing: {UPLOAD}")
     page.set_viewport_size({"width": 1440, "height": 900})  # a laptop screen: the overview fits it
@@ -137,7 +157,10 @@ def test_upload_review_override_and_report(app_server, page, screenshot, tmp_pat
     screenshot(page, "review-typed-vt1")
 
     # --- click a point on the V-slope panel of the grid
-    page.get_by_label("Reason (kept in the audit trail)").fill("")
+    reason = page.get_by_label("Reason (kept in the audit trail)")
+    reason.fill("")
+    reason.press("Enter")  # committed before the click, so the click's own reason is used
+    wait_for_app(page)
     grid = page.locator(".js-plotly-plot").first
     grid.scroll_into_view_if_needed()
     sub = _vslope_subplot(grid)
@@ -153,6 +176,26 @@ def test_upload_review_override_and_report(app_server, page, screenshot, tmp_pat
     assert "manual" in clicked[2]
     assert abs(clicked[1] - float(t_clicked)) <= 1
     screenshot(page, "review-clicked-vt1")
+
+    # --- both changes are unsaved until the explicit Save, which stores them as ONE version
+    unsaved = page.get_by_text(re.compile(r"Unsaved changes \(2\), not stored yet"))
+    unsaved.wait_for(timeout=60_000)
+    assert "typed in the browser test; VT1 picked on the overview" in unsaved.inner_text()
+    assert _leave_warned(page)  # closing or reloading the tab now asks first
+    versions_before = _versions("SEL-0425", browser_store_url)
+    save = page.get_by_role("button", name=re.compile(r"^Save as version \d+$"))
+    assert save.inner_text().strip() == f"Save as version {versions_before[-1]['version'] + 1}"
+    save.click()
+    page.wait_for_function(
+        "() => !document.body.innerText.includes('Unsaved changes') && !document.body.innerText.includes('Saving')",
+        timeout=60_000,
+    )
+    wait_for_app(page)
+    versions = _versions("SEL-0425", browser_store_url)
+    assert len(versions) == len(versions_before) + 1  # two chart edits, one new version
+    assert versions[-1]["reason"] == "typed in the browser test; VT1 picked on the overview"
+    assert _vt1(page) == clicked and not _leave_warned(page)
+    screenshot(page, "review-saved")
 
     # --- box-select breaths on the V-slope panel: their span is shaded on every time panel
     grid = page.locator(".js-plotly-plot").first

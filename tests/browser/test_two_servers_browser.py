@@ -117,6 +117,8 @@ def _set_vt1(page, t_s: int, reason: str) -> None:  # noqa: ANN001
     page.get_by_label("Time (s)").fill(str(t_s))
     page.get_by_role("button", name="Set VT1").click()
     wait_for_app(page)
+    page.get_by_role("button", name=re.compile(r"^Save as version \d+$")).click()  # one version per Save
+    wait_for_app(page)
 
 
 def _wait_vt1_time(page, t_s: int) -> tuple[int, int, str]:  # noqa: ANN001

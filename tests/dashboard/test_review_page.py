@@ -35,6 +35,19 @@ def _filled(rows, columns):
     return [{c: r.get(c, "") for c in columns} for r in rows]
 
 
+def _warnings(at) -> list[str]:
+    """The page's warnings as the reader sees them (markdown escapes removed)."""
+    return [w.value.replace("\\", "") for w in at.warning]
+
+
+def _save(at, test_id: int):
+    """Click the explicit Save (one new version for every unsaved change), wait for the store."""
+    at.button(key=f"save_{test_id}").click().run()
+    assert not at.exception, at.exception
+    data.wait_for_saves()  # the store save runs in the background; the page did not wait
+    return at.run()
+
+
 def _threshold_table(at):
     for df in at.dataframe:
         frame = df.value
@@ -80,9 +93,11 @@ def test_typing_a_vt1_time_changes_vt1_marks_it_manual_and_saves_a_version(demo_
     at.number_input(key=f"thr_t_{test_id}").set_value(new_t)
     at.button[[b.label for b in at.button].index("Set VT1")].click().run()
     assert not at.exception, at.exception
-    data.wait_for_saves()  # the store save runs in the background; the page did not wait
-    at.run()
-    assert not at.exception, at.exception
+    data.wait_for_saves()
+    assert demo_store.store.get_settings(test_id)[1] == version_before  # shown, not stored until Save
+    assert any(w.startswith("Unsaved changes (1), not stored yet: later on the V-slope chart.") for w in _warnings(at))
+    _save(at, test_id)
+    assert not any(w.startswith("Unsaved changes") for w in _warnings(at))
     assert any("version" in c.value and str(version_before + 1) in c.value for c in at.caption)
     vt1 = _threshold_table(at)
     vt1 = vt1[vt1["Threshold"].str.startswith("VT1")].iloc[0]
@@ -108,7 +123,7 @@ def test_averaging_selector_changes_the_averaging_label(demo_store, page_test):
     assert not at.exception, at.exception
     label = next(c.value for c in at.caption if c.value.startswith("Averaging in use:"))
     assert label.endswith("-breath rolling mean")
-    data.wait_for_saves()
+    _save(at, test_id)
     settings, _ = demo_store.store.get_settings(test_id)
     assert settings["averaging"]["method"] == "breaths"
 
@@ -157,9 +172,7 @@ def test_edit_conflict_is_shown_plainly_and_nothing_is_overwritten(demo_store, p
     demo_store.store.save_settings(test_id, theirs, actor=other, reason="other reviewer", expected_version=version)
     at.number_input(key=f"thr_t_{test_id}").set_value(300.0)
     at.button[[b.label for b in at.button].index("Set VT1")].click().run()
-    data.wait_for_saves()
-    at.run()
-    assert not at.exception, at.exception
+    _save(at, test_id)
     assert any("was not saved" in e.value and "changed" in e.value for e in at.error)
     stored, _ = demo_store.store.get_settings(test_id)
     assert stored["excluded_rows"] == [40] and stored["vt1_override"] is None  # theirs kept, ours not written
@@ -200,9 +213,8 @@ def test_sign_off_freezes_the_version_and_a_later_edit_starts_a_new_one(demo_sto
     at.text_input(key=f"thr_reason_{test_id}").input("after sign-off: VT1 later")
     at.number_input(key=f"thr_t_{test_id}").set_value(600.0)
     at.button[[b.label for b in at.button].index("Set VT1")].click().run()
-    data.wait_for_saves()
-    at.run()
-    assert not at.exception, at.exception
+    assert not any(b.label == "Sign off this version" for b in at.button)  # save or discard first
+    _save(at, test_id)
     record = demo_store.store.get_test(test_id)
     assert record.summary.version == version + 1 and not record.current_version_signed
     assert any(s.version == version for s in record.sign_offs)  # the signed version stays signed
@@ -221,7 +233,7 @@ def test_restoring_an_excluded_breath_puts_it_back(demo_store, page_test):
     row = auto_rows[0]
     at.multiselect(key=f"restore_{test_id}").select(row).run()
     assert not at.exception, at.exception
-    data.wait_for_saves()
+    _save(at, test_id)
     stored, _ = demo_store.store.get_settings(test_id)
     assert row in stored["restored_rows"]
     after = analyze_session(demo_store.store.load_session(test_id), AnalysisSettings.from_dict(stored))
@@ -244,7 +256,7 @@ def test_typing_a_vt2_vo2_places_vt2_at_the_nearest_averaged_row(demo_store, pag
     assert not at.exception, at.exception
     line = next(md.value for md in at.markdown if md.value.startswith("**VT2:**"))
     assert "manual" in line
-    data.wait_for_saves()
+    _save(at, test_id)
     stored, _ = demo_store.store.get_settings(test_id)
     assert stored["vt2_override"]["vo2_ml_min"] == float(target)
     expected = to_json(analyze_session(demo_store.store.load_session(test_id), AnalysisSettings.from_dict(stored)))

@@ -61,3 +61,28 @@ def test_metadata_edit_rules(real):
     assert store.test_metadata(test_id)["age_y"] == 40.0
     assert store.get_test(test_id).summary.signed_version == version  # the signed version stays signed
     assert v2 == version + 1
+
+
+def test_details_and_settings_saved_together_are_one_version(real):
+    # the reviewer's unsaved Review changes go into the same version as the details (one Save)
+    store, reviewer, _viewer, test_id = real
+    settings, version = store.get_settings(test_id)
+    n_audit = len(store.audit_log(test_id))
+    wanted = {**settings, "vt1_override": {"t_s": 420.0, "vo2_ml_min": None, "reason": "moved"}}
+    v2 = store.update_test_metadata(test_id, {"body_mass_kg": "71"}, actor=reviewer, expected_version=version,
+                                    reason="moved; details", settings=wanted)
+    assert v2 == version + 1 and len(store.list_versions(test_id)) == 2
+    stored, _ = store.get_settings(test_id)
+    assert stored["vt1_override"] == {"t_s": 420.0, "vo2_ml_min": None, "reason": "moved"}
+    assert store.test_metadata(test_id)["body_mass_kg"] == 71.0
+    assert store.get_results(test_id)["vt1"]["source"] == "manual"  # recomputed under the new settings
+    events = store.audit_log(test_id)[n_audit:]
+    assert sorted((e.action, e.field) for e in events) == [("metadata_change", "meta.body_mass_kg"),
+                                                          ("settings_change", "vt1_override")]
+    # settings alone (details unchanged) are still one version; the same settings again: none
+    wanted2 = {**wanted, "excluded_rows": [40]}
+    v3 = store.update_test_metadata(test_id, {"body_mass_kg": 71}, actor=reviewer, expected_version=v2,
+                                    reason="one breath out", settings=wanted2)
+    assert v3 == v2 + 1 and store.get_settings(test_id)[0]["excluded_rows"] == [40]
+    assert store.update_test_metadata(test_id, {"body_mass_kg": 71}, actor=reviewer, expected_version=v3,
+                                      settings=wanted2) == v3
