@@ -609,6 +609,6 @@ def build_report_html(
         parts.append('<h2>Data-quality notes</h2><ul class="warnings">' + "".join(f"<li>{_e(w)}</li>" for w in warnings) + "</ul>")
     for title, body in appendix:
         parts.append(f'<section class="extra"><h2>{_e(title)}</h2>{body}</section>')
-    parts.append('<div class="caution">' + " ".join(_e(c) for c in CAUTIONS) + "</div>")
+    parts.append('<div class="caution">' + " ".join(_e(c) for c in CAUTIONS[2:]) + "</div>")
     parts.append("</div></body></html>")
     return "\n".join(p for p in parts if p)

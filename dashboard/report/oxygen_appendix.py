@@ -72,14 +72,20 @@ def svg_chart(
     y_range: tuple[float, float],
     width: int = 640,
     height: int = 380,
+    legend_columns: int = 1,
 ) -> str:
     """A static line/point chart as inline SVG (every text escaped).
 
     Each series: ``name``, ``x``, ``y``, ``colour``, optional ``dash`` (SVG dash array), ``mode``
-    ``"line"`` (default) or ``"points"``, ``open`` (hollow markers).
+    ``"line"`` (default) or ``"points"``, ``open`` (hollow markers). The legend sits under the
+    plot in ``legend_columns`` columns (filled column by column).
     """
     left, right, top, bottom = 64, 16, 34, 52
-    legend_h = 18 * len(series)
+    columns = max(1, int(legend_columns))
+    per_column = -(-len(series) // columns)
+    legend_h = 18 * per_column
+    legend_x = left if columns == 1 else 8
+    column_w = (width - legend_x) / columns
     full_h = height + legend_h
     pw, ph = width - left - right, height - top - bottom
     (x0, x1), (y0, y1) = x_range, y_range
@@ -122,13 +128,15 @@ def svg_chart(
         elif len(pts) > 1:
             path = " ".join(f"{px:.1f},{py:.1f}" for px, py in pts)
             out.append(f'<polyline points="{path}" fill="none" stroke="{colour}" stroke-width="2"{dash}/>')
-        ly = height + 14 * 0 + 18 * k + 6
+        ly = height + 18 * (k % per_column) + 6
+        lx = legend_x + column_w * (k // per_column)
         if s.get("mode") == "points":
             fill = "white" if s.get("open") else colour
-            out.append(f'<circle cx="{left + 10}" cy="{ly - 4}" r="5" fill="{fill}" stroke="{colour}" stroke-width="2"/>')
+            out.append(f'<circle cx="{lx + 10:.1f}" cy="{ly - 4}" r="5" fill="{fill}" stroke="{colour}" stroke-width="2"/>')
         else:
-            out.append(f'<line x1="{left}" y1="{ly - 4}" x2="{left + 22}" y2="{ly - 4}" stroke="{colour}" stroke-width="2"{dash}/>')
-        out.append(f'<text x="{left + 30}" y="{ly}" font-size="11">{_e(s.get("name", ""))}</text>')
+            out.append(f'<line x1="{lx:.1f}" y1="{ly - 4}" x2="{lx + 22:.1f}" y2="{ly - 4}" stroke="{colour}" '
+                       f'stroke-width="2"{dash}/>')
+        out.append(f'<text x="{lx + 30:.1f}" y="{ly}" font-size="11">{_e(s.get("name", ""))}</text>')
     out.append("</svg>")
     return "".join(out)
 
@@ -140,6 +148,10 @@ def _table(header: Sequence[str], rows: Sequence[Sequence[str]]) -> str:
     head = "".join(f"<th>{_e(h)}</th>" for h in header)
     body = "".join("<tr>" + "".join(f"<td>{_e(c)}</td>" for c in row) + "</tr>" for row in rows)
     return f'<table class="oxygen-table"><thead><tr>{head}</tr></thead><tbody>{body}</tbody></table>'
+
+
+#: Size of each appendix chart (SVG units; two side by side across the printed page).
+CHART_SIZE: dict[str, int] = {"width": 470, "height": 195}
 
 
 def curves_svg(oxygen: Mapping[str, Any]) -> str:
@@ -157,29 +169,29 @@ def curves_svg(oxygen: Mapping[str, Any]) -> str:
             continue
         sat = saturation(grid, model=model, **StateConditions(**conds).curve_kwargs(model))
         series.append({
-            "name": f"{STATE_LABEL.get(name, name)} mixed venous curve", "x": grid, "y": 100.0 * np.asarray(sat),
+            "name": f"{STATE_LABEL.get(name, name)} curve", "x": grid, "y": 100.0 * np.asarray(sat),
             "colour": STATE_COLOUR.get(name, palette.GREY), "dash": STATE_DASH.get(name, ""),
         })
     states = oxygen.get("states") or []
     series.append({
-        "name": "Arterial blood (estimate)", "mode": "points", "colour": palette.BLUE,
+        "name": "Arterial (estimate)", "mode": "points", "colour": palette.BLUE,
         "x": [s.get("pao2_mmhg") for s in states], "y": [100.0 * float(s["sao2"]) for s in states],
     })
     venous = [s for s in states if s.get("svo2") is not None and s.get("pvo2_exercise_curve_mmhg") is not None]
     series.append({
-        "name": "Mixed venous blood implied by Fick (estimate)", "mode": "points", "open": True, "colour": palette.VERMILLION,
+        "name": "Mixed venous (Fick)", "mode": "points", "open": True, "colour": palette.VERMILLION,
         "x": [s["pvo2_exercise_curve_mmhg"] for s in venous], "y": [100.0 * float(s["svo2"]) for s in venous],
     })
     return svg_chart(
-        series, title="Haemoglobin O2 dissociation curves (model estimate)", x_label="PO2 (mmHg)",
-        y_label="O2 saturation (%)", x_range=(0.0, 120.0), y_range=(0.0, 100.0),
+        series, title="O2 dissociation curves (model estimate)", x_label="PO2 (mmHg)",
+        y_label="O2 saturation (%)", x_range=(0.0, 120.0), y_range=(0.0, 100.0), legend_columns=3, **CHART_SIZE,
     )
 
 
 def fick_table(oxygen: Mapping[str, Any]) -> str:
     """Fick against the curve, one row per state (mixed venous blood)."""
-    q_words = {"measured": "measured", "stringer1997": "estimate (Stringer 1997)",
-               "resting_typical_avo2": "assumed (typical resting a-vO2)"}
+    q_words = {"measured": "measured", "stringer1997": "estimate, Stringer 1997",
+               "resting_typical_avo2": "assumed: typical rest a-vO2"}
     rows = []
     for s in oxygen.get("states") or []:
         rows.append([
@@ -191,9 +203,9 @@ def fick_table(oxygen: Mapping[str, Any]) -> str:
         ])
     return _table(
         ["State", "VO2 (mL/min)", "Q (L/min)", "Q source", "a-vO2 (mL/dL)", "PaO2 (mmHg)", "SaO2 (%)", "CaO2 (mL/dL)",
-         "CvO2, mixed venous (mL/dL)", "SvO2, mixed venous (%)", "PvO2, mixed venous (mmHg)"],
+         "CvO2 (mL/dL)", "SvO2 (%)", "PvO2 (mmHg)"],
         rows,
-    )
+    ) + '<p class="ox-key">CvO2, SvO2, PvO2: mixed venous blood; Q: cardiac output.</p>'
 
 
 def cascade_svg(pathway: Mapping[str, Any]) -> str:
@@ -202,43 +214,68 @@ def cascade_svg(pathway: Mapping[str, Any]) -> str:
     top = 1.6 * float(lines["meeting_vo2_ml_min"])
     x_max = float(max(lines["pvo2_mmhg"]))
     series = [
-        {"name": "Convective (Fick) line: 10 Q (CaO2 - CvO2)", "x": lines["pvo2_mmhg"], "y": lines["convective_vo2_ml_min"],
+        {"name": "Convective (Fick) line", "x": lines["pvo2_mmhg"], "y": lines["convective_vo2_ml_min"],
          "colour": palette.BLUE},
-        {"name": "Diffusive line: DmO2 x mean capillary PO2 (Bohr integration)", "x": lines["pvo2_mmhg"],
+        {"name": "Diffusive line", "x": lines["pvo2_mmhg"],
          "y": lines["diffusive_vo2_ml_min"], "colour": palette.VERMILLION, "dash": "8 4"},
         {"name": f"Meeting point: VO2 {float(lines['meeting_vo2_ml_min']):.0f} mL/min", "mode": "points",
          "x": [lines["meeting_pvo2_mmhg"]], "y": [lines["meeting_vo2_ml_min"]], "colour": palette.BLACK},
     ]
     return svg_chart(
         series, title="O2 cascade at peak (model estimate, Wagner 1996)", x_label="Venous PO2, mixed venous (mmHg)",
-        y_label="VO2 (mL/min)", x_range=(0.0, max(10.0, x_max)), y_range=(0.0, top),
+        y_label="VO2 (mL/min)", x_range=(0.0, max(10.0, x_max)), y_range=(0.0, top), legend_columns=2, **CHART_SIZE,
     )
 
 
+#: The what-if scenarios in words (codes of :data:`analysis.oxygen.scenarios.SCENARIO_CODES`), each
+#: with the caveat a reader needs; an unknown code is shown as it is.
+SCENARIO_WORDS: dict[str, str] = {
+    "baseline": "As measured (the person's own cascade)",
+    "hb_minus_10pct": "Hb 10 % lower",
+    "hb_minus_20pct": "Hb 20 % lower",
+    "hb_plus_10pct": "Hb 10 % higher",
+    "cohb_10pct": "Carboxyhaemoglobin 10 % (SpO2 would still read near normal)",
+    "p50_18mmhg": "High-affinity Hb: standard P50 18 mmHg",
+    "altitude_2000m": "Altitude 2,000 m, no acclimatisation",
+    "fio2_30pct": "30 % O2 inspired",
+    "q_plus_10pct": "Cardiac output 10 % higher",
+    "dmo2_plus_10pct": "Muscle O2 diffusing capacity 10 % higher",
+}
+
+
+def scenario_words(code: str) -> str:
+    """``"hb_minus_10pct"`` -> ``"Hb 10 % lower"`` (an unknown code as it is)."""
+    return SCENARIO_WORDS.get(code, code)
+
+
 def what_if_table(pathway: Mapping[str, Any]) -> str:
+    """One row per scenario: what changes (in words), predicted VO2peak and its change from the
+    measured one. Each scenario changes one input; the others stay as measured."""
     rows = [
-        [str(w["scenario"]), _num(w["vo2_peak_ml_min"], 0), f"{float(w['change_pct']):+.1f}", str(w["note"])]
+        [scenario_words(str(w["scenario"])), _num(w["vo2_peak_ml_min"], 0), f"{float(w['change_pct']):+.1f}"]
         for w in pathway.get("what_if") or []
     ]
-    return _table(["Scenario", "Predicted VO2peak (mL/min, estimate)", "Change (%)", "What changes"], rows)
+    return _table(["What if (one input changed)", "Predicted VO2peak (mL/min, estimate)", "Change (%)"], rows)
 
 
-def _peak_table(pathway: Mapping[str, Any]) -> str:
+def _peak_line(pathway: Mapping[str, Any]) -> str:
+    """The cascade's values at peak as one line of ``name value unit`` pairs."""
     p = pathway["peak"]
     q = "measured" if not pathway.get("q_estimated") else "estimate"
-    rows = [
-        ["Alveolar PO2 (mmHg)", _num(p["pao2_alveolar_mmhg"], 1)],
-        ["Arterial PO2 (mmHg)", _num(p["pao2_mmhg"], 1)],
-        ["SaO2 (%)", _num(100.0 * float(p["sao2"]), 1)],
-        ["CaO2 (mL/dL)", _num(p["cao2_ml_dl"], 1)],
-        [f"Cardiac output (L/min, {q})", _num(pathway["q_l_min"], 1)],
-        ["O2 delivery (mL/min)", _num(p["o2_delivery_ml_min"], 0)],
-        ["Mixed venous PO2 (mmHg)", _num(p["pvo2_mmhg"], 1)],
-        ["Mixed venous SvO2 (%)", _num(100.0 * float(p["svo2"]), 1)],
-        ["Mean capillary PO2 (mmHg)", _num(p["mean_capillary_po2_mmhg"], 1)],
-        ["Muscle O2 diffusing capacity DmO2 (mL/min/mmHg)", _num(pathway["dmo2_ml_min_mmhg"], 0)],
+    pairs = [
+        ("alveolar PO2", _num(p["pao2_alveolar_mmhg"], 1), "mmHg"),
+        ("arterial PO2", _num(p["pao2_mmhg"], 1), "mmHg"),
+        ("SaO2", _num(100.0 * float(p["sao2"]), 1), "%"),
+        ("CaO2", _num(p["cao2_ml_dl"], 1), "mL/dL"),
+        (f"cardiac output ({q})", _num(pathway["q_l_min"], 1), "L/min"),
+        ("O2 delivery", _num(p["o2_delivery_ml_min"], 0), "mL/min"),
+        ("mixed venous PO2", _num(p["pvo2_mmhg"], 1), "mmHg"),
+        ("mixed venous SvO2", _num(100.0 * float(p["svo2"]), 1), "%"),
+        ("mean capillary PO2", _num(p["mean_capillary_po2_mmhg"], 1), "mmHg"),
+        ("muscle O2 diffusing capacity DmO2", _num(pathway["dmo2_ml_min_mmhg"], 0), "mL/min/mmHg"),
     ]
-    return _table(["At peak (model estimate)", "Value"], rows)
+    items = " · ".join(f"{_e(name)} <strong>{value}</strong> {_e(unit)}" for name, value, unit in pairs)
+    return f'<p class="ox-peak"><strong>At peak (model estimate):</strong> {items}.</p>'
 
 
 def _co2_table(pathway: Mapping[str, Any]) -> str:
@@ -282,12 +319,17 @@ def appendix_html(results: TestResults, session: Any = None) -> str | None:
 
     oxygen = None if results.oxygen is None else to_json(results.oxygen)
     cascade = None if results.oxygen_cascade is None else to_json(results.oxygen_cascade)
-    body = oxygen_appendix_html(oxygen, pathway=cascade, heading=False)
+    said = [str(w) for w in results.warnings]  # printed among the report's data-quality notes
+    body = oxygen_appendix_html(oxygen, pathway=cascade, heading=False, said=said)
     return body or None
 
 
 def oxygen_appendix_html(
-    oxygen: Mapping[str, Any] | None, *, pathway: Mapping[str, Any] | None = None, heading: bool = True
+    oxygen: Mapping[str, Any] | None,
+    *,
+    pathway: Mapping[str, Any] | None = None,
+    heading: bool = True,
+    said: Sequence[str] = (),
 ) -> str:
     """The oxygen appendix as one ``<section>`` (empty string when the test has no oxygen comparison).
 
@@ -299,6 +341,9 @@ def oxygen_appendix_html(
         The result's ``oxygen_cascade`` part; built from ``oxygen`` when left out.
     heading : bool, default True
         Start with the appendix heading (the report's own frame adds one when False).
+    said : sequence of str
+        Notes the report already prints elsewhere (its data-quality notes); a cascade note that
+        one of them ends with is not repeated here.
     """
     if not oxygen or not oxygen.get("states"):
         return ""
@@ -309,32 +354,32 @@ def oxygen_appendix_html(
         '<section class="oxygen-appendix">',
         "<h2>Appendix: oxygen path (model estimates)</h2>" if heading else "",
         f'<p class="caution">{_e(APPENDIX_CAUTION)}</p>',
-        "<h3>Dissociation curves</h3>",
-        curves_svg(oxygen),
-        "<p>Filled markers: arterial blood; open markers: mixed venous blood implied by the Fick principle on each "
-        "state's curve. Estimates.</p>",
-        "<h3>Fick against the curve</h3>",
-        fick_table(oxygen),
+        '<div class="ox-charts">',
+        f'<figure class="ox-chart">{curves_svg(oxygen)}<figcaption>Filled markers: arterial blood; open markers: '
+        "mixed venous blood implied by the Fick principle on each state's curve. Estimates.</figcaption></figure>",
     ]
     if pathway:
-        parts += [
-            "<h3>The O2 cascade at peak</h3>",
-            cascade_svg(pathway),
-            f"<p>{_e(pathway.get('caution'))}</p>",
-            _peak_table(pathway),
-            "<h3>What if</h3>",
-            what_if_table(pathway),
-            f"<p>{_e(pathway.get('limiting'))}</p>",
-            "<p>Assumptions of the model:</p><ul>"
-            + "".join(f"<li>{_e(a)}</li>" for a in pathway.get("assumptions") or [])
-            + "</ul>",
-        ]
-        if pathway.get("co2"):
-            parts += ["<h3>CO2 side (estimate)</h3>", _co2_table(pathway)]
+        parts.append(f'<figure class="ox-chart">{cascade_svg(pathway)}<figcaption>Convective line: 10 Q (CaO2 - CvO2); '
+                     "diffusive line: DmO2 × mean capillary PO2 (Bohr integration); where they meet is the predicted "
+                     "VO2peak.</figcaption></figure>")
+    parts += ["</div>", "<h3>Fick against the curve</h3>", fick_table(oxygen)]
+    if pathway:
         hv = pathway.get("hyperventilation") or {}
-        if hv.get("note"):
-            parts.append(f"<p>Resting hyperventilation: {_e(hv['note'])}</p>")
+        co2 = ["<h3>CO2 side (estimate)</h3>", _co2_table(pathway)] if pathway.get("co2") else []
+        parts += [
+            _peak_line(pathway),
+            '<div class="ox-row"><div>',
+            what_if_table(pathway),
+            *co2,
+            "</div><div>",
+            f"<p>{_e(pathway.get('limiting'))}</p>",
+            '<p class="ox-assumptions"><strong>Assumptions of the model:</strong> '
+            + "; ".join(_e(a) for a in pathway.get("assumptions") or []) + ".</p>",
+            f"<p>Resting hyperventilation: {_e(hv['note'])}</p>" if hv.get("note") else "",
+            "</div></div>",
+        ]
         notes = tuple(pathway.get("notes") or ()) + tuple(n for n in notes if n not in (pathway.get("notes") or ()))
+    notes = tuple(n for n in notes if not any(str(s).endswith(n) for s in said))
     if notes:
         parts.append("<ul class=\"oxygen-notes\">" + "".join(f"<li>{_e(n)}</li>" for n in notes) + "</ul>")
     parts.append("</section>")

@@ -25,6 +25,33 @@ _ARGS = ["--no-sandbox", "--disable-gpu", "--disable-background-networking", "--
          "--disable-sync", "--no-first-run"]
 
 
+#: Paper sizes (mm, width x height; ISO 216 A4 and ANSI Letter) and the printed margins (mm).
+PAPER_MM: dict[str, tuple[float, float]] = {"A4": (210.0, 297.0), "Letter": (215.9, 279.4)}
+MARGIN_MM: dict[str, float] = {"top": 10.0, "bottom": 10.0, "left": 11.0, "right": 11.0}
+#: CSS pixels per millimetre (CSS 2.1: 96 px to the inch).
+PX_PER_MM = 96.0 / 25.4
+#: Smallest zoom the fit may give a page block; a block that needs less breaks onto another page
+#: (its text would be too small to read).
+MIN_ZOOM = 0.85
+#: Share of the printable height a block may fill (rounding of the print layout).
+FIT_SAFETY = 0.985
+#: Shrinks each page block of the report (``.page``: the report page, the appendix page) that is
+#: taller than the printable height, by CSS zoom, down to ``MIN_ZOOM``; returns the zooms used.
+FIT_JS = """([heightPx, minZoom]) => [...document.querySelectorAll('.page')].map(el => {
+  const h = el.getBoundingClientRect().height;
+  const z = Math.max(minZoom, Math.min(1, heightPx / h));
+  if (z < 1) { el.style.zoom = String(z); }
+  return z;
+})"""
+
+
+def printable_px(paper: str) -> tuple[float, float]:
+    """Width and height (CSS px) inside the printed margins of ``paper``."""
+    width_mm, height_mm = PAPER_MM[paper]
+    return ((width_mm - MARGIN_MM["left"] - MARGIN_MM["right"]) * PX_PER_MM,
+            (height_mm - MARGIN_MM["top"] - MARGIN_MM["bottom"]) * PX_PER_MM)
+
+
 class PdfUnavailable(TidemarkError):
     """The PDF cannot be made on this server (no Chromium, or Playwright missing)."""
 
@@ -59,9 +86,14 @@ def _print(html: str, paper: str, executable: str) -> bytes:
             page = browser.new_page()
             # The report has no outside source; any request would be a fault, so none is let through.
             page.route("**/*", lambda route: route.abort() if not route.request.url.startswith("data:") else route.continue_())
+            width_px, height_px = printable_px(paper)
+            page.set_viewport_size({"width": round(width_px), "height": round(height_px)})
+            page.emulate_media(media="print")
             page.set_content(html, wait_until="load")
+            page.evaluate(FIT_JS, [height_px * FIT_SAFETY, MIN_ZOOM])
+            m = {k: f"{v:g}mm" for k, v in MARGIN_MM.items()}
             return page.pdf(format=paper, print_background=True, prefer_css_page_size=False,
-                            margin={"top": "10mm", "bottom": "10mm", "left": "11mm", "right": "11mm"})
+                            margin={"top": m["top"], "bottom": m["bottom"], "left": m["left"], "right": m["right"]})
         finally:
             browser.close()
 

@@ -1,5 +1,6 @@
-"""The report printed to PDF by the system Chromium: one page plus the appendix page, the lab's
-letterhead, no demo name, small files; rendered to PNG for a look (test-artifacts/report/)."""
+"""The report printed to PDF by the system Chromium: one page plus the appendix page (methods,
+flags table, notes and the oxygen path), the lab's letterhead, no demo name, small files; rendered
+to PNG for a look (test-artifacts/report/). Every demo test, on A4 and on Letter."""
 
 from __future__ import annotations
 
@@ -13,6 +14,7 @@ from analysis.io import read_session
 from analysis.pipeline import analyze_session
 from analysis.settings import AnalysisSettings
 from analysis.simulation.simulate import LAB_NAME
+from dashboard.report.assemble import appendix_sections
 from dashboard.report.html_report import ReportContext, build_report_html
 from dashboard.report.pdf import html_to_pdf
 from dashboard.report.report_charts import report_charts
@@ -44,7 +46,9 @@ def test_every_demo_report_prints_on_one_page_plus_the_appendix(name, paper):
     ctx = ReportContext(person_label="HSL-01", lab_name="Harbour Sports Lab", lab_address="2 Quay Road, Porthaven",
                         version=2, report_footer="Accredited lab no. 12", signed_off_by="rhea",
                         signed_off_at="2026-12-03 14:00")
-    html = build_report_html(results, session, charts=report_charts(results), context=ctx)
+    appendix = appendix_sections(results, session)  # the oxygen path, as the Reports page adds it
+    assert [title for title, _ in appendix] == ["Oxygen path (estimates)"]
+    html = build_report_html(results, session, charts=report_charts(results), context=ctx, appendix=appendix)
     assert len(html.encode("utf-8")) < 500_000
     pdf = html_to_pdf(html, paper=paper)
     assert pdf.startswith(b"%PDF") and len(pdf) < 500_000
@@ -58,6 +62,13 @@ def test_every_demo_report_prints_on_one_page_plus_the_appendix(name, paper):
     first, second = text.split("\f")[:2]
     assert "Harbour Sports Lab" in first and "Signature" in first and "Exercise test report" in first
     assert "Appendix: methods and notes" in second and "Signature" not in second
+    # the whole appendix on page 2: methods, the flags table, the oxygen path to its last table
+    assert "Flags: limits and sources" in second and "Oxygen path (estimates)" in second
+    assert "Fick against the curve" in second and "What if (one input changed)" in second
+    assert "Assumptions of the model" in second
+    n_flags = len(results.interpretation.flags)
+    if name.startswith("SEL-0425"):  # the demo with the most flags (heart failure pattern)
+        assert n_flags == 7 and "high VE/VCO2 slope" in second and "blunted PETCO2 rise" in second.replace("\n", " ")
     assert LAB_NAME.split()[0] not in text
     if name.startswith("SEL-0107") and paper == "A4":  # one page to look at
         subprocess.run([_tool("pdftoppm"), "-r", "80", "-png", str(path), str(OUT / "report-page")], check=True)

@@ -88,7 +88,7 @@ def test_report_file_matches_analysis(demo_store, first_test):
     assert "Gas exchange over time" in doc and "V-slope: VCO2 against VO2" in doc
     # four charts on the first page, two in the oxygen appendix (dissociation curves, O2 cascade)
     assert "Ventilatory equivalents" in doc and doc.count("<svg") == 6
-    assert "O2 cascade at peak" in doc and "hb_minus_10pct" in doc
+    assert "O2 cascade at peak" in doc and "Hb 10 % lower" in doc and "hb_minus_10pct" not in doc  # words, not codes
     assert "<script" not in doc and len(doc.encode("utf-8")) < 500_000
     assert re.search(r"<(script|link)[^>]+(src|href)=[\"']https?://", doc) is None
     files = export_files(results, session, stem="x")
