@@ -1,4 +1,5 @@
-"""Set-up facts of the workspace: no demo name outside demo code, one upload limit, `make run`."""
+"""Set-up facts of the workspace: no demo name outside demo code, one upload limit, `make run`, the
+TLS recipe in the README, the favicon served by the dashboard itself."""
 
 from __future__ import annotations
 
@@ -70,3 +71,26 @@ def test_make_run_installs_tidemark_without_the_test_extras_and_uses_the_demo_st
     assert installs and all("test" not in line for line in installs)
     assert re.search(r"tidemark demo --load --store \S+demo\.sqlite", out)
     assert re.search(r"tidemark serve --port \d+ --store \S+demo\.sqlite", out)
+
+
+def test_readme_recipe_serves_share_links_over_tls():
+    # finding 6: a README recipe for serving behind a TLS reverse proxy with the public URL
+    from analysis.io import MAX_UPLOAD_MB
+
+    readme = (ROOT / "README.md").read_text(encoding="utf-8")
+    section = readme.split("### Serving coaches over the network (TLS reverse proxy)", 1)[1].split("\n## ", 1)[0]
+    port = re.search(r"TIDEMARK_PUBLIC_URL=https://\S+ \S*tidemark serve --port (\d+)", section)
+    assert port is not None
+    assert f"proxy_pass http://127.0.0.1:{port.group(1)};" in section
+    assert f"reverse_proxy 127.0.0.1:{port.group(1)}" in section
+    assert "listen 443 ssl;" in section and "proxy_set_header Upgrade $http_upgrade;" in section
+    assert f"client_max_body_size {MAX_UPLOAD_MB}m;" in section  # the one upload limit
+
+
+def test_favicon_is_served_by_the_dashboard_itself():
+    # finding 7: the browser tab's icon came from an outside font host; now it is our own PNG file
+    from dashboard import app
+
+    assert app.FAVICON.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"  # PNG signature (PNG spec, 5.2)
+    source = (ROOT / "dashboard" / "app.py").read_text(encoding="utf-8")
+    assert source.count("st.set_page_config(") == 1 and "page_icon=str(FAVICON)" in source

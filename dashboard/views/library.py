@@ -25,6 +25,7 @@ from analysis.io.plausibility import duration_warning
 from dashboard import data, state
 from dashboard.errors import show_error
 from dashboard.lab import markdown_text
+from dashboard.report.html_report import format_number
 from dashboard.subject_details import form_defaults, import_overrides, preamble_rows
 from dashboard.timefmt import clock_text
 from dashboard.views._subject_panel import detail_inputs
@@ -401,7 +402,7 @@ def _import_panel(store: Store, upload: Any, index: int) -> None:
     session = outcome.session
     b = session.breaths
     m1, m2, m3, m4 = st.columns(4)
-    m1.metric("Breaths", f"{len(b):,}")
+    m1.metric("Breaths", format_number(len(b), 0))
     m2.metric("Time span (m:ss)", f"{clock_text(b[C.T_S].min())} – {clock_text(b[C.T_S].max())}")
     m3.metric("Gas unit found", GAS_UNITS.get(outcome.gas_unit_detected, outcome.gas_unit_detected))
     m4.metric("Time format", TIME_FORMAT_LABELS.get(outcome.time_format_detected, outcome.time_format_detected))

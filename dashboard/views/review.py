@@ -317,6 +317,9 @@ def reload_from_store(test_id: int) -> None:
 
 
 def _fmt(value: Any, digits: int = 0, unit: str = "") -> str:
+    """A number as every page and the report write it (thin-space thousands), with its unit."""
+    from dashboard.report.html_report import format_number
+
     if value is None:
         return "–"
     try:
@@ -325,8 +328,7 @@ def _fmt(value: Any, digits: int = 0, unit: str = "") -> str:
         return str(value)
     if v != v:  # NaN
         return "–"
-    text = f"{v:,.{digits}f}"
-    return f"{text} {unit}".strip()
+    return f"{format_number(v, digits)} {unit}".strip()
 
 
 def _steady_state_load(results: TestResults, kind: str) -> str:
@@ -352,7 +354,7 @@ def threshold_rows(results: TestResults) -> list[dict[str, str]]:
         rows.append(
             {
                 "Threshold": THRESHOLD_NAMES[kind] + (" ✎ manual" if manual else ""),
-                "Time": _fmt(t.t_s, 0, "s"),
+                "Time": clock_text(t.t_s),
                 "VO2": _fmt(t.vo2_ml_min, 0, "mL/min"),
                 "VO2/kg": _fmt(t.vo2_ml_kg_min, 1, "mL/kg/min"),
                 "% VO2peak": _fmt(t.pct_vo2_peak, 0, "%"),
@@ -366,7 +368,7 @@ def threshold_rows(results: TestResults) -> list[dict[str, str]]:
 
 
 def threshold_lines(results: TestResults) -> list[str]:
-    """One sentence per threshold, e.g. ``VT1: 2,741 mL/min at 715 s — automatic (consensus)``."""
+    """One sentence per threshold, e.g. ``VT1: 2 741 mL/min at 11:55 — automatic (consensus)``."""
     lines = []
     for kind in ("vt1", "vt2"):
         t: ThresholdResult | None = getattr(results, kind)
@@ -375,7 +377,7 @@ def threshold_lines(results: TestResults) -> list[str]:
             lines.append(f"**{name}:** not found")
             continue
         how = "✎ manual (set by a reviewer)" if t.source == "manual" else f"automatic ({t.method})"
-        lines.append(f"**{name}:** {_fmt(t.vo2_ml_min, 0, 'mL/min')} at {_fmt(t.t_s, 0, 's')} — {how}")
+        lines.append(f"**{name}:** {_fmt(t.vo2_ml_min, 0, 'mL/min')} at {clock_text(t.t_s)} — {how}")
     return lines
 
 
@@ -414,7 +416,7 @@ def excluded_rows_view(table: pd.DataFrame) -> pd.DataFrame:
     return pd.DataFrame(
         {
             "Line in file": table["source_row"].astype(int).to_numpy(),
-            "Time (s)": ["–" if pd.isna(t) else f"{float(t):.0f}" for t in table["t_s"]],
+            "Time (m:ss)": ["–" if pd.isna(t) else clock_text(t) for t in table["t_s"]],
             "Signal": [signal_label(c) for c in table["column"]],
             "Excluded by": [EXCLUDED_BY.get(str(b), str(b)) for b in table["by"]],
             "Reason": table["reason"].astype(str).to_numpy(),

@@ -125,7 +125,9 @@ def render() -> None:
     if not shares:
         st.write("No links yet.")
         return
-    st.dataframe(shares_frame(shares, tests=tests, people=people), hide_index=True, width="stretch")
+    st.dataframe(shares_frame(shares, tests=tests, people=people), hide_index=True, width="stretch",
+                 column_config={"Covers": st.column_config.TextColumn("Covers", width="large"),
+                                "Shows": st.column_config.TextColumn("Shows", width="medium")})
     active = [s for s in shares if share_state(s) == "active"]
     if may_share and active:
         with st.form("revoke_share"):

@@ -2,7 +2,8 @@
 
 admin sets the lab name → a reviewer (arriving by a deep link) imports a semicolon export whose
 preamble holds the test date and body mass, confirms them, sets age and sex in the form →
-Review shows VO2/kg and % predicted → edits body mass (audited) → signs off → downloads the PDF
+Review shows VO2/kg and % predicted (the stored result's values) → edits body mass (the audit
+trail holds who, old and new value and why; VO2/kg recomputed) → signs off → downloads the PDF
 and the HTML report (PDF: one page plus the appendix page, the lab's name, no demo name; HTML
 under 500 kB) → creates a person share link that starts with the configured public URL and
 opens the coach's progress view. Every request the browser makes goes to the dashboard itself.
@@ -66,6 +67,37 @@ def lab_server(tmp_path, monkeypatch):
     proc, base = answering_server(url, log_path=tmp_path / "streamlit.log")
     yield base, url
     stop_server(proc)
+
+
+def _stored_headline(url: str) -> dict[str, str]:
+    """The headline metrics (label -> shown text) of the store's current result of the one test."""
+    from dashboard.report.html_report import headline_rows
+    from dashboard.views.review import metric_text
+    from store import open_store
+
+    store = open_store(url)
+    try:
+        (test,) = store.list_tests()
+        return dict(metric_text(row) for row in headline_rows(store.get_results(test.id)))
+    finally:
+        store.close()
+
+
+def _audit(url: str, field: str) -> list:
+    from store import open_store
+
+    store = open_store(url)
+    try:
+        (test,) = store.list_tests()
+        return [e for e in store.audit_log(test.id) if e.field == field]
+    finally:
+        store.close()
+
+
+def _metric(page, label: str) -> str:  # noqa: ANN001 - Playwright Page
+    metric = page.locator("[data-testid='stMetric']").filter(
+        has=page.locator("[data-testid='stMetricLabel']", has_text=re.compile(rf"^\s*{re.escape(label)}\s*$")))
+    return metric.first.locator("[data-testid='stMetricValue']").inner_text().strip()
 
 
 def _sign_in(page, name: str) -> None:  # noqa: ANN001 - Playwright Page
@@ -142,8 +174,10 @@ def test_lab_path_from_fresh_store_to_report_and_coach_link(lab_server, browser,
         # --- Review: VO2/kg and % predicted; edit body mass (audited); sign off
         page.get_by_role("heading", name=re.compile("HSL-01 — 2026-02-10")).wait_for()
         wait_for_app(page)
-        assert page.get_by_text("VO2peak per kg", exact=True).count() >= 1
-        assert page.get_by_text("VO2peak, % predicted", exact=True).count() >= 1
+        shown = _stored_headline(url)  # what the page must show: the stored result, formatted
+        assert _metric(page, "VO2peak per kg") == shown["VO2peak per kg"]
+        assert _metric(page, "VO2peak, % predicted") == shown["VO2peak, % predicted"]
+        kg_before = float(re.sub(r"[^\d.]", "", shown["VO2peak per kg"]))
         screenshot(page, "lab-review")
         page.get_by_text("Subject and test details (date, body mass").click()
         mass = page.get_by_label("Body mass (kg)")
@@ -152,6 +186,12 @@ def test_lab_path_from_fresh_store_to_report_and_coach_link(lab_server, browser,
         page.get_by_role("button", name="Save the details").click()
         page.get_by_text(re.compile(r"Details saved as version \d+")).wait_for()
         wait_for_app(page)
+        events = _audit(url, "meta.body_mass_kg")  # the edit is in the audit trail: who, old, new, why
+        assert [(e.actor, float(e.old_value), float(e.new_value), e.reason) for e in events] == [
+            ("rhea", 71.5, 70.0, "weighed again on the day")]
+        shown = _stored_headline(url)
+        assert _metric(page, "VO2peak per kg") == shown["VO2peak per kg"]  # recomputed with 70 kg
+        assert float(re.sub(r"[^\d.]", "", shown["VO2peak per kg"])) == pytest.approx(kg_before * 71.5 / 70, abs=0.06)
         page.get_by_role("button", name="Sign off this version").click()
         page.get_by_text(re.compile(r"Version \d+ signed off")).wait_for()
         wait_for_app(page)
@@ -179,7 +219,9 @@ def test_lab_path_from_fresh_store_to_report_and_coach_link(lab_server, browser,
         info = subprocess.run([pdfinfo, str(pdf_path)], capture_output=True, text=True, check=True).stdout
         assert re.search(r"^Pages:\s+2$", info, re.M), info  # the page and the appendix page
         text = subprocess.run([pdftotext, "-layout", str(pdf_path), "-"], capture_output=True, text=True, check=True).stdout
-        assert LAB in text.split("\f")[0] and "Signed off" in text
+        first_page, appendix_page = text.split("\f")[:2]
+        assert LAB in first_page and "Signed off" in first_page and "Exercise test report" in first_page
+        assert "Appendix: methods and notes" in appendix_page
         assert LAB_NAME.split()[0] not in text
         assert "Body mass: 70.0 kg" in text  # the edited value
 

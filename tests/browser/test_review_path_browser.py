@@ -12,18 +12,22 @@ import re
 
 import pytest
 
+from dashboard.report.html_report import format_number
+from dashboard.timefmt import clock_text
 from tests.browser.conftest import SCREENSHOTS, wait_for_app
 from tests.support import ROOT
 
 UPLOAD = ROOT / "demo_sessions" / "SEL-0425_2026-01-21_cycle-ramp.session.csv"
-VT1_LINE = re.compile(r"VT1:\s*([\d,]+) mL/min at ([\d,]+) s — (.*)")
+#: "VT1: 2 741 mL/min at 11:55 — automatic (consensus)": thin-space thousands, the time as m:ss.
+VT1_LINE = re.compile(r"VT1:\s*([\d\u2009 ]+) mL/min at (\d+:\d\d) — (.*)")
 
 
 def _vt1(page) -> tuple[int, int, str]:  # noqa: ANN001 - Playwright Page
+    """``(VO2 mL/min, time s, how)`` of the VT1 line."""
     text = page.locator("[data-testid='stMarkdownContainer']", has_text="VT1:").first.inner_text()
     m = VT1_LINE.search(text)
     assert m, text
-    return int(m.group(1).replace(",", "")), int(m.group(2).replace(",", "")), m.group(3)
+    return int(re.sub(r"\D", "", m.group(1))), _seconds(m.group(2)), m.group(3)
 
 
 def _wait_vt1_change(page, before: tuple[int, int, str], timeout_ms: int = 60_000) -> tuple[int, int, str]:  # noqa: ANN001
@@ -33,7 +37,7 @@ def _wait_vt1_change(page, before: tuple[int, int, str], timeout_ms: int = 60_00
                 .find(e => e.innerText.includes('VT1:'));
             return el && !el.innerText.includes(before);
         }""",
-        arg=f"{before[0]:,} mL/min at {before[1]:,} s — {before[2]}",
+        arg=f"{format_number(before[0], 0)} mL/min at {clock_text(before[1])} — {before[2]}",
         timeout=timeout_ms,
     )
     wait_for_app(page)

@@ -19,7 +19,8 @@ from tests.browser.conftest import REQUIRE_ENV, chromium_path, demo_files, start
 from tests.support import skip_or_fail
 
 PASSWORD = "two-servers-tide-17"
-VT1_LINE = re.compile(r"VT1:\s*([\d,]+) mL/min at ([\d,]+) s — (.*)")
+#: "VT1: 2 741 mL/min at 11:55 — automatic (consensus)": thin-space thousands, the time as m:ss.
+VT1_LINE = re.compile(r"VT1:\s*([\d\u2009 ]+) mL/min at (\d+):(\d\d) — (.*)")
 
 
 @dataclass
@@ -109,7 +110,7 @@ def _vt1(page) -> tuple[int, int, str]:  # noqa: ANN001
     text = page.locator("[data-testid='stMarkdownContainer']", has_text="VT1:").first.inner_text()
     m = VT1_LINE.search(text)
     assert m, text
-    return int(m.group(1).replace(",", "")), int(m.group(2).replace(",", "")), m.group(3)
+    return int(re.sub(r"\D", "", m.group(1))), int(m.group(2)) * 60 + int(m.group(3)), m.group(4)
 
 
 def _set_vt1(page, t_s: int, reason: str) -> None:  # noqa: ANN001
@@ -126,8 +127,8 @@ def _wait_vt1_time(page, t_s: int) -> tuple[int, int, str]:  # noqa: ANN001
         """(t) => { const el = [...document.querySelectorAll('[data-testid="stMarkdownContainer"]')]
                       .find(e => e.innerText.includes('VT1:'));
                     if (!el) return false;
-                    const m = el.innerText.match(/at ([\\d,]+) s/);
-                    return m && Math.abs(parseInt(m[1].replace(/,/g, '')) - t) <= 10; }""",
+                    const m = el.innerText.match(/at (\\d+):(\\d\\d) /);
+                    return m && Math.abs(parseInt(m[1]) * 60 + parseInt(m[2]) - t) <= 10; }""",
         arg=t_s,
         timeout=90_000,
     )

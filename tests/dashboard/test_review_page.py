@@ -15,6 +15,7 @@ from analysis.results import results_from_json
 from analysis.settings import AnalysisSettings
 from dashboard import data
 from dashboard.report.html_report import format_number
+from dashboard.timefmt import clock_text
 from dashboard.views import review
 
 
@@ -73,8 +74,8 @@ def test_headline_numbers_equal_analyze_session(demo_store, page_test, reference
     assert _metric(at, "Heart rate peak") == format_number(reference["hr_peak_bpm"], 0) + " beats/min"
     table = _threshold_table(at)
     vt1 = table[table["Threshold"].str.startswith("VT1")].iloc[0]
-    assert vt1["VO2"] == f"{reference['vt1']['vo2_ml_min']:,.0f} mL/min"
-    assert vt1["Time"] == f"{reference['vt1']['time_s']:,.0f} s"
+    assert vt1["VO2"] == format_number(reference["vt1"]["vo2_ml_min"], 0) + " mL/min"
+    assert vt1["Time"] == clock_text(reference["vt1"]["time_s"])
     assert "manual" not in vt1["Threshold"]
     assert any("Maximality" in md.value for md in at.markdown)
     from dashboard.report.html_report import zone_rows
@@ -107,8 +108,8 @@ def test_typing_a_vt1_time_changes_vt1_marks_it_manual_and_saves_a_version(demo_
     assert settings["vt1_override"] == {"t_s": new_t, "vo2_ml_min": None, "reason": "later on the V-slope chart"}
     expected = to_json(analyze_session(demo_store.store.load_session(test_id), AnalysisSettings.from_dict(settings)))
     assert expected["vt1"]["source"] == "manual"
-    assert vt1["Time"] == f"{expected['vt1']['time_s']:,.0f} s"
-    assert vt1["VO2"] == f"{expected['vt1']['vo2_ml_min']:,.0f} mL/min"
+    assert vt1["Time"] == clock_text(expected["vt1"]["time_s"])
+    assert vt1["VO2"] == format_number(expected["vt1"]["vo2_ml_min"], 0) + " mL/min"
     assert expected["vt1"]["time_s"] != reference["vt1"]["time_s"]
     audit = demo_store.store.audit_log(test_id)
     assert any(e.field and "vt1_override" in e.field and e.reason == "later on the V-slope chart" for e in audit)
@@ -260,7 +261,7 @@ def test_typing_a_vt2_vo2_places_vt2_at_the_nearest_averaged_row(demo_store, pag
     stored, _ = demo_store.store.get_settings(test_id)
     assert stored["vt2_override"]["vo2_ml_min"] == float(target)
     expected = to_json(analyze_session(demo_store.store.load_session(test_id), AnalysisSettings.from_dict(stored)))
-    assert f"{expected['vt2']['vo2_ml_min']:,.0f} mL/min" in line
+    assert format_number(expected["vt2"]["vo2_ml_min"], 0) + " mL/min" in line
 
 
 def test_display_text_uses_trade_names_and_units_not_codes():
@@ -276,7 +277,7 @@ def test_display_text_uses_trade_names_and_units_not_codes():
                           "by": ["auto", "auto", "reviewer"]})
     view = review.excluded_rows_view(table)
     assert view["Signal"].tolist() == ["VO2", "VE", ""]
-    assert view["Time (s)"].tolist() == ["57", "145", "170"]
+    assert view["Time (m:ss)"].tolist() == ["0:57", "2:25", "2:50"]
     assert view["Reason"].tolist()[0].startswith("VO2 230.9 mL/min")  # value and unit stated in the reason
     assert view["Excluded by"].tolist() == ["automatic", "automatic", "reviewer"]
     assert review.audit_field("vt1_override") == "VT1 placed by a reviewer"
