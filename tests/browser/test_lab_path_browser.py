@@ -70,7 +70,10 @@ def lab_server(tmp_path, monkeypatch):
 
 
 def _stored_headline(url: str) -> dict[str, str]:
-    """The headline metrics (label -> shown text) of the store's current result of the one test."""
+    """The headline metrics (label -> shown text) of the one test under its stored settings, as the
+    analysis computes them (``analyze_session``) and Review formats them."""
+    from analysis.pipeline import analyze_session
+    from analysis.settings import AnalysisSettings
     from dashboard.report.html_report import headline_rows
     from dashboard.views.review import metric_text
     from store import open_store
@@ -78,7 +81,9 @@ def _stored_headline(url: str) -> dict[str, str]:
     store = open_store(url)
     try:
         (test,) = store.list_tests()
-        return dict(metric_text(row) for row in headline_rows(store.get_results(test.id)))
+        settings, _ = store.get_settings(test.id)
+        results = analyze_session(store.load_session(test.id), AnalysisSettings.from_dict(settings))
+        return dict(metric_text(row) for row in headline_rows(results))
     finally:
         store.close()
 
