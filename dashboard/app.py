@@ -217,7 +217,16 @@ def sidebar(store: Store) -> None:
             if st.button("Sign out", key="sign_out"):
                 state.sign_out()
                 st.rerun()
+        unsaved = state.tests_with_pending_changes()
+        if unsaved:
+            st.warning(unsaved_reminder(len(unsaved)))
         st.caption(CAUTION)
+
+
+def unsaved_reminder(n_tests: int) -> str:
+    """The sidebar's reminder, on every page, of Review changes not yet saved."""
+    which = "one test" if n_tests == 1 else f"{n_tests} tests"
+    return f"Unsaved Review changes on {which}: save or discard them on the Review page (signing out drops them)."
 
 
 def run() -> None:

@@ -29,10 +29,12 @@ EXPORT_LABELS: dict[str, str] = {
 }
 
 
-def review_state_text(record: Any, version: int | None, *, saved: bool) -> str:
-    """One line on the review state: version, sign-off, unsaved changes."""
+def review_state_text(record: Any, version: int | None, *, saved: bool, changes: int = 0) -> str:
+    """One line on the review state: version, sign-off, unsaved changes (``changes``: how many)."""
     if not saved:
-        return "Working settings with unsaved changes — the report says 'unsaved settings'."
+        what = f"{changes} unsaved {'change' if changes == 1 else 'changes'}" if changes else "unsaved changes"
+        return (f"Review holds {what} to this test: the report shows them and says 'unsaved settings'. "
+                "Save them on Review to report a stored version.")
     if version is None:
         return "No stored analysis version yet."
     signed = [s for s in record.sign_offs if s.version == version]
@@ -58,7 +60,7 @@ def render() -> None:
     session = data.load_session(test_id)
     record = store.get_test(test_id)
 
-    st.info(review_state_text(record, version, saved=saved))
+    st.info(review_state_text(record, version, saved=saved, changes=len(state.pending_changes(test_id))))
     rows = headline_rows(results)
     if rows:
         cols = st.columns(min(3, len(rows)))  # three across: labels with their units are not cut off

@@ -210,3 +210,31 @@ def test_version_reason_lists_every_change_once(changes, note, expected):
 def test_unsaved_text_counts_the_changes():
     assert review.unsaved_text(["x", "y", "x"]).startswith("Unsaved changes (3), not stored yet: x (2 times); y.")
     assert review.unsaved_text([]) == "Unsaved changes: what you see differs from the stored version."
+
+
+def test_other_pages_remind_of_unsaved_review_changes(demo_store, page_test):
+    # the sidebar on every page, and the Reports page (whose report then says "unsaved settings")
+    from dashboard.app import unsaved_reminder
+
+    test_id = demo_store.test_ids[0]
+    pending = {f"{state.PENDING_PREFIX}{test_id}": ["VT1 set by time", "averaging changed to 20 s bins"]}
+
+    def script() -> None:
+        from dashboard import data
+        from dashboard.app import sidebar
+        from dashboard.views import reports
+
+        sidebar(data.get_store())
+        reports.render()
+
+    working = state.WorkingSettings({**demo_store.store.get_settings(test_id)[0], "excluded_rows": [40]},
+                                    demo_store.store.get_settings(test_id)[1], saved=False)
+    at = page_test(script, tm_user=demo_store.user, tm_test_id=test_id,
+                   **{f"{state.SETTINGS_PREFIX}{test_id}": working}, **pending).run()
+    assert not at.exception, at.exception
+    assert [w.value for w in at.sidebar.warning] == [unsaved_reminder(1)]
+    assert unsaved_reminder(1).startswith("Unsaved Review changes on one test")
+    assert unsaved_reminder(3).startswith("Unsaved Review changes on 3 tests")
+    assert any(i.value.startswith("Review holds 2 unsaved changes to this test") for i in at.info)
+    at = page_test(script, tm_user=demo_store.user, tm_test_id=test_id).run()
+    assert not at.sidebar.warning
