@@ -88,6 +88,12 @@ def test_breath_sheet_by_default_and_another_sheet_starts_from_its_own_mapping(d
     text = " ".join(rows["What to do"]) + " ".join(rows["Problem"])
     assert "--" not in text  # no command-line option named on the page
     assert "Sheet box above" in text
+    # the import errors' grid gives the long columns room (finding: grid columns cut off)
+    import json
+
+    grid = next(df for df in at.dataframe if "What to do" in df.value.columns)
+    config = json.loads(grid.proto.columns or "{}")
+    assert config["Problem"]["width"] == "large" and config["What to do"]["width"] == "large"
 
 
 def test_back_to_the_guessed_mapping_resets_every_box(demo_store, page_test):
