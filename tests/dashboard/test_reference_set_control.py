@@ -63,6 +63,8 @@ def test_choosing_hansen_recomputes_names_and_saves_a_version(demo_store, page_t
 
     box.set_value("hansen1984").run()
     assert not at.exception, at.exception
+    assert demo_store.store.get_settings(test_id)[1] == version_before  # unsaved until the reviewer's Save
+    at.button(key=f"save_{test_id}").click().run()  # one version per Save (dashboard/views/review.py)
     data.wait_for_saves()
     at.run()
     settings, version = demo_store.store.get_settings(test_id)
