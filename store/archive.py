@@ -16,7 +16,7 @@ from analysis.io import DEFAULT_MAX_BYTES
 from analysis.session import Session
 from analysis.subject import normalise_sex
 from store.analysis_bridge import run_analysis
-from store.core import Actor, StoreCore, aware, to_json
+from store.core import Actor, StoreCore, analysis_version_row, aware, to_json
 from store.errors import NotFound, StoreError
 from store.models import AnalysisVersion, PersonRow, SignOff, TestRow
 from store.records import ImportResult, PersonSummary, SignOffRecord, TestRecord, TestSummary
@@ -203,18 +203,9 @@ class ArchiveMixin(StoreCore):
             db.add(test)
             db.flush()
             db.add(
-                AnalysisVersion(
-                    test_id=test.id,
-                    version=1,
-                    settings_json=to_json(settings),
-                    results_json=None if results is None else to_json(results),
-                    results_error=results_error,
-                    vo2peak_ml_min=headline.vo2peak_ml_min if headline else None,
-                    vt1_vo2_ml_min=headline.vt1_vo2_ml_min if headline else None,
-                    ve_vco2_slope=headline.ve_vco2_slope if headline else None,
-                    created_at=now,
-                    created_by=actor_row.id if actor_row else None,
-                    reason="import",
+                analysis_version_row(
+                    test_id=test.id, version=1, settings=settings, results=results, results_error=results_error,
+                    headline=headline, created_at=now, created_by=actor_row.id if actor_row else None, reason="import",
                 )
             )
             self._audit(

@@ -22,6 +22,7 @@ from typing import Any
 import numpy as np
 
 from analysis.errors import require
+from analysis.numeric import finite_or_none
 from analysis.simulation.foreign import FOREIGN_LAYOUTS, foreign_export_bytes, foreign_meta_overrides
 from analysis.simulation.suite import CaseTruth, SimulatedCase
 
@@ -39,16 +40,6 @@ def _get(obj: Any, *path: str) -> Any:
             return None
         obj = obj.get(step) if isinstance(obj, dict) else getattr(obj, step, None)
     return obj
-
-
-def _number(value: Any) -> float | None:
-    if value is None:
-        return None
-    try:
-        x = float(value)
-    except (TypeError, ValueError):
-        return None
-    return x if math.isfinite(x) else None
 
 
 def _interval(value: Any) -> tuple[float, float] | None:
@@ -115,12 +106,12 @@ def read_result(result: Any) -> ResultReading:
         flags = _get(result, "interpretation", "flags")
     codes = tuple(str(_get(f, "code")) for f in (flags or ()) if _get(f, "code") is not None)
     return ResultReading(
-        vt1_vo2_ml_min=_number(_get(picks["vt1"], "vo2_ml_min")),
-        vt2_vo2_ml_min=_number(_get(picks["vt2"], "vo2_ml_min")),
+        vt1_vo2_ml_min=finite_or_none(_get(picks["vt1"], "vo2_ml_min")),
+        vt2_vo2_ml_min=finite_or_none(_get(picks["vt2"], "vo2_ml_min")),
         vt1_ci90_vo2_ml_min=_interval(_get(picks["vt1"], "ci90_vo2_ml_min")),
         vt2_ci90_vo2_ml_min=_interval(_get(picks["vt2"], "ci90_vo2_ml_min")),
-        vo2peak_ml_min=_number(_get(result, "peak", "vo2_ml_min")),
-        ve_vco2_slope=_number(_get(indices, "ve_vco2_slope")),
+        vo2peak_ml_min=finite_or_none(_get(result, "peak", "vo2_ml_min")),
+        ve_vco2_slope=finite_or_none(_get(indices, "ve_vco2_slope")),
         ve_vco2_slope_span=None if span is None else str(span),
         flag_codes=codes,
     )

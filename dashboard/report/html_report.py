@@ -15,7 +15,6 @@ from __future__ import annotations
 
 import datetime as _dt
 import html
-import math
 import re
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field
@@ -23,6 +22,7 @@ from importlib import resources
 from typing import Any
 
 from analysis.indices.threshold_values import ThresholdResult
+from analysis.numeric import finite_or_none
 from analysis.results import TestResults
 from analysis.session import Session
 from analysis.zones import Zone
@@ -118,13 +118,7 @@ class ReportContext:
 
 
 def _number(value: Any) -> float | None:
-    if value is None or isinstance(value, bool):
-        return None
-    try:
-        v = float(value)
-    except (TypeError, ValueError):
-        return None
-    return v if math.isfinite(v) else None
+    return None if isinstance(value, bool) else finite_or_none(value)
 
 
 def format_number(value: Any, digits: int) -> str:
