@@ -19,6 +19,12 @@ NOT_A_RAMP_NOTE = "the protocol is not a ramp (the load rises in steps)"
 #: Share of successive averaged rows whose load must rise for the protocol to count as a ramp.
 RAMP_RISING_SHARE = 0.8
 
+#: chi-squared quantile (1 degree of freedom, 90 %) for the response time's range.
+CHI2_1DF_90 = 2.706
+#: Widest 90 % range of the response time accepted, s: wider (or reaching past the longest
+#: plausible response time) and the ramp does not determine it (slow, noisy ramps), so the loads
+#: are not corrected.
+MRT_MAX_RANGE_S = 90.0
 #: Rows further than this many robust SDs off the first fit are left out of the second.
 OUTLIER_K_MAD = 3.0
 #: Response times tried by the fit, s (every 0.5 s; the fit is refused outside MRT_RANGE_S).
@@ -38,6 +44,9 @@ class LagCorrection:
     load: str = described(description="`work_w` (cycle) or `speed_kmh` (treadmill)")
     ramp_rate_per_min: float = described(description="rise of the load per minute (W/min or km/h per min)")
     mean_response_time_s: float = described(unit="s", description="time by which VO2 lags the ramp", method="Whipp et al. 1981")
+    mean_response_time_ci90_s: tuple[float, float] = described(
+        unit="s", description="90 % range of the response time (profile likelihood of the fit)"
+    )
     vt1_raw: float | None = described(description="load at VT1 as recorded (W or km/h)")
     vt1_corrected: float | None = described(description="steady-state equivalent load at VT1")
     vt2_raw: float | None = described(description="load at VT2 as recorded")
@@ -73,7 +82,15 @@ def _lagged(t_s: np.ndarray, u: np.ndarray, tau_s: np.ndarray) -> np.ndarray:
     return x
 
 
-def first_order_fit(t_s: np.ndarray, load: np.ndarray, vo2_ml_min: np.ndarray) -> float | None:
+@dataclass(frozen=True)
+class FirstOrderFit:
+    """The fitted time constant and its 90 % range (s)."""
+
+    tau_s: float
+    ci90_s: tuple[float, float]
+
+
+def first_order_fit(t_s: np.ndarray, load: np.ndarray, vo2_ml_min: np.ndarray) -> FirstOrderFit | None:
     """Time constant (s) of the first-order response of VO2 to the load that fits best.
 
     ``VO2 = b + G × x(t) + c × exp(-(t - t[0]) / tau)`` with ``x`` the load passed through a
@@ -84,9 +101,11 @@ def first_order_fit(t_s: np.ndarray, load: np.ndarray, vo2_ml_min: np.ndarray) -
 
     Returns
     -------
-    float or None
-        ``None`` when VO2 does not rise with the load (``G <= 0``) or the best ``tau`` is at the
-        grid's edge.
+    FirstOrderFit or None
+        The best ``tau`` and its 90 % range (the taus whose squared error stays within
+        ``1 + 2.71 / (n - 4)`` of the best: profile likelihood, chi-squared with 1 degree of
+        freedom); ``None`` when VO2 does not rise with the load (``G <= 0``) or the best ``tau``
+        is at the grid's edge.
 
     References
     ----------
@@ -97,7 +116,7 @@ def first_order_fit(t_s: np.ndarray, load: np.ndarray, vo2_ml_min: np.ndarray) -
     >>> t = np.arange(0.0, 600.0, 10.0)
     >>> load = np.where(t < 60, 20.0, 20.0 + 0.5 * (t - 60))
     >>> vo2 = 600.0 + 10.0 * _lagged(t, load, np.array([40.0]))[:, 0]
-    >>> round(first_order_fit(t, load, vo2), 1)
+    >>> first_order_fit(t, load, vo2).tau_s
     40.0
     """
     t = np.asarray(t_s, dtype=float)
@@ -122,7 +141,12 @@ def first_order_fit(t_s: np.ndarray, load: np.ndarray, vo2_ml_min: np.ndarray) -
     best = int(np.argmin(sse))
     if not np.isfinite(sse[best]) or gain[best] <= 0 or best in (0, _TAU_GRID_S.size - 1):
         return None
-    return float(_TAU_GRID_S[best])
+    # 90 % profile-likelihood range: taus whose error exceeds the best by less than chi2(1) = 2.71
+    # residual variances (4 parameters fitted)
+    n = int(keep.sum())
+    limit = sse[best] * (1.0 + CHI2_1DF_90 / max(n - 4, 1))
+    inside = np.flatnonzero(sse <= limit)
+    return FirstOrderFit(float(_TAU_GRID_S[best]), (float(_TAU_GRID_S[inside.min()]), float(_TAU_GRID_S[inside.max()])))
 
 
 def lag_correction(
@@ -174,9 +198,17 @@ def lag_correction(
     span = span.loc[np.isfinite(span.to_numpy()).all(axis=1)]
     if not (span[C.T_S] < t0).any() or (span[C.T_S] >= t0 + 60.0).sum() < 4 or rate <= 0:
         return None, ("Loads at the thresholds are not lag-corrected: no VO2 before the ramp or too short a ramp to fit.",)
-    mrt = first_order_fit(span[C.T_S].to_numpy(), span[col].to_numpy(), span[C.VO2_ML_MIN].to_numpy())
-    if mrt is None:
+    fit = first_order_fit(span[C.T_S].to_numpy(), span[col].to_numpy(), span[C.VO2_ML_MIN].to_numpy())
+    if fit is None:
         return None, ("Loads at the thresholds are not lag-corrected: VO2 did not rise with the ramp.",)
+    mrt = fit.tau_s
+    lo, hi = fit.ci90_s
+    if hi - lo > MRT_MAX_RANGE_S or hi > MRT_RANGE_S[1]:
+        return None, (
+            f"Loads at the thresholds are not lag-corrected: this ramp does not determine the VO2 response time "
+            f"(best {mrt:.0f} s, 90 % range {lo:.0f}–{hi:.0f} s; accepted: a range at most {MRT_MAX_RANGE_S:g} s wide "
+            f"within {MRT_RANGE_S[0]:g}–{MRT_RANGE_S[1]:g} s).",
+        )
     if not MRT_RANGE_S[0] <= mrt <= MRT_RANGE_S[1]:
         return None, (
             f"Loads at the thresholds are not lag-corrected: the VO2 response time fitted ({mrt:.0f} s) is outside "
@@ -187,7 +219,7 @@ def lag_correction(
         return lag_corrected_load(v, ramp_rate_per_min=rate, mean_response_time_s=mrt) if v is not None else None
 
     return LagCorrection(
-        load=col, ramp_rate_per_min=rate, mean_response_time_s=mrt, vt1_raw=vt1_load, vt1_corrected=corr(vt1_load),
+        load=col, ramp_rate_per_min=rate, mean_response_time_s=mrt, mean_response_time_ci90_s=(lo, hi), vt1_raw=vt1_load, vt1_corrected=corr(vt1_load),
         vt2_raw=vt2_load, vt2_corrected=corr(vt2_load),
     ), ()
 
