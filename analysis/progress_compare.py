@@ -17,7 +17,7 @@ import pandas as pd
 
 from analysis import columns as C
 from analysis.errors import require
-from analysis.interpretation.lag import NOT_A_RAMP_NOTE
+from analysis.interpretation.lag import NOT_A_RAMP_NOTE, RAMP_RISING_SHARE
 from analysis.progress import TYPICAL_ERRORS, TypicalError
 from analysis.results import TestResults
 
@@ -86,14 +86,32 @@ class ProtocolFacts:
     steps: bool = False  # the load rises in steps (no lag correction for that reason)
 
 
+def _ramp_rate(avg: pd.DataFrame, load: str) -> float | None:
+    """Slope of the load (per min) over exercise up to its highest value, when it rises as a ramp."""
+    if load not in avg.columns or C.T_S not in avg.columns:
+        return None
+    ex = avg.loc[avg[C.PHASE].astype(str) == "exercise"] if C.PHASE in avg.columns else avg
+    t, y = ex[C.T_S].to_numpy(dtype=float), ex[load].to_numpy(dtype=float)
+    ok = np.isfinite(t) & np.isfinite(y)
+    t, y = t[ok], y[ok]
+    if t.size < 8 or (np.diff(y) > 0).mean() < RAMP_RISING_SHARE:
+        return None
+    top = int(np.argmax(y)) + 1
+    rate = float(np.polyfit(t[:top] / 60.0, y[:top], 1)[0]) if top >= 4 else 0.0
+    return rate if rate > 0 else None
+
+
 def protocol_facts(results: TestResults) -> ProtocolFacts:
-    """The :class:`ProtocolFacts` of one analysed test (subject record, ``interpretation.lag``, notes)."""
+    """The :class:`ProtocolFacts` of one analysed test (subject record, ``interpretation.lag`` or
+    the averaged load when the lag was not corrected, notes)."""
     lag = results.interpretation.lag if results.interpretation is not None else None
+    load = lag.load if lag is not None else (C.WORK_W if results.subject.mode == "cycle" else C.SPEED_KMH)
+    rate = lag.ramp_rate_per_min if lag is not None else _ramp_rate(results.averaged, load)
     return ProtocolFacts(
         mode=results.subject.mode,
         protocol=results.subject.protocol,
-        ramp_rate_per_min=lag.ramp_rate_per_min if lag is not None and lag.ramp_rate_per_min > 0 else None,
-        load=lag.load if lag is not None else None,
+        ramp_rate_per_min=rate if rate is not None and rate > 0 else None,
+        load=load if rate is not None else None,
         steps=any(NOT_A_RAMP_NOTE in str(w) for w in results.warnings),
     )
 
