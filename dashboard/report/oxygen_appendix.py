@@ -1,10 +1,10 @@
 """The report's oxygen appendix: dissociation curves, Fick against the curve, the O2 cascade at
 peak and the what-if table, as one HTML section with static SVG charts (no script).
 
-:func:`oxygen_appendix_html` reads the result's ``oxygen`` part (the per-state comparison) and,
-when present, its ``oxygen_cascade`` part (an :class:`analysis.oxygen.OxygenPathway` in JSON form);
-without the latter it builds the pathway from the comparison with
-:func:`analysis.oxygen.pathway.oxygen_pathway`. Every data-derived text is escaped. Every figure
+:func:`oxygen_appendix_html` reads the result's typed ``oxygen`` part (an
+:class:`analysis.oxygen.comparison.OxygenComparison`) and, when present, its ``oxygen_cascade``
+part (an :class:`analysis.oxygen.pathway.OxygenPathway`); without the latter it builds the pathway
+from the typed comparison with :func:`analysis.oxygen.pathway.oxygen_pathway`. Every data-derived text is escaped. Every figure
 is labelled a model estimate; interpretation is "consistent with", never a diagnosis.
 """
 
@@ -19,6 +19,8 @@ import numpy as np
 from dashboard import palette
 
 if TYPE_CHECKING:
+    from analysis.oxygen.comparison import OxygenComparison
+    from analysis.oxygen.pathway import OxygenPathway
     from analysis.results import TestResults
 
 #: Words above the appendix.
@@ -154,33 +156,30 @@ def _table(header: Sequence[str], rows: Sequence[Sequence[str]]) -> str:
 CHART_SIZE: dict[str, int] = {"width": 470, "height": 195}
 
 
-def curves_svg(oxygen: Mapping[str, Any]) -> str:
+def curves_svg(oxygen: OxygenComparison) -> str:
     """Dissociation curves (resting and each state's mixed venous curve) with arterial and venous points."""
-    from analysis.oxygen import StateConditions, saturation
+    from analysis.oxygen import saturation
 
-    model = str(oxygen.get("model"))
+    model = oxygen.model
     grid = np.linspace(1.0, 120.0, 120)
     series: list[dict[str, Any]] = []
-    curves = {"rest": oxygen.get("resting_conditions")} | {
-        s["name"]: s.get("conditions") for s in oxygen.get("states") or [] if s["name"] != "rest"
-    }
+    curves = {"rest": oxygen.resting_conditions} | {s.name: s.conditions for s in oxygen.states if s.name != "rest"}
     for name, conds in curves.items():
-        if not conds:
-            continue
-        sat = saturation(grid, model=model, **StateConditions(**conds).curve_kwargs(model))
+        sat = saturation(grid, model=model, **conds.curve_kwargs(model))
         series.append({
             "name": f"{STATE_LABEL.get(name, name)} curve", "x": grid, "y": 100.0 * np.asarray(sat),
             "colour": STATE_COLOUR.get(name, palette.GREY), "dash": STATE_DASH.get(name, ""),
         })
-    states = oxygen.get("states") or []
+    states = oxygen.states
     series.append({
         "name": "Arterial (estimate)", "mode": "points", "colour": palette.BLUE,
-        "x": [s.get("pao2_mmhg") for s in states], "y": [100.0 * float(s["sao2"]) for s in states],
+        "x": [s.pao2_mmhg for s in states], "y": [100.0 * s.sao2 for s in states],
     })
-    venous = [s for s in states if s.get("svo2") is not None and s.get("pvo2_exercise_curve_mmhg") is not None]
+    venous = [(s.pvo2_exercise_curve_mmhg, s.svo2) for s in states]
+    venous_points = [(pv, sv) for pv, sv in venous if pv is not None and sv is not None]
     series.append({
         "name": "Mixed venous (Fick)", "mode": "points", "open": True, "colour": palette.VERMILLION,
-        "x": [s["pvo2_exercise_curve_mmhg"] for s in venous], "y": [100.0 * float(s["svo2"]) for s in venous],
+        "x": [pv for pv, _ in venous_points], "y": [100.0 * sv for _, sv in venous_points],
     })
     return svg_chart(
         series, title="O2 dissociation curves (model estimate)", x_label="PO2 (mmHg)",
@@ -188,18 +187,18 @@ def curves_svg(oxygen: Mapping[str, Any]) -> str:
     )
 
 
-def fick_table(oxygen: Mapping[str, Any]) -> str:
+def fick_table(oxygen: OxygenComparison) -> str:
     """Fick against the curve, one row per state (mixed venous blood)."""
     q_words = {"measured": "measured", "stringer1997": "estimate, Stringer 1997",
                "resting_typical_avo2": "assumed: typical rest a-vO2"}
     rows = []
-    for s in oxygen.get("states") or []:
+    for s in oxygen.states:
         rows.append([
-            STATE_LABEL.get(s["name"], s["name"]), _num(s.get("vo2_ml_min"), 0), _num(s.get("q_l_min"), 1),
-            q_words.get(str(s.get("q_method")), str(s.get("q_method"))), _num(s.get("avo2_ml_dl"), 1),
-            _num(s.get("pao2_mmhg"), 0), _num(100.0 * float(s["sao2"]), 1), _num(s.get("cao2_ml_dl"), 1),
-            _num(s.get("cvo2_ml_dl"), 1), _num(None if s.get("svo2") is None else 100.0 * float(s["svo2"]), 1),
-            _num(s.get("pvo2_exercise_curve_mmhg"), 1),
+            STATE_LABEL.get(s.name, s.name), _num(s.vo2_ml_min, 0), _num(s.q_l_min, 1),
+            q_words.get(s.q_method, s.q_method), _num(s.avo2_ml_dl, 1),
+            _num(s.pao2_mmhg, 0), _num(100.0 * s.sao2, 1), _num(s.cao2_ml_dl, 1),
+            _num(s.cvo2_ml_dl, 1), _num(None if s.svo2 is None else 100.0 * s.svo2, 1),
+            _num(s.pvo2_exercise_curve_mmhg, 1),
         ])
     return _table(
         ["State", "VO2 (mL/min)", "Q (L/min)", "Q source", "a-vO2 (mL/dL)", "PaO2 (mmHg)", "SaO2 (%)", "CaO2 (mL/dL)",
@@ -208,18 +207,18 @@ def fick_table(oxygen: Mapping[str, Any]) -> str:
     ) + '<p class="ox-key">CvO2, SvO2, PvO2: mixed venous blood; Q: cardiac output.</p>'
 
 
-def cascade_svg(pathway: Mapping[str, Any]) -> str:
+def cascade_svg(pathway: OxygenPathway) -> str:
     """The convective and diffusive lines of the cascade and their meeting point."""
-    lines = pathway["lines"]
-    top = 1.6 * float(lines["meeting_vo2_ml_min"])
-    x_max = float(max(lines["pvo2_mmhg"]))
+    lines = pathway.lines
+    top = 1.6 * float(lines.meeting_vo2_ml_min)
+    x_max = float(max(lines.pvo2_mmhg))
     series = [
-        {"name": "Convective (Fick) line", "x": lines["pvo2_mmhg"], "y": lines["convective_vo2_ml_min"],
+        {"name": "Convective (Fick) line", "x": lines.pvo2_mmhg, "y": lines.convective_vo2_ml_min,
          "colour": palette.BLUE},
-        {"name": "Diffusive line", "x": lines["pvo2_mmhg"],
-         "y": lines["diffusive_vo2_ml_min"], "colour": palette.VERMILLION, "dash": "8 4"},
-        {"name": f"Meeting point: VO2 {float(lines['meeting_vo2_ml_min']):.0f} mL/min", "mode": "points",
-         "x": [lines["meeting_pvo2_mmhg"]], "y": [lines["meeting_vo2_ml_min"]], "colour": palette.BLACK},
+        {"name": "Diffusive line", "x": lines.pvo2_mmhg,
+         "y": lines.diffusive_vo2_ml_min, "colour": palette.VERMILLION, "dash": "8 4"},
+        {"name": f"Meeting point: VO2 {float(lines.meeting_vo2_ml_min):.0f} mL/min", "mode": "points",
+         "x": [lines.meeting_pvo2_mmhg], "y": [lines.meeting_vo2_ml_min], "colour": palette.BLACK},
     ]
     return svg_chart(
         series, title="O2 cascade at peak (model estimate, Wagner 1996)", x_label="Venous PO2, mixed venous (mmHg)",
@@ -248,55 +247,54 @@ def scenario_words(code: str) -> str:
     return SCENARIO_WORDS.get(code, code)
 
 
-def what_if_table(pathway: Mapping[str, Any]) -> str:
+def what_if_table(pathway: OxygenPathway) -> str:
     """One row per scenario: what changes (in words), predicted VO2peak and its change from the
     measured one. Each scenario changes one input; the others stay as measured."""
     rows = [
-        [scenario_words(str(w["scenario"])), _num(w["vo2_peak_ml_min"], 0), f"{float(w['change_pct']):+.1f}"]
-        for w in pathway.get("what_if") or []
+        [scenario_words(w.scenario), _num(w.vo2_peak_ml_min, 0), f"{float(w.change_pct):+.1f}"]
+        for w in pathway.what_if
     ]
     return _table(["What if (one input changed)", "Predicted VO2peak (mL/min, estimate)", "Change (%)"], rows)
 
 
-def _peak_line(pathway: Mapping[str, Any]) -> str:
+def _peak_line(pathway: OxygenPathway) -> str:
     """The cascade's values at peak as one line of ``name value unit`` pairs."""
-    p = pathway["peak"]
-    q = "measured" if not pathway.get("q_estimated") else "estimate"
+    p = pathway.peak
+    q = "measured" if not pathway.q_estimated else "estimate"
     pairs = [
-        ("alveolar PO2", _num(p["pao2_alveolar_mmhg"], 1), "mmHg"),
-        ("arterial PO2", _num(p["pao2_mmhg"], 1), "mmHg"),
-        ("SaO2", _num(100.0 * float(p["sao2"]), 1), "%"),
-        ("CaO2", _num(p["cao2_ml_dl"], 1), "mL/dL"),
-        (f"cardiac output ({q})", _num(pathway["q_l_min"], 1), "L/min"),
-        ("O2 delivery", _num(p["o2_delivery_ml_min"], 0), "mL/min"),
-        ("mixed venous PO2", _num(p["pvo2_mmhg"], 1), "mmHg"),
-        ("mixed venous SvO2", _num(100.0 * float(p["svo2"]), 1), "%"),
-        ("mean capillary PO2", _num(p["mean_capillary_po2_mmhg"], 1), "mmHg"),
-        ("muscle O2 diffusing capacity DmO2", _num(pathway["dmo2_ml_min_mmhg"], 0), "mL/min/mmHg"),
+        ("alveolar PO2", _num(p.pao2_alveolar_mmhg, 1), "mmHg"),
+        ("arterial PO2", _num(p.pao2_mmhg, 1), "mmHg"),
+        ("SaO2", _num(100.0 * p.sao2, 1), "%"),
+        ("CaO2", _num(p.cao2_ml_dl, 1), "mL/dL"),
+        (f"cardiac output ({q})", _num(pathway.q_l_min, 1), "L/min"),
+        ("O2 delivery", _num(p.o2_delivery_ml_min, 0), "mL/min"),
+        ("mixed venous PO2", _num(p.pvo2_mmhg, 1), "mmHg"),
+        ("mixed venous SvO2", _num(100.0 * p.svo2, 1), "%"),
+        ("mean capillary PO2", _num(p.mean_capillary_po2_mmhg, 1), "mmHg"),
+        ("muscle O2 diffusing capacity DmO2", _num(pathway.dmo2_ml_min_mmhg, 0), "mL/min/mmHg"),
     ]
     items = " · ".join(f"{_e(name)} <strong>{value}</strong> {_e(unit)}" for name, value, unit in pairs)
     return f'<p class="ox-peak"><strong>At peak (model estimate):</strong> {items}.</p>'
 
 
-def _co2_table(pathway: Mapping[str, Any]) -> str:
+def _co2_table(pathway: OxygenPathway) -> str:
     rows = [
-        [STATE_LABEL.get(c["state"], c["state"]), _num(c["avco2_ml_dl"], 2), _num(c["dissolved_ml_dl"], 2),
-         _num(c["carbamino_ml_dl"], 2), _num(c["bicarbonate_ml_dl"], 2), _num(c["haldane_ml_dl"], 2)]
-        for c in pathway.get("co2") or []
+        [STATE_LABEL.get(c.state, c.state), _num(c.avco2_ml_dl, 2), _num(c.dissolved_ml_dl, 2),
+         _num(c.carbamino_ml_dl, 2), _num(c.bicarbonate_ml_dl, 2), _num(c.haldane_ml_dl, 2)]
+        for c in pathway.co2
     ]
     return _table(["State", "a-v CO2 (mL/dL)", "Dissolved", "Carbamino", "Bicarbonate", "Haldane part"], rows)
 
 
-def _pathway_json(oxygen: Mapping[str, Any]) -> tuple[dict[str, Any] | None, tuple[str, ...]]:
+def _pathway_of(oxygen: OxygenComparison) -> tuple[OxygenPathway | None, tuple[str, ...]]:
+    """The cascade from the typed comparison by the analysis' own step (its notes as values)."""
     from analysis.errors import TidemarkError
-    from analysis.oxygen.pathway import comparison_from_json, oxygen_pathway
-    from analysis.records import to_json
+    from analysis.oxygen.pathway import oxygen_pathway
 
     try:
-        record, notes = oxygen_pathway(comparison_from_json(dict(oxygen)))
-    except (TidemarkError, KeyError, TypeError, ValueError) as exc:
+        return oxygen_pathway(oxygen)
+    except TidemarkError as exc:
         return None, (f"Oxygen cascade not made: {exc}",)
-    return (None if record is None else to_json(record)), notes
 
 
 def appendix_html(results: TestResults, session: Any = None) -> str | None:
@@ -315,19 +313,15 @@ def appendix_html(results: TestResults, session: Any = None) -> str | None:
         The section's HTML without its heading (the report adds "Oxygen path (estimates)"), or
         ``None`` when the test has no oxygen comparison.
     """
-    from analysis.records import to_json
-
-    oxygen = None if results.oxygen is None else to_json(results.oxygen)
-    cascade = None if results.oxygen_cascade is None else to_json(results.oxygen_cascade)
     said = [str(w) for w in results.warnings]  # printed among the report's data-quality notes
-    body = oxygen_appendix_html(oxygen, pathway=cascade, heading=False, said=said)
+    body = oxygen_appendix_html(results.oxygen, pathway=results.oxygen_cascade, heading=False, said=said)
     return body or None
 
 
 def oxygen_appendix_html(
-    oxygen: Mapping[str, Any] | None,
+    oxygen: OxygenComparison | None,
     *,
-    pathway: Mapping[str, Any] | None = None,
+    pathway: OxygenPathway | None = None,
     heading: bool = True,
     said: Sequence[str] = (),
 ) -> str:
@@ -335,21 +329,22 @@ def oxygen_appendix_html(
 
     Parameters
     ----------
-    oxygen : mapping or None
-        The result's ``oxygen`` part (per-state comparison JSON).
-    pathway : mapping, optional
-        The result's ``oxygen_cascade`` part; built from ``oxygen`` when left out.
+    oxygen : OxygenComparison or None
+        The result's ``oxygen`` part (the per-state comparison record).
+    pathway : OxygenPathway, optional
+        The result's ``oxygen_cascade`` part; built from ``oxygen`` with
+        :func:`analysis.oxygen.pathway.oxygen_pathway` when left out.
     heading : bool, default True
         Start with the appendix heading (the report's own frame adds one when False).
     said : sequence of str
         Notes the report already prints elsewhere (its data-quality notes); a cascade note that
         one of them ends with is not repeated here.
     """
-    if not oxygen or not oxygen.get("states"):
+    if oxygen is None or not oxygen.states:
         return ""
     notes: tuple[str, ...] = ()
     if pathway is None:
-        pathway, notes = _pathway_json(oxygen)
+        pathway, notes = _pathway_of(oxygen)
     parts = [
         '<section class="oxygen-appendix">',
         "<h2>Appendix: oxygen path (model estimates)</h2>" if heading else "",
@@ -358,27 +353,27 @@ def oxygen_appendix_html(
         f'<figure class="ox-chart">{curves_svg(oxygen)}<figcaption>Filled markers: arterial blood; open markers: '
         "mixed venous blood implied by the Fick principle on each state's curve. Estimates.</figcaption></figure>",
     ]
-    if pathway:
+    if pathway is not None:
         parts.append(f'<figure class="ox-chart">{cascade_svg(pathway)}<figcaption>Convective line: 10 Q (CaO2 - CvO2); '
                      "diffusive line: DmO2 × mean capillary PO2 (Bohr integration); where they meet is the predicted "
                      "VO2peak.</figcaption></figure>")
     parts += ["</div>", "<h3>Fick against the curve</h3>", fick_table(oxygen)]
-    if pathway:
-        hv = pathway.get("hyperventilation") or {}
-        co2 = ["<h3>CO2 side (estimate)</h3>", _co2_table(pathway)] if pathway.get("co2") else []
+    if pathway is not None:
+        hv_note = pathway.hyperventilation.note
+        co2 = ["<h3>CO2 side (estimate)</h3>", _co2_table(pathway)] if pathway.co2 else []
         parts += [
             _peak_line(pathway),
             '<div class="ox-row"><div>',
             what_if_table(pathway),
             *co2,
             "</div><div>",
-            f"<p>{_e(pathway.get('limiting'))}</p>",
+            f"<p>{_e(pathway.limiting)}</p>",
             '<p class="ox-assumptions"><strong>Assumptions of the model:</strong> '
-            + "; ".join(_e(a) for a in pathway.get("assumptions") or []) + ".</p>",
-            f"<p>Resting hyperventilation: {_e(hv['note'])}</p>" if hv.get("note") else "",
+            + "; ".join(_e(a) for a in pathway.assumptions) + ".</p>",
+            f"<p>Resting hyperventilation: {_e(hv_note)}</p>" if hv_note else "",
             "</div></div>",
         ]
-        notes = tuple(pathway.get("notes") or ()) + tuple(n for n in notes if n not in (pathway.get("notes") or ()))
+        notes = tuple(pathway.notes) + tuple(n for n in notes if n not in pathway.notes)
     notes = tuple(n for n in notes if not any(str(s).endswith(n) for s in said))
     if notes:
         parts.append("<ul class=\"oxygen-notes\">" + "".join(f"<li>{_e(n)}</li>" for n in notes) + "</ul>")

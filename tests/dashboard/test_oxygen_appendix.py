@@ -1,4 +1,5 @@
-"""The report's oxygen appendix: static, escaped HTML with the curves, Fick table, cascade and what-if table."""
+"""The report's oxygen appendix: static, escaped HTML with the curves, Fick table, cascade and what-if
+table, read from the typed result of a real demo session (its oxygen records)."""
 
 from __future__ import annotations
 
@@ -8,27 +9,32 @@ import re
 
 import pytest
 
+from analysis.oxygen.pathway import oxygen_pathway
 from analysis.oxygen.scenarios import SCENARIO_CODES
-from analysis.pipeline import analyze_session
-from analysis.records import to_json
-from analysis.simulation import DEMO_TESTS, simulate_session
 from dashboard.report.oxygen_appendix import (
     APPENDIX_CAUTION,
     SCENARIO_WORDS,
+    appendix_html,
     oxygen_appendix_html,
     scenario_words,
     svg_chart,
 )
+from tests.support import demo_result
 
 
 @pytest.fixture(scope="module")
-def oxygen():
-    demo = DEMO_TESTS[0]
-    return to_json(analyze_session(simulate_session(demo.profile, demo.protocol, seed=demo.seed)))["oxygen"]
+def results():
+    r = demo_result(with_oxygen=True)
+    assert r.oxygen is not None and r.oxygen_cascade is not None
+    return r
 
 
-def test_appendix_holds_every_part(oxygen):
-    text = oxygen_appendix_html(oxygen)
+def _cell_number(text: str) -> float:
+    return float(text.replace("\u2009", ""))
+
+
+def test_appendix_holds_every_part(results):
+    text = oxygen_appendix_html(results.oxygen, pathway=results.oxygen_cascade)
     assert text.startswith('<section class="oxygen-appendix">') and text.endswith("</section>")
     assert text.count("<svg") == 2  # curves and cascade, static
     assert "<script" not in text and "plotly" not in text.lower()
@@ -38,37 +44,74 @@ def test_appendix_holds_every_part(oxygen):
     assert "consistent with" in text and "model estimate" in text.lower() and "not a medical device" in text
     assert "mixed venous" in text.lower()
     assert "Convective (Fick) line" in text and "Diffusive line" in text and "Meeting point" in text
+    assert html.escape(results.oxygen_cascade.limiting) in text
 
 
-def test_appendix_baseline_row_is_the_measured_vo2peak(oxygen):
-    text = oxygen_appendix_html(oxygen)
+def test_fick_table_rows_are_the_records_states(results):
+    text = oxygen_appendix_html(results.oxygen, pathway=results.oxygen_cascade)
+    labels = {"rest": "Rest", "vt1": "VT1", "vt2": "VT2", "peak": "Peak"}
+    for state in results.oxygen.states:
+        row = re.search(rf"<tr><td>{labels[state.name]}</td><td>([^<]+)</td><td>([^<]+)</td>", text)
+        assert row is not None, state.name
+        assert _cell_number(row.group(1)) == pytest.approx(state.vo2_ml_min, abs=0.5)
+        assert _cell_number(row.group(2)) == pytest.approx(state.q_l_min, abs=0.05)
+
+
+def test_peak_line_and_co2_table_are_the_cascade_record(results):
+    pathway = results.oxygen_cascade
+    text = oxygen_appendix_html(results.oxygen, pathway=pathway)
+    line = re.search(r"mixed venous PO2 <strong>([^<]+)</strong> mmHg", text)
+    assert line is not None and _cell_number(line.group(1)) == pytest.approx(pathway.peak.pvo2_mmhg, abs=0.05)
+    dmo2 = re.search(r"DmO2 <strong>([^<]+)</strong>", text)
+    assert dmo2 is not None and _cell_number(dmo2.group(1)) == pytest.approx(pathway.dmo2_ml_min_mmhg, abs=0.5)
+    assert pathway.q_estimated and "cardiac output (estimate)" in text
+    assert pathway.co2  # the CO2 side is part of the cascade record
+    peak_co2 = next(c for c in pathway.co2 if c.state == "peak")
+    row = re.search(r"<tr><td>Peak</td><td>([^<]+)</td><td>[^<]+</td><td>[^<]+</td><td>[^<]+</td><td>([^<]+)</td></tr>", text)
+    assert row is not None
+    assert _cell_number(row.group(1)) == pytest.approx(peak_co2.avco2_ml_dl, abs=0.005)
+    assert _cell_number(row.group(2)) == pytest.approx(peak_co2.haldane_ml_dl, abs=0.005)
+
+
+def test_appendix_baseline_row_is_the_measured_vo2peak(results):
+    text = oxygen_appendix_html(results.oxygen, pathway=results.oxygen_cascade)
     baseline = re.escape(html.escape(scenario_words("baseline")))
     row = re.search(rf"<tr><td>{baseline}</td><td>([^<]+)</td><td>([^<]+)</td>", text)
     assert row is not None
-    peak_vo2 = oxygen["states"][-1]["vo2_ml_min"]
-    assert float(row.group(1).replace("\u2009", "")) == pytest.approx(peak_vo2, abs=0.5)
+    assert _cell_number(row.group(1)) == pytest.approx(results.oxygen.state("peak").vo2_ml_min, abs=0.5)
     assert row.group(2) == "+0.0"
 
 
-def test_data_text_is_escaped(oxygen):
-    bad = dict(oxygen)
-    pathway = {
-        "lines": {"pvo2_mmhg": [1.0, 20.0], "convective_vo2_ml_min": [3000.0, 1000.0],
-                  "diffusive_vo2_ml_min": [100.0, 3000.0], "meeting_pvo2_mmhg": 15.0, "meeting_vo2_ml_min": 2000.0},
-        "peak": {"pao2_alveolar_mmhg": 110, "pao2_mmhg": 95, "sao2": 0.96, "cao2_ml_dl": 19, "o2_delivery_ml_min": 4000,
-                 "pvo2_mmhg": 20, "svo2": 0.2, "mean_capillary_po2_mmhg": 40},
-        "q_l_min": 20.0, "q_estimated": True, "dmo2_ml_min_mmhg": 60.0,
-        "what_if": [{"scenario": "<img src=x>", "vo2_peak_ml_min": 2000.0, "change_pct": 0.0, "note": "a & b"}],
-        "limiting": "<script>alert(1)</script>", "assumptions": ["x < y"], "notes": ["<b>n</b>"], "caution": "c",
-    }
-    text = oxygen_appendix_html(bad, pathway=pathway)
+def test_missing_cascade_is_built_from_the_typed_comparison(results):
+    # Without the result's cascade part the appendix asks the analysis' own step for it.
+    built, notes = oxygen_pathway(results.oxygen)
+    assert built is not None and notes == built.notes
+    assert oxygen_appendix_html(results.oxygen) == oxygen_appendix_html(results.oxygen, pathway=results.oxygen_cascade)
+
+
+def test_cascade_that_cannot_be_made_says_why(results):
+    no_peak = dataclasses.replace(results.oxygen, states=[s for s in results.oxygen.states if s.name != "peak"])
+    text = oxygen_appendix_html(no_peak)
+    assert text.count("<svg") == 1  # the curves only
+    assert "Oxygen cascade not made: the test has no peak state." in text
+    assert "Meeting point" not in text and "<h3>Fick against the curve</h3>" in text
+
+
+def test_data_text_is_escaped(results):
+    pathway = results.oxygen_cascade
+    what_if = (dataclasses.replace(pathway.what_if[0], scenario="<img src=x>"), *pathway.what_if[1:])
+    bad = dataclasses.replace(
+        pathway, what_if=what_if, limiting="<script>alert(1)</script>", assumptions=("x < y",), notes=("<b>n</b>",)
+    )
+    text = oxygen_appendix_html(results.oxygen, pathway=bad)
     assert "<script>" not in text and "<img" not in text and "<b>n</b>" not in text
     assert "&lt;script&gt;" in text and "&lt;img src=x&gt;" in text and "x &lt; y" in text
+    assert "&lt;b&gt;n&lt;/b&gt;" in text
 
 
-def test_no_oxygen_no_appendix():
+def test_no_oxygen_no_appendix(results):
     assert oxygen_appendix_html(None) == ""
-    assert oxygen_appendix_html({"states": []}) == ""
+    assert oxygen_appendix_html(dataclasses.replace(results.oxygen, states=[])) == ""
 
 
 def test_svg_chart_escapes_and_scales():
@@ -82,20 +125,19 @@ def test_svg_chart_escapes_and_scales():
     assert APPENDIX_CAUTION.startswith("Every figure")
 
 
-def test_report_hook_reads_the_typed_result():
+def test_report_hook_reads_the_typed_result(results):
     # dashboard.report.assemble calls appendix_html(results, session) with the typed result.
-    from dashboard.report.oxygen_appendix import appendix_html
-
-    demo = DEMO_TESTS[0]
-    results = analyze_session(simulate_session(demo.profile, demo.protocol, seed=demo.seed))
     body = appendix_html(results, None)
     assert body is not None and "<h2>" not in body and html.escape(scenario_words("baseline")) in body
     # a cascade note the result's data-quality notes already carry is not printed twice
-    for warning in results.warnings:
-        if warning.startswith("Oxygen: "):
-            assert body.count(html.escape(warning.removeprefix("Oxygen: "))) == 0
+    repeated = [w.removeprefix("Oxygen: ") for w in results.warnings if w.startswith("Oxygen: ")]
+    assert repeated  # the cycling demo's estimated cardiac output note
+    for note in repeated:
+        assert body.count(html.escape(note)) == 0
     bare = dataclasses.replace(results, oxygen=None, oxygen_cascade=None)
     assert appendix_html(bare) is None
+    without_cascade = dataclasses.replace(results, oxygen_cascade=None)
+    assert appendix_html(without_cascade) == body
 
 
 def test_svg_chart_legend_in_columns():
