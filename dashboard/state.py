@@ -88,26 +88,19 @@ def in_demo_mode() -> bool:
     return bool(st.session_state.get(DEMO_MODE, False))
 
 
-def user_name(user: Any | None = None) -> str:
+def user_name(user: User | None = None) -> str:
+    """The account's user name (the signed-in one by default; ``""`` when nobody is signed in)."""
     user = current_user() if user is None else user
-    if user is None:
-        return ""
-    for attr in ("username", "name"):
-        value = getattr(user, attr, None) if not isinstance(user, dict) else user.get(attr)
-        if value:
-            return str(value)
-    return str(user)
+    return "" if user is None else user.username
 
 
-def user_role(user: Any | None = None) -> str:
+def user_role(user: User | None = None) -> str:
+    """The account's store role (the signed-in one by default; ``""`` when nobody is signed in)."""
     user = current_user() if user is None else user
-    if user is None:
-        return ""
-    value = getattr(user, "role", None) if not isinstance(user, dict) else user.get("role")
-    return str(getattr(value, "value", value) or "")
+    return "" if user is None else user.role
 
 
-def can_edit(user: Any | None = None) -> bool:
+def can_edit(user: User | None = None) -> bool:
     """True when the user's role may change thresholds, exclusions and settings."""
     return user_role(user) in EDIT_ROLES
 
