@@ -51,7 +51,9 @@ from analysis.simulation.evaluate import (  # noqa: E402
 )
 
 #: Run inside the old tree: analyse every session file named on stdin (JSON list of paths) and
-#: print one JSON list of the readings the harness needs (or the error text per file).
+#: print one JSON list of the readings the harness needs (or the error text per file). The old
+#: result's ``vt1``/``vt2`` hold the VO2 of the averaged row nearest the pick; ``consensus`` holds
+#: the pick's own VO2 (``thresholds.vt1.vo2_ml_min``, what the charts drew).
 _OLD_TREE_CODE = r"""
 import json, sys, math
 from analysis.io import read_session
@@ -78,6 +80,8 @@ for path in json.load(sys.stdin):
     out.append({
         "vt1": {"vo2_ml_min": num(get(r, "vt1", "vo2_ml_min"))},
         "vt2": {"vo2_ml_min": num(get(r, "vt2", "vo2_ml_min"))},
+        "consensus": {"vt1": num(get(r, "thresholds", "vt1", "vo2_ml_min")),
+                      "vt2": num(get(r, "thresholds", "vt2", "vo2_ml_min"))},
         "peak": {"vo2_ml_min": num(get(r, "peak", "vo2_ml_min"))},
         "indices": {"ve_vco2_slope": num(get(r, "indices", "ve_vco2_slope")),
                     "ve_vco2_slope_span": get(r, "indices", "ve_vco2_slope_span")},
@@ -86,10 +90,29 @@ print(json.dumps(out))
 """
 
 
-def evaluate_in_old_tree(cases: Sequence[Any], tree: Path) -> list[CaseScore]:
-    """Score ``cases`` with the detection of the old ``tree`` (see the module's text)."""
+def readings_in_old_tree(sessions: Sequence[Any], tree: Path) -> list[dict[str, Any]]:
+    """Analyse ``sessions`` (written as session files by this tree) with the old ``tree``.
+
+    Returns one reading per session (see ``_OLD_TREE_CODE``), or ``{"error": text}``.
+    """
     from analysis.io import write_session
 
+    with tempfile.TemporaryDirectory(prefix="tidemark-eval-") as folder:
+        paths = []
+        for i, session in enumerate(sessions):
+            path = Path(folder) / f"case{i:05d}.csv"
+            write_session(session, path)
+            paths.append(str(path))
+        done = subprocess.run(
+            [sys.executable, "-c", _OLD_TREE_CODE], input=json.dumps(paths), cwd=tree, capture_output=True,
+            text=True, check=True, env={"PYTHONPATH": str(tree), "PATH": "/usr/bin:/bin"},
+        )
+    readings: list[dict[str, Any]] = json.loads(done.stdout.strip().splitlines()[-1])
+    return readings
+
+
+def evaluate_in_old_tree(cases: Sequence[Any], tree: Path) -> list[CaseScore]:
+    """Score ``cases`` with the detection of the old ``tree`` (see the module's text)."""
     sessions: list[Any] = []
 
     def keep(session: Any) -> dict[str, Any]:
@@ -97,21 +120,8 @@ def evaluate_in_old_tree(cases: Sequence[Any], tree: Path) -> list[CaseScore]:
         return {}
 
     first = [score_case(case, analyze=keep) for case in cases]  # import only; the session is kept
-    with tempfile.TemporaryDirectory(prefix="tidemark-eval-") as folder:
-        paths, owners = [], []
-        k = 0
-        for i, score in enumerate(first):
-            if score.status == "ok":
-                path = Path(folder) / f"case{i:05d}.csv"
-                write_session(sessions[k], path)
-                paths.append(str(path))
-                owners.append(i)
-                k += 1
-        done = subprocess.run(
-            [sys.executable, "-c", _OLD_TREE_CODE], input=json.dumps(paths), cwd=tree, capture_output=True,
-            text=True, check=True, env={"PYTHONPATH": str(tree), "PATH": "/usr/bin:/bin"},
-        )
-    readings = json.loads(done.stdout.strip().splitlines()[-1])
+    owners = [i for i, score in enumerate(first) if score.status == "ok"]
+    readings = readings_in_old_tree(sessions, tree)
     out = list(first)
     for i, got in zip(owners, readings, strict=True):
         if "error" in got:
