@@ -90,6 +90,35 @@ class FirstOrderFit:
     ci90_s: tuple[float, float]
 
 
+def _fit_every_tau(
+    y: np.ndarray, x: np.ndarray, fade: np.ndarray, *, keep: np.ndarray
+) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Least squares ``y = b + G × x[:, j] + c × fade[:, j]`` over the rows ``keep``, for every
+    column ``j`` (one per ``tau``) at once.
+
+    With the columns centred on their means over ``keep``, the intercept drops out and ``G``, ``c``
+    solve a 2 × 2 system of normal equations (Cramer's rule); ``b`` follows from the means.
+
+    Returns
+    -------
+    (sse, gain, resid)
+        Squared error over ``keep`` and ``G`` per column; residuals of every row per column
+        (``nan`` where ``y`` is).
+    """
+    xk, fk, yk = x[keep], fade[keep], y[keep]
+    x_mean, f_mean, y_mean = xk.mean(axis=0), fk.mean(axis=0), yk.mean()
+    xc, fc, yc = xk - x_mean, fk - f_mean, yk - y_mean
+    sxx, sff, sxf = (xc * xc).sum(axis=0), (fc * fc).sum(axis=0), (xc * fc).sum(axis=0)
+    sxy, sfy = yc @ xc, yc @ fc
+    det = sxx * sff - sxf**2
+    with np.errstate(divide="ignore", invalid="ignore"):  # a degenerate column gets sse = inf below
+        gain = (sff * sxy - sxf * sfy) / det
+        c = (sxx * sfy - sxf * sxy) / det
+    resid = y[:, None] - (y_mean - gain * x_mean - c * f_mean) - gain * x - c * fade
+    sse = (resid[keep] ** 2).sum(axis=0)
+    return np.where(np.isfinite(sse), sse, np.inf), gain, resid
+
+
 def first_order_fit(t_s: np.ndarray, load: np.ndarray, vo2_ml_min: np.ndarray) -> FirstOrderFit | None:
     """Time constant (s) of the first-order response of VO2 to the load that fits best.
 
@@ -126,15 +155,7 @@ def first_order_fit(t_s: np.ndarray, load: np.ndarray, vo2_ml_min: np.ndarray) -
     fade = np.exp(-(t[:, None] - t[0]) / _TAU_GRID_S[None, :])
     keep = np.isfinite(y)
     for _ in range(2):  # the second pass leaves out breaths far off the first fit (a cough, a sigh)
-        sse = np.full(_TAU_GRID_S.size, np.inf)
-        gain = np.full(_TAU_GRID_S.size, np.nan)
-        resid = np.zeros((t.size, _TAU_GRID_S.size))
-        for j in range(_TAU_GRID_S.size):
-            design = np.column_stack([np.ones_like(t), x[:, j], fade[:, j]])
-            coef, *_ = np.linalg.lstsq(design[keep], y[keep], rcond=None)
-            gain[j] = coef[1]
-            resid[:, j] = y - design @ coef
-            sse[j] = float((resid[keep, j] ** 2).sum())
+        sse, gain, resid = _fit_every_tau(y, x, fade, keep=keep)
         r = resid[:, int(np.argmin(sse))]
         mad = float(np.median(np.abs(r[keep] - np.median(r[keep]))))
         keep = np.isfinite(y) & (np.abs(r) <= OUTLIER_K_MAD * 1.4826 * max(mad, 1e-9))

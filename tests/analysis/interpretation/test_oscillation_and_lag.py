@@ -5,7 +5,7 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from analysis.interpretation.lag import lag_corrected_load, lag_correction
+from analysis.interpretation.lag import _TAU_GRID_S, _fit_every_tau, _lagged, lag_corrected_load, lag_correction
 from analysis.interpretation.oscillation import EOV_AMPLITUDE_FRACTION, exercise_oscillation
 from analysis.interpretation.patterns import PATTERN_CAUTION, PATTERN_STATEMENT, pattern_summary
 
@@ -78,6 +78,29 @@ def test_lag_correction_recovers_a_planted_response_time():
     steps = avg.assign(work_w=np.where(t < 180, 20.0, 20 + 25.0 * ((t - 180) // 60)))
     none, why = lag_correction(steps, phases_avg=phase, vt1_t_s=600.0, vt1_load=195.0, vt2_load=None, mode="cycle")
     assert none is None and "not a ramp" in why[0]
+
+
+def test_every_tau_fit_matches_numpy_lstsq_column_by_column():
+    # reference: numpy.linalg.lstsq on each design [1, x_j, fade_j] (a general-purpose solver)
+    rng = np.random.default_rng(7)
+    t = np.arange(0.0, 500.0, 7.5)
+    load = np.where(t < 90, 30.0, 30.0 + 0.4 * (t - 90))
+    x = _lagged(t, load, _TAU_GRID_S)
+    fade = np.exp(-(t[:, None] - t[0]) / _TAU_GRID_S[None, :])
+    y = 500.0 + 9.0 * x[:, 70] + 120.0 * fade[:, 70] + 25.0 * rng.standard_normal(t.size)
+    y[5] = np.nan
+    keep = np.isfinite(y) & (np.arange(t.size) != 20)
+    sse, gain, resid = _fit_every_tau(y, x, fade, keep=keep)
+    for j in (0, 70, 200, _TAU_GRID_S.size - 1):
+        design = np.column_stack([np.ones_like(t), x[:, j], fade[:, j]])
+        coef, *_ = np.linalg.lstsq(design[keep], y[keep], rcond=None)
+        assert gain[j] == pytest.approx(coef[1], rel=1e-9)
+        assert sse[j] == pytest.approx(((y[keep] - design[keep] @ coef) ** 2).sum(), rel=1e-9)
+        np.testing.assert_allclose(resid[keep, j], y[keep] - design[keep] @ coef, rtol=1e-9, atol=1e-9)
+    assert np.isnan(resid[5]).all()
+    # the planted tau (37 s) is found within the noise: best 39.5 s, gain 9.18 against 9
+    assert _TAU_GRID_S[int(np.argmin(sse))] == pytest.approx(37.0, abs=5.0)
+    assert gain[int(np.argmin(sse))] == pytest.approx(9.0, rel=0.05)
 
 
 def test_patterns_are_worded_consistent_with_and_carry_the_caution():
