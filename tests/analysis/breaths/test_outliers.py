@@ -234,3 +234,30 @@ def test_neighbour_stats_of_a_stack_equal_each_series_alone():
         m1, s1 = _neighbour_stats(stack[row], 4)
         np.testing.assert_array_equal(mean[row], m1)
         np.testing.assert_array_equal(sd[row], s1)
+
+
+def test_neighbour_stats_across_blocks_equal_a_plain_loop(monkeypatch):
+    # Reference: a plain loop over breaths (neighbours without the breath itself, NaN dropped,
+    # the single highest and lowest removed; mean and n-1 SD of the rest) -- common practice
+    # for a trimmed mean. Small blocks, so block edges fall inside the series.
+    from analysis.breaths import outliers as O
+
+    monkeypatch.setattr(O, "_NEIGHBOUR_BLOCK", 7)
+    rng = np.random.default_rng(3)
+    stack = rng.normal(1500.0, 80.0, (2, 60))
+    stack[0, rng.random(60) < 0.2] = np.nan
+    stack[1, 20:27] = np.nan  # a gap longer than a window: fewer than three neighbours there
+    half = 4
+    mean, sd = O._neighbour_stats(stack, half)
+    for row in range(2):
+        for i in range(60):
+            if i < half or i >= 60 - half:
+                assert np.isnan(mean[row, i]) and np.isnan(sd[row, i])
+                continue
+            neigh = np.concatenate([stack[row, i - half : i], stack[row, i + 1 : i + half + 1]])
+            inner = np.sort(neigh[~np.isnan(neigh)])[1:-1]
+            if inner.size < 3:
+                assert np.isnan(mean[row, i]) and np.isnan(sd[row, i])
+            else:
+                assert mean[row, i] == pytest.approx(float(np.mean(inner)), rel=1e-12)
+                assert sd[row, i] == pytest.approx(float(np.std(inner, ddof=1)), rel=1e-12)
