@@ -55,10 +55,11 @@ out = {}
 for n in (2000, 20000, 100000):
     session = session_of(n)
     text = session_to_text(session).encode()
-    session = read_session(text, file_name="bench.session.csv")
+    if n < 30000:  # a session file holds 24 h: the 100,000-breath session (80 h) is analysed as built
+        session = read_session(text, file_name="bench.session.csv")
     reps = 7 if n == 2000 else 3
     csv_s = best_cpu(lambda: pd.read_csv(io.BytesIO(text), comment="#"), reps)
-    reader_s = best_cpu(lambda: read_session(text, file_name="bench.session.csv"), reps if n < 100000 else 1)
+    reader_s = best_cpu(lambda: read_session(text, file_name="bench.session.csv"), reps) if n < 30000 else float("nan")
     analysis_s = best_cpu(lambda: analyze_session(session), reps if n < 100000 else 1)
     points = len(analyze_session(session).averaged)
     out[n] = {"csv": csv_s, "reader": reader_s, "analysis": analysis_s, "points": points}
