@@ -89,7 +89,17 @@ VT2_CONFIRMING: frozenset[str] = frozenset({VE_VCO2_RISE, PETCO2_FALL})
 #: 90 % of the planted thresholds fall inside, docs/thresholds.md), low-confidence readings (one
 #: method) needed x2.06 (VT1) and x1.99 (VT2), moderate ones x0.89 / x0.97, high ones (three or
 #: more methods agreeing) x0.52 / x0.48.
-CONFIDENCE_WIDTH: dict[str, float] = {"low": 2.0, "moderate": 1.0, "high": 0.55}
+CONFIDENCE_WIDTH: dict[str, dict[str, float]] = {
+    "vt1": {"low": 2.0, "moderate": 0.85, "high": 0.45},
+    "vt2": {"low": 2.0, "moderate": 1.0, "high": 0.55},
+}
+#: A consensus interval reaches at least this many fit bins on each side of the reading: a break
+#: is placed on a grid of fit bins, so it cannot be located more finely than that, however well
+#: the methods agree.
+MIN_HALF_WIDTH_BINS: dict[str, float] = {"vt1": 1.5, "vt2": 0.0}
+#: ... and this many load stages: in a stepped protocol the break can only be placed on the
+#: grid of the stages.
+MIN_HALF_WIDTH_STAGES = 0.5
 #: A VT1 that one method alone gives is not reported when another method's pick (after the
 #: on-transient) lies more than this many agreement windows away: the methods contradict each
 #: other. Measured on the simulator suite with cart noise (450 tests, docs/thresholds.md): such
@@ -559,14 +569,29 @@ def _scaled(ci: tuple[float, float] | None, centre: float, factor: float) -> tup
     return centre - factor * (centre - ci[0]), centre + factor * (ci[1] - centre)
 
 
-def _calibrated(pick: ThresholdPick | None) -> ThresholdPick | None:
+def _at_least(ci: tuple[float, float] | None, centre: float, half: float) -> tuple[float, float] | None:
+    """``ci`` reaching at least ``half`` on each side of ``centre``."""
+    if ci is None or not half > 0:
+        return ci
+    return min(ci[0], centre - half), max(ci[1], centre + half)
+
+
+def _calibrated(
+    pick: ThresholdPick | None, *, bin_s: float = 0.0, stage_s: float = 0.0, vo2_per_s: float = 0.0
+) -> ThresholdPick | None:
     """A consensus pick with its intervals scaled for its confidence (:data:`CONFIDENCE_WIDTH`).
 
-    Applied last: whether a reading is determinable is judged on the fits' own intervals."""
+    Each side then reaches at least :data:`MIN_HALF_WIDTH_BINS` fit bins (``bin_s``) and
+    :data:`MIN_HALF_WIDTH_STAGES` load stages (``stage_s``); in VO2, the exercise phase's VO2 gain
+    per second ``vo2_per_s`` times that time. Applied last: whether a reading is determinable is
+    judged on the fits' own intervals."""
     if pick is None or pick.method != CONSENSUS:
         return pick
-    f = CONFIDENCE_WIDTH[pick.confidence]
-    return replace(pick, ci90_vo2_ml_min=_scaled(pick.ci90_vo2_ml_min, pick.vo2_ml_min, f), ci90_t_s=_scaled(pick.ci90_t_s, pick.t_s, f))
+    f = CONFIDENCE_WIDTH[pick.kind][pick.confidence]
+    half_t = max(MIN_HALF_WIDTH_BINS[pick.kind] * bin_s, MIN_HALF_WIDTH_STAGES * stage_s)
+    ci_vo2 = _at_least(_scaled(pick.ci90_vo2_ml_min, pick.vo2_ml_min, f), pick.vo2_ml_min, half_t * vo2_per_s)
+    ci_t = _at_least(_scaled(pick.ci90_t_s, pick.t_s, f), pick.t_s, half_t)
+    return replace(pick, ci90_vo2_ml_min=ci_vo2, ci90_t_s=ci_t)
 
 
 def _cluster_interval(
@@ -778,9 +803,10 @@ def detect_thresholds(avg: pd.DataFrame, *, phases: pd.Series | np.ndarray | Non
     if vt1 is not None and vt2 is not None and (vt1.vo2_ml_min >= vt2.vo2_ml_min or vt1.t_s >= vt2.t_s):
         vt1, vt2, why = _order(vt1, vt2, win, ex, onset)
         reasons.append(why)
-    vt1, vt2 = _calibrated(vt1), _calibrated(vt2)
-    report.vt1_undetermined = _calibrated(report.vt1_undetermined)
-    report.vt2_undetermined = _calibrated(report.vt2_undetermined)
+    gain = {"bin_s": bin_s, "stage_s": _stage_s(avg, labels), "vo2_per_s": _vo2_gain_per_s(ex)}
+    vt1, vt2 = _calibrated(vt1, **gain), _calibrated(vt2, **gain)
+    report.vt1_undetermined = _calibrated(report.vt1_undetermined, **gain)
+    report.vt2_undetermined = _calibrated(report.vt2_undetermined, **gain)
     report.vt1, report.vt2 = vt1, vt2
     report.vt1_auto, report.vt2_auto = vt1, vt2
     report.vt1_candidates, report.vt2_candidates = vt1_c, vt2_c
@@ -788,6 +814,33 @@ def detect_thresholds(avg: pd.DataFrame, *, phases: pd.Series | np.ndarray | Non
     report.agreement = {"vt1": agree1, "vt2": agree2}
     report.reasons = reasons
     return report
+
+
+def _stage_s(avg: pd.DataFrame, labels: np.ndarray) -> float:
+    """Typical time between changes of the load in exercise, s (0 without a load column).
+
+    The upper quartile of the times between rows where work rate, speed or grade changes (an
+    averaged row can hold half of a change, so a step may show as two changes one row apart):
+    a ramp gives its row spacing, a stepped protocol its stage length.
+    """
+    exer = labels == "exercise"
+    t = avg[C.T_S].to_numpy(dtype=float)[exer]
+    changed = np.zeros(t.size, dtype=bool)
+    for c in (C.WORK_W, C.SPEED_KMH, C.GRADE_PCT):
+        if c in avg.columns:
+            v = avg[c].to_numpy(dtype=float)[exer]
+            changed[1:] |= np.isfinite(v[1:]) & np.isfinite(v[:-1]) & (np.abs(np.diff(v)) > 1e-6)
+    when = t[changed]
+    if when.size < 3:
+        return 0.0
+    return float(np.percentile(np.diff(when), 75))
+
+
+def _vo2_gain_per_s(ex: _Ex) -> float:
+    """VO2 gain of the exercise phase per second (least-squares slope; 0 when it does not rise)."""
+    if ex.t.size < 3 or np.ptp(ex.t) <= 0:
+        return 0.0
+    return max(0.0, float(np.polyfit(ex.t, ex.vo2, 1)[0]))
 
 
 def _ventilation_ceiling_t(ex: _Ex) -> float | None:

@@ -4,6 +4,9 @@ tests/.../synthetic.py, and one simulated short ramp)."""
 
 from __future__ import annotations
 
+from dataclasses import replace
+
+import numpy as np
 import pytest
 
 from analysis.breaths import DEFAULT_AVERAGING, average_breaths
@@ -91,14 +94,54 @@ def test_vt1_on_the_rise_at_vt2_is_not_determinable():
 def test_consensus_intervals_are_scaled_for_their_confidence():
     from analysis.thresholds.detect import CONFIDENCE_WIDTH, CONSENSUS, _calibrated
 
-    assert CONFIDENCE_WIDTH == {"low": 2.0, "moderate": 1.0, "high": 0.55}
+    # measured with the floors below on the 450 suite tests + 144 demo runs (docs/thresholds.md)
+    assert CONFIDENCE_WIDTH == {
+        "vt1": {"low": 2.0, "moderate": 0.85, "high": 0.45},
+        "vt2": {"low": 2.0, "moderate": 1.0, "high": 0.55},
+    }
     low = ThresholdPick("vt1", 500.0, 1500.0, CONSENSUS, "auto", "low", "", 3, ci90_vo2_ml_min=(1400.0, 1550.0), ci90_t_s=(480.0, 530.0))
     got = _calibrated(low)
     assert got.ci90_vo2_ml_min == pytest.approx((1300.0, 1600.0))  # each side x2 around 1500
     assert got.ci90_t_s == pytest.approx((460.0, 560.0))
     high = ThresholdPick("vt2", 800.0, 2600.0, CONSENSUS, "auto", "high", "", 9, ci90_vo2_ml_min=(2400.0, 2700.0), ci90_t_s=None)
     got = _calibrated(high)
-    assert got.ci90_vo2_ml_min == pytest.approx((2490.0, 2655.0)) and got.ci90_t_s is None
+    assert got.ci90_vo2_ml_min == pytest.approx((2490.0, 2655.0)) and got.ci90_t_s is None  # x0.55
     # a single method's own pick and a reviewer's pick keep theirs
     own = _pick(VSLOPE, 1500.0, 500.0)
     assert _calibrated(own) is own and _calibrated(None) is None
+
+
+def test_consensus_intervals_reach_the_grid_of_bins_and_stages():
+    from analysis.thresholds.detect import CONSENSUS, MIN_HALF_WIDTH_BINS, MIN_HALF_WIDTH_STAGES, _calibrated
+
+    assert MIN_HALF_WIDTH_BINS == {"vt1": 1.5, "vt2": 0.0} and MIN_HALF_WIDTH_STAGES == 0.5
+    tight = ThresholdPick("vt1", 800.0, 2600.0, CONSENSUS, "auto", "high", "", 9, ci90_vo2_ml_min=(2590.0, 2620.0), ci90_t_s=(795.0, 805.0))
+    # 20 s fit bins on a ramp gaining 2 mL/min per s: at least 1.5 x 20 = 30 s, 60 mL/min each side
+    got = _calibrated(tight, bin_s=20.0, stage_s=10.0, vo2_per_s=2.0)
+    assert got.ci90_t_s == pytest.approx((770.0, 830.0))
+    assert got.ci90_vo2_ml_min == pytest.approx((2540.0, 2660.0))
+    # 2-minute stages: half a stage (60 s) each side, 120 mL/min
+    got = _calibrated(tight, bin_s=20.0, stage_s=120.0, vo2_per_s=2.0)
+    assert got.ci90_t_s == pytest.approx((740.0, 860.0))
+    assert got.ci90_vo2_ml_min == pytest.approx((2480.0, 2720.0))
+    # VT2 keeps the grid of the stages only (x0.55 gives 797.25-802.75 s; half a 10 s stage: 5 s)
+    vt2 = replace(tight, kind="vt2")
+    assert _calibrated(vt2, bin_s=20.0, stage_s=10.0, vo2_per_s=2.0).ci90_t_s == pytest.approx((795.0, 805.0))
+    assert _calibrated(vt2, bin_s=20.0, stage_s=120.0, vo2_per_s=2.0).ci90_t_s == pytest.approx((740.0, 860.0))
+    # a side already wider than the floor keeps its width (x0.45 of 200 = 90 s after the pick)
+    wide = replace(tight, ci90_vo2_ml_min=None, ci90_t_s=(790.0, 1000.0))
+    assert _calibrated(wide, bin_s=20.0, vo2_per_s=2.0).ci90_t_s == pytest.approx((770.0, 890.0))
+
+
+def test_stage_length_from_the_load():
+    import pandas as pd
+
+    from analysis.thresholds.detect import _stage_s
+
+    t = np.arange(0.0, 600.0, 10.0)
+    labels = np.full(t.size, "exercise")
+    ramp = pd.DataFrame({"t_s": t, "work_w": 50 + t / 6})
+    assert _stage_s(ramp, labels) == pytest.approx(10.0)
+    steps = pd.DataFrame({"t_s": t, "work_w": 50 + 25 * np.floor(t / 120)})
+    assert _stage_s(steps, labels) == pytest.approx(120.0)
+    assert _stage_s(pd.DataFrame({"t_s": t}), labels) == 0.0
