@@ -8,7 +8,7 @@ import numpy as np
 import pandas as pd
 
 from analysis import columns as C
-from analysis.breaths.outliers import exclude_breaths, outlier_columns, outlier_frame
+from analysis.breaths.outliers import exclude_breaths, outlier_columns
 from analysis.records import described
 
 #: Columns of the excluded-breaths table (:func:`excluded_table`).
@@ -87,14 +87,10 @@ def clean_breaths(
     Lamarra N, Whipp BJ, Ward SA, Wasserman K. Effect of interbreath fluctuations on
     characterizing exercise gas exchange kinetics. J Appl Physiol 1987;62:2003-2012.
     """
-    table = _excluded_table(
+    excluded = _excluded(
         breaths, window_breaths=window_breaths, k_sd=k_sd, excluded_rows=excluded_rows, restored_rows=restored_rows
     )
-    excluded = tuple(
-        ExcludedBreath(int(r), float(t), str(c), float(v), str(why), str(by))
-        for r, t, c, v, why, by in zip(*(table[c].tolist() for c in EXCLUDED_COLUMNS), strict=True)
-    )
-    clean = exclude_breaths(breaths, table["source_row"].tolist())
+    clean = exclude_breaths(breaths, [e.source_row for e in excluded])
     notes = []
     n = len(excluded)
     if n > EXCLUDED_NOTE_FRACTION * len(breaths):
@@ -109,47 +105,31 @@ def excluded_frame(excluded: tuple[ExcludedBreath, ...]) -> pd.DataFrame:
     ).astype({"source_row": int, "t_s": float, "value": float})
 
 
-def _excluded_table(
+def _excluded(
     breaths: pd.DataFrame, *, window_breaths: int, k_sd: float, excluded_rows: tuple[int, ...], restored_rows: tuple[int, ...]
-) -> pd.DataFrame:
+) -> tuple[ExcludedBreath, ...]:
+    """The outlier breaths (less the restored rows) and the reviewer's exclusions, by source row
+    (an outlier before a reviewer's row of the same number)."""
     found = outlier_columns(breaths, window_breaths=window_breaths, k_sd=k_sd)
     restored = set(restored_rows)
-    if found is not None and restored:
-        back = np.isin(found["source_row"], np.fromiter(restored, dtype=np.int64, count=len(restored)))
-        if back.any():
-            keep = np.flatnonzero(~back)
-            found = {k: v[keep] if isinstance(v, np.ndarray) else [v[i] for i in keep] for k, v in found.items()}
-    n_auto = 0 if found is None else len(found["column"])
-    auto_rows = set(found["source_row"].tolist()) if found is not None and excluded_rows and n_auto else set()
+    out = []
+    if found is not None:
+        out = [
+            ExcludedBreath(r, t, c, v, why, "auto")
+            for r, t, c, v, why in zip(
+                found["source_row"].tolist(), found["t_s"].tolist(), found["column"], found["value"].tolist(),
+                found["reason"], strict=True,
+            )
+            if r not in restored
+        ]
+    auto_rows = {e.source_row for e in out}
     manual = [r for r in excluded_rows if r not in auto_rows]
-    if not manual and found is not None and n_auto:
-        rows = found["source_row"]
-        order = np.argsort(rows, kind="stable") if np.any(np.diff(rows) < 0) else np.arange(len(rows))
-        column, reason = found["column"], found["reason"]
-        return pd.DataFrame(
-            {
-                "source_row": rows[order],
-                "t_s": found["t_s"][order],
-                "column": [column[i] for i in order],
-                "value": found["value"][order],
-                "reason": [reason[i] for i in order],
-                "by": ["auto"] * len(rows),
-            }
-        )
-    auto = outlier_frame(found)
-    parts = [auto.assign(by="auto")[list(EXCLUDED_COLUMNS)]] if len(auto) else []
     if manual:
-        src = breaths["source_row"] if "source_row" in breaths else pd.Series(np.arange(1, len(breaths) + 1))
-        pos = {int(s): i for i, s in enumerate(src.to_numpy())}
-        t = breaths[C.T_S].to_numpy(dtype=float)
-        rows = [
-            (r, t[pos[r]] if r in pos else np.nan, "", np.nan, "excluded by the reviewer", "reviewer")
+        src = breaths["source_row"].to_numpy() if "source_row" in breaths else np.arange(1, len(breaths) + 1)
+        pos = {int(src[i]): i for i in np.flatnonzero(np.isin(src, manual))}  # the last breath of a repeated row
+        t_s = breaths[C.T_S].to_numpy(dtype=float)
+        out += [
+            ExcludedBreath(int(r), float(t_s[pos[r]]) if r in pos else np.nan, "", np.nan, "excluded by the reviewer", "reviewer")
             for r in manual
         ]
-        parts.append(pd.DataFrame(rows, columns=list(EXCLUDED_COLUMNS)))
-    if not parts:
-        return pd.DataFrame(
-            {c: pd.Series(dtype=object if c in ("column", "reason", "by") else float) for c in EXCLUDED_COLUMNS}
-        ).astype({"source_row": int})
-    out = pd.concat(parts, ignore_index=True) if len(parts) > 1 else parts[0].reset_index(drop=True)
-    return out.sort_values("source_row", kind="stable").reset_index(drop=True)
+    return tuple(sorted(out, key=lambda e: e.source_row))  # sorted() is stable
