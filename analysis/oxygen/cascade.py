@@ -30,7 +30,7 @@ inside the A-a gradient.
 from __future__ import annotations
 
 from dataclasses import dataclass, replace
-from functools import lru_cache
+from functools import cache, lru_cache
 
 import numpy as np
 
@@ -136,7 +136,9 @@ class _Table:
     integral: np.ndarray  # I(C) = cumulative integral of dC / P
 
 
+@cache
 def _model_p50(model: str) -> float:
+    """The model's P50 at standard conditions (mmHg), computed once per model."""
     return p50(model=model)
 
 

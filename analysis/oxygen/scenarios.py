@@ -32,7 +32,7 @@ from collections.abc import Callable
 from dataclasses import dataclass, replace
 
 from analysis.oxygen.alveolar import barometric_pressure_mmhg
-from analysis.oxygen.cascade import CascadeInputs, OxygenCascade, solve_forward
+from analysis.oxygen.cascade import CascadeInputs, OxygenCascade, _model_p50, solve_forward
 from analysis.records import described
 
 #: Stable scenario codes, in the order they are reported.
@@ -169,12 +169,6 @@ def _rise(cascade: OxygenCascade, determinant: str) -> float:
         ),
     }
     return changes[determinant]()
-
-
-def _model_p50(model: str) -> float:
-    from analysis.oxygen.curves import p50
-
-    return p50(model=model)
 
 
 def sensitivity(cascade: OxygenCascade) -> tuple[Sensitivity, ...]:

@@ -255,3 +255,15 @@ def test_capillary_conditions_must_be_known():
     with pytest.raises(InvalidParameter, match="dmo2"):
         solve_forward(replace(oxygen_cascade(vo2_peak_ml_min=3000.0, hb_g_dl=15.0, arterial=ARTERIAL,
                                              capillary=CAPILLARY).inputs), dmo2_ml_min_mmhg=-1.0)
+
+
+def test_standard_p50_is_solved_once_per_model_and_equals_the_curve_p50():
+    from analysis.oxygen.cascade import _model_p50
+    from analysis.oxygen.curves import p50
+
+    _model_p50.cache_clear()
+    # Siggaard-Andersen et al. 1984: standard P50 26.8 mmHg (the curves module's doctest)
+    assert _model_p50("siggaard_andersen") == p50(model="siggaard_andersen") == pytest.approx(26.8, abs=0.05)
+    assert _model_p50("severinghaus") == p50(model="severinghaus")
+    _model_p50("siggaard_andersen")
+    assert _model_p50.cache_info().hits == 1 and _model_p50.cache_info().misses == 2
