@@ -101,23 +101,20 @@ def ve_vco2_from_vd_vt(vd_vt: float, *, paco2_mmhg: float) -> float:
     return float(K_VE_VCO2 / (paco2_mmhg * (1.0 - vd_vt)))
 
 
-def _window(avg: pd.DataFrame, t_s: float, phases_avg: np.ndarray) -> pd.DataFrame:
-    t = avg[C.T_S].to_numpy(dtype=float)
-    return avg.loc[(np.abs(t - t_s) <= HALF_WINDOW_S) & (phases_avg == "exercise")]
-
-
-def _ratio(rows: pd.DataFrame) -> float | None:
-    ve, vco2 = rows[C.VE_L_MIN].to_numpy(dtype=float), rows[C.VCO2_ML_MIN].to_numpy(dtype=float)
-    ok = np.isfinite(ve) & np.isfinite(vco2)
-    return float(ve[ok].mean() / (vco2[ok].mean() / 1000.0)) if ok.any() and vco2[ok].mean() > 0 else None
-
-
-def _mean(rows: pd.DataFrame, name: str) -> float | None:
-    if name not in rows:
+def _mean(values: np.ndarray | None, rows: np.ndarray) -> float | None:
+    if values is None or not rows.any():
         return None
-    v = rows[name].to_numpy(dtype=float)
+    v = values[rows]
     v = v[np.isfinite(v)]
     return float(v.mean()) if v.size else None
+
+
+def _ratio(ve_l_min: np.ndarray, vco2_ml_min: np.ndarray, rows: np.ndarray) -> float | None:
+    if not rows.any():
+        return None
+    ve, vco2 = ve_l_min[rows], vco2_ml_min[rows]
+    ok = np.isfinite(ve) & np.isfinite(vco2)
+    return float(ve[ok].mean() / (vco2[ok].mean() / 1000.0)) if ok.any() and vco2[ok].mean() > 0 else None
 
 
 def gas_exchange(
@@ -146,13 +143,17 @@ def gas_exchange(
     Mixed-expired and end-tidal CO2 distinguish between ventilation and perfusion defects during
     exercise testing in patients with lung and heart diseases. Chest 2007;132:977-983 (from memory).
     """
-    rest = avg.loc[phases_avg == "rest"]
-    ex = avg.loc[phases_avg == "exercise"]
-    at_vt1 = _window(avg, vt1_t_s, phases_avg) if vt1_t_s is not None else avg.iloc[0:0]
-    end = ex.loc[ex[C.T_S] >= float(ex[C.T_S].max()) - 2 * HALF_WINDOW_S] if len(ex) else ex
-    p_rest = _mean(rest, C.PETCO2_MMHG)
-    p_vt1 = _mean(at_vt1, C.PETCO2_MMHG) if len(at_vt1) else None
-    ratio_peak = _ratio(end) if len(end) else None
+    t = avg[C.T_S].to_numpy(dtype=float)
+    ve = avg[C.VE_L_MIN].to_numpy(dtype=float)
+    vco2 = avg[C.VCO2_ML_MIN].to_numpy(dtype=float)
+    petco2 = avg[C.PETCO2_MMHG].to_numpy(dtype=float) if C.PETCO2_MMHG in avg else None
+    ex = phases_avg == "exercise"
+    # rows of the 30-s window at VT1 and of the last minute of exercise
+    at_vt1 = ex & (np.abs(t - vt1_t_s) <= HALF_WINDOW_S) if vt1_t_s is not None else np.zeros(t.size, dtype=bool)
+    end = ex & (t >= np.nanmax(t[ex]) - 2 * HALF_WINDOW_S) if ex.any() else ex
+    p_rest = _mean(petco2, phases_avg == "rest")
+    p_vt1 = _mean(petco2, at_vt1)
+    ratio_peak = _ratio(ve, vco2, end)
     vd_vt = None
     if paco2_mmhg is not None and ratio_peak is not None:
         vd_vt = vd_vt_from_ve_vco2(ratio_peak, paco2_mmhg=paco2_mmhg)
@@ -160,7 +161,7 @@ def gas_exchange(
         petco2_rest_mmhg=p_rest,
         petco2_vt1_mmhg=p_vt1,
         petco2_rise_mmhg=p_vt1 - p_rest if p_vt1 is not None and p_rest is not None else None,
-        ve_vco2_vt1=_ratio(at_vt1) if len(at_vt1) else None,
+        ve_vco2_vt1=_ratio(ve, vco2, at_vt1),
         ve_vco2_peak=ratio_peak,
         paco2_mmhg=paco2_mmhg,
         vd_vt_peak=vd_vt,

@@ -200,10 +200,10 @@ def lag_correction(
     col = C.WORK_W if mode == "cycle" else C.SPEED_KMH if mode == "treadmill" else None
     if col is None or col not in avg:
         return None, ()
+    t_all = avg[C.T_S].to_numpy(dtype=float)
+    load_all = avg[col].to_numpy(dtype=float)
     ex_mask = phases_avg == "exercise"
-    ex = avg.loc[ex_mask]
-    t = ex[C.T_S].to_numpy(dtype=float)
-    load = ex[col].to_numpy(dtype=float)
+    t, load = t_all[ex_mask], load_all[ex_mask]
     ok = np.isfinite(t) & np.isfinite(load)
     if ok.sum() < 8:
         return None, ()
@@ -215,11 +215,11 @@ def lag_correction(
     rate = float(np.polyfit(t[:top] / 60.0, load[:top], 1)[0]) if top >= 4 else 0.0
     t0 = float(t.min())
     t_end = vt1_t_s if vt1_t_s is not None and vt1_t_s > t0 + 120.0 else t0 + 2.0 / 3.0 * (t.max() - t0)
-    span = avg.loc[(avg[C.T_S] >= t0 - 180.0) & (avg[C.T_S] <= t_end), [C.T_S, col, C.VO2_ML_MIN]].astype(float)
-    span = span.loc[np.isfinite(span.to_numpy()).all(axis=1)]
-    if not (span[C.T_S] < t0).any() or (span[C.T_S] >= t0 + 60.0).sum() < 4 or rate <= 0:
+    vo2_all = avg[C.VO2_ML_MIN].to_numpy(dtype=float)
+    span = (t_all >= t0 - 180.0) & (t_all <= t_end) & np.isfinite(load_all) & np.isfinite(vo2_all)
+    if not (t_all[span] < t0).any() or (t_all[span] >= t0 + 60.0).sum() < 4 or rate <= 0:
         return None, ("Loads at the thresholds are not lag-corrected: no VO2 before the ramp or too short a ramp to fit.",)
-    fit = first_order_fit(span[C.T_S].to_numpy(), span[col].to_numpy(), span[C.VO2_ML_MIN].to_numpy())
+    fit = first_order_fit(t_all[span], load_all[span], vo2_all[span])
     if fit is None:
         return None, ("Loads at the thresholds are not lag-corrected: VO2 did not rise with the ramp.",)
     mrt = fit.tau_s

@@ -86,9 +86,9 @@ def o2_pulse_trajectory(avg: pd.DataFrame, *, phases_avg: np.ndarray, vo2_platea
     """
     if "o2_pulse_ml_beat" not in avg:
         return None
-    ex = avg.loc[phases_avg == "exercise"]
-    t = ex[C.T_S].to_numpy(dtype=float)
-    y = ex["o2_pulse_ml_beat"].to_numpy(dtype=float)
+    ex = phases_avg == "exercise"
+    t = avg[C.T_S].to_numpy(dtype=float)[ex]
+    y = avg["o2_pulse_ml_beat"].to_numpy(dtype=float)[ex]
     if t.size < 6 or np.ptp(t) < 180:
         return None
     start, end = t.min() + 60.0, t.max()

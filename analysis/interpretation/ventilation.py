@@ -44,11 +44,11 @@ class Ventilation:
     )
 
 
-def _end_mean(ex: pd.DataFrame, name: str) -> float | None:
-    if name not in ex or not len(ex):
+def _end_mean(t_s: np.ndarray, values: np.ndarray | None) -> float | None:
+    """Mean of the finite ``values`` of the last :data:`END_WINDOW_S` of ``t_s``."""
+    if values is None or not t_s.size:
         return None
-    t = ex[C.T_S].to_numpy(dtype=float)
-    v = ex[name].to_numpy(dtype=float)[t >= t.max() - END_WINDOW_S]
+    v = values[t_s >= t_s.max() - END_WINDOW_S]
     v = v[np.isfinite(v)]
     return float(v.mean()) if v.size else None
 
@@ -74,12 +74,13 @@ def ventilation(avg: pd.DataFrame, *, phases_avg: np.ndarray, reserve: Breathing
     ATS/ACCP Statement on cardiopulmonary exercise testing. Am J Respir Crit Care Med
     2003;167:211-277 (from memory).
     """
-    ex = avg.loc[phases_avg == "exercise"]
+    ex = phases_avg == "exercise"
+    t = avg[C.T_S].to_numpy(dtype=float)[ex]
+    rf = avg[C.RF_BPM].to_numpy(dtype=float)[ex] if C.RF_BPM in avg else None
+    vt = avg[C.VT_L].to_numpy(dtype=float)[ex] if C.VT_L in avg else None
     vt_max = ve_at = None
-    if C.VT_L in ex and len(ex):
-        t = ex[C.T_S].to_numpy(dtype=float)
-        vt = ex[C.VT_L].to_numpy(dtype=float)
-        ve = ex[C.VE_L_MIN].to_numpy(dtype=float)
+    if vt is not None and t.size:
+        ve = avg[C.VE_L_MIN].to_numpy(dtype=float)[ex]
         smooth = pd.Series(vt, index=pd.to_datetime(t, unit="s")).rolling(f"{END_WINDOW_S:g}s", center=True, min_periods=1).mean()
         s = smooth.to_numpy(dtype=float)
         if np.isfinite(s).any():
@@ -91,8 +92,8 @@ def ventilation(avg: pd.DataFrame, *, phases_avg: np.ndarray, reserve: Breathing
         reserve_pct=reserve.reserve_pct if reserve else None,
         mvv_l_min=reserve.mvv_l_min if reserve else None,
         mvv_source=reserve.mvv_source if reserve else None,
-        rf_peak_bpm=_end_mean(ex, C.RF_BPM),
-        vt_peak_l=_end_mean(ex, C.VT_L),
+        rf_peak_bpm=_end_mean(t, rf),
+        vt_peak_l=_end_mean(t, vt),
         vt_max_l=vt_max,
         ve_at_vt_plateau_l_min=ve_at,
     )
