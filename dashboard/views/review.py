@@ -910,6 +910,66 @@ def _choose_test(store: Store) -> int | None:
     return int(chosen)
 
 
+#: Session-state key: the Review page was drawn once in this browser session (from then on every
+#: run draws the sections under the overview in the same run as the overview).
+PAGE_DRAWN = "tm_review_drawn"
+#: Milliseconds after which the sections are asked for even if the overview has not drawn (a
+#: browser that cannot draw the chart still gets every table and control).
+SECTIONS_FALLBACK_MS = 8000
+#: Our own browser code (no outside request): wait until the overview's first trace is on the
+#: page, let the browser paint it, then ask for the next run.
+OVERVIEW_DRAWN_JS = """
+export default function (component) {
+  const { data, setTriggerValue } = component;
+  const started = performance.now();
+  let timer = null;
+  let sent = false;
+  const send = () => { if (!sent) { sent = true; setTriggerValue("drawn", true); } };
+  const check = () => {
+    const drawn = document.querySelector(data.selector);
+    if (drawn) { requestAnimationFrame(() => { timer = setTimeout(send, 0); }); return; }
+    if (performance.now() - started > data.fallback_ms) { send(); return; }
+    timer = setTimeout(check, 50);
+  };
+  check();
+  return () => { sent = true; if (timer !== null) clearTimeout(timer); };
+}
+"""
+
+
+@functools.cache
+def _overview_drawn_signal() -> Any:
+    """The small browser component that reports the overview drawn (registered once per process)."""
+    return st.components.v2.component("tidemark_overview_drawn", js=OVERVIEW_DRAWN_JS)
+
+
+def sections_wait_for_first_draw(test_id: int) -> bool:
+    """On the first Review run of a browser session, draw the overview first and the sections
+    under it (headline, flags, tables, forms, versions) in the next run, once the browser has
+    drawn the overview.
+
+    A browser fetches the code of each kind of element the first time a page shows one, and
+    works through every element it has received before it draws the overview's traces: the
+    sections under the overview (data tables, forms, inputs, metrics) made the first chart wait
+    for them. So the first run ends after the overview, the analysis' notes and the caution, with
+    a line saying the rest follows; a small browser component reports when the overview's first
+    trace is on the screen (or after :data:`SECTIONS_FALLBACK_MS`), which starts a whole-page run.
+    Every later run (that one, a change, another test) draws the whole page at once. Returns
+    ``True`` when the sections are left for that next run.
+    """
+    if st.session_state.get(PAGE_DRAWN):
+        return False
+    st.session_state[PAGE_DRAWN] = True
+    st.caption("Headline results, flags, thresholds, zones, exclusions and sign-off follow below once the "
+               "overview is drawn…")
+    _overview_drawn_signal()(
+        key=f"overview_drawn_{test_id}",
+        data={"selector": f".st-key-chart_grid_{test_id} .scatterlayer .trace", "fallback_ms": SECTIONS_FALLBACK_MS},
+        on_drawn_change=lambda: None,
+    )
+    return True
+
+
 def render() -> None:
     """The Review page."""
     st.html(COMPACT_TOP_CSS)
@@ -943,6 +1003,9 @@ def render() -> None:
     )
     for w in warnings:
         st.warning(markdown_text(w))
+    if sections_wait_for_first_draw(test_id):
+        flush_saves(store)
+        return
     _headline(results)
     _reference_set_selector(store, test_id, working)
     render_flags(results)

@@ -140,8 +140,12 @@ def test_upload_review_override_and_report(app_server, browser_store_url, page, 
 
     # --- flags grouped with limit and source, and the pattern summary with its caution
     # (this demo heart-failure test raises a high VE/VCO2 slope: >= 36.0, Arena et al. 2007)
+    # the first Review run of this browser session drew the overview first; the browser's report
+    # that it is drawn brought the sections under it (no reviewer action needed)
     flags = page.get_by_role("heading", name="Flags and patterns")
     flags.wait_for(timeout=60_000)
+    page.get_by_role("heading", name="Versions, audit trail and sign-off").wait_for(timeout=60_000)
+    assert page.get_by_text("follow below once the overview is drawn").count() == 0
     line = page.locator("[data-testid='stMarkdownContainer'] li", has_text="high VE/VCO2 slope").first
     assert "Limit ≥ 36.0 — Arena et al. 2007" in line.inner_text()
     assert page.get_by_text("Gas exchange", exact=True).count() >= 1

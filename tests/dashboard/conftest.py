@@ -5,6 +5,9 @@
   module runs. Yields a :class:`DemoStore` with the URL, the open store, the test ids, the
   demo reviewer and the demo files.
 - ``page_test(script_fn, **state)``: an ``AppTest`` of a page function with session state set.
+  The session has drawn Review once (``review.PAGE_DRAWN``): a browser reports the overview
+  drawn and the next run adds the sections under it; AppTest has no browser, so each run draws
+  the whole page (``test_review_page`` checks the first run of a session on its own).
 - ``reviewer`` / ``viewer`` accounts are made on demand with :func:`make_user` (scrypt is slow:
   create them once per module).
 """
@@ -96,8 +99,11 @@ def page_test() -> Callable[..., Any]:
     """Build an AppTest running ``script_fn`` with the given session-state values."""
     from streamlit.testing.v1 import AppTest
 
+    from dashboard.views.review import PAGE_DRAWN
+
     def build(script_fn: Callable[[], None], **session_state: Any) -> Any:
         at = AppTest.from_function(script_fn, default_timeout=APPTEST_TIMEOUT_S)
+        session_state.setdefault(PAGE_DRAWN, True)
         for key, value in session_state.items():
             at.session_state[key] = value
         return at

@@ -52,7 +52,11 @@ def _page(name: str) -> None:
 
 
 def _app_test(name: str) -> AppTest:
-    return AppTest.from_function(_page, args=(name,), default_timeout=APPTEST_TIMEOUT_S)
+    from dashboard.views.review import PAGE_DRAWN
+
+    at = AppTest.from_function(_page, args=(name,), default_timeout=APPTEST_TIMEOUT_S)
+    at.session_state[PAGE_DRAWN] = True  # the whole Review page, as after the browser drew the overview
+    return at
 
 
 def _markdown_texts(at: AppTest) -> list[str]:

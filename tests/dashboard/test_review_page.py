@@ -505,3 +505,30 @@ def test_a_version_saved_elsewhere_shows_after_a_rerun(demo_store, page_test):
     vt1 = _threshold_table(at)
     vt1 = vt1[vt1["Threshold"].str.startswith("VT1")].iloc[0]
     assert "manual" in vt1["Threshold"] or vt1["Set by"] not in ("", "automatic")
+
+
+def test_first_run_of_a_session_draws_the_overview_first_and_the_next_run_the_sections(demo_store, page_test):
+    """A browser session's first Review run sends the overview, the notes and the caution, and the
+    small component that reports the overview drawn; the run that report starts (any next run)
+    draws the sections under the overview as well."""
+    test_id = demo_store.test_ids[0]
+    at = page_test(_review_script, tm_user=demo_store.user, tm_test_id=test_id, **{review.PAGE_DRAWN: False}).run()
+    assert not at.exception, at.exception
+    grid = [c for c in at.get("plotly_chart") if c.proto.id and f"chart_grid_{test_id}" in c.proto.id]
+    assert len(grid) == 1
+    assert any("not a medical device" in c.value for c in at.caption)
+    assert any("follow below once the overview is drawn" in c.value for c in at.caption)
+    assert [s.value for s in at.subheader if s.value in ("Headline results", "Thresholds", "Training zones")] == []
+    assert len(at.metric) == 0 and len(at.dataframe) == 0
+    assert len(at.get("bidi_component")) == 1  # the report that the overview is drawn
+    assert at.session_state[review.PAGE_DRAWN] is True
+
+    at.run()  # the run the browser's report starts
+    assert not at.exception, at.exception
+    heads = [s.value for s in at.subheader]
+    for title in ("Headline results", "Flags and patterns", "Thresholds", "Set a threshold", "Training zones",
+                  "Excluded breaths", "Versions, audit trail and sign-off"):
+        assert title in heads
+    assert not any("follow below once the overview is drawn" in c.value for c in at.caption)
+    assert len(at.get("bidi_component")) == 0
+    assert len([c for c in at.get("plotly_chart") if c.proto.id and f"chart_grid_{test_id}" in c.proto.id]) == 1
