@@ -48,6 +48,11 @@ SHORT_TEST_POINTS = 24.0
 #: flattens both least-squares lines and pulls their crossing to lower VO2 (regression
 #: dilution, common practice); measured bias -3.5 % without it, about 0 % with it.
 VSLOPE_SMOOTH_POINTS = 3
+#: ... and each of its two lines holds at least this many fit points (140 s of 20 s bins). With
+#: fewer, a noisy test's V-slope placed its break early, on the first few points (measured on the
+#: simulator suite and the demo profiles, docs/thresholds.md: 5 points gave VT1 p90 8.2 % of VO2max
+#: on the hard kinds and 16.6 % of VT1 on the demo profiles at noise 2; 7 points 7.8 % and 11.9 %).
+VSLOPE_MIN_SEGMENT = 7
 #: A VT1 reading within this long before a VT2 estimate is taken for the first breaths of
 #: respiratory compensation (VT2 is uncertain by a bin or two), and VT1 is read again in a
 #: window ending this long before VT2.
@@ -57,6 +62,12 @@ VT2_MARGIN_S = 60.0
 #: reading that close marks the rise at VT2 (measured on the simulator's short ramps: such
 #: readings were 23-24 % of VO2max above the planted VT1).
 SAME_RISE_S = 30.0
+#: A VT2 less than this share of the test's VO2 range (exercise, lowest to highest fit bin) above
+#: VT1 is not determinable, for the same reason. Measured on the simulator suite and the demo
+#: profiles (594 tests, docs/thresholds.md): of the VT2 readings that close, two were reported
+#: where there is no compensation point (oscillating heart failure) and four were 9-20 % of
+#: VO2max off; the closest well-placed VT2 lay 15 % of the range above VT1.
+MIN_VT_GAP_FRACTION = 0.14
 #: Fewest averaged points needed in the exercise phase before any threshold is sought.
 MIN_EXERCISE_POINTS = 12
 #: Picks agree when within this fraction of the test's VO2 range (exercise, lowest to highest
@@ -400,7 +411,9 @@ def _vt1_window(cols: dict[str, np.ndarray], ph: np.ndarray) -> _Ex:
 
 
 def _vslope(ex: _Ex, reasons: list[str]) -> tuple[ThresholdPick | None, VSlopeFit | None]:
-    fit = vslope_fit(_smooth(ex.vo2, VSLOPE_SMOOTH_POINTS), _smooth(ex.vco2, VSLOPE_SMOOTH_POINTS), min_segment=5)
+    fit = vslope_fit(
+        _smooth(ex.vo2, VSLOPE_SMOOTH_POINTS), _smooth(ex.vco2, VSLOPE_SMOOTH_POINTS), min_segment=VSLOPE_MIN_SEGMENT
+    )
     if not fit.valid:
         reasons.append(f"{VSLOPE}: {fit.reason}")
         return None, fit
@@ -651,7 +664,7 @@ def detect_thresholds(avg: pd.DataFrame, *, phases: pd.Series | np.ndarray | Non
     there is not determinable:
 
     * V-slope: :func:`vslope_fit` of VCO2 on VO2 (3-point running means, against regression
-      dilution by VO2 noise).
+      dilution by VO2 noise; each line at least :data:`VSLOPE_MIN_SEGMENT` points).
     * Ventilatory equivalents: VE/VO2 turns up while VE/VCO2 stays flat.
     * PETO2 nadir: PETO2 turns up.
     * Excess CO2: VCO2^2/VO2 - VCO2 turns up.
@@ -672,7 +685,8 @@ def detect_thresholds(avg: pd.DataFrame, *, phases: pd.Series | np.ndarray | Non
     (:mod:`analysis.thresholds.uncertainty`); too wide an interval, or a lone VT1 reading right
     after the on-transient, is "not determinable" (the pick moves to ``vt1_undetermined``).
     VT1 comes before VT2 in the result (read again, else the less supported one is dropped,
-    with the reason). "None found" is a valid result (common in patients and in tests stopped
+    with the reason). A VT2 less than :data:`MIN_VT_GAP_FRACTION` of the test's VO2 range above
+    VT1 is not determinable (isocapnic buffering separates the two). "None found" is a valid result (common in patients and in tests stopped
     early).
 
     These are estimates for qualified staff to review against the charts; they are not a
@@ -803,6 +817,11 @@ def detect_thresholds(avg: pd.DataFrame, *, phases: pd.Series | np.ndarray | Non
     if vt1 is not None and vt2 is not None and (vt1.vo2_ml_min >= vt2.vo2_ml_min or vt1.t_s >= vt2.t_s):
         vt1, vt2, why = _order(vt1, vt2, win, ex, onset)
         reasons.append(why)
+    if vt1 is not None and vt2 is not None:
+        vt2, close = _too_close(vt1, vt2, float(np.ptp(ex.vo2)))
+        if close is not None:
+            reasons.append(f"VT2 not determinable: {close.reason}")
+            report.vt2_undetermined = close
     gain = {"bin_s": bin_s, "stage_s": _stage_s(avg, labels), "vo2_per_s": _vo2_gain_per_s(ex)}
     vt1, vt2 = _calibrated(vt1, **gain), _calibrated(vt2, **gain)
     report.vt1_undetermined = _calibrated(report.vt1_undetermined, **gain)
@@ -879,6 +898,20 @@ def _order(
     if rank[vt2.confidence] > rank[vt1.confidence]:
         return None, vt2, f"{first}; VT1 rests on fewer agreeing methods and was dropped (VT1 not found)"
     return vt1, None, f"{first}; VT2 rests on no more agreeing methods than VT1 and was dropped (VT2 not found)"
+
+
+def _too_close(vt1: ThresholdPick, vt2: ThresholdPick, vo2_range_ml_min: float) -> tuple[ThresholdPick | None, ThresholdPick | None]:
+    """(VT2 in use, VT2 set aside): a VT2 less than :data:`MIN_VT_GAP_FRACTION` of the test's
+    VO2 range above VT1 is not reported (isocapnic buffering separates the two)."""
+    gap = vt2.vo2_ml_min - vt1.vo2_ml_min
+    if vo2_range_ml_min <= 0 or gap >= MIN_VT_GAP_FRACTION * vo2_range_ml_min:
+        return vt2, None
+    reason = (
+        f"the reading ({vt2.vo2_ml_min:.0f} mL/min) lies only {gap:.0f} mL/min above VT1 ({vt1.vo2_ml_min:.0f} mL/min), "
+        f"{100 * gap / vo2_range_ml_min:.0f} % of the test's VO2 range (at least {100 * MIN_VT_GAP_FRACTION:.0f} % expected: "
+        "a stretch of isocapnic buffering separates VT1 from respiratory compensation), so no value is reported"
+    )
+    return None, replace(vt2, determinable=False, reason=reason)
 
 
 def _contradicted(

@@ -145,3 +145,29 @@ def test_stage_length_from_the_load():
     steps = pd.DataFrame({"t_s": t, "work_w": 50 + 25 * np.floor(t / 120)})
     assert _stage_s(steps, labels) == pytest.approx(120.0)
     assert _stage_s(pd.DataFrame({"t_s": t}), labels) == 0.0
+
+
+def test_a_vt2_just_above_vt1_is_not_determinable():
+    from analysis.thresholds.detect import CONSENSUS, MIN_VT_GAP_FRACTION, _too_close
+
+    assert MIN_VT_GAP_FRACTION == 0.14
+    vt1 = ThresholdPick("vt1", 500.0, 1000.0, CONSENSUS, "auto", "high", "", 3)
+    close = ThresholdPick("vt2", 600.0, 1130.0, CONSENSUS, "auto", "moderate", "", 5)
+    # 130 mL/min above VT1 in a test whose VO2 spans 1000 mL/min: 13 % < 14 %
+    kept, aside = _too_close(vt1, close, 1000.0)
+    assert kept is None and aside is not None and not aside.determinable
+    assert aside.vo2_ml_min == 1130.0
+    assert "only 130 mL/min above VT1 (1000 mL/min), 13 % of the test's VO2 range" in aside.reason
+    assert "isocapnic buffering" in aside.reason
+    far = replace(close, vo2_ml_min=1150.0)  # 15 %
+    assert _too_close(vt1, far, 1000.0) == (far, None)
+
+
+def test_vslope_lines_hold_seven_points_each():
+    from analysis.thresholds.detect import VSLOPE_MIN_SEGMENT
+
+    assert VSLOPE_MIN_SEGMENT == 7
+    avg = average_breaths(ramp_test(seed=3, noise=2.0), DEFAULT_AVERAGING).reset_index(drop=True)
+    fit = detect_thresholds(avg).vslope
+    assert fit is not None and fit.valid
+    assert fit.n_below >= 7 and fit.n_above >= 7

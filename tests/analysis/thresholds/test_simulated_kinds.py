@@ -64,9 +64,10 @@ def _errors(suite, key, *, kinds=None):
 
 
 def test_vt1_accuracy_all_kinds(suite):
-    # measured on these 225 tests (cart noise): median 1.9 %, p90 7.1 % of VO2max, 39 not given
-    # (before a lone reading contradicted by another method, or one on the rise at VT2, became
-    # not determinable: 2.1 / 9.7 %, 14 not given)
+    # measured on these 225 tests (cart noise): median 1.9 %, p90 6.7 % of VO2max, 37 not given
+    # (7.1 %, 39 not given before V-slope's lines needed 7 points each; 2.1 / 9.7 %, 14 not given
+    # before a lone reading contradicted by another method, or one on the rise at VT2, became
+    # not determinable)
     err, missing = _errors(suite, "vt1")
     assert np.median(err) <= 3.0
     assert np.percentile(err, 90) <= 8.5
@@ -74,9 +75,9 @@ def test_vt1_accuracy_all_kinds(suite):
 
 
 def test_vt1_accuracy_original_kinds(suite):
-    # the original, easier suite keeps VT1 median <= 4 % and p90 <= 8 %: measured 1.5 / 6.2 % on
-    # these 45 tests, three not determinable (noise 2); a p90 of 45 tests moves with one test,
-    # hence the margin
+    # the original, easier suite keeps VT1 median <= 4 % and p90 <= 8 %: measured 1.7 / 5.5 % on
+    # these 45 tests, two not determinable (noise 2; 1.5 / 6.2 % and three with V-slope lines of
+    # 5 points); a p90 of 45 tests moves with one test, hence the margin
     err, missing = _errors(suite, "vt1", kinds=ORIGINAL_KINDS)
     assert np.median(err) <= 3.0
     assert np.percentile(err, 90) <= 9.0
@@ -84,12 +85,15 @@ def test_vt1_accuracy_original_kinds(suite):
 
 
 def test_vt2_accuracy_and_no_false_vt2(suite):
-    # measured (cart noise): median 1.9 %, p90 5.3 %, 15 of 177 missed; VT2 reported in 0 of 48
-    # tests without one (5 of 48 before a VT2 needed a VE/VCO2 rise or a PETCO2 fall)
+    # measured (cart noise): median 1.8 %, p90 4.6 %, 18 of 177 missed; VT2 reported in 0 of 48
+    # tests without one (5 of 48 before a VT2 needed a VE/VCO2 rise or a PETCO2 fall). 15 were
+    # missed (p90 5.3 %) before a VT2 less than 14 % of the VO2 range above VT1 became not
+    # determinable: the three set aside here were 9-20 % of VO2max off (on the 450-test harness
+    # that rule also removed the two VT2s reported in oscillating heart failure without one)
     err, missing = _errors(suite, "vt2")
     assert np.median(err) <= 2.5
     assert np.percentile(err, 90) <= 7.0
-    assert missing <= 17
+    assert missing <= 20
     without = [r for k, _, _, t, r in suite if t.vt2_vo2_ml_min is None]
     false = sum(r.vt2 is not None for r in without)
     assert false <= len(without) / 7

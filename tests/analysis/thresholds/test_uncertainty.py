@@ -94,7 +94,11 @@ class TestPicks:
             vt1 = r.vt1 or r.vt1_undetermined
             assert (r.vt1 is None) == (seed == 4)
             assert vt1.ci90_vo2_ml_min[0] <= 1700.0 <= vt1.ci90_vo2_ml_min[1]
-            assert r.vt2.ci90_vo2_ml_min[0] <= 2600.0 <= r.vt2.ci90_vo2_ml_min[1]
+            # seed 0: VT2 read at 1917 mL/min, only 333 mL/min (13 % of the VO2 range) above VT1:
+            # not determinable, its interval kept aside (it still holds the planted 2600)
+            vt2 = r.vt2 or r.vt2_undetermined
+            assert (r.vt2 is None) == (seed == 0)
+            assert vt2.ci90_vo2_ml_min[0] <= 2600.0 <= vt2.ci90_vo2_ml_min[1]
 
     def test_too_wide_is_not_determinable_and_not_reported(self, monkeypatch):
         monkeypatch.setattr(D, "MAX_CI_FRACTION", 0.001)
