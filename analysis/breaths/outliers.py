@@ -113,23 +113,14 @@ def _neighbour_mean(values: np.ndarray, half: int) -> np.ndarray:
 def _local_spread(resid: np.ndarray, window: int) -> np.ndarray:
     """Robust SD (1.4826 x median absolute deviation) of the residuals around each breath.
 
-    ``resid`` may be one series or a stack of equally long series (one per row). A stack is
-    read in one pass: the series are laid end to end with ``window // 2`` missing values
-    between them, which every window then treats exactly as the end of its own series.
+    ``resid`` may be one series or a stack of equally long series (one per row), each read on
+    its own.
     """
+    if resid.ndim > 1:
+        return np.stack([_local_spread(row, window) for row in resid])
     min_periods = max(5, window // 3)
-    if resid.ndim == 1:
-        med = _rolling_median(resid, window, min_periods)
-        return _MAD_TO_SD * _rolling_median(np.abs(resid - med), window, min_periods)
-    rows, n = resid.shape
-    gap = window // 2
-    line = np.full(rows * n + (rows - 1) * gap, np.nan)
-    starts = np.arange(rows) * (n + gap)
-    take = starts[:, None] + np.arange(n)
-    line[take] = resid
-    med = _rolling_median(line, window, min_periods)
-    mad = _rolling_median(np.abs(line - med), window, min_periods)
-    return _MAD_TO_SD * mad[take]
+    med = _rolling_median(resid, window, min_periods)
+    return _MAD_TO_SD * _rolling_median(np.abs(resid - med), window, min_periods)
 
 
 def _rolling_median(x: np.ndarray, window: int, min_periods: int) -> np.ndarray:

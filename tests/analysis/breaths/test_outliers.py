@@ -213,7 +213,7 @@ def test_rolling_median_equals_pandas(values, window):
     st.sampled_from([31, 45, 75]),
 )
 def test_spread_of_a_stack_equals_each_series_alone(a, b, window):
-    # the one-pass spread of several series must give each series' own numbers exactly
+    # a stack of series gives each series its own numbers, exactly
     from analysis.breaths.outliers import _local_spread
 
     n = min(len(a), len(b))
