@@ -50,7 +50,10 @@ def long_session():
 def measure() -> list[BenchRow]:
     from analysis import pipeline as P
     from analysis.breaths.cleaning import clean_breaths
+    from analysis.interpretation.lag import threshold_lag
+    from analysis.interpretation.summary import interpret_test
     from analysis.oxygen.from_test import oxygen_from_test
+    from analysis.oxygen.pathway import oxygen_pathway
     from analysis.phases import label_phases
     from analysis.records import to_json
     from analysis.io import read_session
@@ -104,6 +107,21 @@ def measure() -> list[BenchRow]:
             "stage: oxygen comparison (4 states)",
             lambda: oxygen_from_test(res.averaged, phases_avg=phases_avg, hb_g_dl=res.subject.hb_g_dl,
                                      options=settings.oxygen, peak=res.peak, vt1=res.vt1, vt2=res.vt2),
+        ),
+        (
+            "stage: ramp response-time fit (lag correction)",
+            lambda: threshold_lag(res.averaged, phases_avg=phases_avg, vt1=res.vt1, vt2=res.vt2, mode=res.subject.mode),
+        ),
+        ("stage: oxygen pathway (cascade, what-if, sensitivity)", lambda: oxygen_pathway(res.oxygen)),
+        (
+            "stage: interpretation (flags and the values behind them)",
+            lambda: interpret_test(
+                clean, res.averaged, breath_phases=labels.astype(str), phases_avg=phases_avg,
+                meta=P.effective_metadata(session, settings), mode=res.subject.mode,
+                beta_blocker=res.subject.beta_blocker, indices=res.indices, maximality=res.maximality,
+                vo2_peak_ml_min=res.peak.vo2_ml_min, vt1=res.vt1, vt2=res.vt2,
+                reference_set=settings.reference_set, lag=res.interpretation.lag if res.interpretation else None,
+            ),
         ),
         ("stage: results JSON (to_json)", lambda: to_json(res)),
     ]

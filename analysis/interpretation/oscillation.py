@@ -243,9 +243,9 @@ def exercise_oscillation(t_s: ArrayLike, ve_l_min: ArrayLike, phases: ArrayLike)
         amplitude_pct=100.0 * float(np.median(swings)) if swings else None,
         amplitude_l_min=float(np.median(swings_l)) if swings_l else None,
         exercise_s=duration,
-        series_t_s=tuple(float(v) for v in grid[::step]),
-        series_ve_l_min=tuple(round(float(v), 3) for v in smooth[::step]),
-        series_trend_l_min=tuple(round(float(v), 3) for v in trend[::step]),
+        series_t_s=tuple(grid[::step].tolist()),
+        series_ve_l_min=tuple(round(v, 3) for v in smooth[::step].tolist()),
+        series_trend_l_min=tuple(round(v, 3) for v in trend[::step].tolist()),
         cycle_spans_s=tuple(spans),
     )
 
