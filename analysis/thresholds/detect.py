@@ -87,6 +87,12 @@ RELIABILITY: dict[str, float] = {
     "VE vs VCO2 breakpoint": 0.83,
     "VE/VCO2 nadir-rise": 0.79,
 }
+#: Excess CO2 (VCO2^2/VO2 - VCO2) is read from the same VO2 and VCO2 as V-slope: in a group that
+#: holds V-slope it adds this share of its weight only (the two agreeing is not two independent
+#: readings; measured on the simulator suite and demo profiles, docs/thresholds.md, its picks
+#: also lie late: median +2.9 % of VO2max, +7.5 % at noise 2).
+SAME_SIGNALS: dict[str, str] = {EXCESS_CO2: VSLOPE}
+SAME_SIGNALS_SHARE = 0.4
 #: A VT2 needs at least one of these in its group of agreeing picks: respiratory compensation
 #: is VE rising against CO2 output with PETCO2 falling (Whipp et al. 1989; Wasserman et al.,
 #: textbook; from memory). VE steepening against VCO2 alone is also what rapid shallow breathing
@@ -532,13 +538,21 @@ def _consensus(
                 "steepening against VCO2 alone, as rapid shallow breathing gives, is not taken as respiratory "
                 "compensation)"
             )
-    best = max(centres, key=lambda p: (round(float(w[support[p]].sum()), 9), -rank[p]))
+    methods = [p.method for p in valid]
+
+    def group_weights(group: list[int]) -> np.ndarray:
+        """Weights within a group: a method reading the same signals as another member counts less."""
+        names = {methods[q] for q in group}
+        return np.array([w[q] * (SAME_SIGNALS_SHARE if SAME_SIGNALS.get(methods[q]) in names else 1.0) for q in group])
+
+    best = max(centres, key=lambda p: (round(float(group_weights(support[p]).sum()), 9), -rank[p]))
     members = support[best]
     cluster = [valid[q] for q in members]
+    wm = group_weights(members)
     # weighted mean: it averages the agreeing readings' noise (a weighted median of two picks
     # is one of them); measured on the simulator suite VT1 1.94 / 9.31 -> 1.77 / 8.56 % of VO2max
-    v = float(np.average(vo2[members], weights=w[members]))
-    t_s = float(np.average(np.array([p.t_s for p in cluster]), weights=w[members]))
+    v = float(np.average(vo2[members], weights=wm))
+    t_s = float(np.average(np.array([p.t_s for p in cluster]), weights=wm))
     size = len(cluster)
     confidence = "high" if size >= 3 else ("moderate" if size == 2 else "low")
     names = ", ".join(p.method for p in cluster)
@@ -674,8 +688,9 @@ def detect_thresholds(avg: pd.DataFrame, *, phases: pd.Series | np.ndarray | Non
     slope is at least 3.5 standard errors and its rise exceeds a minimum size. Picks inside the
     on-transient do not count. The consensus is taken from the group of picks
     within :func:`agreement_tolerance_ml_min` (10 % of the test's VO2 range) of each other with
-    the largest summed weight (:data:`RELIABILITY`, times the sharpness of each VT1 fit), and its
-    value and time are the weighted means of that group; ties
+    the largest summed weight (:data:`RELIABILITY`, times the sharpness of each VT1 fit; excess
+    CO2 beside V-slope, read from the same signals, counts :data:`SAME_SIGNALS_SHARE` of its
+    weight), and its value and time are the weighted means of that group; ties
     go to the more accurate method (:data:`TIE_ORDER`). A VT2 group must hold a VE/VCO2 rise or
     a PETCO2 fall (:data:`VT2_CONFIRMING`): VE steepening against VCO2 alone is not taken as
     respiratory compensation. Confidence is high with 3 or more

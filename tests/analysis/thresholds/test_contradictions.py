@@ -86,7 +86,8 @@ def test_vt1_on_the_rise_at_vt2_is_not_determinable():
     assert r.vt1 is None
     u = r.vt1_undetermined
     assert u is not None and not u.determinable
-    assert u.vo2_ml_min == pytest.approx(2255.0, abs=5.0)
+    # their weighted mean, excess CO2 beside V-slope at 0.4 of its weight (2255 at full weight)
+    assert u.vo2_ml_min == pytest.approx(2263.0, abs=5.0)
     assert "on the rise that VT2 marks" in u.reason and "no method found a break" in u.reason
     assert r.vt2 is not None and r.vt2.vo2_ml_min == pytest.approx(2276.0, abs=5.0)
 
@@ -171,3 +172,31 @@ def test_vslope_lines_hold_seven_points_each():
     fit = detect_thresholds(avg).vslope
     assert fit is not None and fit.valid
     assert fit.n_below >= 7 and fit.n_above >= 7
+
+
+def test_excess_co2_beside_vslope_counts_less():
+    from analysis.thresholds.detect import (
+        EXCESS_CO2,
+        PETO2_NADIR,
+        RELIABILITY,
+        SAME_SIGNALS_SHARE,
+        _consensus,
+        _Ex,
+    )
+
+    assert SAME_SIGNALS_SHARE == 0.4
+    t = np.arange(0.0, 600.0, 20.0)
+    vo2 = 500.0 + 5.0 * t  # a VO2 range of 2950 mL/min: picks within 295 mL/min agree
+    ex = _Ex(np.arange(t.size), t, vo2, 0.9 * vo2, vo2 / 40.0, {})
+    picks = {VSLOPE: _pick(VSLOPE, 1500.0, 200.0), EXCESS_CO2: _pick(EXCESS_CO2, 1600.0, 220.0)}
+    got, _ = _consensus("vt1", picks, ex)
+    # same signals: 0.76 x 1500 + 0.4 x 0.60 x 1600, over 0.76 + 0.24 (not 1544 mL/min)
+    w_vs, w_ex = RELIABILITY[VSLOPE], SAME_SIGNALS_SHARE * RELIABILITY[EXCESS_CO2]
+    assert got.vo2_ml_min == pytest.approx((w_vs * 1500.0 + w_ex * 1600.0) / (w_vs + w_ex))
+    assert got.vo2_ml_min == pytest.approx(1524.0)
+    assert got.confidence == "moderate"
+    # beside another method it keeps its full weight
+    picks = {PETO2_NADIR: _pick(PETO2_NADIR, 1500.0, 200.0), EXCESS_CO2: _pick(EXCESS_CO2, 1600.0, 220.0)}
+    got, _ = _consensus("vt1", picks, ex)
+    w_p = RELIABILITY[PETO2_NADIR]
+    assert got.vo2_ml_min == pytest.approx((w_p * 1500.0 + RELIABILITY[EXCESS_CO2] * 1600.0) / (w_p + RELIABILITY[EXCESS_CO2]))
