@@ -142,13 +142,11 @@ def main(argv: list[str] | None = None) -> int:
     args = parser.parse_args(argv)
     tree = None
     if args.before:
-        from benchmarks.trees import BEFORE_COMMIT, before_tree
+        from benchmarks.eval_thresholds import old_tree
 
-        tree = before_tree()
+        tree = old_tree("its consensus on the same simulated sessions")
         if tree is None:
-            print(f"git could not give the tree of {BEFORE_COMMIT}")
             return 1
-        print(f"before = consensus of the detection of {BEFORE_COMMIT} (old tree) on the same sessions\n")
     print(table(args.seeds, args.noise, before_tree=tree))
     return 0
 

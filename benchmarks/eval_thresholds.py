@@ -111,6 +111,19 @@ def readings_in_old_tree(sessions: Sequence[Any], tree: Path) -> list[dict[str, 
     return readings
 
 
+def old_tree(what: str) -> Path | None:
+    """The tree of :data:`benchmarks.trees.BEFORE_COMMIT`, said on stdout with ``what`` was done
+    (or why there is none)."""
+    from benchmarks.trees import BEFORE_COMMIT, before_tree
+
+    tree = before_tree()
+    if tree is None:
+        print(f"git could not give the tree of {BEFORE_COMMIT}")
+    else:
+        print(f"before = detection of {BEFORE_COMMIT} (old tree); {what}\n")
+    return tree
+
+
 def evaluate_in_old_tree(cases: Sequence[Any], tree: Path) -> list[CaseScore]:
     """Score ``cases`` with the detection of the old ``tree`` (see the module's text)."""
     sessions: list[Any] = []
@@ -144,13 +157,9 @@ def main(argv: list[str] | None = None) -> int:
     start = time.perf_counter()
     suite = simulation_suite(args.kinds, seeds=range(args.seeds), noise_levels=args.noise)
     if args.before:
-        from benchmarks.trees import BEFORE_COMMIT, before_tree
-
-        tree = before_tree()
+        tree = old_tree("cases simulated and imported by this tree")
         if tree is None:
-            print(f"git could not give the tree of {BEFORE_COMMIT}")
             return 1
-        print(f"detection of {BEFORE_COMMIT} (old tree), cases simulated and imported by this tree\n")
         scores = evaluate_in_old_tree(list(suite), tree)
     else:
         scores = evaluate_suite(suite)
