@@ -2,7 +2,7 @@
 
 The reference is a brute-force double loop over every pair of breaks with ``np.polyfit`` on
 each of the three runs (common practice: an O(n^2) search, written independently of the
-prefix sums). The search itself is O(n): exhaustive up to ``TURN_FIRST_BREAKS`` first-break
+prefix sums). The search itself is O(n): exhaustive up to ``TURN_EXHAUSTIVE_FIRST_BREAKS`` first-break
 candidates, a grid refined by alternating exact searches beyond (speed and memory are
 measured in benchmarks/bench_thresholds.py, never asserted here).
 """
@@ -89,12 +89,26 @@ def test_same_turn_as_brute_force_on_realistic_series(seed):
     assert fit.sse == pytest.approx(slow, rel=1e-9)
 
 
+def test_exhaustive_beyond_the_grid_size():
+    # 140 points (129 first-break candidates: more than the 128 grid positions, within the
+    # exhaustive limit): every pair is tried, and the answer and profile are the brute force's.
+    t, y = _series(140, seed=5)
+    fit = best_turn_up(t, y, min_segment=4)
+    slow, j_slow, profile = brute_force_turn(t, y, 4)
+    assert fit.exhaustive
+    assert fit.turn_index == j_slow
+    assert fit.sse == pytest.approx(slow, rel=1e-9)
+    for j, value in profile.items():
+        assert fit.profile[j - fit.profile_start] == pytest.approx(value, rel=1e-6, abs=1e-6)
+
+
 @pytest.mark.parametrize("seed", range(12))
 def test_grid_and_refinement_find_the_brute_force_turn(seed, monkeypatch):
     # With only 8 first-break candidates tried on a 90-point series the grid is coarse (every
     # 10th position); the refinement from the best turn of each stretch still reaches the
     # brute-force optimum (measured: all 12 seeds exact). Where two turns are within 0.5 % in
     # squared error, either is an honest answer and the confidence interval spans both.
+    monkeypatch.setattr(S, "TURN_EXHAUSTIVE_FIRST_BREAKS", 8)
     monkeypatch.setattr(S, "TURN_FIRST_BREAKS", 8)
     t, y = _series(90, seed=seed, turn_frac=0.55 + 0.05 * (seed % 3))
     fit = best_turn_up(t, y, min_segment=4)
