@@ -106,7 +106,7 @@ def _rerun_rows(tmp: Path) -> list[BenchRow]:
     vt1_t = float(store.get_results(test_id)["vt1"]["time_s"])
     moves: list[float] = []
     for i in range(5):
-        at.number_input(key=f"thr_t_{test_id}").set_value(vt1_t + 20.0 * (i + 1))
+        at.text_input(key=f"thr_t_{test_id}").input(f"{vt1_t + 20.0 * (i + 1):g}")
         button = at.button[[b.label for b in at.button].index("Set VT1")]
         t0 = time.perf_counter()
         button.click().run()

@@ -12,6 +12,7 @@ from __future__ import annotations
 import dataclasses
 import functools
 import logging
+import math
 from collections.abc import Mapping, Sequence
 from typing import TYPE_CHECKING, Any, Literal
 
@@ -595,17 +596,67 @@ def _on_threshold(store: Store, test_id: int, *, clear: bool) -> None:
                      reason=reason or f"{THRESHOLD_NAMES[kind]} back to automatic")
         return
     value = st.session_state.get(f"thr_t_{test_id}" if by == "time" else f"thr_v_{test_id}")
-    if value is None:
-        state.flash("Type a time in seconds or a VO2 in mL/min first.", kind="error")
+    if value is None or (isinstance(value, str) and not value.strip()):
+        state.flash("Type a time (m:ss, or seconds) or a VO2 in mL/min first.", kind="error")
         return
+    if by == "time":
+        try:
+            value = time_from_text(str(value))
+        except ValueError as exc:
+            state.flash(str(exc), kind="error")
+            return
     kw = {"t_s": float(value)} if by == "time" else {"vo2_ml_min": float(value)}
     new = with_override(working.settings, kind=kind, reason=reason, **kw)
     apply_change(store, test_id, new, reason=reason or f"{THRESHOLD_NAMES[kind]} set by {by}")
 
 
+#: Label of the typed threshold time (the charts and tables show m:ss; seconds are accepted too).
+TIME_INPUT_LABEL = "Time (m:ss or seconds)"
+
+
+def time_from_text(text: str) -> float:
+    """A typed time from the start of the recording in seconds: ``"12:30"`` (m:ss, as the charts
+    and tables show it), ``"1:02:05"`` (h:mm:ss), or plain seconds (``"750"``, ``"750.5"``).
+
+    Raises ``ValueError`` with a message for the reviewer when the text is none of these (a
+    negative time, seconds or minutes of 60 or more after a colon, letters).
+
+    Examples
+    --------
+    >>> time_from_text("12:30")
+    750.0
+    >>> time_from_text("1:02:05")
+    3725.0
+    >>> time_from_text(" 750.5 ")
+    750.5
+    """
+    raw = text.strip()
+    problem = ValueError(f"Type the time as m:ss (12:30) or in seconds (750); received {raw!r}.")
+    parts = raw.split(":")
+    if not raw or len(parts) > 3 or "-" in raw:  # no negative times ("-0:05" reads as 0 and 5)
+        raise problem
+    try:
+        numbers = [float(p) for p in parts]
+    except ValueError:
+        raise problem from None
+    if any(not math.isfinite(n) or n < 0 for n in numbers):
+        raise problem
+    if len(numbers) == 1:
+        return numbers[0]
+    *whole, secs = numbers
+    if secs >= 60 or any(n != int(n) for n in whole) or (len(whole) == 2 and whole[1] >= 60):
+        raise problem
+    if any(len(p.strip()) != 2 for p in parts[1:-1]) or len(parts[-1].split(".")[0].strip()) != 2:
+        raise problem  # "12:5" is ambiguous (5 or 50 s): seconds and minutes after a colon have two digits
+    total = 0.0
+    for n in whole:
+        total = total * 60 + n
+    return total * 60 + secs
+
+
 def _threshold_controls(store: Store, test_id: int, working: state.WorkingSettings, results: TestResults) -> None:
     st.subheader("Set a threshold")
-    st.caption("Type a time or a VO2, or pick the threshold below and click an averaged point on any panel of the "
+    st.caption("Type a time (m:ss, as on the charts, or seconds) or a VO2, or pick the threshold below and click an averaged point on any panel of the "
                "overview above (a click moves the threshold to that point's time; a box or lasso only highlights "
                "breaths).")
     c1, c2, c3 = st.columns([1, 1, 2])
@@ -614,7 +665,9 @@ def _threshold_controls(store: Store, test_id: int, working: state.WorkingSettin
     c3.text_input("Reason (kept in the audit trail)", key=f"thr_reason_{test_id}")
     with st.form(f"thr_form_{test_id}", clear_on_submit=False, border=False):
         if by == "time":
-            st.number_input("Time (s)", min_value=0.0, step=5.0, value=None, key=f"thr_t_{test_id}")
+            st.text_input(TIME_INPUT_LABEL, key=f"thr_t_{test_id}", placeholder="e.g. 12:30",
+                          help="Minutes and seconds from the start of the recording, as on the charts (12:30), "
+                               "or seconds (750).")
         else:
             st.number_input("VO2 (mL/min)", min_value=1.0, step=25.0, value=None, key=f"thr_v_{test_id}")
         a, b = st.columns(2)

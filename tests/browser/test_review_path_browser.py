@@ -157,7 +157,7 @@ def test_upload_review_override_and_report(app_server, browser_store_url, page, 
     # --- type a new VT1 time
     typed_t = first[1] + 90
     page.get_by_label("Reason (kept in the audit trail)").fill("typed in the browser test")
-    page.get_by_label("Time (s)").fill(str(typed_t))
+    page.get_by_role("textbox", name="Time (m:ss or seconds)").fill(clock_text(typed_t))  # as the charts show it
     page.get_by_role("button", name="Set VT1").click()
     typed = _wait_vt1_change(page, first)
     assert "manual" in typed[2]

@@ -115,7 +115,7 @@ def _vt1(page) -> tuple[int, int, str]:  # noqa: ANN001
 
 def _set_vt1(page, t_s: int, reason: str) -> None:  # noqa: ANN001
     page.get_by_label("Reason (kept in the audit trail)").fill(reason)
-    page.get_by_label("Time (s)").fill(str(t_s))
+    page.get_by_role("textbox", name="Time (m:ss or seconds)").fill(str(t_s))
     page.get_by_role("button", name="Set VT1").click()
     wait_for_app(page)
     page.get_by_role("button", name=re.compile(r"^Save as version \d+$")).click()  # one version per Save

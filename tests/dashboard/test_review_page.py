@@ -89,9 +89,9 @@ def test_typing_a_vt1_time_changes_vt1_marks_it_manual_and_saves_a_version(demo_
     test_id = demo_store.test_ids[0]
     _, version_before = demo_store.store.get_settings(test_id)
     at = page_test(_review_script, tm_user=demo_store.user, tm_test_id=test_id).run()
-    new_t = float(reference["vt1"]["time_s"]) + 60.0
+    new_t = float(round(float(reference["vt1"]["time_s"]) + 60.0))
     at.text_input(key=f"thr_reason_{test_id}").input("later on the V-slope chart")
-    at.number_input(key=f"thr_t_{test_id}").set_value(new_t)
+    at.text_input(key=f"thr_t_{test_id}").input(clock_text(new_t))  # typed as the charts show it (m:ss)
     at.button[[b.label for b in at.button].index("Set VT1")].click().run()
     assert not at.exception, at.exception
     data.wait_for_saves()
@@ -171,7 +171,7 @@ def test_edit_conflict_is_shown_plainly_and_nothing_is_overwritten(demo_store, p
     settings, version = demo_store.store.get_settings(test_id)
     theirs = review.with_exclusions(settings, excluded_rows=[40])
     demo_store.store.save_settings(test_id, theirs, actor=other, reason="other reviewer", expected_version=version)
-    at.number_input(key=f"thr_t_{test_id}").set_value(300.0)
+    at.text_input(key=f"thr_t_{test_id}").input("300")
     at.button[[b.label for b in at.button].index("Set VT1")].click().run()
     _save(at, test_id)
     assert any("was not saved" in e.value and "changed" in e.value for e in at.error)
@@ -212,7 +212,7 @@ def test_sign_off_freezes_the_version_and_a_later_edit_starts_a_new_one(demo_sto
     assert record.current_version_signed and record.sign_offs[-1].version == version
     assert any(f"Version {version} is signed off" in s.value for s in at.success)
     at.text_input(key=f"thr_reason_{test_id}").input("after sign-off: VT1 later")
-    at.number_input(key=f"thr_t_{test_id}").set_value(600.0)
+    at.text_input(key=f"thr_t_{test_id}").input("600")
     at.button[[b.label for b in at.button].index("Set VT1")].click().run()
     assert not any(b.label == "Sign off this version" for b in at.button)  # save or discard first
     _save(at, test_id)
@@ -532,3 +532,32 @@ def test_first_run_of_a_session_draws_the_overview_first_and_the_next_run_the_se
     assert not any("follow below once the overview is drawn" in c.value for c in at.caption)
     assert len(at.get("bidi_component")) == 0
     assert len([c for c in at.get("plotly_chart") if c.proto.id and f"chart_grid_{test_id}" in c.proto.id]) == 1
+
+
+@pytest.mark.parametrize(("text", "seconds"), [
+    ("12:30", 750.0), ("0:05", 5.0), (" 12:30 ", 750.0), ("1:02:05", 3725.0), ("12:30.5", 750.5),
+    ("750", 750.0), ("750.5", 750.5), ("0", 0.0),
+])
+def test_a_typed_threshold_time_reads_mss_and_seconds(text, seconds):
+    # m:ss as dashboard.timefmt.clock_text writes it (the charts' ticks and hover, the tables)
+    assert review.time_from_text(text) == seconds
+    assert review.time_from_text(clock_text(seconds)) == round(seconds)
+
+
+@pytest.mark.parametrize("text", ["", "abc", "-5", "-0:05", "12:60", "12:5", "1:60:00", "1:2:3", "12:30:00:00", "nan", "1.5:30"])
+def test_a_typed_threshold_time_that_is_no_time_is_refused_plainly(text):
+    with pytest.raises(ValueError, match=r"Type the time as m:ss \(12:30\) or in seconds \(750\)"):
+        review.time_from_text(text)
+
+
+def test_a_time_that_is_no_time_changes_nothing_and_says_how_to_type_it(demo_store, page_test):
+    test_id = demo_store.test_ids[0]
+    at = page_test(_review_script, tm_user=demo_store.user, tm_test_id=test_id).run()
+    before = _threshold_table(at).to_dict("records")
+    at.text_input(key=f"thr_t_{test_id}").input("12:5")
+    at.button[[b.label for b in at.button].index("Set VT1")].click().run()
+    assert not at.exception, at.exception
+    assert any("Type the time as m:ss (12:30) or in seconds (750); received '12:5'" in e.value for e in at.error)
+    assert _threshold_table(at).to_dict("records") == before
+    assert not any(w.startswith("Unsaved changes") for w in _warnings(at))
+    assert [t.label for t in at.text_input if t.key == f"thr_t_{test_id}"] == ["Time (m:ss or seconds)"]

@@ -46,7 +46,7 @@ def _click_grid_at(at, t_s: float, row: int) -> None:
 
 def _set_vt1_time(at, test_id: int, t_s: float, reason: str = "") -> None:
     at.text_input(key=f"thr_reason_{test_id}").input(reason)
-    at.number_input(key=f"thr_t_{test_id}").set_value(t_s)
+    at.text_input(key=f"thr_t_{test_id}").input(f"{t_s:g}")
     at.button[[b.label for b in at.button].index("Set VT1")].click().run()
     assert not at.exception, at.exception
 
