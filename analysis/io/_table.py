@@ -137,6 +137,18 @@ def _looks_like_units(cells: Sequence[object]) -> bool:
     return 2 * sum(1 for c in present if unit_code(c) is not None) >= len(present)
 
 
+def is_event_row(cells: Sequence[object], width: int) -> bool:
+    """A row that starts with a number or time and then has words where numbers belong
+    (``12:40, ramp on, ramp on, ...``): an event row inside the table, not a second header."""
+    if _width(cells) > width:
+        return False
+    for c in cells:
+        if c is None or (isinstance(c, str) and not c.strip()):
+            continue
+        return bool(VALUE_RE.fullmatch(str(c).strip().replace("\u2212", "-")))
+    return False
+
+
 @dataclass(frozen=True)
 class _Candidate:
     score: int
@@ -169,6 +181,8 @@ def _candidate(rows: Sequence[Row], kinds: Sequence[str], i: int) -> _Candidate 
                 break
             score += 1
             end = j + 1
+        elif kind == "text" and is_event_row(rows[j][1], width):
+            pass  # words in the numeric cells of a timed row: an event inside the table
         elif kind not in ("blank", "comment"):
             break
         j += 1
@@ -281,7 +295,7 @@ def locate_table(rows: Sequence[Row], *, file_name: str) -> LocatedTable:
         if k == best.unit_index:
             continue
         line, cells = rows[k]
-        if kinds[k] == "data":
+        if kinds[k] == "data" or (kinds[k] == "text" and is_event_row(cells, width)):
             padded = list(cells[:width]) + [None] * (width - min(len(cells), width))
             body.append((line, padded))
         else:

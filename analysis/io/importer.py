@@ -41,6 +41,15 @@ GAS_L_MIN_MEDIAN_BELOW = 15.0
 
 _GAS = (C.VO2_ML_MIN, C.VCO2_ML_MIN, C.VE_L_MIN)
 
+#: The person's data an analysis needs beyond the breaths, as ``(metadata key, label)``: when
+#: none of the file, its preamble or the user gives one, the import says so (a gap, not a refusal).
+PERSON_GAPS: tuple[tuple[str, str], ...] = (
+    ("body_mass_kg", "body mass"),
+    ("age_y", "age"),
+    ("sex", "sex"),
+    ("height_cm", "height"),
+)
+
 
 @dataclass(frozen=True)
 class ImportOutcome:
@@ -87,6 +96,24 @@ class ImportOutcome:
 def _cell_on_line(cells_by_line: Mapping[int, Sequence[object]], line_numbers: np.ndarray, k: int, i: int) -> object:
     """The original cell in column ``k`` of body row ``i`` (quoted in error messages)."""
     return cells_by_line[int(line_numbers[i])][k]
+
+
+def _has_letters(cells: Sequence[object]) -> np.ndarray:
+    """True where a cell holds a letter (words, not a mistyped number)."""
+    return np.array([c is not None and any(ch.isalpha() for ch in str(c)) for c in cells], dtype=bool)
+
+
+def _event_words(
+    body: Sequence[Row], index: Mapping[str, int], words: Mapping[str, np.ndarray], event: np.ndarray
+) -> dict[int, str]:
+    """Text written in numeric cells of event rows, by body row (``"ramp on"``)."""
+    out: dict[int, str] = {}
+    for i in np.flatnonzero(event):
+        cells = body[int(i)][1]
+        found = list(dict.fromkeys(str(cells[index[n]]).strip() for n in words if words[n][i]))
+        if found:
+            out[int(i)] = "; ".join(found)
+    return out
 
 
 def _ranges(lines: Sequence[int]) -> str:
@@ -459,16 +486,26 @@ def import_bytes(
         else:
             values[name] = text_values(cells)
 
-    # Event rows: a time (or nothing) but none of VO2, VCO2, VE -> not a breath. Skip them and
-    # carry their marker text to the next breath.
-    gas_missing = np.logical_and.reduce([missing[n] for n in _GAS])
-    other_bad = np.logical_or.reduce([bad[n] for n in bad])
+    # Event rows: a time (or nothing) but none of VO2, VCO2, VE -> not a breath. Words in a
+    # numeric cell of such a row ("ramp on" in the load column) are event text, not a broken
+    # number. Skip them and carry their text to the next breath as a marker.
+    words = {n: bad[n] & _has_letters(column(n)) for n in bad if n != C.T_S}
+    gas_missing = np.logical_and.reduce([missing[n] | words[n] for n in _GAS])
+    other_bad = np.logical_or.reduce([bad[n] & ~words.get(n, False) for n in bad])
     event = gas_missing & ~other_bad
     event_lines = [int(n) for n in line_numbers[event]]
+    for n in words:
+        bad[n] = bad[n] & ~event
     if event.any():
         keep = ~event
+        event_words = _event_words(body, index, words, event)
+        if event_words and C.MARKER not in values:
+            values[C.MARKER] = [None] * len(body)
         if C.MARKER in values:
-            markers = list(values[C.MARKER])
+            markers = [
+                "; ".join(x for x in (m, event_words.get(i)) if x) or None if event[i] else m
+                for i, m in enumerate(values[C.MARKER])
+            ]
             carried: list[str] = []
             moved = 0
             for i in range(len(markers)):
@@ -496,7 +533,9 @@ def import_bytes(
             for name in table:
                 table[name] = table[name][keep]
         line_numbers = line_numbers[keep]
-        notes.append(f"{len(event_lines)} row(s) without VO2, VCO2 and VE were skipped ({_lines(event_lines)})")
+        notes.append(
+            f"{len(event_lines)} row(s) without VO2, VCO2 and VE were skipped as event rows ({_lines(event_lines)})"
+        )
 
     cells_by_line = dict(located.body)
     for name in mapped:
@@ -546,6 +585,12 @@ def import_bytes(
 
     preamble_items: list[PreambleItem] = []
     meta = checked_meta(_meta_from_preamble(located.preamble, lines, preamble_items), problems, overrides=meta_overrides)
+    absent = [label for key, label in PERSON_GAPS if key not in meta]
+    if absent:
+        notes.append(
+            f"not in the file and not set: {', '.join(absent)} — values per kg and predicted values stay "
+            "empty until you add them (e.g. --set body_mass_kg=72.5, or the fields of the upload form)"
+        )
     apply_conditions(
         values, mapped, meta,
         statements=preamble_statements(_preamble_texts(located.preamble, lines)),

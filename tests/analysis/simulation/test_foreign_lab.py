@@ -1,0 +1,99 @@
+"""Lab-variety exports of simulated tests import with no metadata typed and analyse: every
+layout x several kinds x seeds gives the simulated breaths back within the printed rounding."""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+
+from analysis import columns as C
+from analysis.io import import_bytes
+from analysis.pipeline import analyze_session
+from analysis.simulation import simulate_case
+from analysis.simulation.foreign_lab import DROPOUT_TEXT, EVENT_WORDS, LAB_LAYOUTS, LabLayout, lab_export_bytes, lab_layout
+
+KINDS = ("rehab", "athlete", "treadmill_steps", "hf_oscillation", "lung_limited", "short_ramp", "submax")
+# printed as 1 mL/min or 0.001 L/min (half of it at most), VE at 0.1 L/min
+GAS_TOL = {C.VO2_ML_MIN: 0.51, C.VCO2_ML_MIN: 0.51, C.VE_L_MIN: 0.051}
+# time printed at 0.01 s, 0.1 s or 1 s (h:mm:ss)
+TIME_TOL_S = {"s": 0.0051, "mss": 0.051, "hms": 0.51}
+
+
+@pytest.mark.parametrize("layout", LAB_LAYOUTS)
+@pytest.mark.parametrize("kind", KINDS)
+@pytest.mark.parametrize("seed", [0, 1])
+def test_lab_exports_import_without_metadata_and_analyse(layout, kind, seed):
+    s = simulate_case(kind, seed, noise=2.0)
+    out = import_bytes(lab_export_bytes(s, layout=layout), file_name=f"{kind}-{seed}.csv")
+    b = out.session.breaths
+    assert len(b) == len(s.breaths)
+    tol_t = TIME_TOL_S[lab_layout(layout).time]
+    assert np.max(np.abs(b[C.T_S].to_numpy() - s.breaths[C.T_S].to_numpy())) <= tol_t
+    for name, tol in GAS_TOL.items():
+        assert np.max(np.abs(b[name].to_numpy() - s.breaths[name].to_numpy())) <= tol, name
+    # nothing about the person was in the file or typed: the gaps are stated, not guessed
+    assert "body_mass_kg" not in out.session.meta
+    assert any(n.startswith("not in the file and not set: body mass, age, sex, height") for n in out.notes)
+    result = analyze_session(out.session)
+    expected = analyze_session(_as_exported(s, TIME_DIGITS[lab_layout(layout).time]))
+    # same peak as the simulated session analysed with the export's time rounding (1 s moves
+    # breaths across 10-s bin edges: up to 2 % of peak VO2 in lung_limited seed 0)
+    assert result.peak.vo2_ml_min == pytest.approx(expected.peak.vo2_ml_min, rel=1e-3)
+    assert result.peak.t_s == expected.peak.t_s
+
+
+TIME_DIGITS = {"s": 2, "mss": 1, "hms": 0}
+
+
+def _as_exported(s, digits):
+    """The simulated session as the export carries it: times rounded, no person data, no truth."""
+    breaths = s.breaths.drop(columns=["source_row"], errors="ignore").copy()
+    breaths[C.T_S] = breaths[C.T_S].round(digits)
+    return type(s)(meta={}, breaths=breaths)
+
+
+def test_event_rows_are_skipped_and_their_words_become_markers():
+    s = simulate_case("rehab", 0)
+    layout = LabLayout("events", event_every=10)
+    out = import_bytes(lab_export_bytes(s, layout=layout), file_name="events.csv")
+    n = len(s.breaths)
+    assert len(out.session.breaths) == n
+    markers = out.session.breaths[C.MARKER].to_numpy(dtype=object)
+    # the event after breath 10 (index 9) lands on breath 11 (index 10); words in turn
+    assert markers[10] == EVENT_WORDS[1 % len(EVENT_WORDS)]
+    assert markers[20] == EVENT_WORDS[2 % len(EVENT_WORDS)]
+    events = n // 10
+    skipped = [note for note in out.notes if "skipped as event rows" in note]
+    assert len(skipped) == 1 and skipped[0].startswith(f"{events} row(s) without VO2, VCO2 and VE")
+    # header is line 1, breath 10 is line 11, the event row line 12
+    assert 12 in out.skipped_lines and 23 in out.skipped_lines
+
+
+def test_text_in_a_breath_cell_is_flagged_and_kept_and_a_broken_number_is_refused():
+    s = simulate_case("rehab", 0)
+    out = import_bytes(lab_export_bytes(s, layout=LabLayout("drop", dropout_every=5)), file_name="d.csv")
+    flags = out.session.flags
+    hr = flags[flags["column"] == C.HR_BPM]
+    assert len(hr) == len(s.breaths) // 5 and set(hr["reason"]) == {"missing value"}
+    assert int(hr["source_row"].iloc[0]) == 6  # breath 5 is on line 6
+    # a breath row with a mistyped number is not an event row: refused with file, line, column
+    text = lab_export_bytes(s, layout=LabLayout("plain")).decode().split("\r\n")
+    cells = text[3].split(",")
+    cells[4] = "1.2.3"  # the HR column
+    text[3] = ",".join(cells)
+    with pytest.raises(Exception) as err:
+        import_bytes("\r\n".join(text).encode(), file_name="broken.csv")
+    msg = str(err.value)
+    assert "broken.csv" in msg and "line 4" in msg and "HR (1/min)" in msg and "'1.2.3' is not a number" in msg
+
+
+def test_a_row_of_words_in_every_gas_column_is_an_event():
+    s = simulate_case("rehab", 0)
+    text = lab_export_bytes(s, layout=LabLayout("plain")).decode().split("\r\n")
+    t = text[5].split(",")[0]
+    text.insert(6, ",".join([t, "mask off", "mask off", "mask off"] + [""] * (len(text[5].split(",")) - 4)))
+    out = import_bytes("\r\n".join(text).encode(), file_name="x.csv")
+    assert len(out.session.breaths) == len(s.breaths)
+    assert out.session.breaths[C.MARKER].iloc[5] == "mask off"
+    assert 7 in out.skipped_lines
+    assert DROPOUT_TEXT == "--"
