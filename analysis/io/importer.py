@@ -502,24 +502,26 @@ def import_bytes(
         if event_words and C.MARKER not in values:
             values[C.MARKER] = [None] * len(body)
         if C.MARKER in values:
-            markers = [
-                "; ".join(x for x in (m, event_words.get(i)) if x) or None if event[i] else m
+            markers: list[str | None] = [
+                "; ".join(str(x) for x in (m, event_words.get(i)) if x) or None if event[i] else m
                 for i, m in enumerate(values[C.MARKER])
             ]
             carried: list[str] = []
             moved = 0
             for i in range(len(markers)):
+                here = markers[i]
                 if event[i]:
-                    if markers[i]:
-                        carried.append(markers[i])
+                    if here:
+                        carried.append(here)
                     continue
                 if carried:
-                    markers[i] = "; ".join(carried + ([markers[i]] if markers[i] else []))
+                    markers[i] = "; ".join(carried + ([here] if here else []))
                     carried = []
                     moved += 1
             last = int(np.flatnonzero(keep)[-1]) if keep.any() else None
             if carried and last is not None:  # events after the last breath go to the last breath
-                markers[last] = "; ".join(([markers[last]] if markers[last] else []) + carried)
+                end_text = markers[last]
+                markers[last] = "; ".join(([end_text] if end_text else []) + carried)
                 moved += 1
             values[C.MARKER] = markers
             if moved:

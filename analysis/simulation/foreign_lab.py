@@ -144,7 +144,7 @@ def _time_text(t_s: float, style: str) -> str:
     if style == "mss":
         m, s = divmod(round(t_s, 1), 60.0)
         return f"{int(m)}:{s:04.1f}"
-    whole = int(round(t_s))
+    whole = round(t_s)
     h, rest = divmod(whole, 3600)
     m, s = divmod(rest, 60)
     return f"{h}:{m:02d}:{s:02d}"
@@ -254,12 +254,12 @@ def lab_export_bytes(session: Session, *, layout: LabLayout | str) -> bytes:
         row = [number(columns[k][i]) if fields[k].unit else columns[k][i] for k in range(len(fields))]
         if chosen.dropout_every and hr_index is not None and (i + 1) % chosen.dropout_every == 0:
             row[hr_index] = DROPOUT_TEXT
-        lines.append(line([number(_time_text(float(t[i]), chosen.time))] + row))
+        lines.append(line([number(_time_text(float(t[i]), chosen.time)), *row]))
         n = i + 1
         if chosen.event_every and n % chosen.event_every == 0:
             event = list(empty)
             event[load_index] = EVENT_WORDS[(n // chosen.event_every) % len(EVENT_WORDS)]
-            lines.append(line([number(_time_text(float(t[i]), chosen.time))] + event))
+            lines.append(line([number(_time_text(float(t[i]), chosen.time)), *event]))
         if chosen.blank_every and n % chosen.blank_every == 0:
             lines.append("")
         if chosen.comment_every and n % chosen.comment_every == 0:

@@ -22,7 +22,7 @@ TIME_TOL_S = {"s": 0.0051, "mss": 0.051, "hms": 0.51}
 @pytest.mark.parametrize("layout", LAB_LAYOUTS)
 @pytest.mark.parametrize("kind", KINDS)
 @pytest.mark.parametrize("seed", [0, 1])
-def test_lab_exports_import_without_metadata_and_analyse(layout, kind, seed):
+def test_lab_exports_import_without_metadata_and_analyse(layout, kind, seed) -> None:
     s = simulate_case(kind, seed, noise=2.0)
     out = import_bytes(lab_export_bytes(s, layout=layout), file_name=f"{kind}-{seed}.csv")
     b = out.session.breaths
@@ -52,7 +52,7 @@ def _as_exported(s, digits):
     return type(s)(meta={}, breaths=breaths)
 
 
-def test_event_rows_are_skipped_and_their_words_become_markers():
+def test_event_rows_are_skipped_and_their_words_become_markers() -> None:
     s = simulate_case("rehab", 0)
     layout = LabLayout("events", event_every=10)
     out = import_bytes(lab_export_bytes(s, layout=layout), file_name="events.csv")
@@ -69,7 +69,7 @@ def test_event_rows_are_skipped_and_their_words_become_markers():
     assert 12 in out.skipped_lines and 23 in out.skipped_lines
 
 
-def test_text_in_a_breath_cell_is_flagged_and_kept_and_a_broken_number_is_refused():
+def test_text_in_a_breath_cell_is_flagged_and_kept_and_a_broken_number_is_refused() -> None:
     s = simulate_case("rehab", 0)
     out = import_bytes(lab_export_bytes(s, layout=LabLayout("drop", dropout_every=5)), file_name="d.csv")
     flags = out.session.flags
@@ -87,7 +87,7 @@ def test_text_in_a_breath_cell_is_flagged_and_kept_and_a_broken_number_is_refuse
     assert "broken.csv" in msg and "line 4" in msg and "HR (1/min)" in msg and "'1.2.3' is not a number" in msg
 
 
-def test_a_row_of_words_in_every_gas_column_is_an_event():
+def test_a_row_of_words_in_every_gas_column_is_an_event() -> None:
     s = simulate_case("rehab", 0)
     text = lab_export_bytes(s, layout=LabLayout("plain")).decode().split("\r\n")
     t = text[5].split(",")[0]
