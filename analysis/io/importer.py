@@ -539,6 +539,13 @@ def import_bytes(
             f"{len(event_lines)} row(s) without VO2, VCO2 and VE were skipped as event rows ({_lines(event_lines)})"
         )
 
+    t_kept = np.asarray(values[C.T_S], dtype=float)
+    same_time = int(np.count_nonzero(np.diff(t_kept[np.isfinite(t_kept)]) == 0))
+    if same_time:
+        notes.append(
+            f"{same_time} breath(s) have the same time as the breath before (times written to the "
+            "whole second?): kept in the order of the file"
+        )
     cells_by_line = dict(located.body)
     for name in mapped:
         if name in bad:

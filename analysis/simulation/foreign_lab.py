@@ -31,6 +31,7 @@ EVENT_WORDS: tuple[str, ...] = ("ramp on", "stage up", "stop pedalling", "cool-d
 DROPOUT_TEXT = "--"
 
 _TIME_STYLES = ("s", "hms", "mss")
+_TIME_UNITS = {"s": "s", "hms": "h:mm:ss", "mss": "m:ss"}
 _GAS_UNITS = ("ml_min", "l_min")
 
 
@@ -71,12 +72,15 @@ class LabLayout:
     per_kg : bool
         A VO2 per kg column (mL/kg/min, 1 decimal) beside the absolute one.
     order_seed : int or None
-        Columns after the time in an order shuffled by this seed.
+        All columns (time included) in an order shuffled by this seed.
     extra_columns : bool
         Columns the importer does not know (a sample number, a valve state, a mixing-chamber
         temperature).
     preamble : bool
         Two free-text lines above the header.
+    units_given : bool
+        False: no units anywhere (no unit row, none in the header); the reader has to judge
+        L/min from mL/min by magnitude.
     """
 
     name: str
@@ -98,6 +102,7 @@ class LabLayout:
     order_seed: int | None = None
     extra_columns: bool = False
     preamble: bool = False
+    units_given: bool = True
 
 
 _FIXED: tuple[LabLayout, ...] = (
@@ -158,7 +163,9 @@ def _fields(session: Session, layout: LabLayout) -> list[_Field]:
     def col(name: str, digits: int, scale: float = 1.0) -> Callable[[Session], list[str]]:
         return lambda s: _number_cells(s.breaths[name].to_numpy(dtype=float), digits, scale)
 
+    time_unit = _TIME_UNITS[layout.time]
     fields = [
+        _Field("Time", time_unit, lambda s: [_time_text(float(x), layout.time) for x in s.breaths[C.T_S]]),
         _Field("VO2", gas_unit, col(C.VO2_ML_MIN, gas_digits, gas_scale)),
         _Field("VCO2", gas_unit, col(C.VCO2_ML_MIN, gas_digits, gas_scale)),
         _Field("VE BTPS" if layout.ve_btps_label else "VE", "L/min", col(C.VE_L_MIN, 1)),
@@ -239,27 +246,27 @@ def lab_export_bytes(session: Session, *, layout: LabLayout | str) -> bytes:
     def number(text: str) -> str:
         return text.replace(".", dec) if dec != "." else text
 
-    time_unit = {"s": "s", "hms": "h:mm:ss", "mss": "m:ss"}[chosen.time]
     lines: list[str] = []
     if chosen.preamble:
         lines += ["Breath table exported for review", "Operator initials: none given"]
-    if chosen.unit_row:
-        lines.append(line(["Time"] + [f.header for f in fields]))
-        lines.append(line([time_unit] + [f.unit for f in fields]))
+    if chosen.unit_row or not chosen.units_given:
+        lines.append(line([f.header for f in fields]))
+        if chosen.units_given:
+            lines.append(line([f.unit for f in fields]))
     else:
-        lines.append(line([f"Time ({time_unit})"] + [f"{f.header} ({f.unit})" if f.unit else f.header for f in fields]))
-    t = session.breaths[C.T_S].to_numpy(dtype=float)
-    empty = [""] * len(fields)
-    for i in range(len(t)):
+        lines.append(line([f"{f.header} ({f.unit})" if f.unit else f.header for f in fields]))
+    time_index = next(k for k, f in enumerate(fields) if f.header == "Time")
+    for i in range(len(session.breaths)):
         row = [number(columns[k][i]) if fields[k].unit else columns[k][i] for k in range(len(fields))]
         if chosen.dropout_every and hr_index is not None and (i + 1) % chosen.dropout_every == 0:
             row[hr_index] = DROPOUT_TEXT
-        lines.append(line([number(_time_text(float(t[i]), chosen.time)), *row]))
+        lines.append(line(row))
         n = i + 1
         if chosen.event_every and n % chosen.event_every == 0:
-            event = list(empty)
+            event = [""] * len(fields)
+            event[time_index] = row[time_index]
             event[load_index] = EVENT_WORDS[(n // chosen.event_every) % len(EVENT_WORDS)]
-            lines.append(line([number(_time_text(float(t[i]), chosen.time)), *event]))
+            lines.append(line(event))
         if chosen.blank_every and n % chosen.blank_every == 0:
             lines.append("")
         if chosen.comment_every and n % chosen.comment_every == 0:

@@ -97,3 +97,39 @@ def test_a_row_of_words_in_every_gas_column_is_an_event() -> None:
     assert out.session.breaths[C.MARKER].iloc[5] == "mask off"
     assert 7 in out.skipped_lines
     assert DROPOUT_TEXT == "--"
+
+
+def test_breaths_sharing_a_whole_second_are_kept_in_file_order_with_a_note():
+    s = simulate_case("athlete", 0, noise=2.0)  # two pairs of breaths < 1 s apart land on the same second
+    out = import_bytes(lab_export_bytes(s, layout=LabLayout("hms", time="hms")), file_name="a.csv")
+    assert len(out.session.breaths) == len(s.breaths)
+    assert "2 breath(s) have the same time as the breath before (times written to the whole second?): " \
+        "kept in the order of the file" in out.notes
+    assert out.session.breaths[C.VO2_ML_MIN].to_numpy() == pytest.approx(s.breaths[C.VO2_ML_MIN].to_numpy(), abs=0.51)
+
+
+def test_time_in_any_column_position_and_no_units_anywhere():
+    s = simulate_case("rehab", 1)
+    layout = LabLayout("bare", order_seed=11, units_given=False, gas_unit="l_min")
+    data = lab_export_bytes(s, layout=layout)
+    header = data.decode().split("\r\n")[0].split(",")
+    assert header[0] != "Time" and "(" not in ",".join(header)  # time elsewhere, no unit anywhere
+    out = import_bytes(data, file_name="bare.csv")
+    assert out.gas_unit_detected == "l_min"  # by magnitude: median below 15
+    assert out.session.breaths[C.VO2_ML_MIN].to_numpy() == pytest.approx(s.breaths[C.VO2_ML_MIN].to_numpy(), abs=0.51)
+
+
+@pytest.mark.parametrize("layout", LAB_LAYOUTS)
+def test_tidemark_import_reads_every_lab_layout_with_nothing_typed(layout, tmp_path, capsys):
+    from analysis.io import read_session
+    from tidemark.cli import EXIT_OK, main
+
+    s = simulate_case("cycle_steps", 2, noise=1.0)
+    src = tmp_path / f"{layout}.csv"
+    src.write_bytes(lab_export_bytes(s, layout=layout))
+    assert main(["import", str(src), "--out", str(tmp_path / "out")]) == EXIT_OK
+    session = read_session(tmp_path / "out" / f"{layout}.session.csv")
+    assert len(session.breaths) == len(s.breaths)
+    assert session.breaths[C.VO2_ML_MIN].to_numpy() == pytest.approx(s.breaths[C.VO2_ML_MIN].to_numpy(), abs=0.51)
+    assert (tmp_path / "out" / "originals" / src.name).read_bytes() == src.read_bytes()  # byte for byte
+    assert "not in the file and not set: body mass, age, sex, height" in capsys.readouterr().out
