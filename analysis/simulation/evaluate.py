@@ -231,7 +231,9 @@ def compare(reading: ResultReading, truth: CaseTruth) -> dict[str, Any]:
     return out
 
 
-def score_case(case: SimulatedCase, *, analyze: Callable[[Any], Any] | None = None) -> CaseScore:
+def score_case(
+    case: SimulatedCase, *, analyze: Callable[[Any], Any] | None = None, layouts: Sequence[str] = FOREIGN_LAYOUTS
+) -> CaseScore:
     """Analyse one case (through a foreign export when ``case.foreign``) and score it.
 
     Parameters
@@ -239,6 +241,10 @@ def score_case(case: SimulatedCase, *, analyze: Callable[[Any], Any] | None = No
     case : SimulatedCase
     analyze : callable, keyword-only
         Session -> result; default :func:`analysis.pipeline.analyze_session`.
+    layouts : sequence of str, keyword-only
+        Foreign layouts taken in turn (default :data:`FOREIGN_LAYOUTS`;
+        :data:`~analysis.simulation.foreign.ALL_FOREIGN_LAYOUTS` adds the lab-variety layouts,
+        imported with no metadata typed).
 
     Returns
     -------
@@ -254,7 +260,7 @@ def score_case(case: SimulatedCase, *, analyze: Callable[[Any], Any] | None = No
     start = time.perf_counter()
     if case.foreign:
         index = case.seed // 2 + round(case.noise * 2)
-        layout = FOREIGN_LAYOUTS[index % len(FOREIGN_LAYOUTS)]
+        layout = layouts[index % len(layouts)]
         data = foreign_export_bytes(session, layout=layout)
         try:
             session = import_bytes(
@@ -272,9 +278,11 @@ def score_case(case: SimulatedCase, *, analyze: Callable[[Any], Any] | None = No
     return CaseScore(**base, layout=layout, status="ok", seconds=seconds, **compare(read_result(result), case.truth))
 
 
-def evaluate_suite(cases: Iterable[SimulatedCase], *, analyze: Callable[[Any], Any] | None = None) -> list[CaseScore]:
+def evaluate_suite(
+    cases: Iterable[SimulatedCase], *, analyze: Callable[[Any], Any] | None = None, layouts: Sequence[str] = FOREIGN_LAYOUTS
+) -> list[CaseScore]:
     """:func:`score_case` for every case."""
-    return [score_case(case, analyze=analyze) for case in cases]
+    return [score_case(case, analyze=analyze, layouts=layouts) for case in cases]
 
 
 # --- tables -----------------------------------------------------------------------------------

@@ -22,6 +22,7 @@ import pandas as pd
 from analysis import columns as C
 from analysis.errors import require
 from analysis.session import Session
+from analysis.simulation.foreign_lab import LAB_LAYOUTS, lab_export_bytes
 
 #: Metadata keys a user would carry over to an import (body data, MVV/FEV1, medication).
 PERSON_KEYS: tuple[str, ...] = (
@@ -164,6 +165,9 @@ def _layouts(mode: str) -> tuple[_Layout, ...]:
 
 #: Names of the foreign layouts, in the order :func:`foreign_export_bytes` numbers them.
 FOREIGN_LAYOUTS: tuple[str, ...] = tuple(layout.name for layout in _layouts("cycle"))
+#: Every layout :func:`foreign_export_bytes` writes by name: the four above and the lab-variety
+#: layouts of :mod:`analysis.simulation.foreign_lab` (no person data; nothing typed on import).
+ALL_FOREIGN_LAYOUTS: tuple[str, ...] = FOREIGN_LAYOUTS + LAB_LAYOUTS
 
 
 def _time_text(t_s: float, style: str) -> str:
@@ -223,8 +227,8 @@ def foreign_export_bytes(session: Session, *, layout: int | str) -> bytes:
     session : Session
         A simulated session (canonical columns).
     layout : int or str, keyword-only
-        A name from :data:`FOREIGN_LAYOUTS` or its position (taken modulo their number, so a
-        seed can choose one).
+        A name from :data:`ALL_FOREIGN_LAYOUTS`, or a position in :data:`FOREIGN_LAYOUTS`
+        (taken modulo their number, so a seed can choose one).
 
     Returns
     -------
@@ -242,6 +246,8 @@ def foreign_export_bytes(session: Session, *, layout: int | str) -> bytes:
     >>> len(out.session.breaths) == len(s.breaths), out.delimiter, out.decimal
     (True, ';', ',')
     """
+    if isinstance(layout, str) and layout in LAB_LAYOUTS:
+        return lab_export_bytes(session, layout=layout)
     mode = str(session.meta.get("mode", "cycle"))
     layouts = _layouts(mode)
     if isinstance(layout, str):
@@ -293,8 +299,9 @@ def foreign_export_bytes(session: Session, *, layout: int | str) -> bytes:
 def foreign_meta_overrides(session: Session, *, layout: int | str) -> dict[str, str]:
     """Metadata a user would set when importing this layout (``--set key=value``): the
     person's data for layouts whose preamble the importer does not read, nothing for the
-    layout that carries ``# key: value`` lines."""
+    layout that carries ``# key: value`` lines, nothing for the lab-variety layouts (the user
+    who types nothing)."""
     name = layout if isinstance(layout, str) else FOREIGN_LAYOUTS[int(layout) % len(FOREIGN_LAYOUTS)]
-    if name == "comma_hms_meta":
+    if name == "comma_hms_meta" or name in LAB_LAYOUTS:
         return {}
     return {key: str(session.meta[key]) for key in PERSON_KEYS if key in session.meta}

@@ -133,3 +133,17 @@ def test_tidemark_import_reads_every_lab_layout_with_nothing_typed(layout, tmp_p
     assert session.breaths[C.VO2_ML_MIN].to_numpy() == pytest.approx(s.breaths[C.VO2_ML_MIN].to_numpy(), abs=0.51)
     assert (tmp_path / "out" / "originals" / src.name).read_bytes() == src.read_bytes()  # byte for byte
     assert "not in the file and not set: body mass, age, sex, height" in capsys.readouterr().out
+
+
+def test_foreign_writer_and_evaluation_take_the_lab_layouts_with_nothing_typed():
+    from analysis.simulation import simulation_suite
+    from analysis.simulation.evaluate import score_case
+    from analysis.simulation.foreign import ALL_FOREIGN_LAYOUTS, FOREIGN_LAYOUTS, foreign_export_bytes, foreign_meta_overrides
+
+    s = simulate_case("rehab", 0)
+    assert ALL_FOREIGN_LAYOUTS == FOREIGN_LAYOUTS + LAB_LAYOUTS
+    assert foreign_export_bytes(s, layout="lab_everything") == lab_export_bytes(s, layout="lab_everything")
+    assert foreign_meta_overrides(s, layout="lab_everything") == {}
+    foreign = [c for c in simulation_suite(["rehab"], seeds=[1], noise_levels=[1.0]) if c.foreign][0]
+    score = score_case(foreign, layouts=LAB_LAYOUTS)
+    assert score.status == "ok" and score.layout in LAB_LAYOUTS and score.vo2peak_error_pct is not None
