@@ -41,6 +41,8 @@ class LocatedTable:
     preamble: list[Row] = field(default_factory=list)
     interior_skipped: list[int] = field(default_factory=list)
     after: list[Row] = field(default_factory=list)
+    #: Note rows inside the table (one cell of words, e.g. ``Recovery start``): ``(line, text)``.
+    interior_notes: list[tuple[int, str]] = field(default_factory=list)
 
 
 class _Split:
@@ -149,6 +151,19 @@ def is_event_row(cells: Sequence[object], width: int) -> bool:
     return False
 
 
+def note_text(cells: Sequence[object]) -> str | None:
+    """The words of a row with exactly one non-empty cell holding a letter (``Recovery start``,
+    ``*** stage 3 ***``): a note inside the table, not a header and not the end of the table."""
+    found: str | None = None
+    for c in cells:
+        if c is None or (isinstance(c, str) and not c.strip()):
+            continue
+        if found is not None:
+            return None
+        found = str(c).strip()
+    return found if found is not None and any(ch.isalpha() for ch in found) else None
+
+
 @dataclass(frozen=True)
 class _Candidate:
     score: int
@@ -161,8 +176,9 @@ class _Candidate:
 def _candidate(rows: Sequence[Row], kinds: Sequence[str], i: int) -> _Candidate | None:
     header_cells = rows[i][1]
     width = len(header_cells)
-    if _width(header_cells) < 2 or not any(isinstance(c, str) and any(ch.isalpha() for ch in c) for c in header_cells):
-        return None  # column names contain letters
+    named = sum(1 for c in header_cells if c is not None and str(c).strip())
+    if named < 2 or not any(isinstance(c, str) and any(ch.isalpha() for ch in c) for c in header_cells):
+        return None  # two or more column names, with letters
     j = i + 1
     n = len(rows)
     while j < n and kinds[j] in ("blank", "comment"):
@@ -181,8 +197,8 @@ def _candidate(rows: Sequence[Row], kinds: Sequence[str], i: int) -> _Candidate 
                 break
             score += 1
             end = j + 1
-        elif kind == "text" and is_event_row(rows[j][1], width):
-            pass  # words in the numeric cells of a timed row: an event inside the table
+        elif kind == "text" and (is_event_row(rows[j][1], width) or note_text(rows[j][1]) is not None):
+            pass  # an event (words in the numeric cells of a timed row) or a note inside the table
         elif kind not in ("blank", "comment"):
             break
         j += 1
@@ -291,6 +307,7 @@ def locate_table(rows: Sequence[Row], *, file_name: str) -> LocatedTable:
         unit_row = [(str(ucells[k]).strip() if k < len(ucells) and ucells[k] is not None else None) for k in range(width)]
     body: list[Row] = []
     interior: list[int] = []
+    notes: list[tuple[int, str]] = []
     for k in range(best.header_index + 1, best.end_index):
         if k == best.unit_index:
             continue
@@ -300,6 +317,9 @@ def locate_table(rows: Sequence[Row], *, file_name: str) -> LocatedTable:
             body.append((line, padded))
         else:
             interior.append(line)
+            text = note_text(cells) if kinds[k] == "text" else None
+            if text is not None:
+                notes.append((line, text))
     return LocatedTable(
         header_line=header_line,
         headers=headers,
@@ -309,4 +329,5 @@ def locate_table(rows: Sequence[Row], *, file_name: str) -> LocatedTable:
         preamble=list(rows[: best.header_index]),
         interior_skipped=interior,
         after=list(rows[best.end_index :]),
+        interior_notes=notes,
     )

@@ -539,6 +539,20 @@ def import_bytes(
             f"{len(event_lines)} row(s) without VO2, VCO2 and VE were skipped as event rows ({_lines(event_lines)})"
         )
 
+    if located.interior_notes and len(line_numbers):
+        # note rows inside the table ("Recovery start"): their words go to the next breath
+        if C.MARKER not in values:
+            values[C.MARKER] = [None] * len(line_numbers)
+        with_notes: list[str | None] = list(values[C.MARKER])
+        for line, text in located.interior_notes:
+            i = min(int(np.searchsorted(line_numbers, line)), len(with_notes) - 1)
+            with_notes[i] = "; ".join(x for x in (text, with_notes[i]) if x)
+        values[C.MARKER] = with_notes
+        note_lines = [line for line, _ in located.interior_notes]
+        notes.append(
+            f"{len(note_lines)} note row(s) inside the table were skipped ({_lines(note_lines)}); "
+            "their words were kept as the marker of the next breath"
+        )
     t_kept = np.asarray(values[C.T_S], dtype=float)
     same_time = int(np.count_nonzero(np.diff(t_kept[np.isfinite(t_kept)]) == 0))
     if same_time:

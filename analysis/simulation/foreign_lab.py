@@ -2,7 +2,7 @@
 
 Each :class:`LabLayout` switches on features of our own invention that break naive readers —
 quoted cells, a UTF-8 byte-order mark, CRLF or LF line ends, trailing separators (empty
-columns), a units row under the header, blank and comment lines inside the data, event rows
+columns), a units row under the header, blank and comment lines inside the data, note rows (one cell of words), event rows
 (text in a numeric column, no gas values), sensor drop-outs written as text in a breath row,
 VO2/VCO2 in L/min or mL/min, VE labelled BTPS, time as ``h:mm:ss`` without decimals, a
 body-mass-normalised VO2 column beside the absolute one, columns in a shuffled order and extra
@@ -60,6 +60,9 @@ class LabLayout:
     event_every : int
         An event row (time, event text in the load column, nothing else) after every n-th
         breath (0: none).
+    note_every : int
+        A note row (one cell of words, e.g. ``--- stage 2 ---``, in a column that moves along)
+        after every n-th breath (0: none).
     dropout_every : int
         Every n-th breath has :data:`DROPOUT_TEXT` in its heart-rate cell (0: none).
     gas_unit : str
@@ -94,6 +97,7 @@ class LabLayout:
     blank_every: int = 0
     comment_every: int = 0
     event_every: int = 0
+    note_every: int = 0
     dropout_every: int = 0
     gas_unit: str = "ml_min"
     ve_btps_label: bool = False
@@ -115,7 +119,7 @@ _FIXED: tuple[LabLayout, ...] = (
     LabLayout("lab_pipe_trailing_preamble", sep="|", trailing_seps=2, unit_row=True, gas_unit="l_min",
               time="hms", preamble=True),
     LabLayout("lab_everything", sep=";", decimal=",", quote=True, bom=True, unit_row=True, blank_every=13,
-              comment_every=37, event_every=19, dropout_every=11, gas_unit="l_min", ve_btps_label=True,
+              comment_every=37, event_every=19, note_every=43, dropout_every=11, gas_unit="l_min", ve_btps_label=True,
               time="hms", per_kg=True, order_seed=7, extra_columns=True, preamble=True),
 )
 
@@ -267,6 +271,10 @@ def lab_export_bytes(session: Session, *, layout: LabLayout | str) -> bytes:
             event[time_index] = row[time_index]
             event[load_index] = EVENT_WORDS[(n // chosen.event_every) % len(EVENT_WORDS)]
             lines.append(line(event))
+        if chosen.note_every and n % chosen.note_every == 0:
+            note = [""] * len(fields)
+            note[(n // chosen.note_every) % len(fields)] = f"--- stage {n // chosen.note_every} ---"
+            lines.append(line(note))
         if chosen.blank_every and n % chosen.blank_every == 0:
             lines.append("")
         if chosen.comment_every and n % chosen.comment_every == 0:

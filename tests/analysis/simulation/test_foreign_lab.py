@@ -147,3 +147,27 @@ def test_foreign_writer_and_evaluation_take_the_lab_layouts_with_nothing_typed()
     foreign = [c for c in simulation_suite(["rehab"], seeds=[1], noise_levels=[1.0]) if c.foreign][0]
     score = score_case(foreign, layouts=LAB_LAYOUTS)
     assert score.status == "ok" and score.layout in LAB_LAYOUTS and score.vo2peak_error_pct is not None
+
+
+def test_note_rows_inside_the_table_become_markers_of_the_next_breath():
+    s = simulate_case("rehab", 0)
+    out = import_bytes(lab_export_bytes(s, layout=LabLayout("notes", note_every=50)), file_name="n.csv")
+    b = out.session.breaths
+    assert len(b) == len(s.breaths)
+    markers = b[C.MARKER].to_numpy(dtype=object)
+    assert markers[50] == "--- stage 1 ---" and markers[100] == "--- stage 2 ---"
+    # header line 1, breath 50 on line 51, the note on line 52
+    assert 52 in out.skipped_lines
+    n = len(s.breaths) // 50
+    assert f"{n} note row(s) inside the table were skipped" in " ".join(out.notes)
+
+
+def test_a_second_header_or_a_shifted_row_inside_the_table_is_still_refused():
+    s = simulate_case("rehab", 0)
+    lines = lab_export_bytes(s, layout=LabLayout("plain", line_end="\n")).decode().split("\n")
+    shifted = list(lines)
+    shifted[41] = shifted[41].replace(",", ",,", 1)  # one cell too many: a broken row
+    for bad in (lines[:40] + ["Time (s),VO2"] + lines[40:], shifted):
+        with pytest.raises(Exception) as err:
+            import_bytes("\n".join(bad).encode(), file_name="x.csv")
+        assert "x.csv" in str(err.value) and "look like more breaths" in str(err.value)

@@ -52,6 +52,7 @@ def layouts(draw: st.DrawFn) -> LabLayout:
         blank_every=draw(every),
         comment_every=draw(every),
         event_every=draw(every),
+        note_every=draw(every),
         dropout_every=draw(every),
         gas_unit=draw(st.sampled_from(["ml_min", "l_min"])),
         ve_btps_label=draw(st.booleans()),
@@ -79,7 +80,7 @@ def test_any_mix_of_lab_features_imports_with_the_simulated_breaths(layout, kind
     assert np.max(np.abs(b[C.T_S].to_numpy() - s.breaths[C.T_S].to_numpy())) <= TIME_TOL_S[layout.time]
     for name, tol in GAS_TOL.items():
         assert np.max(np.abs(b[name].to_numpy() - s.breaths[name].to_numpy())) <= tol, name
-    if layout.event_every:
+    if layout.event_every or layout.note_every:
         assert (b[C.MARKER].fillna("") != "").sum() >= 1
     if layout.dropout_every == 1:  # every HR cell '--': the column holds nothing and is left out
         assert C.HR_BPM not in b.columns
