@@ -116,6 +116,31 @@ def _event_words(
     return out
 
 
+#: A VO2-per-kg column implies a body mass only when VO2 / (VO2 per kg) agrees along the test:
+#: 10th to 90th percentile within this fraction of the median (printed per-kg values carry
+#: 0.1 mL/kg/min, about 3 % at rest; our own choice).
+PER_KG_AGREEMENT = 0.05
+
+
+def _mass_from_per_kg_column(
+    headers: Sequence[str], rows: Sequence[Sequence[object]], vo2_ml_min: np.ndarray, *, decimal: str, used: set[str]
+) -> tuple[str, float] | None:
+    """``(header, body mass in kg)`` from an unused VO2-per-kg column (mL/kg/min), or None."""
+    for k, header in enumerate(headers):
+        if header in used or not is_per_kg(header) or not split_header(header)[0].startswith("vo2"):
+            continue
+        per_kg, _, _ = parse_numbers([r[k] if k < len(r) else None for r in rows], decimal=decimal)
+        ok = np.isfinite(per_kg) & np.isfinite(vo2_ml_min) & (per_kg > 0)
+        if np.count_nonzero(ok) < 10:
+            continue
+        ratio = vo2_ml_min[ok] / per_kg[ok]
+        mid = float(np.median(ratio))
+        p10, p90 = np.percentile(ratio, [10, 90])
+        if 20.0 <= mid <= 300.0 and (p90 - p10) <= PER_KG_AGREEMENT * mid:
+            return header, mid
+    return None
+
+
 def _ranges(lines: Sequence[int]) -> str:
     """``[1, 2, 3, 7]`` -> ``'1-3, 7'``."""
     out: list[str] = []
@@ -614,6 +639,17 @@ def import_bytes(
             f"not in the file and not set: {', '.join(absent)} — values per kg and predicted values stay "
             "empty until you add them (e.g. --set body_mass_kg=72.5, or the fields of the upload form)"
         )
+    if "body_mass_kg" not in meta and C.VO2_ML_MIN in values:
+        hint = _mass_from_per_kg_column(
+            headers, [cells_by_line[int(n)] for n in line_numbers], np.asarray(values[C.VO2_ML_MIN], dtype=float),
+            decimal=decimal, used=set(mapped.values()),
+        )
+        if hint is not None:
+            header, mass_kg = hint
+            notes.append(
+                f"VO2 divided by the column {shorten(header)!r} gives a body mass of {mass_kg:.1f} kg: "
+                f"if that is the person's, set it (--set body_mass_kg={mass_kg:.1f}); it was not set for you"
+            )
     apply_conditions(
         values, mapped, meta,
         statements=preamble_statements(_preamble_texts(located.preamble, lines)),

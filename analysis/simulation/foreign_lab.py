@@ -210,7 +210,8 @@ def lab_export_bytes(session: Session, *, layout: LabLayout | str) -> bytes:
     Parameters
     ----------
     session : Session
-        A simulated session (canonical columns).
+        Simulated breaths in canonical columns; its metadata stays out of the file (only the
+        body mass is used, for the per-kg column).
     layout : LabLayout or str, keyword-only
         A layout or a name from :data:`LAB_LAYOUTS`.
 

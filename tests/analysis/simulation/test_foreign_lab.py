@@ -171,3 +171,30 @@ def test_a_second_header_or_a_shifted_row_inside_the_table_is_still_refused():
         with pytest.raises(Exception) as err:
             import_bytes("\n".join(bad).encode(), file_name="x.csv")
         assert "x.csv" in str(err.value) and "look like more breaths" in str(err.value)
+
+
+@pytest.mark.parametrize("kind", ["rehab", "athlete", "hf_plain"])
+def test_a_vo2_per_kg_column_suggests_the_body_mass_without_setting_it(kind):
+    s = simulate_case(kind, 0)
+    out = import_bytes(lab_export_bytes(s, layout="lab_everything"), file_name="k.csv")
+    mass = s.meta["body_mass_kg"]
+    assert "body_mass_kg" not in out.session.meta  # a hint, never a silent value
+    assert (f"VO2 divided by the column 'VO2/kg' gives a body mass of {mass:.1f} kg: if that is the person's, "
+            f"set it (--set body_mass_kg={mass:.1f}); it was not set for you") in out.notes
+    typed = import_bytes(lab_export_bytes(s, layout="lab_everything"), file_name="k.csv",
+                         meta_overrides={"body_mass_kg": str(mass)})
+    assert not any("gives a body mass" in n for n in typed.notes)  # typed: no hint
+
+
+def test_no_body_mass_hint_when_the_per_kg_column_disagrees_with_vo2():
+    s = simulate_case("rehab", 0)
+    lines = lab_export_bytes(s, layout=LabLayout("k", per_kg=True, line_end="\n")).decode().split("\n")
+    header = lines[0].split(",")
+    k = header.index("VO2/kg (mL/kg/min)")
+    rows = []
+    for i, row in enumerate(lines[1:-1]):
+        cells = row.split(",")
+        cells[k] = f"{10 + i % 7:.1f}"  # not VO2 over one mass
+        rows.append(",".join(cells))
+    out = import_bytes("\n".join([lines[0], *rows, ""]).encode(), file_name="k.csv")
+    assert not any("gives a body mass" in n for n in out.notes)
