@@ -198,3 +198,42 @@ def test_no_body_mass_hint_when_the_per_kg_column_disagrees_with_vo2():
         rows.append(",".join(cells))
     out = import_bytes("\n".join([lines[0], *rows, ""]).encode(), file_name="k.csv")
     assert not any("gives a body mass" in n for n in out.notes)
+
+
+@pytest.mark.parametrize("time_cells", ["text", "time_objects", "day_fraction"])
+def test_a_workbook_with_units_row_event_note_and_dropout_rows_imports(time_cells):
+    import datetime
+    import io
+
+    import openpyxl
+
+    s = simulate_case("rehab", 0)
+    layout = LabLayout("x", sep="\t", unit_row=True, event_every=17, note_every=23, dropout_every=13, time="hms",
+                       line_end="\n")
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    for r, line in enumerate(lab_export_bytes(s, layout=layout).decode().split("\n")[:-1]):
+        row: list[object] = []
+        for c, cell in enumerate(line.split("\t")):
+            value: object = cell or None
+            if r >= 2 and c == 0 and ":" in cell and time_cells != "text":
+                h, m, sec = map(int, cell.split(":"))
+                value = datetime.time(h, m, sec) if time_cells == "time_objects" else (h * 3600 + m * 60 + sec) / 86400
+            elif r >= 2 and cell:
+                try:
+                    value = float(cell)
+                except ValueError:
+                    pass
+            row.append(value)
+        ws.append(row)
+    if time_cells == "day_fraction":  # a spreadsheet time: a fraction of a day shown as h:mm:ss
+        for cell in ws["A"][2:]:
+            cell.number_format = "h:mm:ss"
+    buf = io.BytesIO()
+    wb.save(buf)
+    out = import_bytes(buf.getvalue(), file_name="x.xlsx")
+    b = out.session.breaths
+    assert len(b) == len(s.breaths) and out.time_format_detected == "h:mm:ss"
+    assert np.max(np.abs(b[C.T_S].to_numpy() - s.breaths[C.T_S].to_numpy())) <= 0.51
+    assert b[C.VO2_ML_MIN].to_numpy() == pytest.approx(s.breaths[C.VO2_ML_MIN].to_numpy(), abs=0.51)
+    assert b[C.MARKER].iloc[23] == "--- stage 1 ---"  # the note after breath 23
